@@ -1,12 +1,7 @@
 #!/usr/bin/env node
-// Runs the TypeScript entry point through tsx so no build step is needed.
-import { spawnSync } from 'node:child_process';
-import { createRequire } from 'node:module';
-import { dirname, join } from 'node:path';
-import { fileURLToPath } from 'node:url';
+// Loads the TypeScript entry point through tsx's loader, in this same process (so signals such as
+// SIGTERM reach the service directly), with no build step.
+import { register } from 'tsx/esm/api';
 
-const here = dirname(fileURLToPath(import.meta.url));
-const require = createRequire(import.meta.url);
-const tsxCli = require.resolve('tsx/cli');
-const result = spawnSync(process.execPath, [tsxCli, join(here, '..', 'services', 'cli.ts'), ...process.argv.slice(2)], { stdio: 'inherit' });
-process.exit(result.status ?? 1);
+register();
+await import('../services/cli.ts');
