@@ -1,0 +1,82 @@
+/**
+ * Configuration, read and validated once from the environment into one typed object.
+ * Nothing else in the code base reads `process.env`.
+ */
+export interface Config {
+  /** TCP port of the HTTP API. */
+  port: number;
+  host: string;
+  /** Postgres connection string; undefined selects the embedded PGlite database. */
+  databaseUrl: string | undefined;
+  /** Directory of the embedded database (used only without `databaseUrl`). */
+  pgliteDir: string;
+  /** Bootstrap admin key: created (hashed) at start if not present. */
+  adminApiKey: string | undefined;
+  logLevel: string;
+  /** Largest accepted request body after decompression, bytes. */
+  maxBodyBytes: number;
+  /** Largest number of readings in one request. */
+  maxReadingsPerRequest: number;
+  /** Requests per minute per API key. */
+  rateLimitPerMinute: number;
+  /** pg pool size. */
+  dbPoolSize: number;
+  /** Run the analysis worker inside the API process. */
+  inProcessWorker: boolean;
+  /** How often an idle worker polls the analysis queue, ms. */
+  workerPollMs: number;
+  /** How long a worker's lease on a vehicle lasts, ms. */
+  workerLeaseMs: number;
+  /** Vehicles leased per worker batch. */
+  workerBatchSize: number;
+}
+
+export class ConfigError extends Error {
+  override name = 'ConfigError';
+}
+
+function int(env: NodeJS.ProcessEnv, name: string, fallback: number, min: number, max: number): number {
+  const raw = env[name];
+  if (raw === undefined || raw === '') return fallback;
+  const value = Number(raw);
+  if (!Number.isInteger(value) || value < min || value > max) {
+    throw new ConfigError(`${name} must be an integer from ${min} to ${max}, got '${raw}'`);
+  }
+  return value;
+}
+
+function bool(env: NodeJS.ProcessEnv, name: string, fallback: boolean): boolean {
+  const raw = env[name];
+  if (raw === undefined || raw === '') return fallback;
+  if (/^(1|true|yes|on)$/i.test(raw)) return true;
+  if (/^(0|false|no|off)$/i.test(raw)) return false;
+  throw new ConfigError(`${name} must be true or false, got '${raw}'`);
+}
+
+const LOG_LEVELS = new Set(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']);
+
+/** Reads the configuration; throws ConfigError with the variable's name on a bad value. */
+export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
+  const logLevel = env.LOG_LEVEL || 'info';
+  if (!LOG_LEVELS.has(logLevel)) throw new ConfigError(`LOG_LEVEL must be one of ${[...LOG_LEVELS].join(', ')}`);
+  const adminApiKey = env.ADMIN_API_KEY || undefined;
+  if (adminApiKey !== undefined && adminApiKey.length < 16) {
+    throw new ConfigError('ADMIN_API_KEY must be at least 16 characters');
+  }
+  return {
+    port: int(env, 'PORT', 3000, 0, 65535),
+    host: env.HOST || '127.0.0.1',
+    databaseUrl: env.DATABASE_URL || undefined,
+    pgliteDir: env.PGLITE_DIR || './data',
+    adminApiKey,
+    logLevel,
+    maxBodyBytes: int(env, 'MAX_BODY_BYTES', 512 * 1024 * 1024, 1024, 8 * 1024 * 1024 * 1024),
+    maxReadingsPerRequest: int(env, 'MAX_READINGS_PER_REQUEST', 2_000_000, 1, 100_000_000),
+    rateLimitPerMinute: int(env, 'RATE_LIMIT_PER_MINUTE', 1200, 1, 10_000_000),
+    dbPoolSize: int(env, 'DB_POOL_SIZE', 10, 1, 1000),
+    inProcessWorker: bool(env, 'IN_PROCESS_WORKER', true),
+    workerPollMs: int(env, 'WORKER_POLL_MS', 5000, 50, 3_600_000),
+    workerLeaseMs: int(env, 'WORKER_LEASE_MS', 120_000, 1000, 86_400_000),
+    workerBatchSize: int(env, 'WORKER_BATCH_SIZE', 20, 1, 10_000),
+  };
+}

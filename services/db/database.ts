@@ -1,0 +1,71 @@
+import { mkdirSync } from 'node:fs';
+import { PGlite } from '@electric-sql/pglite';
+import { Kysely, PGliteDialect, PostgresDialect } from 'kysely';
+import pg from 'pg';
+import type { Database } from './schema.js';
+
+export type DatabaseKind = 'postgres' | 'pglite';
+
+/** An open database: Kysely plus what the service needs to know about the engine underneath. */
+export interface DatabaseHandle {
+  db: Kysely<Database>;
+  kind: DatabaseKind;
+  /** Where the data lives, for the first log line (password removed). */
+  description: string;
+  /** The pg pool (postgres only), for streaming COPY. */
+  pool: pg.Pool | undefined;
+  close(): Promise<void>;
+}
+
+export interface DatabaseOptions {
+  databaseUrl: string | undefined;
+  pgliteDir: string;
+  poolSize?: number;
+  /** Called when an idle pooled client fails (server restart, network): logged, not fatal. */
+  onPoolError?: (err: Error) => void;
+}
+
+/** Removes the password from a connection string so it can be logged. */
+export function redactUrl(url: string): string {
+  try {
+    const parsed = new URL(url);
+    if (parsed.password) parsed.password = '***';
+    return parsed.toString();
+  } catch {
+    return '(unparseable DATABASE_URL)';
+  }
+}
+
+/**
+ * Opens Postgres through a pg Pool when `databaseUrl` is set, otherwise the embedded PGlite
+ * database in `pgliteDir` (created if missing). Both run the same migrations and queries.
+ */
+export async function openDatabase(options: DatabaseOptions): Promise<DatabaseHandle> {
+  if (options.databaseUrl) {
+    const pool = new pg.Pool({ connectionString: options.databaseUrl, max: options.poolSize ?? 10 });
+    // Without a listener an idle client's error would crash the process.
+    pool.on('error', (err) => options.onPoolError?.(err));
+    const db = new Kysely<Database>({ dialect: new PostgresDialect({ pool }) });
+    return {
+      db,
+      kind: 'postgres',
+      description: `PostgreSQL at ${redactUrl(options.databaseUrl)}`,
+      pool,
+      close: () => db.destroy(),
+    };
+  }
+  const dir = options.pgliteDir;
+  if (dir !== 'memory://') mkdirSync(dir, { recursive: true });
+  const pglite = await PGlite.create(dir);
+  const db = new Kysely<Database>({ dialect: new PGliteDialect({ pglite }) });
+  return {
+    db,
+    kind: 'pglite',
+    description: dir === 'memory://' ? 'embedded PostgreSQL (PGlite) in memory' : `embedded PostgreSQL (PGlite) in ${dir}`,
+    pool: undefined,
+    close: async () => {
+      await db.destroy();
+      if (!pglite.closed) await pglite.close();
+    },
+  };
+}

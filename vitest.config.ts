@@ -1,0 +1,39 @@
+import { defineConfig } from 'vitest/config';
+
+// Database and API suites run twice: on a real PostgreSQL server and on the embedded PGlite.
+const DB_SUITES = ['test/api/**/*.test.ts', 'test/db/**/*.test.ts', 'test/worker/**/*.test.ts', 'test/report/**/*.test.ts', 'test/demo/**/*.test.ts'];
+
+export default defineConfig({
+  test: {
+    testTimeout: 60_000,
+    hookTimeout: 120_000,
+    projects: [
+      {
+        test: {
+          name: 'pure',
+          include: ['test/analysis/**/*.test.ts', 'test/reference/**/*.test.ts', 'test/simulator/**/*.test.ts', 'test/config.test.ts'],
+          testTimeout: 120_000,
+        },
+      },
+      {
+        test: {
+          name: 'postgres',
+          include: DB_SUITES,
+          env: { TEST_DATABASE: 'postgres' },
+          globalSetup: ['test/helpers/postgres-global-setup.ts'],
+          testTimeout: 120_000,
+          hookTimeout: 120_000,
+        },
+      },
+      {
+        test: {
+          name: 'pglite',
+          include: DB_SUITES,
+          env: { TEST_DATABASE: 'pglite' },
+          testTimeout: 120_000,
+          hookTimeout: 120_000,
+        },
+      },
+    ],
+  },
+});
