@@ -1,0 +1,227 @@
+/**
+ * Every threshold of the cooling-system analysis, as a named default with its unit, in one
+ * place. An engine family may override any of them (`FAMILY_OVERRIDES`), and a caller may
+ * override on top (`resolveConfig`). Sources are named where a value comes from a standard;
+ * "common practice" marks trade rules of thumb, "tuned" marks values chosen on the
+ * simulator's evaluation fleet.
+ */
+export interface AnalysisConfig {
+  // --- sensor plausibility (design step 1) ---
+  /** Lowest valid coolant reading, °C (SAE J1939-71 SPN 110 range starts at −40 °C). */
+  coolantValidMinC: number;
+  /** Highest valid coolant reading, °C (SPN 110 range ends at 210 °C). */
+  coolantValidMaxC: number;
+  /** Plausible ambient air range, °C (outside: treated as absent). Common practice. */
+  ambientValidMinC: number;
+  ambientValidMaxC: number;
+  /** Fastest physically possible coolant change, °C/s. Common practice (from memory). */
+  maxCoolantRateCPerS: number;
+  /** Allowance for quantisation and noise added to the rate limit, °C (1 °C/bit channels). */
+  rateAllowanceC: number;
+  /** Samples a jumped level must persist before it is accepted as real. */
+  jumpConfirmSamples: number;
+  /** Window after a cold start in which a working sensor must show warming, s. */
+  stuckWindowS: number;
+  /** A cold start whose coolant moves less than this within `stuckWindowS` is stuck, °C. */
+  stuckMaxRangeC: number;
+  /** Stuck check only when the start is at least this far below the warm-up target, °C. */
+  stuckMinDeficitC: number;
+  /** A soak at least this long should leave the coolant near ambient, s. */
+  coldSoakMinS: number;
+  /** One start further than this from ambient after a cold soak is suspicious, °C. */
+  coldSoakToleranceC: number;
+  /** A persistent median offset from ambient after cold soaks beyond this is a bias, °C. */
+  sensorBiasToleranceC: number;
+  /** A gap in a run longer than this many nominal sample periods is a dropout. */
+  dropoutPeriods: number;
+  /** Day counts as having dropouts when this fraction of running time is missing. */
+  dropoutDayFraction: number;
+
+  // --- engine runs (step 2) ---
+  /** A gap longer than this ends a run, s. */
+  runGapS: number;
+  /** Engine speed above which the engine is running, rpm. */
+  engineOnRpm: number;
+  /** Road speed below which the vehicle is idling, km/h. */
+  idleSpeedKph: number;
+  /** Runs shorter than this are kept but get no warm-up judgement, s. */
+  minRunS: number;
+  /** A soak at least this long makes the next start a cold start, s. */
+  coldStartSoakS: number;
+  /** A start within this of ambient is a cold start whatever the soak, °C. */
+  coldStartNearAmbientC: number;
+  /** Without ambient or soak, a start below (warm-up target − this) is a cold start, °C. */
+  coldStartDeficitC: number;
+
+  // --- warm-up (step 3) ---
+  /** 20 °F below the nominal thermostat regulating temperature, °C (13 CCR 1968.2 (e)(10)). */
+  obdWarmupMarginC: number;
+  /** Warm-up judgement suspended when ambient at start is below this, °C (20 °F, 13 CCR 1968.2). */
+  obdMinAmbientC: number;
+  /** Warm-up judgement suspended when idling exceeds this share of the warm-up (13 CCR 1968.2). */
+  obdMaxIdleFraction: number;
+  /** Longest warm-up window used by the Newton fit, s. */
+  warmupFitMaxS: number;
+  /** Points the warm-up curve is decimated to before fitting. */
+  warmupFitPoints: number;
+  /** Plateau = median coolant while moving from this long after the warm-up target, s. */
+  plateauDelayS: number;
+  /** Minimum steady-driving time for a plateau, s. */
+  plateauMinS: number;
+  /** Coolant reading at this time after start feeds the naive cold-start rule, s. */
+  naiveCheckAfterS: number;
+
+  // --- overshoot (step 4) ---
+  /** Window after the thermostat opens in which the overshoot peak is searched, s. */
+  overshootWindowS: number;
+  /** Settling band around the settled temperature, °C (1 °C quantisation + noise). */
+  settleBandC: number;
+
+  // --- overheating (step 5) ---
+  /** Hot threshold = thermostat rating + this, °C. Common practice. */
+  hotMarginC: number;
+  /** Hysteresis: an episode ends below hot threshold − this, °C. */
+  hotHysteresisC: number;
+  /** Episodes shorter than this are not counted, s. */
+  hotMinEpisodeS: number;
+  /** Trend test window, days. */
+  trendWindowDays: number;
+  /** Fewest days with data for a trend test. */
+  trendMinDays: number;
+  /** One-sided significance of the Mann–Kendall test. */
+  trendAlpha: number;
+  /** Smallest Sen slope of ambient-corrected daily peaks that matters, °C/day. Tuned. */
+  trendMinSlopeCPerDay: number;
+  /** Smallest rise of recent corrected peaks over the baseline that matters, °C. Tuned. */
+  trendMinRiseC: number;
+
+  // --- baselines and change detection ---
+  /** The vehicle's own baseline is learned over this many days after its baseline start. */
+  baselineDays: number;
+  /** Fewest eligible runs for an own baseline (else peers are used). */
+  baselineMinRuns: number;
+  /** Fewest days for an own daily baseline. */
+  baselineMinDays: number;
+  /** Smallest robust residual scale for log warm-up time (dimensionless). */
+  warmupLogScaleFloor: number;
+  /** Smallest robust residual scale for plateau and overshoot, °C. */
+  tempScaleFloorC: number;
+  /** CUSUM reference value (allowance), in robust standard deviations. */
+  cusumK: number;
+  /** CUSUM decision threshold, in robust standard deviations. */
+  cusumH: number;
+  /** Single-run robust z-scores are capped at this to limit one outlier's weight. */
+  zCap: number;
+  /** A finding stays open this long after its last evidence, days. */
+  findingStaleDays: number;
+  /** Window for sensor-fault evidence, days. */
+  sensorWindowDays: number;
+  /** Sensor evidence on at least this many days of the window raises a finding. */
+  sensorMinDays: number;
+
+  // --- physics (step 6) ---
+  /** Local atmospheric pressure, kPa (ISO 2533 sea level 101.325). */
+  atmosphericPressureKpa: number;
+  /** Boil margin below this raises a warning, °C. Common practice. */
+  boilMarginWarnC: number;
+  /** Boil margin below this is critical, °C. */
+  boilMarginCriticalC: number;
+  /** Freeze-risk when the minimum ambient comes within this of the freezing point, °C. */
+  freezeMarginC: number;
+
+  // --- risk (step 8) ---
+  /** Recency half-life of a finding's weight in the risk score, days. */
+  riskHalfLifeDays: number;
+}
+
+/** The defaults. See each field's documentation for unit and source. */
+export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
+  coolantValidMinC: -40,
+  coolantValidMaxC: 210,
+  ambientValidMinC: -60,
+  ambientValidMaxC: 65,
+  maxCoolantRateCPerS: 1,
+  rateAllowanceC: 3,
+  jumpConfirmSamples: 4,
+  stuckWindowS: 900,
+  stuckMaxRangeC: 1.5,
+  stuckMinDeficitC: 25,
+  coldSoakMinS: 6 * 3600,
+  coldSoakToleranceC: 10,
+  sensorBiasToleranceC: 5,
+  dropoutPeriods: 3,
+  dropoutDayFraction: 0.05,
+
+  runGapS: 600,
+  engineOnRpm: 300,
+  idleSpeedKph: 3,
+  minRunS: 300,
+  coldStartSoakS: 4 * 3600,
+  coldStartNearAmbientC: 10,
+  coldStartDeficitC: 30,
+
+  obdWarmupMarginC: 11.1,
+  obdMinAmbientC: -6.7,
+  obdMaxIdleFraction: 0.5,
+  warmupFitMaxS: 2400,
+  warmupFitPoints: 60,
+  plateauDelayS: 600,
+  plateauMinS: 300,
+  naiveCheckAfterS: 900,
+
+  overshootWindowS: 1200,
+  settleBandC: 2,
+
+  hotMarginC: 14,
+  hotHysteresisC: 3,
+  hotMinEpisodeS: 60,
+  trendWindowDays: 21,
+  trendMinDays: 8,
+  trendAlpha: 0.01,
+  trendMinSlopeCPerDay: 0.15,
+  trendMinRiseC: 2.5,
+
+  baselineDays: 10,
+  baselineMinRuns: 6,
+  baselineMinDays: 6,
+  warmupLogScaleFloor: 0.12,
+  tempScaleFloorC: 1,
+  cusumK: 0.75,
+  cusumH: 6,
+  zCap: 6,
+  findingStaleDays: 14,
+  sensorWindowDays: 7,
+  sensorMinDays: 2,
+
+  atmosphericPressureKpa: 101.325,
+  boilMarginWarnC: 10,
+  boilMarginCriticalC: 4,
+  freezeMarginC: 3,
+
+  riskHalfLifeDays: 14,
+});
+
+/**
+ * Per engine family overrides of the defaults. Empty families use the defaults; add a
+ * family here when its manufacturer documents different behaviour.
+ */
+export const FAMILY_OVERRIDES: Readonly<Record<string, Partial<AnalysisConfig>>> = Object.freeze({});
+
+/**
+ * The configuration for one engine family: defaults, then the family's overrides, then the
+ * caller's. Unknown keys in `overrides` are ignored; non-finite values are rejected.
+ * @example resolveConfig('hd-13l', { hotMarginC: 12 }).hotMarginC // 12
+ */
+export function resolveConfig(engineFamily = 'unknown', overrides: Partial<AnalysisConfig> = {}): AnalysisConfig {
+  const out: AnalysisConfig = { ...DEFAULT_ANALYSIS_CONFIG };
+  for (const layer of [FAMILY_OVERRIDES[engineFamily] ?? {}, overrides]) {
+    for (const [key, value] of Object.entries(layer)) {
+      if (!(key in out)) continue;
+      if (typeof value !== 'number' || !Number.isFinite(value)) {
+        throw new RangeError(`analysis config ${key} must be a finite number, got ${String(value)}`);
+      }
+      (out as unknown as Record<string, number>)[key] = value;
+    }
+  }
+  return out;
+}
