@@ -12,12 +12,13 @@ export interface StepResponseMetrics {
 /**
  * Overshoot metrics of a sampled step response from `initial` towards `final`
  * (Ogata, Modern Control Engineering §5-3). `band` is the settling band in the unit of `y`
- * (2 % criterion: band = 0.02·|final − initial|). The range [from, to) of samples is used.
+ * (2 % criterion: band = 0.02·|final − initial|). The range [from, to) of samples is used;
+ * samples for which `skip(i)` is true (e.g. implausible readings) are ignored.
  * @example stepResponseMetrics([0, 1, 2, 3], [0, 1.2, 0.95, 1], 0, 1, 0.1).percentOvershoot // 20
  */
 export function stepResponseMetrics(
   t: ArrayLike<number>, y: ArrayLike<number>, initial: number, final: number, band: number,
-  from = 0, to = y.length,
+  from = 0, to = y.length, skip?: (i: number) => boolean,
 ): StepResponseMetrics {
   const up = final >= initial;
   let peak = up ? -Infinity : Infinity;
@@ -25,7 +26,7 @@ export function stepResponseMetrics(
   let settlingTime = 0;
   for (let i = from; i < to; i++) {
     const v = y[i]!;
-    if (Number.isNaN(v)) continue;
+    if (Number.isNaN(v) || skip?.(i)) continue;
     if (up ? v > peak : v < peak) {
       peak = v;
       peakTime = t[i]!;

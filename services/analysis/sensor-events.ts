@@ -1,0 +1,32 @@
+import type { AnalysisConfig } from './config.js';
+import type { RunMetrics } from './run-metrics.js';
+
+export type SensorEventKind = 'out-of-range' | 'implausible-rate' | 'stuck-while-warming' | 'cold-soak-mismatch' | 'dropout';
+
+/** Implausible coolant-sensor behaviour in one run (one event per run and kind). */
+export interface SensorEvent {
+  kind: SensorEventKind;
+  /** The run it occurred in (with `kind`, the event's identity). */
+  runStartMs: number;
+  runEndMs: number;
+  /** Samples (out-of-range, implausible-rate) or gaps (dropout) involved; 1 for run-level checks. */
+  count: number;
+  /** Kind-specific number: offset from ambient °C, missing s, or start coolant °C; else null. */
+  value: number | null;
+}
+
+/**
+ * Sensor events of a run, from its metrics.
+ * @example sensorEventsOfRun(run, cfg).map((e) => e.kind) // ['implausible-rate']
+ */
+export function sensorEventsOfRun(r: RunMetrics, cfg: AnalysisConfig): SensorEvent[] {
+  const out: SensorEvent[] = [];
+  const ev = (kind: SensorEventKind, count: number, value: number | null) =>
+    out.push({ kind, runStartMs: r.startMs, runEndMs: r.endMs, count, value });
+  if (r.outOfRangeCount > 0) ev('out-of-range', r.outOfRangeCount, null);
+  if (r.rateFlagCount > 0) ev('implausible-rate', r.rateFlagCount, null);
+  if (r.stuckWhileWarming) ev('stuck-while-warming', 1, r.startCoolantC);
+  if (r.coldSoakOffsetC !== null && Math.abs(r.coldSoakOffsetC) > cfg.coldSoakToleranceC) ev('cold-soak-mismatch', 1, r.coldSoakOffsetC);
+  if (r.dropoutCount > 0) ev('dropout', r.dropoutCount, r.missingS);
+  return out;
+}
