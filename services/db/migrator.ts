@@ -1,8 +1,8 @@
 import { readdir } from 'node:fs/promises';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
-import { sql, type Kysely, type Migration, type MigrationProvider, type MigrationResultSet } from 'kysely';
-import { Migrator } from 'kysely/migration';
+import { sql, type Kysely } from 'kysely';
+import { Migrator, type Migration, type MigrationProvider } from 'kysely/migration';
 
 const MIGRATIONS_DIR = join(dirname(fileURLToPath(import.meta.url)), '..', '..', 'migrations');
 
@@ -34,7 +34,7 @@ export async function migrateToLatest(db: Kysely<any>): Promise<string[]> {
   const { error, results } = await migrator.migrateToLatest();
   const applied = (results ?? []).filter((r) => r.status === 'Success').map((r) => r.migrationName);
   if (error) {
-    const failed = (results ?? []).find((r: MigrationResultSet['results'] extends (infer R)[] | undefined ? R : never) => r.status === 'Error');
+    const failed = (results ?? []).find((r) => r.status === 'Error');
     const cause = error instanceof Error ? error : new Error(String(error));
     throw new MigrationError(`migration ${failed?.migrationName ?? '(unknown)'} failed: ${cause.message}`, { cause });
   }

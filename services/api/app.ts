@@ -1,0 +1,67 @@
+import rateLimit from '@fastify/rate-limit';
+import type { TypeBoxTypeProvider } from '@fastify/type-provider-typebox';
+import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
+import type { Config } from '../config.js';
+import type { DatabaseHandle } from '../db/database.js';
+import { splitKey } from '../db/api-keys-repository.js';
+import { AppError } from './errors.js';
+import authPlugin from './plugins/auth.js';
+import dbPlugin from './plugins/db.js';
+import errorsPlugin from './plugins/errors.js';
+import metricsPlugin from './plugins/metrics.js';
+import openapiPlugin from './plugins/openapi.js';
+import operationsRoutes from './routes/operations.js';
+import readingsRoutes from './routes/readings.js';
+import vehiclesRoutes from './routes/vehicles.js';
+
+export interface AppOptions {
+  config: Config;
+  database: DatabaseHandle;
+  /** Close the database with the app (true for the service; tests own theirs). */
+  closeDatabase?: boolean;
+  /** A pino logger for the service; tests run without one. */
+  logger?: FastifyBaseLogger;
+}
+
+/** Rate-limit bucket: the API key's id (cheap, no database), else the client address. */
+function rateLimitKey(request: { headers: Record<string, unknown>; ip: string }): string {
+  const header = request.headers.authorization;
+  const match = typeof header === 'string' ? /^Bearer\s+(\S+)/i.exec(header) : null;
+  return match ? `key:${splitKey(match[1]!).keyId}` : `ip:${request.ip}`;
+}
+
+/** Builds the whole HTTP API on an open database. The caller listens and closes. */
+export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
+  const { config } = options;
+  const app = Fastify({
+    ...(options.logger ? { loggerInstance: options.logger } : { logger: false }),
+    requestIdHeader: 'x-request-id',
+    genReqId: () => crypto.randomUUID(),
+    // Requests may stream a large body for minutes; drop only idle sockets.
+    requestTimeout: 0,
+    ajv: { customOptions: { removeAdditional: false, coerceTypes: 'array', useDefaults: true, allErrors: false } },
+  }).withTypeProvider<TypeBoxTypeProvider>();
+
+  app.addHook('onSend', async (request, reply) => {
+    reply.header('x-request-id', request.id);
+  });
+
+  await app.register(errorsPlugin);
+  await app.register(metricsPlugin);
+  await app.register(dbPlugin, { database: options.database, closeOnShutdown: options.closeDatabase ?? false });
+  await app.register(authPlugin);
+  await app.register(openapiPlugin);
+  await app.register(rateLimit, {
+    global: true,
+    max: config.rateLimitPerMinute,
+    timeWindow: 60_000,
+    keyGenerator: rateLimitKey,
+    allowList: (request) => ['/healthz', '/readyz', '/metrics'].includes(request.url),
+    errorResponseBuilder: (_request, context) => new AppError(429, 'rate_limited', `rate limit of ${context.max} requests per minute exceeded; retry after ${context.after}`),
+  });
+
+  await app.register(operationsRoutes);
+  await app.register(readingsRoutes, { maxBodyBytes: config.maxBodyBytes, maxReadingsPerRequest: config.maxReadingsPerRequest });
+  await app.register(vehiclesRoutes);
+  return app;
+}

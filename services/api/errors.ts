@@ -1,0 +1,84 @@
+/**
+ * Typed domain errors. The error handler (plugins/errors.ts) maps each to its HTTP status and
+ * the uniform body `{ error: { code, message } }`.
+ */
+export class AppError extends Error {
+  constructor(
+    readonly statusCode: number,
+    readonly code: string,
+    message: string,
+    options?: ErrorOptions,
+  ) {
+    super(message, options);
+    this.name = new.target.name;
+  }
+}
+
+export class BadRequestError extends AppError {
+  constructor(message: string, code = 'bad_request') {
+    super(400, code, message);
+  }
+}
+
+export class UnauthorizedError extends AppError {
+  constructor(message = 'missing or invalid API key') {
+    super(401, 'unauthorized', message);
+  }
+}
+
+export class ForbiddenError extends AppError {
+  constructor(message: string) {
+    super(403, 'forbidden', message);
+  }
+}
+
+export class NotFoundError extends AppError {
+  constructor(message: string) {
+    super(404, 'not_found', message);
+  }
+}
+
+export class ConflictError extends AppError {
+  constructor(message: string) {
+    super(409, 'conflict', message);
+  }
+}
+
+export class PayloadTooLargeError extends AppError {
+  constructor(message: string) {
+    super(413, 'payload_too_large', message);
+  }
+}
+
+export class UnsupportedMediaTypeError extends AppError {
+  constructor(message: string) {
+    super(415, 'unsupported_media_type', message);
+  }
+}
+
+export class DatabaseUnavailableError extends AppError {
+  constructor(cause: unknown) {
+    super(503, 'database_unavailable', 'the database is unavailable; nothing was stored, retry later', { cause });
+  }
+}
+
+/** Turns any thrown value into an Error without losing it. */
+export function toError(value: unknown): Error {
+  return value instanceof Error ? value : new Error(String(value));
+}
+
+// SQLSTATE classes and node socket codes meaning "the database cannot be reached right now".
+const UNAVAILABLE_SQLSTATE = /^(08|53|57P0[1-3])/;
+const UNAVAILABLE_NODE_CODES = new Set(['ECONNREFUSED', 'ECONNRESET', 'ETIMEDOUT', 'EPIPE', 'ENOTFOUND', 'EHOSTUNREACH']);
+
+/** True when the error says the database is down or unreachable (not a bad query). */
+export function isDatabaseUnavailable(err: unknown): boolean {
+  let current: unknown = err;
+  for (let depth = 0; current && depth < 5; depth++) {
+    const e = current as { code?: unknown; message?: unknown; cause?: unknown };
+    if (typeof e.code === 'string' && (UNAVAILABLE_SQLSTATE.test(e.code) || UNAVAILABLE_NODE_CODES.has(e.code))) return true;
+    if (typeof e.message === 'string' && /Connection terminated|timeout exceeded when trying to connect|Client has encountered a connection error|PGlite is closed/i.test(e.message)) return true;
+    current = e.cause;
+  }
+  return false;
+}

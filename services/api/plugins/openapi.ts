@@ -1,0 +1,37 @@
+import swagger from '@fastify/swagger';
+import swaggerUi from '@fastify/swagger-ui';
+import fp from 'fastify-plugin';
+import { ErrorBody } from '../schemas/common.js';
+
+/** `/openapi.json` built from the route schemas, and the interactive docs at `/docs`. */
+export default fp(
+  async (app) => {
+    app.addSchema(ErrorBody);
+    await app.register(swagger, {
+      openapi: {
+        openapi: '3.1.0',
+        info: {
+          title: 'thermocline',
+          version: '0.1.0',
+          description:
+            'Turns fleet coolant-temperature telemetry into cooling-system maintenance decisions. Authenticate with `Authorization: Bearer <key>`; ' +
+            'keys have scopes ingest, read and admin and belong to one fleet (admin keys: every fleet).',
+        },
+        components: { securitySchemes: { bearerAuth: { type: 'http', scheme: 'bearer' } } },
+        tags: [
+          { name: 'readings', description: 'telemetry from gateways' },
+          { name: 'vehicles', description: 'vehicle profiles and per-vehicle data' },
+          { name: 'fleet', description: 'fleet-wide views for maintenance planners' },
+          { name: 'findings', description: 'analysis findings and their lifecycle' },
+          { name: 'analysis', description: 'running the analysis' },
+          { name: 'reports', description: 'weekly maintenance reports' },
+          { name: 'operations', description: 'health, readiness and metrics' },
+        ],
+      },
+      refResolver: { buildLocalReference: (json, _base, _fragment, i) => (typeof json.$id === 'string' ? json.$id : `def-${i}`) },
+    });
+    await app.register(swaggerUi, { routePrefix: '/docs' });
+    app.get('/openapi.json', { schema: { hide: true } }, async () => app.swagger());
+  },
+  { name: 'openapi' },
+);

@@ -1,0 +1,96 @@
+import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
+import { Type } from 'typebox';
+import { createFleetsRepository } from '../../db/fleets-repository.js';
+import { createVehiclesRepository } from '../../db/vehicles-repository.js';
+import { BadRequestError, NotFoundError } from '../errors.js';
+import { assertFleetAccess, principalOf } from '../plugins/auth.js';
+import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
+import { Vehicle, VehicleProfilePatchBody } from '../schemas/vehicle.js';
+
+/** Vehicle profiles: the cooling-system facts the analysis needs (thermostat, cap, glycol). */
+const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
+  const vehicles = createVehiclesRepository(app.database.db);
+  const fleets = createFleetsRepository(app.database.db);
+
+  app.put(
+    '/v1/vehicles/:vehicleId',
+    {
+      onRequest: app.requireScope('ingest'),
+      schema: {
+        tags: ['vehicles'],
+        summary: 'Create or update a vehicle profile',
+        description: 'Fields left out keep their value (or the default for a new vehicle). Admin keys name the fleet of a new vehicle with `?fleet=`.',
+        security: SECURITY,
+        params: VehicleIdParams,
+        querystring: Type.Object({ fleet: Type.Optional(Type.String({ description: 'admin keys only: fleet of a new vehicle' })) }),
+        body: VehicleProfilePatchBody,
+        response: { 200: Vehicle, 201: Vehicle, ...errorResponses(400, 401, 403, 404) },
+      },
+    },
+    async (request, reply) => {
+      const principal = principalOf(request);
+      const { vehicleId } = request.params;
+      const owner = await vehicles.fleetOf(vehicleId);
+      let fleetId: string;
+      if (owner !== undefined) {
+        assertFleetAccess(principal, owner);
+        fleetId = owner;
+      } else if (principal.fleetId !== null) {
+        fleetId = principal.fleetId;
+      } else {
+        if (!request.query.fleet) throw new BadRequestError('an admin key must name the fleet of a new vehicle: ?fleet=<fleetId>');
+        if (!(await fleets.exists(request.query.fleet))) throw new NotFoundError(`unknown fleet '${request.query.fleet}'`);
+        fleetId = request.query.fleet;
+      }
+      const { vehicle, created } = await vehicles.upsert(vehicleId, fleetId, request.body);
+      return reply.status(created ? 201 : 200).send(vehicle);
+    },
+  );
+
+  app.get(
+    '/v1/vehicles',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['vehicles'],
+        summary: "List the fleet's vehicles",
+        security: SECURITY,
+        querystring: Type.Object({
+          limit: Type.Integer({ minimum: 1, maximum: 1000, default: 100 }),
+          after: Type.Optional(Type.String({ description: 'vehicle id to continue after (from nextAfter)' })),
+          fleet: Type.Optional(Type.String({ description: 'admin keys only: restrict to one fleet' })),
+        }),
+        response: { 200: Type.Object({ vehicles: Type.Array(Vehicle), nextAfter: Type.Union([Type.String(), Type.Null()]) }), ...errorResponses(400, 401, 403) },
+      },
+    },
+    async (request) => {
+      const principal = principalOf(request);
+      if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
+      const fleetId = principal.fleetId ?? request.query.fleet ?? null;
+      const list = await vehicles.list({ fleetId, limit: request.query.limit, ...(request.query.after ? { after: request.query.after } : {}) });
+      return { vehicles: list, nextAfter: list.length === request.query.limit ? list[list.length - 1]!.vehicleId : null };
+    },
+  );
+
+  app.get(
+    '/v1/vehicles/:vehicleId',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['vehicles'],
+        summary: "A vehicle's profile",
+        security: SECURITY,
+        params: VehicleIdParams,
+        response: { 200: Vehicle, ...errorResponses(401, 403, 404) },
+      },
+    },
+    async (request) => {
+      const vehicle = await vehicles.get(request.params.vehicleId);
+      if (!vehicle) throw new NotFoundError(`no vehicle '${request.params.vehicleId}'`);
+      assertFleetAccess(principalOf(request), vehicle.fleetId);
+      return vehicle;
+    },
+  );
+};
+
+export default vehiclesRoutes;

@@ -1,0 +1,30 @@
+import { Type } from 'typebox';
+
+/** Profile limits: wax thermostats are rated 60–110 °C, caps up to 250 kPa gauge, glycol up to 70 %. */
+export const THERMOSTAT_MIN_C = 60;
+export const THERMOSTAT_MAX_C = 110;
+export const CAP_MAX_KPA = 250;
+export const GLYCOL_MAX_PERCENT = 70;
+
+export const VehicleProfilePatchBody = Type.Object(
+  {
+    engineFamily: Type.Optional(Type.String({ minLength: 1, maxLength: 64, description: 'engine family: vehicles of one family are compared with each other' })),
+    thermostatOpenC: Type.Optional(Type.Number({ minimum: THERMOSTAT_MIN_C, maximum: THERMOSTAT_MAX_C, description: 'nominal thermostat opening temperature, °C (default 88)' })),
+    capPressureKpa: Type.Optional(Type.Number({ minimum: 0, maximum: CAP_MAX_KPA, description: 'radiator/pressure cap rating, kPa gauge (default 100)' })),
+    glycolPercent: Type.Optional(Type.Number({ minimum: 0, maximum: GLYCOL_MAX_PERCENT, description: 'ethylene glycol share of the coolant, % (default 50)' })),
+    label: Type.Optional(Type.Union([Type.String({ maxLength: 200 }), Type.Null()], { description: 'free text, e.g. registration plate' })),
+  },
+  { additionalProperties: false },
+);
+
+export const Vehicle = Type.Object({
+  vehicleId: Type.String(),
+  fleetId: Type.String(),
+  engineFamily: Type.String(),
+  thermostatOpenC: Type.Number(),
+  capPressureKpa: Type.Number(),
+  glycolPercent: Type.Number(),
+  label: Type.Union([Type.String(), Type.Null()]),
+  createdAt: Type.String({ format: 'date-time' }),
+  updatedAt: Type.String({ format: 'date-time' }),
+});
