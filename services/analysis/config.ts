@@ -7,9 +7,11 @@
  */
 export interface AnalysisConfig {
   // --- sensor plausibility (design step 1) ---
-  /** Lowest valid coolant reading, °C (SAE J1939-71 SPN 110 range starts at −40 °C). */
+  /**
+   * Coolant readings must lie strictly inside (min, max), °C: SAE J1939-71 SPN 110 spans
+   * −40..210 °C, and a reading pinned at a limit is what an open or shorted circuit reports.
+   */
   coolantValidMinC: number;
-  /** Highest valid coolant reading, °C (SPN 110 range ends at 210 °C). */
   coolantValidMaxC: number;
   /** Plausible ambient air range, °C (outside: treated as absent). Common practice. */
   ambientValidMinC: number;
@@ -20,6 +22,8 @@ export interface AnalysisConfig {
   rateAllowanceC: number;
   /** Samples a jumped level must persist before it is accepted as real. */
   jumpConfirmSamples: number;
+  /** A run at least this long whose coolant never changes at all is flat-lined, s. */
+  flatRunMinS: number;
   /** Window after a cold start in which a working sensor must show warming, s. */
   stuckWindowS: number;
   /** A cold start whose coolant moves less than this within `stuckWindowS` is stuck, °C. */
@@ -30,7 +34,7 @@ export interface AnalysisConfig {
   coldSoakMinS: number;
   /** One start further than this from ambient after a cold soak is suspicious, °C. */
   coldSoakToleranceC: number;
-  /** A persistent median offset from ambient after cold soaks beyond this is a bias, °C. */
+  /** A persistent shift of the cold-soak offset (and of the plateau) beyond this is a bias, °C. */
   sensorBiasToleranceC: number;
   /** A gap in a run longer than this many nominal sample periods is a dropout. */
   dropoutPeriods: number;
@@ -142,13 +146,14 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   ambientValidMaxC: 65,
   maxCoolantRateCPerS: 1,
   rateAllowanceC: 3,
-  jumpConfirmSamples: 4,
+  jumpConfirmSamples: 30,
+  flatRunMinS: 1800,
   stuckWindowS: 900,
   stuckMaxRangeC: 1.5,
   stuckMinDeficitC: 25,
-  coldSoakMinS: 6 * 3600,
+  coldSoakMinS: 8 * 3600,
   coldSoakToleranceC: 10,
-  sensorBiasToleranceC: 5,
+  sensorBiasToleranceC: 3,
   dropoutPeriods: 3,
   dropoutDayFraction: 0.05,
 

@@ -63,8 +63,13 @@ export interface RunMetrics {
   outOfRangeCount: number;
   dropoutCount: number;
   missingS: number;
-  /** Coolant moved less than `stuckMaxRangeC` in the first `stuckWindowS` of a cold start. */
-  stuckWhileWarming: boolean;
+  /** Highest minus lowest plausible coolant reading, °C. */
+  coolantRangeC: number | null;
+  /**
+   * The reading did not follow the engine: it moved less than `stuckMaxRangeC` in the first
+   * `stuckWindowS` of a cold start, or not at all over a run of at least `flatRunMinS`.
+   */
+  stuck: boolean;
   /** startCoolant − startAmbient after a soak ≥ coldSoakMinS, °C. */
   coldSoakOffsetC: number | null;
   /** Sensor data too implausible for engine judgement. */
@@ -120,7 +125,7 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
 
   let on = 0, idle = 0, plausible = 0, rateFlags = 0, outOfRange = 0, dropouts = 0, missingMs = 0;
   let ambSum = 0, ambN = 0, ambMax = -Infinity, spdSum = 0, spdN = 0, rpmSum = 0, rpmN = 0;
-  let peak = -Infinity, earlyMin = Infinity, earlyMax = -Infinity;
+  let peak = -Infinity, low = Infinity, earlyMin = Infinity, earlyMax = -Infinity;
   let targetIdx = -1, openIdx = -1, checkC = NaN, rateC = NaN, warmupOn = 0, warmupIdle = 0;
   let hotStart = -1, hotPeak = -Infinity, hotIdleMs = 0, hotMs = 0, hotCount = 0, runHotPeak = -Infinity;
   const dropoutMs = cfg.dropoutPeriods * periodS * MS_PER_S;
@@ -174,6 +179,7 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
     plausible++;
     const c = coolant[i]!;
     if (c > peak) peak = c;
+    if (c < low) low = c;
     if (t <= earlyEnd) {
       if (c < earlyMin) earlyMin = c;
       if (c > earlyMax) earlyMax = c;
@@ -204,10 +210,10 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
   const durationS = (ts[b - 1]! - t0) / MS_PER_S;
   const coldSoakOffsetC = soakS !== null && soakS >= cfg.coldSoakMinS && startAmbient === startAmbient && startCoolant === startCoolant
     ? startCoolant - startAmbient : null;
-  const stuckWhileWarming = cold && durationS >= cfg.stuckWindowS && target - startCoolant >= cfg.stuckMinDeficitC
-    && earlyMax - earlyMin <= cfg.stuckMaxRangeC;
+  const stuck = (cold && durationS >= cfg.stuckWindowS && target - startCoolant >= cfg.stuckMinDeficitC
+    && earlyMax - earlyMin <= cfg.stuckMaxRangeC) || (durationS >= cfg.flatRunMinS && peak === low);
   const implausible = rateFlags + outOfRange;
-  const excludedForSensor = stuckWhileWarming || plausible === 0 || implausible > MAX_IMPLAUSIBLE_FRACTION * on
+  const excludedForSensor = stuck || plausible === 0 || implausible > MAX_IMPLAUSIBLE_FRACTION * on
     || (coldSoakOffsetC !== null && Math.abs(coldSoakOffsetC) > EXCLUDE_SOAK_OFFSET_FACTOR * cfg.coldSoakToleranceC);
   const warmupIdleFraction = warmupOn > 0 ? warmupIdle / warmupOn : 0;
   let suspended: WarmupSuspension | null = null;
@@ -259,7 +265,8 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
     outOfRangeCount: outOfRange,
     dropoutCount: dropouts,
     missingS: missingMs / MS_PER_S,
-    stuckWhileWarming,
+    coolantRangeC: orNull(peak - low),
+    stuck,
     coldSoakOffsetC,
     excludedForSensor,
   };

@@ -53,7 +53,7 @@ export function flagSamples(s: SampleArrays, cfg: AnalysisConfig, flags: Uint8Ar
     if (r === r ? r > cfg.engineOnRpm : true) f |= FLAG_ENGINE_ON;
     if (v === v && v >= cfg.idleSpeedKph) f |= FLAG_MOVING;
     const c = coolant[i]!;
-    if (!(c >= cfg.coolantValidMinC && c <= cfg.coolantValidMaxC)) {
+    if (!(c > cfg.coolantValidMinC && c < cfg.coolantValidMaxC)) {
       flags[i] = f | FLAG_OUT_OF_RANGE;
       continue;
     }

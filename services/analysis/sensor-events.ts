@@ -1,7 +1,7 @@
 import type { AnalysisConfig } from './config.js';
 import type { RunMetrics } from './run-metrics.js';
 
-export type SensorEventKind = 'out-of-range' | 'implausible-rate' | 'stuck-while-warming' | 'cold-soak-mismatch' | 'dropout';
+export type SensorEventKind = 'out-of-range' | 'implausible-rate' | 'stuck' | 'cold-soak-mismatch' | 'dropout';
 
 /** Implausible coolant-sensor behaviour in one run (one event per run and kind). */
 export interface SensorEvent {
@@ -25,7 +25,7 @@ export function sensorEventsOfRun(r: RunMetrics, cfg: AnalysisConfig): SensorEve
     out.push({ kind, runStartMs: r.startMs, runEndMs: r.endMs, count, value });
   if (r.outOfRangeCount > 0) ev('out-of-range', r.outOfRangeCount, null);
   if (r.rateFlagCount > 0) ev('implausible-rate', r.rateFlagCount, null);
-  if (r.stuckWhileWarming) ev('stuck-while-warming', 1, r.startCoolantC);
+  if (r.stuck) ev('stuck', 1, r.startCoolantC);
   if (r.coldSoakOffsetC !== null && Math.abs(r.coldSoakOffsetC) > cfg.coldSoakToleranceC) ev('cold-soak-mismatch', 1, r.coldSoakOffsetC);
   if (r.dropoutCount > 0) ev('dropout', r.dropoutCount, r.missingS);
   return out;

@@ -1,0 +1,54 @@
+import { robustLinearFit, predict } from '../stats/robust-regression.js';
+import { MAD_TO_SIGMA, mad, median } from '../stats/robust.js';
+/** A judged quantity y with its explaining conditions x (runs and days alike). */
+export interface ModelRow {
+  x: number[];
+  y: number;
+  /** y is only a lower bound. */
+  censored: boolean;
+}
+
+/** A learned expectation: y ≈ intercept + Σ coefficient·x, with a robust residual σ. */
+export interface BaselineModel {
+  coefficients: number[];
+  sigma: number;
+  n: number;
+}
+
+/** Predictors are dropped (median model) unless there are this many rows per coefficient. */
+const ROWS_PER_COEFFICIENT = 4;
+/** Fewest rows for any model. */
+const MIN_ROWS = 3;
+
+/**
+ * Robust model of a feature over uncensored rows: Huber regression on the predictors when
+ * there are enough rows, else the median. Null with fewer than 3 rows.
+ * @example fitBaseline(rows)?.sigma
+ */
+export function fitBaseline(rows: readonly ModelRow[]): BaselineModel | null {
+  const usable = rows.filter((r) => !r.censored);
+  if (usable.length < MIN_ROWS) return null;
+  const p = (usable[0]?.x.length ?? 0) + 1;
+  if (p > 1 && usable.length >= ROWS_PER_COEFFICIENT * p) {
+    const fit = robustLinearFit(usable.map((r) => r.x), usable.map((r) => r.y));
+    if (fit && fit.coefficients.every(Number.isFinite)) return { coefficients: fit.coefficients, sigma: fit.residualSigma, n: usable.length };
+  }
+  const ys = usable.map((r) => r.y);
+  const m = median(ys);
+  return { coefficients: [m, ...new Array<number>(p - 1).fill(0)], sigma: MAD_TO_SIGMA * mad(ys, m), n: usable.length };
+}
+
+/** Expected y of a row under a model. */
+export function expected(model: BaselineModel, row: ModelRow): number {
+  return predict(model, row.x);
+}
+
+/**
+ * Robust z-score of a row in the feature's bad direction, capped at ±zCap; null for a
+ * censored row that does not yet exceed the expectation (inconclusive).
+ */
+export function badZ(model: BaselineModel, row: ModelRow, direction: 1 | -1, floor: number, zCap: number): number | null {
+  const z = (direction * (row.y - expected(model, row))) / Math.max(model.sigma, floor);
+  if (row.censored && z <= 0) return null;
+  return Math.max(-zCap, Math.min(zCap, z));
+}

@@ -1,0 +1,68 @@
+import type { AnalysisConfig } from '../config.js';
+import type { DayAggregate } from '../day-aggregates.js';
+import { freezingPointC } from '../physics/freezing-point.js';
+import { type Finding, findingKey, isoDay, round, SAFETY_CAUTION, type Severity } from './finding.js';
+
+const DAY_MS = 86_400_000;
+/** Days of recent history the margins look at. */
+const MARGIN_WINDOW_DAYS = 7;
+const FREEZE_WINDOW_DAYS = 30;
+
+/**
+ * Boil margin: the recent daily peak is within `boilMarginWarnC` (critical:
+ * `boilMarginCriticalC`) of the coolant's boiling point at cap pressure.
+ */
+export function boilMarginFinding(days: readonly DayAggregate[], baselineStart: number, boilingPointC: number, now: number, cfg: AnalysisConfig): Finding | null {
+  const recent = days.filter((d) => d.peakCoolantC !== null && d.dayStartMs > now - MARGIN_WINDOW_DAYS * DAY_MS && d.dayStartMs <= now);
+  const thin = recent.filter((d) => boilingPointC - d.peakCoolantC! < cfg.boilMarginWarnC);
+  if (thin.length === 0) return null;
+  const worst = thin.reduce((a, b) => (b.peakCoolantC! > a.peakCoolantC! ? b : a));
+  const margin = boilingPointC - worst.peakCoolantC!;
+  const severity: Severity = margin <= cfg.boilMarginCriticalC ? 'critical' : 'warning';
+  return {
+    key: findingKey('boil-margin', null, baselineStart), kind: 'boil-margin', subKind: null, severity,
+    confidence: round(Math.min(1, 0.6 + 0.1 * thin.length), 3),
+    firstSeen: thin[0]!.dayStartMs, lastSeen: thin[thin.length - 1]!.dayStartMs,
+    summary: `On ${isoDay(worst.dayStartMs)} the coolant reached ${round(worst.peakCoolantC!, 0)} °C, only ${round(margin, 1)} °C below its `
+      + `boiling point of ${round(boilingPointC, 0)} °C under the pressure cap.`,
+    recommendedCheck: 'Check the pressure cap, coolant level and mixture, radiator and fan before the next heavy duty. ' + SAFETY_CAUTION,
+    troubleCode: 'P0217',
+    metrics: { boilingPointC: round(boilingPointC, 1), minMarginC: round(margin, 1), daysThin: thin.length },
+    evidence: thin.map((d) => ({ at: d.dayStartMs, scope: 'day' as const, metric: 'peakCoolantC', value: round(d.peakCoolantC!), expected: round(boilingPointC), z: null })),
+  };
+}
+
+/**
+ * Freeze risk: the coldest recent ambient came within `freezeMarginC` of the coolant's
+ * freezing point (Melinder table), or the mix is richer than the table (protection falls).
+ */
+export function freezeRiskFinding(days: readonly DayAggregate[], baselineStart: number, glycolPercent: number, now: number, cfg: AnalysisConfig): Finding | null {
+  const recent = days.filter((d) => d.ambientMinC !== null && d.dayStartMs > now - FREEZE_WINDOW_DAYS * DAY_MS && d.dayStartMs <= now);
+  if (recent.length === 0) return null;
+  const freezeC = freezingPointC(glycolPercent);
+  const coldest = recent.reduce((a, b) => (b.ambientMinC! < a.ambientMinC! ? b : a));
+  const base = {
+    key: findingKey('freeze-risk', null, baselineStart), kind: 'freeze-risk' as const, subKind: null,
+    recommendedCheck: 'Measure the coolant\'s freeze protection (refractometer) and correct the glycol mix. ' + SAFETY_CAUTION,
+    troubleCode: null,
+  };
+  if (freezeC === null) {
+    return {
+      ...base, severity: 'advisory', confidence: 0.5, firstSeen: recent[0]!.dayStartMs, lastSeen: coldest.dayStartMs,
+      summary: `The coolant is recorded as ${glycolPercent} % glycol; mixes richer than about 60 % freeze at higher temperatures again.`,
+      metrics: { glycolPercent, coldestAmbientC: round(coldest.ambientMinC!) }, evidence: [],
+    };
+  }
+  const close = recent.filter((d) => d.ambientMinC! < freezeC + cfg.freezeMarginC);
+  if (close.length === 0) return null;
+  return {
+    ...base,
+    severity: coldest.ambientMinC! <= freezeC ? 'critical' : 'warning',
+    confidence: round(Math.min(1, 0.6 + 0.1 * close.length), 3),
+    firstSeen: close[0]!.dayStartMs, lastSeen: close[close.length - 1]!.dayStartMs,
+    summary: `Air temperatures down to ${round(coldest.ambientMinC!, 0)} °C come within ${round(coldest.ambientMinC! - freezeC, 1)} °C of the `
+      + `coolant's freezing point of ${round(freezeC, 0)} °C (${glycolPercent} % glycol).`,
+    metrics: { freezingPointC: round(freezeC, 1), coldestAmbientC: round(coldest.ambientMinC!), daysClose: close.length },
+    evidence: close.map((d) => ({ at: d.dayStartMs, scope: 'day' as const, metric: 'ambientMinC', value: round(d.ambientMinC!), expected: round(freezeC), z: null })),
+  };
+}

@@ -1,0 +1,118 @@
+import type { AnalysisConfig } from '../config.js';
+import type { DayAggregate } from '../day-aggregates.js';
+import { upperCusum } from '../stats/cusum.js';
+import { mannKendall, sensSlope } from '../stats/mann-kendall.js';
+import { normalCdf } from '../stats/normal-cdf.js';
+import { median } from '../stats/robust.js';
+import { badZ, expected, fitBaseline, type ModelRow } from './baseline-model.js';
+import {
+  clamp01, type EvidenceItem, type Finding, findingKey, isoDay, MAX_EVIDENCE_ITEMS, round, SAFETY_CAUTION, type Severity,
+} from './finding.js';
+
+const DAY_MS = 86_400_000;
+/** Days with less running than this are too thin to judge, h. */
+const MIN_ENGINE_HOURS = 0.25;
+const DEFAULT_AMBIENT_C = 15;
+const RECENT_DAYS = 5;
+/** Projected days to boiling at or below which the finding is critical. */
+const CRITICAL_DAYS_TO_BOIL = 14;
+
+type DayMetric = 'peakCoolantC' | 'peakIdleCoolantC' | 'warmP95CoolantC';
+/** Daily quantities judged: overall peak, peak while standing (fan), 95th percentile while moving (radiator). */
+const DAY_METRICS: readonly DayMetric[] = ['peakCoolantC', 'peakIdleCoolantC', 'warmP95CoolantC'];
+
+interface ScoredDay { day: DayAggregate; metric: DayMetric; z: number; value: number; expected: number }
+
+function dayRow(d: DayAggregate, metric: DayMetric): ModelRow | null {
+  const y = d[metric];
+  if (y === null) return null;
+  return { x: [d.ambientMaxC ?? d.ambientMeanC ?? DEFAULT_AMBIENT_C], y, censored: false };
+}
+
+/**
+ * Overheating trend: daily peaks (overall, standing, moving 95th percentile) rising above
+ * what the vehicle's own baseline days predict for the day's ambient temperature — by
+ * CUSUM (a shift, e.g. a dead fan) or by Mann–Kendall with Sen's slope on the
+ * ambient-corrected peaks (a creeping fault, e.g. fouling or coolant loss). Projects the
+ * days until peaks reach the boiling point at cap pressure.
+ */
+export function overheatingTrendFinding(
+  allDays: readonly DayAggregate[], baselineStart: number, boilingPointC: number, now: number, cfg: AnalysisConfig,
+): Finding | null {
+  const days = allDays.filter((d) => d.engineHours >= MIN_ENGINE_HOURS && d.peakCoolantC !== null);
+  const baselineEnd = baselineStart + cfg.baselineDays * DAY_MS;
+  const base = days.filter((d) => d.dayStartMs < baselineEnd);
+  if (base.length < cfg.baselineMinDays) return null;
+  const perDay = new Map<number, ScoredDay>();
+  let peakResiduals: { t: number; r: number }[] = [];
+  for (const metric of DAY_METRICS) {
+    const model = fitBaseline(base.map((d) => dayRow(d, metric)).filter((r): r is ModelRow => r !== null));
+    if (!model) continue;
+    for (const d of days) {
+      const row = dayRow(d, metric);
+      if (!row) continue;
+      const z = badZ(model, row, 1, cfg.tempScaleFloorC, cfg.zCap)!;
+      const e = expected(model, row);
+      const cur = perDay.get(d.dayStartMs);
+      if (!cur || z > cur.z) perDay.set(d.dayStartMs, { day: d, metric, z, value: row.y, expected: e });
+      if (metric === 'peakCoolantC') peakResiduals.push({ t: d.dayStartMs, r: row.y - e });
+    }
+  }
+  const scored = [...perDay.values()].sort((a, b) => a.day.dayStartMs - b.day.dayStartMs);
+  if (scored.length === 0) return null;
+  const cusum = upperCusum(scored.map((s) => s.z), cfg.cusumK, cfg.cusumH);
+  peakResiduals = peakResiduals.filter((p) => p.t > now - cfg.trendWindowDays * DAY_MS);
+  let trend = false;
+  let slope = 0;
+  let rise = 0;
+  if (peakResiduals.length >= cfg.trendMinDays) {
+    const r = peakResiduals.map((p) => p.r);
+    const mk = mannKendall(r);
+    slope = sensSlope(r, peakResiduals.map((p) => p.t / DAY_MS));
+    rise = median(r.slice(-RECENT_DAYS));
+    trend = mk.pIncreasing < cfg.trendAlpha && slope >= cfg.trendMinSlopeCPerDay && rise >= cfg.trendMinRiseC;
+  }
+  if (cusum.alarmIndex < 0 && !trend) return null;
+  const onsetIdx = cusum.alarmIndex >= 0 ? cusum.changeIndex
+    : Math.max(0, scored.findIndex((s) => s.day.dayStartMs > now - cfg.trendWindowDays * DAY_MS && s.z >= 1));
+  const after = scored.slice(onsetIdx);
+  const supporting = after.filter((s) => s.z >= 1);
+  const lastSeen = (supporting[supporting.length - 1] ?? scored[scored.length - 1]!).day.dayStartMs;
+  if (now - lastSeen > cfg.findingStaleDays * DAY_MS) return null;
+  const recentPeaks = days.slice(-RECENT_DAYS).map((d) => d.peakCoolantC!);
+  const level = median(recentPeaks);
+  const window = days.filter((d) => d.dayStartMs > now - cfg.trendWindowDays * DAY_MS);
+  const rawSlope = window.length >= 3 ? sensSlope(window.map((d) => d.peakCoolantC!), window.map((d) => d.dayStartMs / DAY_MS)) : 0;
+  const daysToBoil = rawSlope > 0 ? Math.max(0, (boilingPointC - level) / rawSlope) : null;
+  const recentEpisodes = days.slice(-RECENT_DAYS * 2).reduce((n, d) => n + d.overheatEpisodes, 0);
+  const medianZ = median(after.map((s) => s.z));
+  let severity: Severity = 'advisory';
+  if ((daysToBoil !== null && daysToBoil <= CRITICAL_DAYS_TO_BOIL) || boilingPointC - Math.max(...recentPeaks) <= cfg.boilMarginCriticalC) severity = 'critical';
+  else if (recentEpisodes > 0 || medianZ >= 3) severity = 'warning';
+  const evidence: EvidenceItem[] = supporting.slice(-MAX_EVIDENCE_ITEMS).map((s) => ({
+    at: s.day.dayStartMs, scope: 'day' as const, metric: s.metric, value: round(s.value), expected: round(s.expected), z: round(s.z),
+  }));
+  const firstSeen = scored[onsetIdx]!.day.dayStartMs;
+  const riseC = median(after.map((s) => s.value - s.expected));
+  return {
+    key: findingKey('overheating-trend', null, baselineStart),
+    kind: 'overheating-trend',
+    subKind: null,
+    severity,
+    confidence: round(clamp01(normalCdf(medianZ - 1) * (1 - 0.5 ** supporting.length) * (trend ? 1 : 0.9)), 3),
+    firstSeen,
+    lastSeen,
+    summary: `Since ${isoDay(firstSeen)} peak coolant temperatures run about ${round(riseC, 1)} °C above what the weather explains`
+      + (daysToBoil !== null ? `, rising ${round(rawSlope, 2)} °C a day (boiling point ${round(boilingPointC, 0)} °C in about ${Math.round(daysToBoil)} days at this rate)` : '')
+      + '; likely a fouled radiator, a failing fan or coolant loss.',
+    recommendedCheck: 'Check the coolant level and look for leaks with the engine cold, inspect the radiator core for blockage, '
+      + 'check that the cooling fan engages when the engine is hot, and pressure-test the cap. ' + SAFETY_CAUTION,
+    troubleCode: recentEpisodes > 0 ? 'P0217' : null,
+    metrics: {
+      medianZ: round(medianZ), riseC: round(riseC), senSlopeCPerDay: round(slope, 3), rawSlopeCPerDay: round(rawSlope, 3),
+      daysToBoil: daysToBoil === null ? -1 : round(daysToBoil, 1), boilingPointC: round(boilingPointC, 1),
+      recentOverheatEpisodes: recentEpisodes, trendSignificant: trend ? 1 : 0, cusumAlarm: cusum.alarmIndex >= 0 ? 1 : 0,
+    },
+    evidence,
+  };
+}

@@ -1,0 +1,94 @@
+import type { RunMetrics } from '../run-metrics.js';
+
+/** One run reduced to a judged quantity y and the conditions x that explain part of it. */
+export interface FeatureRow {
+  run: RunMetrics;
+  x: number[];
+  y: number;
+  /** y is only a lower bound (e.g. the target was never reached before the run ended). */
+  censored: boolean;
+}
+
+/** A run quantity judged against history and peers. */
+export interface RunFeature {
+  name: 'warmupTime' | 'plateau' | 'overshoot' | 'soakOffset';
+  /** RunMetrics field shown as evidence. */
+  metric: keyof RunMetrics;
+  /** +1: higher than expected is bad; −1: lower is bad. */
+  direction: 1 | -1;
+  extract(r: RunMetrics): Omit<FeatureRow, 'run'> | null;
+  /** Shown value of the evidence for a row (inverse of the y transform). */
+  display(y: number): number;
+}
+
+/** Ambient assumed when the gateway sends none, °C (so x stays numeric; common practice). */
+const DEFAULT_AMBIENT_C = 15;
+/** Smallest warm-up deficit used in the log model, °C. */
+const MIN_DEFICIT_C = 5;
+
+const ambientOf = (r: RunMetrics) => r.startAmbientC ?? r.ambientMeanC ?? DEFAULT_AMBIENT_C;
+
+/**
+ * Warm-up time: ln(time to the 20 °F target), explained by ln(start deficit), ambient and
+ * the share of idling. Censored by the run's length when the target was never reached.
+ */
+export const WARMUP_TIME: RunFeature = {
+  name: 'warmupTime',
+  metric: 'timeToTargetS',
+  direction: 1,
+  extract(r) {
+    if (!r.warmupEligible || r.startCoolantC === null) return null;
+    const x = [Math.log(Math.max(r.warmupTargetC - r.startCoolantC, MIN_DEFICIT_C)), ambientOf(r), r.warmupIdleFraction];
+    if (r.timeToTargetS !== null) return { x, y: Math.log(Math.max(r.timeToTargetS, 1)), censored: false };
+    return { x, y: Math.log(Math.max(r.durationS, 1)), censored: true };
+  },
+  display: (y) => Math.exp(y),
+};
+
+/** Plateau in steady driving relative to the thermostat rating, explained by ambient and speed. */
+export const PLATEAU: RunFeature = {
+  name: 'plateau',
+  metric: 'plateauC',
+  direction: -1,
+  extract(r) {
+    if (r.plateauC === null || r.excludedForSensor) return null;
+    return { x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100], y: r.plateauC - r.thermostatOpenC, censored: false };
+  },
+  display: (y) => y,
+};
+
+/** Overshoot above the settled temperature after the thermostat opens, explained by ambient. */
+export const OVERSHOOT: RunFeature = {
+  name: 'overshoot',
+  metric: 'overshootC',
+  direction: 1,
+  extract(r) {
+    if (r.overshootC === null || r.startKind !== 'cold' || r.excludedForSensor) return null;
+    return { x: [ambientOf(r)], y: r.overshootC, censored: false };
+  },
+  display: (y) => y,
+};
+
+/** Start coolant minus ambient after a long soak (a working sensor reads ambient). */
+export const SOAK_OFFSET: RunFeature = {
+  name: 'soakOffset',
+  metric: 'coldSoakOffsetC',
+  direction: 1,
+  extract(r) {
+    if (r.coldSoakOffsetC === null || r.stuck) return null;
+    return { x: [], y: r.coldSoakOffsetC, censored: false };
+  },
+  display: (y) => y,
+};
+
+export const RUN_FEATURES = [WARMUP_TIME, PLATEAU, OVERSHOOT, SOAK_OFFSET] as const;
+
+/** Rows of a feature over runs (runs whose feature is undefined are skipped). */
+export function featureRows(runs: readonly RunMetrics[], f: RunFeature): FeatureRow[] {
+  const out: FeatureRow[] = [];
+  for (const run of runs) {
+    const e = f.extract(run);
+    if (e) out.push({ run, ...e });
+  }
+  return out;
+}

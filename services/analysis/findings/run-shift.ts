@@ -1,0 +1,73 @@
+import type { AnalysisConfig } from '../config.js';
+import type { PeerBaseline } from '../peer-baseline.js';
+import type { RunMetrics } from '../run-metrics.js';
+import { median } from '../stats/robust.js';
+import { badZ, expected, fitBaseline } from './baseline-model.js';
+import { featureRows, type RunFeature } from './run-features.js';
+
+export interface ScoredRun {
+  run: RunMetrics;
+  feature: RunFeature;
+  /** Robust z in the bad direction. */
+  z: number;
+  value: number;
+  expected: number;
+}
+
+export interface ScoredFeature {
+  scored: ScoredRun[];
+  /** Which expectation was used. */
+  source: 'own' | 'peer' | null;
+}
+
+const DAY_MS = 86_400_000;
+/** Own baseline is replaced by peers when its median peer z is beyond this (fault from day one). */
+const ABNORMAL_BASELINE_Z = 3;
+
+/**
+ * Scores each run's feature against the vehicle's own baseline (runs in the first
+ * `baselineDays` of the epoch) when it has enough runs and looks normal to its peers,
+ * else against the family's peer model.
+ */
+export function scoreFeature(
+  runs: readonly RunMetrics[], feature: RunFeature, epochStartMs: number,
+  peer: PeerBaseline | null, cfg: AnalysisConfig, floor: number,
+): ScoredFeature {
+  const rows = featureRows(runs, feature);
+  const baselineEnd = epochStartMs + cfg.baselineDays * DAY_MS;
+  const baselineRows = rows.filter((r) => r.run.startMs < baselineEnd);
+  const own = baselineRows.filter((r) => !r.censored).length >= cfg.baselineMinRuns ? fitBaseline(baselineRows) : null;
+  const peerModel = peer?.models[feature.name] ?? null;
+  let model = own ?? peerModel;
+  let source: ScoredFeature['source'] = own ? 'own' : peerModel ? 'peer' : null;
+  if (own && peerModel) {
+    const zs = baselineRows.map((r) => badZ(peerModel, r, feature.direction, floor, cfg.zCap)).filter((z): z is number => z !== null);
+    if (median(zs) > ABNORMAL_BASELINE_Z) {
+      model = peerModel;
+      source = 'peer';
+    }
+  }
+  if (!model) return { scored: [], source: null };
+  const scored: ScoredRun[] = [];
+  for (const row of rows) {
+    const z = badZ(model, row, feature.direction, floor, cfg.zCap);
+    if (z === null) continue;
+    scored.push({ run: row.run, feature, z, value: feature.display(row.y), expected: feature.display(expected(model, row)) });
+  }
+  return { scored, source };
+}
+
+/**
+ * Per run, the strongest evidence among several features (max z), in time order.
+ * Runs scored by none of the features are absent.
+ */
+export function combineByRun(features: readonly ScoredFeature[]): ScoredRun[] {
+  const best = new Map<number, ScoredRun>();
+  for (const f of features) {
+    for (const s of f.scored) {
+      const cur = best.get(s.run.startMs);
+      if (!cur || s.z > cur.z) best.set(s.run.startMs, s);
+    }
+  }
+  return [...best.values()].sort((a, b) => a.run.startMs - b.run.startMs);
+}

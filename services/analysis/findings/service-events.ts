@@ -1,0 +1,40 @@
+import type { FindingKind } from './finding.js';
+
+export type ServiceEventKind = 'thermostat-replaced' | 'radiator-cleaned' | 'fan-repaired' | 'coolant-refilled' | 'sensor-replaced';
+
+/** A repair recorded by the planner. */
+export interface ServiceEvent {
+  kind: ServiceEventKind;
+  /** When the work was done, epoch ms. */
+  at: number;
+}
+
+/** Which finding kinds each repair addresses (and whose baselines it restarts). */
+const RESOLVES: Readonly<Record<ServiceEventKind, readonly FindingKind[]>> = {
+  'thermostat-replaced': ['slow-warmup', 'overshoot', 'overheating-trend'],
+  'radiator-cleaned': ['overheating-trend', 'boil-margin'],
+  'fan-repaired': ['overheating-trend', 'boil-margin'],
+  'coolant-refilled': ['overheating-trend', 'boil-margin', 'freeze-risk'],
+  // A new sensor reads differently: every baseline learned from the old one starts again.
+  'sensor-replaced': ['sensor-fault', 'slow-warmup', 'overshoot', 'overheating-trend', 'boil-margin'],
+};
+
+/**
+ * Finding kinds a service event resolves.
+ * @example resolvedKinds('thermostat-replaced') // ['slow-warmup', 'overshoot', 'overheating-trend']
+ */
+export function resolvedKinds(kind: ServiceEventKind): readonly FindingKind[] {
+  return RESOLVES[kind];
+}
+
+/**
+ * Start of the current baseline for a finding kind: the latest related service event at or
+ * before `now`, else `historyStartMs`.
+ */
+export function baselineStartMs(kind: FindingKind, events: readonly ServiceEvent[], now: number, historyStartMs: number): number {
+  let start = historyStartMs;
+  for (const e of events) {
+    if (e.at <= now && e.at > start && RESOLVES[e.kind].includes(kind)) start = e.at;
+  }
+  return start;
+}

@@ -1,0 +1,64 @@
+import type { AnalysisConfig } from '../config.js';
+import type { PeerBaseline } from '../peer-baseline.js';
+import type { RunMetrics } from '../run-metrics.js';
+import { type Finding, isoDay, round, SAFETY_CAUTION } from './finding.js';
+import { OVERSHOOT, PLATEAU, WARMUP_TIME } from './run-features.js';
+import { combineByRun, scoreFeature } from './run-shift.js';
+import { detectRunShift, runShiftFinding } from './run-shift-finding.js';
+
+/**
+ * Slow warm-up: cold starts take longer than history and peers predict for their ambient,
+ * start temperature and idling (OBD-II suspensions applied), or the steady-driving plateau
+ * sits lower than expected. The classic sign of a thermostat stuck open (P0128).
+ */
+export function slowWarmupFinding(
+  runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
+): Finding | null {
+  const warm = scoreFeature(runs, WARMUP_TIME, baselineStart, peer, cfg, cfg.warmupLogScaleFloor);
+  const plateau = scoreFeature(runs, PLATEAU, baselineStart, peer, cfg, cfg.tempScaleFloorC);
+  const shift = detectRunShift(combineByRun([warm, plateau]), now, cfg);
+  if (!shift) return null;
+  const cold = shift.supporting.filter((s) => s.feature === WARMUP_TIME);
+  const neverReached = cold.filter((s) => s.run.timeToTargetS === null).length;
+  const plateauDrops = shift.supporting.filter((s) => s.feature === PLATEAU).map((s) => s.expected - s.value);
+  const target = runs[runs.length - 1]?.warmupTargetC ?? 0;
+  const parts: string[] = [];
+  if (cold.length > 0) {
+    parts.push(`${cold.length} cold start${cold.length > 1 ? 's' : ''} warmed up slower than expected`
+      + (neverReached > 0 ? ` (${neverReached} never reached ${round(target, 0)} °C)` : ''));
+  }
+  if (plateauDrops.length > 0) {
+    const drop = plateauDrops.sort((a, b) => a - b)[plateauDrops.length >> 1]!;
+    parts.push(`the engine ran about ${round(drop, 1)} °C cooler than usual in steady driving on ${plateauDrops.length} trip${plateauDrops.length > 1 ? 's' : ''}`);
+  }
+  return runShiftFinding('slow-warmup', shift, baselineStart, warm.source ?? plateau.source ?? 'none', {
+    summary: `Since ${isoDay(shift.firstSeen)} ${parts.join(' and ')}, which points to a thermostat stuck open.`,
+    recommendedCheck: 'Check that the thermostat closes (a stuck-open thermostat is the usual cause) and compare the coolant '
+      + 'temperature reading with a reference thermometer on a cold engine. ' + SAFETY_CAUTION,
+    troubleCode: 'P0128',
+    severity: neverReached * 2 >= Math.max(cold.length, 1) && cold.length >= 2 ? 'warning' : undefined,
+  });
+}
+
+/**
+ * Overshoot: after the thermostat opens, the coolant peaks further above its settled
+ * temperature than history and peers predict. The sign of a sticking thermostat.
+ */
+export function overshootFinding(
+  runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
+): Finding | null {
+  const scored = scoreFeature(runs, OVERSHOOT, baselineStart, peer, cfg, cfg.tempScaleFloorC);
+  const shift = detectRunShift(scored.scored, now, cfg);
+  if (!shift) return null;
+  const values = shift.supporting.map((s) => s.value).sort((a, b) => a - b);
+  const usual = shift.supporting.map((s) => s.expected).sort((a, b) => a - b);
+  const typical = values[values.length >> 1] ?? 0;
+  const normal = usual[usual.length >> 1] ?? 0;
+  return runShiftFinding('overshoot', shift, baselineStart, scored.source ?? 'none', {
+    summary: `Since ${isoDay(shift.firstSeen)} the coolant overshoots by about ${round(typical, 1)} °C when the thermostat opens `
+      + `(usually ${round(normal, 1)} °C), a sign of a sticking thermostat.`,
+    recommendedCheck: 'Check the thermostat for sticking (replace it if it opens late) and bleed any trapped air from the '
+      + 'cooling system. ' + SAFETY_CAUTION,
+    troubleCode: null,
+  });
+}
