@@ -32,8 +32,7 @@ export class PartitionKeeper {
 
   /**
    * Creates the partitions for `monthIndexes` that do not exist yet, in one transaction under an
-   * advisory lock. Pass a transaction that has not written to `readings` yet: creating a
-   * partition locks the parent table.
+   * advisory lock (or in the given transaction).
    */
   async ensure(db: Kysely<any>, monthIndexes: Iterable<number>): Promise<number> {
     const missing = [...new Set(monthIndexes)].filter((m) => !this.known.has(m)).sort((a, b) => a - b);
@@ -50,7 +49,11 @@ export class PartitionKeeper {
       for (const m of missing) {
         const name = partitionName(m);
         if (!names.has(name)) {
-          await sql`create table ${sql.id(name)} partition of readings for values from (${sql.lit(monthStartIso(m))}) to (${sql.lit(monthStartIso(m + 1))})`.execute(trx);
+          // CREATE + ATTACH rather than CREATE … PARTITION OF: attaching takes only a SHARE UPDATE
+          // EXCLUSIVE lock on the parent, which does not wait for (or block) ingest transactions
+          // that are writing readings at the same time.
+          await sql`create table ${sql.id(name)} (like readings including defaults including constraints)`.execute(trx);
+          await sql`alter table readings attach partition ${sql.id(name)} for values from (${sql.lit(monthStartIso(m))}) to (${sql.lit(monthStartIso(m + 1))})`.execute(trx);
           created++;
         }
       }

@@ -55,51 +55,93 @@ function textArrayLiteral(values: string[], length: number): string {
 export function createReadingsRepository(handle: DatabaseHandle, partitions: PartitionKeeper) {
   const { db } = handle;
 
-  async function stageChunk(trx: Transaction<Database>, chunk: ReadingChunk): Promise<void> {
+  /** Inserts one chunk; returns per-vehicle inserted counts and earliest inserted ts. */
+  async function insertChunk(trx: Transaction<Database>, chunk: ReadingChunk): Promise<Array<{ vehicle_id: string; n: string | number; first_ts: Date }>> {
     const n = chunk.length;
-    await sql`
-      insert into ingest_stage (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm)
-      select v, to_timestamp(t / 1000.0), c, a, s, r
-      from unnest(${textArrayLiteral(chunk.vehicleIds, n)}::text[], ${floatArrayLiteral(chunk.tsMs, n)}::float8[],
-                  ${floatArrayLiteral(chunk.coolantC, n)}::real[], ${floatArrayLiteral(chunk.ambientC, n)}::real[],
-                  ${floatArrayLiteral(chunk.speedKph, n)}::real[], ${floatArrayLiteral(chunk.rpm, n)}::real[]) as u(v, t, c, a, s, r)`.execute(trx);
+    const result = await sql<{ vehicle_id: string; n: string | number; first_ts: Date }>`
+      with ins as (
+        insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm)
+        select v, to_timestamp(t / 1000.0), c, a, s, r
+        from unnest(${textArrayLiteral(chunk.vehicleIds, n)}::text[], ${floatArrayLiteral(chunk.tsMs, n)}::float8[],
+                    ${floatArrayLiteral(chunk.coolantC, n)}::real[], ${floatArrayLiteral(chunk.ambientC, n)}::real[],
+                    ${floatArrayLiteral(chunk.speedKph, n)}::real[], ${floatArrayLiteral(chunk.rpm, n)}::real[]) as u(v, t, c, a, s, r)
+        on conflict do nothing
+        returning vehicle_id, ts
+      )
+      select vehicle_id, count(*) as n, min(ts) as first_ts from ins group by vehicle_id`.execute(trx);
+    return result.rows;
   }
 
   return {
     /**
-     * Stores a stream of validated readings for one fleet in one transaction: rows go to a
-     * temporary staging table as they arrive, then into `readings` with ON CONFLICT DO NOTHING
-     * (a retried reading is a duplicate, never a second row). Registers unknown vehicles to the
-     * fleet, marks vehicles with new rows for analysis and writes the audit row. Resolves only
-     * after COMMIT; on any error nothing is stored.
+     * Stores a stream of validated readings for one fleet in one transaction, chunk by chunk as
+     * they arrive, with ON CONFLICT DO NOTHING (a retried reading is a duplicate, never a second
+     * row). While one chunk is being inserted the next is parsed. Registers unknown vehicles to
+     * the fleet, marks vehicles with new rows for analysis (earliest new ts) and writes the audit
+     * row. Resolves only after COMMIT; on any error nothing is stored.
      */
     async ingest(fleetId: string, chunks: AsyncIterable<ReadingChunk>, audit: IngestAuditInput): Promise<IngestResult> {
       const started = Date.now();
       const vehicles = new Set<string>();
-      const months = new Set<number>();
+      const dirtyFrom = new Map<string, number>();
       let staged = 0;
+      let accepted = 0;
 
-      const result = await db.transaction().execute(async (trx) => {
-        await sql`create temp table ingest_stage (vehicle_id text not null, ts timestamptz not null, coolant_c real not null, ambient_c real, speed_kph real, rpm real) on commit drop`.execute(trx);
+      await db.transaction().execute(async (trx) => {
+        let pending: Promise<void> | undefined;
         for await (const chunk of chunks) {
           if (chunk.length === 0) continue;
-          let lastMonthStart = Infinity;
-          let lastMonthEnd = -Infinity;
+          const months = new Set<number>();
+          let monthStart = Infinity;
+          let monthEnd = -Infinity;
           for (let i = 0; i < chunk.length; i++) {
             vehicles.add(chunk.vehicleIds[i]!);
             const t = chunk.tsMs[i]!;
-            if (t < lastMonthStart || t >= lastMonthEnd) {
+            if (t < monthStart || t >= monthEnd) {
               const m = monthIndexOf(t);
               months.add(m);
-              lastMonthStart = Date.UTC(1970, m, 1);
-              lastMonthEnd = Date.UTC(1970, m + 1, 1);
+              monthStart = Date.UTC(1970, m, 1);
+              monthEnd = Date.UTC(1970, m + 1, 1);
             }
           }
-          await stageChunk(trx, chunk);
+          await pending;
+          // Partitions are attached on another connection and committed at once (attaching does
+          // not conflict with this transaction's inserts); PGlite has one connection, so there
+          // it happens inside this transaction.
+          await partitions.ensure(handle.kind === 'pglite' ? trx : db, months);
           staged += chunk.length;
+          pending = insertChunk(trx, chunk).then((rows) => {
+            for (const r of rows) {
+              accepted += toNumber(r.n);
+              const first = r.first_ts.getTime();
+              const prev = dirtyFrom.get(r.vehicle_id);
+              if (prev === undefined || first < prev) dirtyFrom.set(r.vehicle_id, first);
+            }
+          });
+          // Keep a failed insert from being an unhandled rejection while the next chunk is parsed.
+          pending.catch(() => undefined);
         }
-        let accepted = 0;
-        if (staged > 0) accepted = await moveStagedRows(trx);
+        await pending;
+
+        if (vehicles.size > 0) {
+          const ids = [...vehicles].sort();
+          const foreign = await sql<{ vehicle_id: string }>`
+            select vehicle_id from vehicles where vehicle_id = any(${ids}::text[]) and fleet_id <> ${fleetId} order by vehicle_id limit 10`.execute(trx);
+          if (foreign.rows.length > 0) throw new ForeignVehiclesError(foreign.rows.map((r) => r.vehicle_id));
+          await sql`insert into vehicles (vehicle_id, fleet_id) select unnest(${ids}::text[]), ${fleetId} on conflict (vehicle_id) do nothing`.execute(trx);
+        }
+        if (dirtyFrom.size > 0) {
+          // Sorted, so concurrent requests lock queue rows in the same order (no deadlock).
+          const ids = [...dirtyFrom.keys()].sort();
+          const firsts = ids.map((id) => dirtyFrom.get(id)!);
+          await sql`
+            insert into analysis_queue (vehicle_id, fleet_id, dirty_from)
+            select v, ${fleetId}, to_timestamp(t / 1000.0) from unnest(${ids}::text[], ${firsts}::float8[]) as u(v, t)
+            on conflict (vehicle_id) do update
+              set dirty_from = least(analysis_queue.dirty_from, excluded.dirty_from),
+                  generation = analysis_queue.generation + 1,
+                  enqueued_at = now()`.execute(trx);
+        }
         await trx
           .insertInto('ingest_audit')
           .values({
@@ -114,41 +156,8 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
             duration_ms: Date.now() - started,
           })
           .execute();
-        return accepted;
       });
-      return { accepted: result, duplicates: staged - result, staged, vehicles: vehicles.size };
-
-      async function moveStagedRows(trx: Transaction<Database>): Promise<number> {
-
-        const ids = [...vehicles];
-        const foreign = await sql<{ vehicle_id: string }>`
-          select vehicle_id from vehicles where vehicle_id = any(${ids}::text[]) and fleet_id <> ${fleetId} order by vehicle_id limit 10`.execute(trx);
-        if (foreign.rows.length > 0) throw new ForeignVehiclesError(foreign.rows.map((r) => r.vehicle_id));
-        await sql`insert into vehicles (vehicle_id, fleet_id) select unnest(${ids}::text[]), ${fleetId} on conflict (vehicle_id) do nothing`.execute(trx);
-
-        // This transaction has written only to its temporary table so far, so creating a
-        // partition (which locks the parent table) cannot deadlock with another ingest. On a
-        // server the partition is made on another connection and committed at once; PGlite has
-        // one connection, so it is made here.
-        await partitions.ensure(handle.kind === 'pglite' ? trx : db, months);
-
-        const inserted = await sql<{ n: string | number }>`
-          with ins as (
-            insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm)
-            select vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm from ingest_stage
-            on conflict do nothing
-            returning vehicle_id, ts
-          ), queued as (
-            insert into analysis_queue (vehicle_id, fleet_id, dirty_from)
-            select vehicle_id, ${fleetId}, min(ts) from ins group by vehicle_id
-            on conflict (vehicle_id) do update
-              set dirty_from = least(analysis_queue.dirty_from, excluded.dirty_from),
-                  generation = analysis_queue.generation + 1,
-                  enqueued_at = now()
-          )
-          select count(*) as n from ins`.execute(trx);
-        return toNumber(inserted.rows[0]?.n);
-      }
+      return { accepted, duplicates: staged - accepted, staged, vehicles: vehicles.size };
     },
 
     /** Number of stored readings of a vehicle (tests, bench and the load check). */

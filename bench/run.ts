@@ -1,0 +1,28 @@
+import { benchIngest } from './ingest.js';
+import { DEFAULT_SERVER_URL } from './bench-server.js';
+
+/**
+ * `npm run bench`: the speed and memory targets, measured in one run on this machine and printed
+ * as figures and ratios. Not a test: nothing here fails the build, but a broken invariant (rows
+ * lost, errors under load) stops the run with a non-zero exit.
+ */
+const serverUrl = process.env.DATABASE_URL || DEFAULT_SERVER_URL;
+const fmt = (n: number) => Math.round(n).toLocaleString('en-US');
+const sections = new Set(process.argv.slice(2));
+const want = (name: string) => sections.size === 0 || sections.has(name);
+
+const lines: string[] = [];
+if (want('ingest')) {
+  const r = await benchIngest(serverUrl);
+  const best = Math.max(r.jsonRowsPerS, r.ndjsonRowsPerS);
+  lines.push(
+    `ingest (${fmt(r.rows)} readings into ${serverUrl.replace(/\/\/[^@]*@/, '//')})`,
+    `  psql \\copy                         ${fmt(r.copyRowsPerS).padStart(10)} readings/s`,
+    `  HTTP JSON batches of 1,000         ${fmt(r.jsonRowsPerS).padStart(10)} readings/s   ratio to \\copy ${(r.jsonRowsPerS / r.copyRowsPerS).toFixed(2)}`,
+    `  HTTP NDJSON bodies of 100,000      ${fmt(r.ndjsonRowsPerS).padStart(10)} readings/s   ratio to \\copy ${(r.ndjsonRowsPerS / r.copyRowsPerS).toFixed(2)}`,
+    `  target: HTTP ≥ 0.5 × \\copy         ${best / r.copyRowsPerS >= 0.5 ? 'met' : 'NOT met'}`,
+    `  load: ${r.load.gateways} gateways × ${r.load.seconds} s: ${fmt(r.load.requests)} requests, ${r.load.errors} errors, ${fmt(r.load.accepted)} accepted, ${fmt(r.load.stored)} in the database (${r.load.accepted === r.load.stored && r.load.errors === 0 ? 'equal, no errors' : 'MISMATCH'})`,
+  );
+  if (r.load.errors > 0 || r.load.accepted !== r.load.stored) process.exitCode = 1;
+}
+process.stdout.write(`\n${lines.join('\n')}\n`);
