@@ -35,6 +35,8 @@ export interface DriveProfile {
 const ROAD_KINDS: readonly RoadKind[] = ['urban', 'arterial', 'highway'];
 /** Largest road grade generated, rise/run. */
 const MAX_GRADE = 0.07;
+/** Length of a stretch of constant grade, m (hills come and go within a segment). */
+const GRADE_STRETCH_M: readonly [number, number] = [300, 1500];
 /** How often the driver's cruise speed wanders, s, and by how much (sd), m/s. */
 const CRUISE_WANDER_EVERY_S = 15;
 const CRUISE_WANDER_SD_MPS = 0.8;
@@ -59,6 +61,7 @@ export class DriveCycle {
   private stopS = 0;
   private wanderS = 0;
   private kind: RoadKind = 'urban';
+  private gradeLeftM = 0;
 
   constructor(profile: DriveProfile, rng: Rng) {
     this.profile = profile;
@@ -115,7 +118,10 @@ export class DriveCycle {
     }
     let vNew = v + a * dtS;
     if (vNew < 0) vNew = 0;
-    this.remainM -= 0.5 * (v + vNew) * dtS;
+    const travelledM = 0.5 * (v + vNew) * dtS;
+    this.remainM -= travelledM;
+    this.gradeLeftM -= travelledM;
+    if (this.gradeLeftM <= 0) this.newGrade();
     v = vNew;
     this.speedMps = v;
     this.accelMps2 = a;
@@ -145,8 +151,14 @@ export class DriveCycle {
     this.remainM = rng.uniform(s.lengthM[0], s.lengthM[1]);
     this.endsWithStop = rng.chance(s.stopChance);
     this.stopS = rng.uniform(s.stopS[0], s.stopS[1]);
-    const g = s.gradeSd * rng.normal();
+    this.newGrade();
+  }
+
+  private newGrade(): void {
+    const rng = this.rng;
+    const g = this.profile.roads[this.kind].gradeSd * rng.normal();
     this.grade = g > MAX_GRADE ? MAX_GRADE : g < -MAX_GRADE ? -MAX_GRADE : g;
+    this.gradeLeftM = rng.uniform(GRADE_STRETCH_M[0], GRADE_STRETCH_M[1]);
   }
 
   /** Kind of road being driven (for diagnostics). */

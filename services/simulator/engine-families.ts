@@ -16,7 +16,7 @@ export interface EngineFamily {
   capPressureKpa: number;
   /** Ethylene glycol in the coolant, % by volume. */
   glycolPercent: number;
-  /** Heat capacity of the engine metal that warms with the coolant, J/K. */
+  /** Heat capacity of the engine metal that warms with the coolant (about the whole engine's mass × 0.46–0.9 kJ/(kg·K)), J/K. */
   metalHeatCapacityJPerK: number;
   /** Coolant volume of the whole circuit, L. */
   coolantVolumeL: number;
@@ -62,7 +62,7 @@ export const VANTOR_L22: EngineFamily = {
   thermostatOpenC: 88,
   capPressureKpa: 110,
   glycolPercent: 50,
-  metalHeatCapacityJPerK: 45_000,
+  metalHeatCapacityJPerK: 90_000,
   coolantVolumeL: 9,
   ratedPowerW: 110_000,
   ratedRpm: 3600,
@@ -89,7 +89,7 @@ export const VANTOR_L30: EngineFamily = {
   name: 'Vantor L30',
   thermostatOpenC: 90,
   capPressureKpa: 105,
-  metalHeatCapacityJPerK: 60_000,
+  metalHeatCapacityJPerK: 120_000,
   coolantVolumeL: 12,
   ratedPowerW: 130_000,
   ratedRpm: 3400,
@@ -113,7 +113,7 @@ export const HALVERN_M7: EngineFamily = {
   thermostatOpenC: 85,
   capPressureKpa: 90,
   glycolPercent: 45,
-  metalHeatCapacityJPerK: 100_000,
+  metalHeatCapacityJPerK: 250_000,
   coolantVolumeL: 30,
   ratedPowerW: 210_000,
   ratedRpm: 2500,
@@ -141,7 +141,7 @@ export const BRENMARK_H13: EngineFamily = {
   thermostatOpenC: 82,
   capPressureKpa: 75,
   glycolPercent: 50,
-  metalHeatCapacityJPerK: 180_000,
+  metalHeatCapacityJPerK: 450_000,
   coolantVolumeL: 45,
   ratedPowerW: 340_000,
   ratedRpm: 1900,
@@ -150,7 +150,7 @@ export const BRENMARK_H13: EngineFamily = {
   brakeEfficiency: 0.42,
   pumpFlowLps: 6.5,
   blockLossWPerK: 90,
-  soakLossWPerK: 35,
+  soakLossWPerK: 50,
   heaterMaxWPerK: 120,
   acPowerW: 6_000,
   accessoryPowerW: 4_000,

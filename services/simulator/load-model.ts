@@ -24,7 +24,8 @@ export const DRIVELINE_EFFICIENCY = 0.9;
 
 export class LoadModel {
   private readonly f: EngineFamily;
-  private readonly massKg: number;
+  /** Vehicle mass with today's payload, kg. */
+  massKg: number;
   private readonly gearTopMps: Float64Array;
 
   constructor(family: EngineFamily, massKg: number) {

@@ -18,8 +18,12 @@
 export const THERMOSTAT_SPAN_C = 12;
 /** Opening/closing hysteresis, °C. */
 export const THERMOSTAT_HYSTERESIS_C = 2;
-/** Wax element time constant, s (from memory: tens of seconds). */
-export const WAX_TIME_CONSTANT_S = 20;
+/**
+ * Wax element time constant, s. Real elements take some tens of seconds to travel fully, but
+ * in a one-node model a long lag makes the loop hunt by ±8 °C (loop gain × lag > 1); 8 s keeps
+ * the regulated temperature within a few °C, as real engines show.
+ */
+export const WAX_TIME_CONSTANT_S = 8;
 /** Flow fraction through a closed thermostat (bleed hole / bypass leakage), dimensionless. */
 export const THERMOSTAT_BLEED_FRACTION = 0.02;
 

@@ -1,0 +1,105 @@
+import type { CoolingSystem } from './cooling-system.js';
+
+/**
+ * Cooling-system and sensor faults with an onset time and a severity 0..1.
+ * Physical faults change the thermal model; sensor faults only change what is reported
+ * (see coolant-sensor.ts).
+ *
+ * | kind                  | effect (s = severity, w = weeks since onset)                             |
+ * |-----------------------|--------------------------------------------------------------------------|
+ * | thermostat-stuck-open | valve never closes below x = 0.06 + 0.24·s (0..1 opening)                 |
+ * | thermostat-sticking   | valve stays shut until wax > rating + 6 + 12·s °C, then jumps open        |
+ * | radiator-fouling      | air side ×(1 − 0.85·s·min(1, w/4)): progressive over about 4 weeks        |
+ * | fan-failure           | fan air flow ×(1 − s) (s = 1: dead fan, less: slipping fan clutch)        |
+ * | coolant-loss          | coolant level 1 − min(0.5, 0.12·s·w): a slow leak, worse every week       |
+ * | sensor-*              | see coolant-sensor.ts                                                     |
+ */
+
+export type FaultKind =
+  | 'thermostat-stuck-open'
+  | 'thermostat-sticking'
+  | 'radiator-fouling'
+  | 'fan-failure'
+  | 'coolant-loss'
+  | 'sensor-stuck'
+  | 'sensor-spikes'
+  | 'sensor-dropouts'
+  | 'sensor-bias';
+
+export interface FaultSpec {
+  kind: FaultKind;
+  /** Onset, epoch ms. */
+  onsetMs: number;
+  /** Severity, 0..1. */
+  severity: number;
+}
+
+/** Every fault kind, physical first. */
+export const FAULT_KINDS: readonly FaultKind[] = [
+  'thermostat-stuck-open',
+  'thermostat-sticking',
+  'radiator-fouling',
+  'fan-failure',
+  'coolant-loss',
+  'sensor-stuck',
+  'sensor-spikes',
+  'sensor-dropouts',
+  'sensor-bias',
+];
+
+/** True for faults of the coolant sensor (the engine itself is healthy). */
+export function isSensorFault(kind: FaultKind): boolean {
+  return kind.startsWith('sensor-');
+}
+
+const WEEK_MS = 7 * 86_400_000;
+/** Smallest opening of a stuck-open thermostat at severity 0 and its growth with severity. */
+export const STUCK_OPEN_BASE = 0.06;
+export const STUCK_OPEN_PER_SEVERITY = 0.24;
+/** How late a sticking thermostat opens, °C above its rating, at severity 0 and per severity. */
+export const STICKING_LATE_BASE_C = 6;
+export const STICKING_LATE_PER_SEVERITY_C = 12;
+/** Air-side loss of a fully fouled radiator at severity 1, and the weeks it takes to build up. */
+export const FOULING_MAX_LOSS = 0.85;
+export const FOULING_RAMP_WEEKS = 4;
+/** Coolant lost per week at severity 1, fraction of the charge, and the most that is lost. */
+export const COOLANT_LOSS_PER_WEEK = 0.12;
+export const COOLANT_LOSS_MAX = 0.5;
+
+/** Sets the cooling system's fault multipliers for time tMs (epoch ms). */
+export function applyPhysicalFaults(cs: CoolingSystem, faults: readonly FaultSpec[], tMs: number): void {
+  let stuckOpen = 0;
+  let late = 0;
+  let air = 1;
+  let fan = 1;
+  let level = 1;
+  for (const f of faults) {
+    if (tMs < f.onsetMs) continue;
+    const s = f.severity;
+    const weeks = (tMs - f.onsetMs) / WEEK_MS;
+    switch (f.kind) {
+      case 'thermostat-stuck-open':
+        stuckOpen = Math.max(stuckOpen, STUCK_OPEN_BASE + STUCK_OPEN_PER_SEVERITY * s);
+        break;
+      case 'thermostat-sticking':
+        late = Math.max(late, STICKING_LATE_BASE_C + STICKING_LATE_PER_SEVERITY_C * s);
+        break;
+      case 'radiator-fouling':
+        air *= 1 - FOULING_MAX_LOSS * s * Math.min(1, weeks / FOULING_RAMP_WEEKS);
+        break;
+      case 'fan-failure':
+        fan *= 1 - s;
+        break;
+      case 'coolant-loss':
+        level -= Math.min(COOLANT_LOSS_MAX, COOLANT_LOSS_PER_WEEK * s * weeks);
+        break;
+      default:
+        break; // sensor faults do not touch the physics
+    }
+  }
+  cs.thermostat.stuckOpenFraction = stuckOpen;
+  cs.thermostat.lateOpeningC = late;
+  cs.radiatorAirFactor = air;
+  cs.fanFactor = fan;
+  cs.coolantLevel = Math.max(0.3, level);
+}

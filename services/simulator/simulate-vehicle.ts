@@ -1,0 +1,192 @@
+import { CoolantSensor } from './coolant-sensor.js';
+import { CoolingSystem, thermalParamsFor } from './cooling-system.js';
+import { DriveCycle } from './drive-cycle.js';
+import { DRIVE_PROFILES, planDay, usualShiftStartS, worksOn } from './duty-cycles.js';
+import { engineFamily } from './engine-families.js';
+import { applyPhysicalFaults } from './faults.js';
+import type { SimVehicle } from './sim-vehicle.js';
+import { LinkDropouts } from './link-dropouts.js';
+import { LoadModel, ratedCoolantHeatW } from './load-model.js';
+import { hashSeed, Rng } from './prng.js';
+import { AmbientModel } from './weather.js';
+
+export interface SimOptions {
+  /** First instant simulated, epoch ms (vehicles start cold-soaked). */
+  startMs: number;
+  /** Number of days simulated. */
+  days: number;
+  seed: number;
+  /** Gateway sample period, s (default 10). The physics steps at ≤ 1 s, dividing it evenly. */
+  samplePeriodS?: number;
+}
+
+/** A run of samples; every array has `length` valid entries. Dropped samples are absent. */
+export interface SampleChunk {
+  length: number;
+  /** Epoch ms. */
+  ts: Float64Array;
+  /** Reported coolant temperature, °C, whole degrees (SPN 110). */
+  coolant: Float64Array;
+  /** Reported ambient temperature, °C, 0.03125 °C steps (SPN 171). */
+  ambient: Float64Array;
+  /** Road speed, km/h, whole numbers. */
+  speedKph: Float64Array;
+  /** Engine speed, rpm, whole numbers. */
+  rpm: Float64Array;
+  /** Extra (ground truth, not in the ingest format): true coolant temperature, °C. */
+  coolantTrue: Float64Array;
+}
+
+export const DEFAULT_SAMPLE_PERIOD_S = 10;
+/** Samples per chunk: bounds memory per vehicle (6 arrays × 8 B × 4096 ≈ 200 kB). */
+export const CHUNK_SAMPLES = 4096;
+const DAY_MS = 86_400_000;
+const HOUR_MS = 3_600_000;
+/** Ambient temperature and fault state are refreshed this often while running, ms. */
+const SLOW_UPDATE_MS = 60_000;
+/** Longest engine-off step (exact exponential, so only ambient drift limits it), s. */
+const SOAK_STEP_S = 300;
+/** The A/C runs above this ambient, °C. */
+const AC_ON_ABOVE_C = 22;
+/** Ambient sensor pick-up of engine heat when standing with a hot engine, °C. */
+const AMBIENT_HEAT_PICKUP_C = 2;
+/** SPN 171 resolution, °C/bit. */
+const AMBIENT_RESOLUTION_C = 0.03125;
+/** Idle governor jitter, rpm (1 sd). */
+const RPM_JITTER_SD = 8;
+
+/**
+ * Simulates one vehicle and streams its gateway samples in chunks; memory does not grow
+ * with the number of days. Deterministic for (vehicle, options).
+ * @example for (const c of simulateVehicle(v, { startMs: Date.UTC(2026, 9, 5), days: 7, seed: 1 })) total += c.length;
+ */
+export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<SampleChunk> {
+  const family = { ...engineFamily(v.engineFamily), glycolPercent: v.glycolPercent };
+  const key = `${v.vehicleId}`;
+  const scheduleRng = new Rng(hashSeed(opts.seed, `schedule:${key}`));
+  const driveRng = new Rng(hashSeed(opts.seed, `drive:${key}`));
+  const sensorRng = new Rng(hashSeed(opts.seed, `sensor:${key}`));
+  const linkRng = new Rng(hashSeed(opts.seed, `link:${key}`));
+  const offsetMs = (v.utcOffsetHours ?? 0) * HOUR_MS;
+  const weather = new AmbientModel(v.climate, v.utcOffsetHours ?? 0, hashSeed(opts.seed, `weather:${v.depot}`));
+  const load = new LoadModel(family, family.vehicleMassKg);
+  const cs = new CoolingSystem(thermalParamsFor(family, ratedCoolantHeatW(family), v.thermostatOpenC), weather.at(opts.startMs));
+  const drive = new DriveCycle(DRIVE_PROFILES[v.duty], driveRng);
+  const sensor = new CoolantSensor(v.faults, sensorRng);
+  const link = new LinkDropouts(linkRng);
+  const ambientBiasC = sensorRng.uniform(-0.5, 0.5);
+  const shiftStartS = usualShiftStartS(v.duty, scheduleRng);
+
+  const periodS = opts.samplePeriodS ?? DEFAULT_SAMPLE_PERIOD_S;
+  if (!(periodS > 0)) throw new RangeError(`samplePeriodS must be positive, got ${periodS}`);
+  const stepsPerSample = Math.max(1, Math.ceil(periodS - 1e-9));
+  const dtS = periodS / stepsPerSample;
+  const dtMs = dtS * 1000;
+  const endMs = opts.startMs + opts.days * DAY_MS;
+
+  let buf = newChunk(CHUNK_SAMPLES);
+  let n = 0;
+  let tMs = opts.startMs;
+  let ambientC = weather.at(tMs);
+  let nextSlowMs = tMs;
+  let stepIndex = 0;
+
+  const firstMidnightMs = Math.floor((opts.startMs + offsetMs) / DAY_MS) * DAY_MS - offsetMs;
+  for (let midnight = firstMidnightMs; midnight < endMs; midnight += DAY_MS) {
+    const dayOfWeek = new Date(midnight + offsetMs).getUTCDay();
+    if (!worksOn(v.duty, dayOfWeek, scheduleRng)) continue;
+    load.massKg = family.vehicleMassKg + family.payloadMaxKg * scheduleRng.uniform(0.2, 1);
+    for (const run of planDay(v.duty, shiftStartS, scheduleRng)) {
+      const startMs = Math.round((midnight + run.startS * 1000) / 1000) * 1000;
+      if (startMs < tMs) continue;
+      if (startMs >= endMs) break;
+      tMs = soakUntil(cs, weather, tMs, startMs);
+      sensor.startRun(tMs);
+      stepIndex = 0;
+      nextSlowMs = tMs;
+      for (const leg of run.legs) {
+        let idleLeftS = leg.idleS;
+        let driving = false;
+        while (tMs < endMs) {
+          if (!driving) {
+            if (idleLeftS <= 0) {
+              drive.startLeg(leg.driveS);
+              driving = true;
+            }
+            idleLeftS -= dtS;
+          } else {
+            drive.step(dtS);
+            if (drive.done) break;
+          }
+          if (tMs >= nextSlowMs) {
+            nextSlowMs = tMs + SLOW_UPDATE_MS;
+            ambientC = weather.at(tMs);
+            applyPhysicalFaults(cs, v.faults, tMs);
+          }
+          const speed = driving ? drive.speedMps : 0;
+          const acOn = ambientC > AC_ON_ABOVE_C;
+          const rpm = load.rpm(speed);
+          const shaft = driving ? load.shaftPowerW(speed, drive.accelMps2, drive.grade, acOn) : load.shaftPowerW(0, 0, 0, acOn);
+          const coolantC = cs.run(dtS, load.heatToCoolantW(rpm, shaft), speed, rpm, ambientC, acOn);
+          tMs += dtMs;
+          if (++stepIndex % stepsPerSample !== 0) continue;
+          if (link.lost(tMs, periodS)) continue;
+          const reported = sensor.read(coolantC, tMs);
+          if (reported !== reported) continue; // NaN: the ECU flagged the value, no sample
+          const pickup = speed < 8 ? AMBIENT_HEAT_PICKUP_C * (1 - speed / 8) * clamp01((coolantC - ambientC) / 60) : 0;
+          buf.ts[n] = tMs;
+          buf.coolant[n] = reported;
+          buf.ambient[n] = Math.round((ambientC + ambientBiasC + pickup) / AMBIENT_RESOLUTION_C) * AMBIENT_RESOLUTION_C;
+          buf.speedKph[n] = Math.round(speed * 3.6);
+          buf.rpm[n] = Math.round(speed > 0 ? rpm : rpm + RPM_JITTER_SD * sensorRng.normal());
+          buf.coolantTrue[n] = coolantC;
+          if (++n === CHUNK_SAMPLES) {
+            yield buf;
+            buf = newChunk(CHUNK_SAMPLES);
+            n = 0;
+          }
+        }
+      }
+    }
+  }
+  if (n > 0) yield sliceChunk(buf, n);
+}
+
+/** Parks the engine from fromMs to toMs (epoch ms); returns toMs. */
+function soakUntil(cs: CoolingSystem, weather: AmbientModel, fromMs: number, toMs: number): number {
+  let t = fromMs;
+  while (t < toMs) {
+    const stepS = Math.min(SOAK_STEP_S, (toMs - t) / 1000);
+    cs.soak(stepS, weather.at(t + stepS * 500));
+    t += stepS * 1000;
+  }
+  return t;
+}
+
+function clamp01(x: number): number {
+  return x < 0 ? 0 : x > 1 ? 1 : x;
+}
+
+function newChunk(size: number): SampleChunk {
+  return {
+    length: size,
+    ts: new Float64Array(size),
+    coolant: new Float64Array(size),
+    ambient: new Float64Array(size),
+    speedKph: new Float64Array(size),
+    rpm: new Float64Array(size),
+    coolantTrue: new Float64Array(size),
+  };
+}
+
+function sliceChunk(c: SampleChunk, n: number): SampleChunk {
+  return {
+    length: n,
+    ts: c.ts.subarray(0, n),
+    coolant: c.coolant.subarray(0, n),
+    ambient: c.ambient.subarray(0, n),
+    speedKph: c.speedKph.subarray(0, n),
+    rpm: c.rpm.subarray(0, n),
+    coolantTrue: c.coolantTrue.subarray(0, n),
+  };
+}
