@@ -1,6 +1,6 @@
 import type { ColumnType, Generated } from 'kysely';
 
-/** Kysely table types for the tables of migrations/0001-foundation.ts. */
+/** Kysely table types for the tables of migrations/0001-foundation.ts and 0002-analysis-results.ts. */
 export interface FleetsTable {
   fleet_id: string;
   name: string;
@@ -69,7 +69,106 @@ export interface AnalysisQueueTable {
   last_error: string | null;
 }
 
+/** jsonb columns: pg and PGlite both parse them into objects. */
+type Json<T> = ColumnType<T, string, string>;
+
+export interface EngineRunsTable {
+  vehicle_id: string;
+  start_ts: Date;
+  end_ts: Date;
+  start_kind: string;
+  open: boolean;
+  metrics: Json<Record<string, unknown>>;
+}
+
+export interface VehicleDaysTable {
+  vehicle_id: string;
+  /** pg returns `date` as a Date at local midnight unless parsed; we select it as text. */
+  day: ColumnType<string, string, string>;
+  metrics: Json<Record<string, unknown>>;
+}
+
+export interface SensorEventsTable {
+  vehicle_id: string;
+  run_start: Date;
+  kind: string;
+  event: Json<Record<string, unknown>>;
+}
+
+export interface FindingsTable {
+  vehicle_id: string;
+  finding_id: string;
+  fleet_id: string;
+  finding_key: string;
+  kind: string;
+  sub_kind: string | null;
+  severity: 'advisory' | 'warning' | 'critical';
+  confidence: number;
+  first_seen: Date;
+  last_seen: Date;
+  status: Generated<'open' | 'acknowledged' | 'resolved'>;
+  summary: string;
+  recommended_check: string;
+  trouble_code: string | null;
+  metrics: Json<Record<string, number>>;
+  evidence: Json<unknown[]>;
+  created_at: Generated<Date>;
+  updated_at: Generated<Date>;
+  acknowledged_at: Date | null;
+  acknowledged_by: string | null;
+  resolved_at: Date | null;
+  resolved_reason: string | null;
+}
+
+export interface ServiceEventsTable {
+  vehicle_id: string;
+  event_id: string;
+  fleet_id: string;
+  kind: string;
+  at: Date;
+  notes: string | null;
+  recorded_by: string | null;
+  created_at: Generated<Date>;
+}
+
+export interface VehicleAnalysisTable {
+  vehicle_id: string;
+  fleet_id: string;
+  risk_score: Generated<number>;
+  open_findings: Generated<number>;
+  max_severity: string | null;
+  resume_from: Date | null;
+  last_run_end: Date | null;
+  last_reading_at: Date | null;
+  readings_analysed: Generated<BigIntColumn>;
+  analysed_at: Generated<Date>;
+}
+
+export interface PeerBaselinesTable {
+  engine_family: string;
+  baseline: Json<Record<string, unknown>>;
+  vehicles: number;
+  updated_at: Generated<Date>;
+}
+
+export interface WeeklyReportsTable {
+  fleet_id: string;
+  iso_week: string;
+  generated_at: Generated<Date>;
+  report_json: Json<Record<string, unknown>>;
+  report_html: string;
+  worklist_csv: string;
+}
+
 export interface Database {
+  engine_runs: EngineRunsTable;
+  vehicle_days: VehicleDaysTable;
+  sensor_events: SensorEventsTable;
+  findings: FindingsTable;
+  service_events: ServiceEventsTable;
+  vehicle_analysis: VehicleAnalysisTable;
+  peer_baselines: PeerBaselinesTable;
+  weekly_reports: WeeklyReportsTable;
   fleets: FleetsTable;
   vehicles: VehiclesTable;
   readings: ReadingsTable;
