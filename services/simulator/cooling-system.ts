@@ -1,5 +1,5 @@
 import type { EngineFamily } from './engine-families.js';
-import { WaxThermostat } from './thermostat.js';
+import { WaxThermostat, type ThermostatSettings } from './thermostat.js';
 
 /**
  * One lumped node: engine metal + coolant at one temperature T (°C), heat capacity C (J/K).
@@ -17,7 +17,7 @@ import { WaxThermostat } from './thermostat.js';
  *   W_cool = ρ·c_p·V̇_pump(rpm)·φ (W/K), φ the thermostat flow fraction,
  *   UA_air = UA_ref · (v_air / V_FAN)^AIR_SIDE_EXPONENT (W/K), and
  *   W_air = ρ_air·c_p,air·A_face·v_air (W/K), with the air speed through the core
- *   v_air = √((k_ram·v)² + (fan·V_FAN)² + V_NATURAL²) (m/s). At idle with no fan W_air is
+ *   v_air = √((k_ram·v·min(1, v/V_RAM_FULL))² + (fan·V_FAN)² + V_NATURAL²) (m/s). At idle with no fan W_air is
  *   tiny, which is why a dead fan overheats a standing engine.
  * - T_air = T_amb + min(ΔT_cond·V_FAN/v_air, ΔT_cond,max): the A/C condenser in front of the
  *   radiator pre-heats the air when the A/C runs (°C); less air, hotter air.
@@ -25,7 +25,7 @@ import { WaxThermostat } from './thermostat.js';
  * - Engine off: Q_in = 0, no pump, no fan; only G_soak (natural convection) to T_amb.
  * Integration: exact exponential step for inputs held over dt (stable at any dt):
  *   T∞ = T_sink + Q_in/G,  T(t+dt) = T∞ + (T − T∞)·e^(−G·dt/C)  (G = ΣG_i, T_sink their weighted mean);
- * with G = 0 this is T + Q_in·dt/C (first law).
+ * with G = 0 this is T + Q_in·dt/C (first law). T never exceeds the boiling point under the cap.
  */
 
 /** Density of water-ethylene glycol, kg/L, linear in glycol % by volume (from memory, ±2 %). */
@@ -37,12 +37,33 @@ export function coolantSpecificHeatJPerKgK(glycolPercent: number): number {
   return 4190 - 15.5 * glycolPercent;
 }
 
+/** Latent heat of vaporisation of water over the gas constant, K (Clausius–Clapeyron). */
+const WATER_L_OVER_R_K = 4889;
+/** Boiling-point rise of ethylene glycol–water per % glycol, K (from memory: 50 % ≈ +7 K). */
+const GLYCOL_BOIL_RISE_K_PER_PERCENT = 0.14;
+/** Standard atmosphere, kPa. */
+const ATMOSPHERE_KPA = 101.325;
+
+/**
+ * Boiling point of the coolant under the pressure cap at sea level, °C: Clausius–Clapeyron
+ * for water (within 0.5 °C of IAPWS-IF97 up to 250 kPa abs) plus the glycol's elevation.
+ * The model holds the coolant there: above it the coolant boils off through the cap.
+ */
+export function coolantBoilingPointC(capPressureKpa: number, glycolPercent: number): number {
+  const p = ATMOSPHERE_KPA + capPressureKpa;
+  const tK = 1 / (1 / 373.15 - Math.log(p / ATMOSPHERE_KPA) / WATER_L_OVER_R_K);
+  return tK - 273.15 + GLYCOL_BOIL_RISE_K_PER_PERCENT * glycolPercent;
+}
+
 /** Air speed through the core with the fan engaged and the vehicle stopped, m/s. */
 export const V_FAN_MPS = 4;
 /** Natural draught through the core with no fan and no ram air, m/s. */
 export const V_NATURAL_MPS = 0.15;
-/** Fraction of road speed reaching the core as ram air, dimensionless. */
+/** Fraction of road speed reaching the core as ram air at speed, dimensionless ... */
 export const RAM_AIR_FRACTION = 0.3;
+/** ... reached from this road speed up; below it ram air fades as v² (dynamic pressure must
+ * first overcome the grille and condenser losses), m/s. */
+export const RAM_FULL_SPEED_MPS = 40 / 3.6;
 /** Exponent of air-side conductance on air speed (between laminar 0.5 and turbulent 0.8). */
 export const AIR_SIDE_EXPONENT = 0.7;
 /** Air speed at which block losses double, m/s. */
@@ -55,7 +76,10 @@ export const CONDENSER_RISE_MAX_K = 35;
 export const FAN_ON_ABOVE_RATING_C = 11;
 /** Fan switches off this far above the rating, °C. */
 export const FAN_OFF_ABOVE_RATING_C = 7;
-/** Radiator design point: rated coolant heat is rejected at rating + this, °C ... */
+/** Radiator design point: this share of the rated coolant heat (the most a vehicle sustains;
+ * full rated power is only held for short climbs) ... */
+export const DESIGN_HEAT_FRACTION = 0.6;
+/** ... is rejected at rating + this, °C ... */
 export const DESIGN_MARGIN_C = 14;
 /** ... with this ambient, °C (common practice: sized for 40–50 °C air) ... */
 export const DESIGN_AMBIENT_C = 40;
@@ -82,10 +106,12 @@ export interface ThermalParams {
   thermostatOpenC: number;
   fanOnC: number;
   fanOffC: number;
+  /** Boiling point under the cap, °C (coolant temperature ceiling). */
+  boilC: number;
 }
 
 function airSpeedMps(speedMps: number, fanAirMps: number): number {
-  const ram = RAM_AIR_FRACTION * speedMps;
+  const ram = RAM_AIR_FRACTION * speedMps * (speedMps < RAM_FULL_SPEED_MPS ? speedMps / RAM_FULL_SPEED_MPS : 1);
   return Math.sqrt(ram * ram + fanAirMps * fanAirMps + V_NATURAL_MPS * V_NATURAL_MPS);
 }
 
@@ -96,7 +122,7 @@ function airSpeedMps(speedMps: number, fanAirMps: number): number {
 export function thermalParamsFor(f: EngineFamily, ratedHeatW: number, thermostatOpenC = f.thermostatOpenC): ThermalParams {
   const rhoCp = coolantDensityKgPerL(f.glycolPercent) * coolantSpecificHeatJPerKgK(f.glycolPercent);
   const pump = rhoCp * f.pumpFlowLps;
-  const needed = ratedHeatW / (thermostatOpenC + DESIGN_MARGIN_C - DESIGN_AMBIENT_C);
+  const needed = (DESIGN_HEAT_FRACTION * ratedHeatW) / (thermostatOpenC + DESIGN_MARGIN_C - DESIGN_AMBIENT_C);
   const designAirMps = airSpeedMps(DESIGN_SPEED_MPS, V_FAN_MPS);
   const airCapacity = DESIGN_AIR_CAPACITY_RATIO * needed;
   const uaAtDesign = 1 / (1 / needed - 1 / pump - 1 / airCapacity);
@@ -114,6 +140,7 @@ export function thermalParamsFor(f: EngineFamily, ratedHeatW: number, thermostat
     thermostatOpenC,
     fanOnC: thermostatOpenC + FAN_ON_ABOVE_RATING_C,
     fanOffC: thermostatOpenC + FAN_OFF_ABOVE_RATING_C,
+    boilC: coolantBoilingPointC(f.capPressureKpa, f.glycolPercent),
   };
 }
 
@@ -165,10 +192,11 @@ export class CoolingSystem {
   /** Total conductance during the last step, W/K. */
   lastConductanceWPerK = 0;
 
-  constructor(p: ThermalParams, initialC: number) {
+  /** `thermostat` overrides the valve's defaults (span, hysteresis, wax lag, bleed). */
+  constructor(p: ThermalParams, initialC: number, thermostat: Partial<ThermostatSettings> = {}) {
     this.p = p;
     this.coolantC = initialC;
-    this.thermostat = new WaxThermostat({ openC: p.thermostatOpenC }, initialC);
+    this.thermostat = new WaxThermostat({ ...thermostat, openC: p.thermostatOpenC }, initialC);
   }
 
   /** Heat capacity of the node at the current coolant level, J/K. */
@@ -186,10 +214,11 @@ export class CoolingSystem {
     if (this.fanOn ? T <= p.fanOffC : T >= p.fanOnC) this.fanOn = !this.fanOn;
     const phi = this.thermostat.step(T, dtS);
     const loss = 1 - this.coolantLevel;
-    // Low coolant: pump aerates (less flow), upper radiator tubes run dry, heater core starves.
-    const wet = loss > 0 ? Math.max(0.15, 1 - 1.8 * loss) : 1;
+    // Low coolant (loss = lost share of the charge): the pump aerates (flow × (1 − 1.5·loss)),
+    // upper radiator tubes run dry (wetted share 1 − 2.2·loss), the heater core starves first.
+    const wet = loss > 0 ? Math.max(0.1, 1 - 2.2 * loss) : 1;
     const heaterFeed = loss > 0 ? Math.max(0, 1 - 3 * loss) : 1;
-    const wCool = p.pumpCapacityRateWPerK * (rpm / p.ratedRpm) * phi * this.coolantLevel;
+    const wCool = p.pumpCapacityRateWPerK * (rpm / p.ratedRpm) * phi * (loss > 0 ? Math.max(0.2, 1 - 1.5 * loss) : 1);
     const vAir = airSpeedMps(speedMps, this.fanOn ? V_FAN_MPS * this.fanFactor : 0);
     const gRad = radiatorConductanceWPerK(p, wCool, vAir, this.radiatorAirFactor * wet);
     const airInC = acOn ? ambientC + Math.min(CONDENSER_RISE_MAX_K, (CONDENSER_RISE_K * V_FAN_MPS) / vAir) : ambientC;
@@ -217,6 +246,7 @@ export class CoolingSystem {
       const tInf = sinkC + heatInW / g;
       next = tInf + (T - tInf) * Math.exp(-k);
     }
+    if (next > this.p.boilC) next = this.p.boilC;
     this.lastConductanceWPerK = g;
     this.lastHeatOutW = heatInW - (c * (next - T)) / dtS;
     this.coolantC = next;

@@ -4,7 +4,7 @@ import type { Rng } from './prng.js';
  * Speed trace of one driving leg, stepped like the thermal model: a chain of road segments
  * (urban, arterial, highway), each with a cruise speed, a length, a road grade and an optional
  * stop at its end (traffic light, junction, bus stop), driven with bounded acceleration and
- * braking. Speeds in m/s, accelerations in m/s², grade as rise/run.
+ * braking; now and then congestion: a stop-and-go crawl for some minutes. Speeds in m/s, accelerations in m/s², grade as rise/run.
  */
 
 export type RoadKind = 'urban' | 'arterial' | 'highway';
@@ -30,6 +30,10 @@ export interface DriveProfile {
   accelMps2: number;
   /** Normal braking deceleration, m/s². */
   decelMps2: number;
+  /** Chance that a new segment runs into congestion (stop-and-go crawl). */
+  jamChance: number;
+  /** How long congestion lasts, s. */
+  jamS: readonly [number, number];
 }
 
 const ROAD_KINDS: readonly RoadKind[] = ['urban', 'arterial', 'highway'];
@@ -37,6 +41,10 @@ const ROAD_KINDS: readonly RoadKind[] = ['urban', 'arterial', 'highway'];
 const MAX_GRADE = 0.07;
 /** Length of a stretch of constant grade, m (hills come and go within a segment). */
 const GRADE_STRETCH_M: readonly [number, number] = [300, 1500];
+/** Crawl in congestion: speed range, m/s, distance between stops, m, standing time, s. */
+const CRAWL_MPS: readonly [number, number] = [1.5, 4];
+const CRAWL_M: readonly [number, number] = [15, 80];
+const CRAWL_STOP_S: readonly [number, number] = [5, 30];
 /** How often the driver's cruise speed wanders, s, and by how much (sd), m/s. */
 const CRUISE_WANDER_EVERY_S = 15;
 const CRUISE_WANDER_SD_MPS = 0.8;
@@ -62,6 +70,7 @@ export class DriveCycle {
   private wanderS = 0;
   private kind: RoadKind = 'urban';
   private gradeLeftM = 0;
+  private jamLeftS = 0;
 
   constructor(profile: DriveProfile, rng: Rng) {
     this.profile = profile;
@@ -84,6 +93,7 @@ export class DriveCycle {
   step(dtS: number): void {
     if (this.done) return;
     this.elapsedS += dtS;
+    this.jamLeftS -= dtS;
     if (this.dwellS > 0) {
       this.speedMps = 0;
       this.accelMps2 = 0;
@@ -136,6 +146,15 @@ export class DriveCycle {
 
   private newSegment(): void {
     const rng = this.rng;
+    if (this.jamLeftS <= 0 && rng.chance(this.profile.jamChance)) this.jamLeftS = rng.uniform(this.profile.jamS[0], this.profile.jamS[1]);
+    if (this.jamLeftS > 0) {
+      this.baseMps = rng.uniform(CRAWL_MPS[0], CRAWL_MPS[1]);
+      this.cruiseMps = this.baseMps;
+      this.remainM = rng.uniform(CRAWL_M[0], CRAWL_M[1]);
+      this.endsWithStop = true;
+      this.stopS = rng.uniform(CRAWL_STOP_S[0], CRAWL_STOP_S[1]);
+      return;
+    }
     let r = rng.next() * this.totalWeight;
     let kind: RoadKind = 'urban';
     for (const k of ROAD_KINDS) {

@@ -28,6 +28,8 @@ const HOUR_S = 3600;
 const URBAN_DRIVE: DriveProfile = {
   accelMps2: 1.0,
   decelMps2: 1.3,
+  jamChance: 0.01,
+  jamS: [180, 1200],
   roads: {
     urban: { weight: 0.65, speedKph: [25, 50], lengthM: [150, 700], stopChance: 0.55, stopS: [5, 60], gradeSd: 0.015 },
     arterial: { weight: 0.3, speedKph: [50, 70], lengthM: [500, 2500], stopChance: 0.3, stopS: [10, 70], gradeSd: 0.015 },
@@ -37,15 +39,19 @@ const URBAN_DRIVE: DriveProfile = {
 const LONG_HAUL_DRIVE: DriveProfile = {
   accelMps2: 0.35,
   decelMps2: 0.8,
+  jamChance: 0.01,
+  jamS: [300, 1500],
   roads: {
     urban: { weight: 0.04, speedKph: [25, 45], lengthM: [300, 1000], stopChance: 0.5, stopS: [10, 60], gradeSd: 0.01 },
     arterial: { weight: 0.11, speedKph: [55, 75], lengthM: [1000, 5000], stopChance: 0.25, stopS: [10, 60], gradeSd: 0.015 },
-    highway: { weight: 0.85, speedKph: [78, 89], lengthM: [5000, 40000], stopChance: 0.01, stopS: [10, 60], gradeSd: 0.018 },
+    highway: { weight: 0.85, speedKph: [78, 89], lengthM: [5000, 40000], stopChance: 0.01, stopS: [10, 60], gradeSd: 0.012 },
   },
 };
 const BUS_DRIVE: DriveProfile = {
   accelMps2: 0.8,
   decelMps2: 1.0,
+  jamChance: 0.008,
+  jamS: [180, 900],
   roads: {
     urban: { weight: 0.8, speedKph: [30, 50], lengthM: [250, 600], stopChance: 0.85, stopS: [15, 45], gradeSd: 0.012 },
     arterial: { weight: 0.2, speedKph: [45, 65], lengthM: [600, 2000], stopChance: 0.6, stopS: [15, 40], gradeSd: 0.012 },
@@ -55,6 +61,8 @@ const BUS_DRIVE: DriveProfile = {
 const SERVICE_DRIVE: DriveProfile = {
   accelMps2: 1.1,
   decelMps2: 1.3,
+  jamChance: 0.01,
+  jamS: [180, 1200],
   roads: {
     urban: { weight: 0.35, speedKph: [25, 50], lengthM: [200, 800], stopChance: 0.5, stopS: [5, 50], gradeSd: 0.015 },
     arterial: { weight: 0.4, speedKph: [50, 75], lengthM: [800, 3000], stopChance: 0.3, stopS: [10, 60], gradeSd: 0.015 },

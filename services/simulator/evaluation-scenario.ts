@@ -29,7 +29,7 @@ const FAULT_PLACEMENT: Readonly<Record<FaultKind, { climates: readonly Climate[]
   'thermostat-stuck-open': { climates: ['cold', 'cold', 'temperate'], duties: ['urban-delivery', 'long-haul', 'service-van'] },
   'thermostat-sticking': { climates: ['cold', 'temperate', 'hot'], duties: ['urban-delivery', 'service-van', 'bus', 'long-haul'] },
   'radiator-fouling': { climates: ['hot', 'hot', 'temperate'], duties: ['long-haul', 'urban-delivery'] },
-  'fan-failure': { climates: ['hot'], duties: ['urban-delivery', 'bus', 'service-van'] },
+  'fan-failure': { climates: ['hot'], duties: ['bus', 'urban-delivery', 'bus'] },
   'coolant-loss': { climates: ['hot', 'temperate'], duties: ['long-haul', 'urban-delivery', 'bus'] },
   'sensor-stuck': { climates: ['cold', 'temperate', 'hot'], duties: LIGHT_DUTIES },
   'sensor-spikes': { climates: ['cold', 'temperate', 'hot'], duties: LIGHT_DUTIES },

@@ -7,11 +7,11 @@ import type { CoolingSystem } from './cooling-system.js';
  *
  * | kind                  | effect (s = severity, w = weeks since onset)                             |
  * |-----------------------|--------------------------------------------------------------------------|
- * | thermostat-stuck-open | valve never closes below x = 0.06 + 0.24·s (0..1 opening)                 |
+ * | thermostat-stuck-open | valve never closes below x = 0.04 + 0.10·s (0..1 opening)                 |
  * | thermostat-sticking   | valve stays shut until wax > rating + 6 + 12·s °C, then jumps open        |
- * | radiator-fouling      | air side ×(1 − 0.85·s·min(1, w/4)): progressive over about 4 weeks        |
- * | fan-failure           | fan air flow ×(1 − s) (s = 1: dead fan, less: slipping fan clutch)        |
- * | coolant-loss          | coolant level 1 − min(0.5, 0.12·s·w): a slow leak, worse every week       |
+ * | radiator-fouling      | air side ×(1 − 0.75·s·min(1, w/4)): progressive over about 4 weeks        |
+ * | fan-failure           | fan air flow ×max(0, 1 − 1.5·s) (dead from s = 2/3; less: slipping clutch) |
+ * | coolant-loss          | coolant level 1 − min(0.5, 0.08·s·w): a slow leak, worse every week       |
  * | sensor-*              | see coolant-sensor.ts                                                     |
  */
 
@@ -54,16 +54,16 @@ export function isSensorFault(kind: FaultKind): boolean {
 
 const WEEK_MS = 7 * 86_400_000;
 /** Smallest opening of a stuck-open thermostat at severity 0 and its growth with severity. */
-export const STUCK_OPEN_BASE = 0.06;
-export const STUCK_OPEN_PER_SEVERITY = 0.24;
+export const STUCK_OPEN_BASE = 0.04;
+export const STUCK_OPEN_PER_SEVERITY = 0.1;
 /** How late a sticking thermostat opens, °C above its rating, at severity 0 and per severity. */
 export const STICKING_LATE_BASE_C = 6;
 export const STICKING_LATE_PER_SEVERITY_C = 12;
 /** Air-side loss of a fully fouled radiator at severity 1, and the weeks it takes to build up. */
-export const FOULING_MAX_LOSS = 0.85;
+export const FOULING_MAX_LOSS = 0.75;
 export const FOULING_RAMP_WEEKS = 4;
 /** Coolant lost per week at severity 1, fraction of the charge, and the most that is lost. */
-export const COOLANT_LOSS_PER_WEEK = 0.12;
+export const COOLANT_LOSS_PER_WEEK = 0.08;
 export const COOLANT_LOSS_MAX = 0.5;
 
 /** Sets the cooling system's fault multipliers for time tMs (epoch ms). */
@@ -88,7 +88,7 @@ export function applyPhysicalFaults(cs: CoolingSystem, faults: readonly FaultSpe
         air *= 1 - FOULING_MAX_LOSS * s * Math.min(1, weeks / FOULING_RAMP_WEEKS);
         break;
       case 'fan-failure':
-        fan *= 1 - s;
+        fan *= Math.max(0, 1 - 1.5 * s);
         break;
       case 'coolant-loss':
         level -= Math.min(COOLANT_LOSS_MAX, COOLANT_LOSS_PER_WEEK * s * weeks);

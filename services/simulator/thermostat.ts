@@ -10,8 +10,9 @@
  * - flow fraction to the radiator:  φ = φ_bleed + (1 − φ_bleed) · x   (φ_bleed: jiggle pin /
  *                     bypass leakage, so a closed thermostat still passes a little flow)
  * Faults: stuck open keeps x ≥ x_stuck; sticking keeps the valve shut until the wax is
- * `lateC` above the rating, then it jumps to x_mech at once (overshoot), and sticks again
- * each time it closes.
+ * `lateC` above the rating, then it jumps to x_mech at once (overshoot); it sticks again once
+ * the wax has cooled STICK_AGAIN_BELOW_RATING_C under the rating (after a soak), so every cold
+ * start, and warm restarts after long enough stops, overshoot.
  */
 
 /** Temperature rise above the rating at which the valve is fully open, °C (common practice). */
@@ -26,6 +27,8 @@ export const THERMOSTAT_HYSTERESIS_C = 2;
 export const WAX_TIME_CONSTANT_S = 8;
 /** Flow fraction through a closed thermostat (bleed hole / bypass leakage), dimensionless. */
 export const THERMOSTAT_BLEED_FRACTION = 0.02;
+/** A sticking valve seizes again when the wax cools this far below the rating, °C. */
+export const STICK_AGAIN_BELOW_RATING_C = 15;
 
 export interface ThermostatSettings {
   /** Rated start-to-open temperature, °C. */
@@ -85,7 +88,7 @@ export class WaxThermostat {
       if (this.stuckShut) {
         if (w >= this.openC + this.lateOpeningC) this.stuckShut = false;
         else x = 0;
-      } else if (x <= 0) {
+      } else if (w < this.openC - STICK_AGAIN_BELOW_RATING_C) {
         this.stuckShut = true;
       }
     }

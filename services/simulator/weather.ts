@@ -25,7 +25,7 @@ export interface ClimateSpec {
 export const CLIMATES: Readonly<Record<Climate, ClimateSpec>> = {
   cold: { meanC: 3, seasonalAmplitudeC: 14, dailyAmplitudeC: 4, weatherSdC: 4 },
   temperate: { meanC: 11, seasonalAmplitudeC: 8, dailyAmplitudeC: 5, weatherSdC: 3 },
-  hot: { meanC: 24, seasonalAmplitudeC: 10, dailyAmplitudeC: 7, weatherSdC: 2.5 },
+  hot: { meanC: 26, seasonalAmplitudeC: 10, dailyAmplitudeC: 7, weatherSdC: 2.5 },
 };
 
 /** Day of year of the warmest day. */
