@@ -38,7 +38,7 @@ const DEMO_FAULTS: readonly DemoFault[] = [
   { kind: 'thermostat-stuck-open', climates: ['cold'], duties: ['urban-delivery', 'service-van'], severity: 0.8, onsetFraction: 0.45 },
   { kind: 'radiator-fouling', climates: ['hot'], duties: ['long-haul'], severity: 0.9, onsetFraction: 0.35 },
   { kind: 'fan-failure', climates: ['hot'], duties: ['urban-delivery', 'bus'], severity: 1, onsetFraction: 0.55 },
-  { kind: 'coolant-loss', climates: ['temperate', 'hot'], duties: ['long-haul', 'urban-delivery'], severity: 0.8, onsetFraction: 0.4 },
+  { kind: 'coolant-loss', climates: ['hot', 'temperate'], duties: ['long-haul', 'urban-delivery'], severity: 0.8, onsetFraction: 0.4 },
   { kind: 'thermostat-sticking', climates: ['temperate'], duties: ['urban-delivery', 'service-van'], severity: 0.7, onsetFraction: 0.5 },
   { kind: 'sensor-spikes', climates: ['temperate'], duties: ['service-van', 'urban-delivery'], severity: 0.6, onsetFraction: 0.5 },
   { kind: 'sensor-bias', climates: ['cold'], duties: ['long-haul', 'urban-delivery'], severity: 0.7, onsetFraction: 0.5 },
@@ -59,8 +59,9 @@ export function planDemoFleet(opts: { startMs: number; days: number; seed: numbe
   const faultCount = Math.min(DEMO_FAULTS.length, Math.floor(opts.vehicles / 4));
   for (const f of DEMO_FAULTS.slice(0, faultCount)) {
     const healthy = fleet.filter((v) => v.faults.length === 0);
+    // Preference order: the first listed climate and duty where the fault shows best.
     const host =
-      healthy.find((v) => f.climates.includes(v.climate) && f.duties.includes(v.duty)) ??
+      f.climates.flatMap((c) => f.duties.map((d) => healthy.find((v) => v.climate === c && v.duty === d))).find((v) => v !== undefined) ??
       healthy.find((v) => f.climates.includes(v.climate)) ??
       healthy[0];
     if (!host) break;
