@@ -4,6 +4,7 @@ import { loadConfig } from '../config.js';
 import { createApiKeysRepository } from '../db/api-keys-repository.js';
 import { openDatabase } from '../db/database.js';
 import { migrateToLatest } from '../db/migrator.js';
+import { Worker } from '../worker/worker.js';
 import { buildApp } from './app.js';
 
 const HELP = `usage: thermocline serve
@@ -37,6 +38,14 @@ export async function run(argv: string[]): Promise<number> {
 
   const app = await buildApp({ config, database, closeDatabase: true, logger: logger });
   await app.listen({ port: config.port, host: config.host });
+  // The in-process worker starts once the API answers and wakes whenever an ingest commits.
+  const worker = config.inProcessWorker
+    ? new Worker({ handle: database, pollMs: config.workerPollMs, leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize, logger })
+    : undefined;
+  if (worker) {
+    app.ingestNotifier.on('readings', () => worker.wake());
+    worker.start();
+  }
 
   await new Promise<void>((resolve) => {
     let stopping = false;
@@ -44,16 +53,20 @@ export async function run(argv: string[]): Promise<number> {
       if (stopping) return;
       stopping = true;
       app.log.info({ signal }, 'shutting down: no new connections, finishing requests in flight');
-      app.close().then(
-        () => {
-          app.log.info('stopped');
-          resolve();
-        },
-        (err: unknown) => {
-          app.log.error({ err }, 'shutdown failed');
-          resolve();
-        },
-      );
+      // The worker stops first (its vehicle in hand finished, other leases released): app.close()
+      // closes the database.
+      Promise.resolve(worker?.stop())
+        .then(() => app.close())
+        .then(
+          () => {
+            app.log.info('stopped');
+            resolve();
+          },
+          (err: unknown) => {
+            app.log.error({ err }, 'shutdown failed');
+            resolve();
+          },
+        );
     };
     process.once('SIGTERM', () => stop('SIGTERM'));
     process.once('SIGINT', () => stop('SIGINT'));

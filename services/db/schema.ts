@@ -1,6 +1,6 @@
 import type { ColumnType, Generated } from 'kysely';
 
-/** Kysely table types for the tables of migrations/0001-foundation.ts and 0002-analysis-results.ts. */
+/** Kysely table types for the tables of migrations/0001-foundation.ts, 0002-analysis-results.ts and 0003-worker-leases.ts. */
 export interface FleetsTable {
   fleet_id: string;
   name: string;
@@ -67,6 +67,8 @@ export interface AnalysisQueueTable {
   locked_until: Date | null;
   attempts: Generated<number>;
   last_error: string | null;
+  /** Start of the window the current lease covers (migrations/0003); null when not leased. */
+  leased_from: Date | null;
 }
 
 /** jsonb columns: pg and PGlite both parse them into objects. */
@@ -118,6 +120,8 @@ export interface FindingsTable {
   acknowledged_by: string | null;
   resolved_at: Date | null;
   resolved_reason: string | null;
+  /** Analysis time of the pass that first raised it (migrations/0003). */
+  raised_at: Date | null;
 }
 
 export interface ServiceEventsTable {

@@ -1,0 +1,127 @@
+import { sql, type Kysely } from 'kysely';
+import type { DayAggregate } from '../analysis/day-aggregates.js';
+import type { ServiceEvent } from '../analysis/findings/service-events.js';
+import type { RunMetrics } from '../analysis/run-metrics.js';
+import type { SensorEvent } from '../analysis/sensor-events.js';
+import { utcDay } from '../analysis/sample-arrays.js';
+import { DEFAULT_VEHICLE_PROFILE, type VehicleProfile } from '../analysis/vehicle-profile.js';
+import type { Database } from '../db/schema.js';
+
+/** What the worker knows about a vehicle before analysing it. */
+export interface VehicleState {
+  profile: VehicleProfile;
+  /** Start of the day of the vehicle's open run at the last pass, ms; null if none. */
+  resumeFromMs: number | null;
+  /** Latest reading analysed so far, ms; null before the first pass. */
+  lastReadingMs: number | null;
+}
+
+/** Stored results before a window start, for re-deriving findings from the whole history. */
+export interface StoredHistory {
+  runs: RunMetrics[];
+  days: DayAggregate[];
+  sensorEvents: SensorEvent[];
+  serviceEvents: ServiceEvent[];
+}
+
+/** The results of one pass over [windowFromMs, ∞). */
+export interface WindowResults {
+  runs: RunMetrics[];
+  days: DayAggregate[];
+  sensorEvents: SensorEvent[];
+}
+
+const ts = (msValue: number) => sql`to_timestamp(${msValue}::float8 / 1000)`;
+
+/** Reads and writes the worker's derived tables: engine_runs, vehicle_days, sensor_events. */
+export function createAnalysisStore(db: Kysely<Database>) {
+  return {
+    async vehicleState(vehicleId: string): Promise<VehicleState> {
+      const v = await db.selectFrom('vehicles').select(['engine_family', 'thermostat_open_c', 'cap_pressure_kpa', 'glycol_percent'])
+        .where('vehicle_id', '=', vehicleId).executeTakeFirst();
+      const a = await db.selectFrom('vehicle_analysis').select(['resume_from', 'last_reading_at']).where('vehicle_id', '=', vehicleId).executeTakeFirst();
+      return {
+        profile: v
+          ? { engineFamily: v.engine_family, thermostatOpenC: v.thermostat_open_c, capPressureKpa: v.cap_pressure_kpa, glycolPercent: v.glycol_percent }
+          : { ...DEFAULT_VEHICLE_PROFILE },
+        resumeFromMs: a?.resume_from?.getTime() ?? null,
+        lastReadingMs: a?.last_reading_at?.getTime() ?? null,
+      };
+    },
+
+    /**
+     * Moves a window start back over any stored run that reaches it (or ends less than `gapMs`
+     * before it), to the UTC midnight before that run's start: late readings may extend, merge
+     * or split it, so it is recomputed whole. Repeats until no stored run reaches the start.
+     */
+    async extendOverStoredRuns(vehicleId: string, fromMs: number, gapMs: number): Promise<number> {
+      let from = fromMs;
+      for (;;) {
+        const r = await sql<{ start_ts: Date }>`
+          select min(start_ts) as start_ts from engine_runs
+          where vehicle_id = ${vehicleId} and start_ts < ${ts(from)} and end_ts >= ${ts(from - gapMs)}`.execute(db);
+        const start = r.rows[0]?.start_ts;
+        if (!start) return from;
+        const day = Date.parse(utcDay(start.getTime()));
+        if (day >= from) return from;
+        from = day;
+      }
+    },
+
+    /** Runs, days and sensor events stored before `beforeMs`, and every service event. */
+    async historyBefore(vehicleId: string, beforeMs: number): Promise<StoredHistory> {
+      const runs = await sql<{ metrics: RunMetrics }>`
+        select metrics from engine_runs where vehicle_id = ${vehicleId} and start_ts < ${ts(beforeMs)} order by start_ts`.execute(db);
+      const days = await sql<{ metrics: DayAggregate }>`
+        select metrics from vehicle_days where vehicle_id = ${vehicleId} and day < ${utcDay(beforeMs)}::date order by day`.execute(db);
+      const events = await sql<{ event: SensorEvent }>`
+        select event from sensor_events where vehicle_id = ${vehicleId} and run_start < ${ts(beforeMs)} order by run_start, kind`.execute(db);
+      const services = await db.selectFrom('service_events').select(['kind', 'at']).where('vehicle_id', '=', vehicleId).orderBy('at').orderBy('event_id').execute();
+      return {
+        runs: runs.rows.map((r) => r.metrics),
+        days: days.rows.map((r) => r.metrics),
+        sensorEvents: events.rows.map((r) => r.event),
+        serviceEvents: services.map((s) => ({ kind: s.kind as ServiceEvent['kind'], at: s.at.getTime() })),
+      };
+    },
+
+    /** Replaces everything derived from `fromMs` (a UTC midnight) on with `results`. */
+    async replaceFrom(trx: Kysely<Database>, vehicleId: string, fromMs: number, results: WindowResults): Promise<void> {
+      await sql`delete from engine_runs where vehicle_id = ${vehicleId} and start_ts >= ${ts(fromMs)}`.execute(trx);
+      await sql`delete from vehicle_days where vehicle_id = ${vehicleId} and day >= ${utcDay(fromMs)}::date`.execute(trx);
+      await sql`delete from sensor_events where vehicle_id = ${vehicleId} and run_start >= ${ts(fromMs)}`.execute(trx);
+      // Each table in one statement: the rows travel as one JSON array parameter.
+      if (results.runs.length > 0) {
+        await sql`
+          insert into engine_runs (vehicle_id, start_ts, end_ts, start_kind, open, metrics)
+          select ${vehicleId}, to_timestamp((e->>'startMs')::float8 / 1000), to_timestamp((e->>'endMs')::float8 / 1000), e->>'startKind', (e->>'open')::boolean, e
+          from jsonb_array_elements(${JSON.stringify(results.runs)}::jsonb) e`.execute(trx);
+      }
+      if (results.days.length > 0) {
+        await sql`
+          insert into vehicle_days (vehicle_id, day, metrics)
+          select ${vehicleId}, (e->>'day')::date, e from jsonb_array_elements(${JSON.stringify(results.days)}::jsonb) e`.execute(trx);
+      }
+      if (results.sensorEvents.length > 0) {
+        await sql`
+          insert into sensor_events (vehicle_id, run_start, kind, event)
+          select ${vehicleId}, to_timestamp((e->>'runStartMs')::float8 / 1000), e->>'kind', e
+          from jsonb_array_elements(${JSON.stringify(results.sensorEvents)}::jsonb) e`.execute(trx);
+      }
+    },
+
+    /** Records the pass: watermark, latest reading, readings analysed. */
+    async recordPass(trx: Kysely<Database>, p: { vehicleId: string; fleetId: string; resumeFromMs: number | null; lastRunEndMs: number | null; lastReadingMs: number | null; readings: number }): Promise<void> {
+      const opt = (v: number | null) => (v === null ? sql`null::timestamptz` : ts(v));
+      await sql`
+        insert into vehicle_analysis (vehicle_id, fleet_id, resume_from, last_run_end, last_reading_at, readings_analysed, analysed_at)
+        values (${p.vehicleId}, ${p.fleetId}, ${opt(p.resumeFromMs)}, ${opt(p.lastRunEndMs)}, ${opt(p.lastReadingMs)}, ${p.readings}, now())
+        on conflict (vehicle_id) do update set
+          fleet_id = excluded.fleet_id, resume_from = excluded.resume_from, last_run_end = excluded.last_run_end,
+          last_reading_at = excluded.last_reading_at,
+          readings_analysed = vehicle_analysis.readings_analysed + excluded.readings_analysed, analysed_at = now()`.execute(trx);
+    },
+  };
+}
+
+export type AnalysisStore = ReturnType<typeof createAnalysisStore>;

