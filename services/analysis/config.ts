@@ -38,8 +38,6 @@ export interface AnalysisConfig {
   sensorBiasToleranceC: number;
   /** A gap in a run longer than this many nominal sample periods is a dropout. */
   dropoutPeriods: number;
-  /** Day counts as having dropouts when this fraction of running time is missing. */
-  dropoutDayFraction: number;
 
   // --- engine runs (step 2) ---
   /** A gap longer than this ends a run, s. */
@@ -108,12 +106,20 @@ export interface AnalysisConfig {
   baselineMinDays: number;
   /** Smallest robust residual scale for log warm-up time (dimensionless). */
   warmupLogScaleFloor: number;
-  /** Smallest robust residual scale for plateau and overshoot, °C. */
+  /** Smallest robust residual scale for the plateau, °C (1 °C quantisation). */
   tempScaleFloorC: number;
+  /** Smallest residual scale for the overshoot, °C: healthy thermostats overshoot a few °C. Tuned. */
+  overshootScaleFloorC: number;
+  /** Two runs at or beyond this overshoot z within `findingStaleDays` raise a finding. Tuned. */
+  overshootRepeatZ: number;
+  /** Smallest residual scale for daily peaks, °C: route and weather move them by a few °C. Tuned. */
+  dayScaleFloorC: number;
   /** CUSUM reference value (allowance), in robust standard deviations. */
   cusumK: number;
   /** CUSUM decision threshold, in robust standard deviations. */
   cusumH: number;
+  /** A change is reported only if the runs since it sit at least this many σ out (median). Tuned. */
+  minShiftMedianZ: number;
   /** Single-run robust z-scores are capped at this to limit one outlier's weight. */
   zCap: number;
   /** A finding stays open this long after its last evidence, days. */
@@ -153,9 +159,8 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   stuckMinDeficitC: 25,
   coldSoakMinS: 8 * 3600,
   coldSoakToleranceC: 10,
-  sensorBiasToleranceC: 3,
+  sensorBiasToleranceC: 4.5,
   dropoutPeriods: 3,
-  dropoutDayFraction: 0.05,
 
   runGapS: 600,
   engineOnRpm: 300,
@@ -190,10 +195,14 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   baselineMinRuns: 6,
   baselineMinDays: 6,
   warmupLogScaleFloor: 0.12,
-  tempScaleFloorC: 1,
+  tempScaleFloorC: 1.5,
+  overshootScaleFloorC: 3.5,
+  overshootRepeatZ: 3.5,
+  dayScaleFloorC: 2,
   cusumK: 0.75,
   cusumH: 6,
-  zCap: 6,
+  minShiftMedianZ: 2,
+  zCap: 4,
   findingStaleDays: 14,
   sensorWindowDays: 7,
   sensorMinDays: 2,

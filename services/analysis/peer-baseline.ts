@@ -1,3 +1,4 @@
+import { type AnalysisConfig, resolveConfig } from './config.js';
 import { fitBaseline, type BaselineModel } from './findings/baseline-model.js';
 import { featureRows, RUN_FEATURES, type RunFeature } from './findings/run-features.js';
 import type { RunMetrics } from './run-metrics.js';
@@ -20,9 +21,11 @@ export interface PeerBaseline {
  * vehicles may be included: the fits are robust to a minority of them.
  * @example buildPeerBaseline(runsOfFamily, 'hd-13l', 40).models.warmupTime?.sigma
  */
-export function buildPeerBaseline(runs: readonly RunMetrics[], engineFamily = 'unknown', vehicleCount = 0): PeerBaseline {
+export function buildPeerBaseline(
+  runs: readonly RunMetrics[], engineFamily = 'unknown', vehicleCount = 0, cfg: AnalysisConfig = resolveConfig(engineFamily),
+): PeerBaseline {
   const usable = runs.filter((r) => !r.excludedForSensor && !r.truncatedStart);
   const models = {} as PeerBaseline['models'];
-  for (const f of RUN_FEATURES) models[f.name] = fitBaseline(featureRows(usable, f));
+  for (const f of RUN_FEATURES) models[f.name] = fitBaseline(featureRows(usable, f, cfg));
   return { engineFamily, runCount: usable.length, vehicleCount, models };
 }

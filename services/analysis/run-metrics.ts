@@ -226,7 +226,7 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
   const fit = cold && !excludedForSensor ? fitWarmupCurve(s, flags, a, b, profile.thermostatOpenC, cfg) : null;
   const op = excludedForSensor
     ? { plateauC: null, overshootPeakC: null, overshootC: null, settlingTimeS: null }
-    : operatingMetrics(s, flags, a, b, cold ? openIdx : -1, cold ? targetIdx : (openIdx >= 0 ? openIdx : a), periodS, cfg, ctx.scratch);
+    : operatingMetrics(s, flags, a, b, cold ? openIdx : -1, targetIdx, periodS, cfg, ctx.scratch);
   return {
     startMs: t0,
     endMs: ts[b - 1]!,

@@ -41,7 +41,7 @@ export interface OperatingMetrics {
   plateauC: number | null;
   /** Highest coolant within `overshootWindowS` after the thermostat rating is first reached, °C. */
   overshootPeakC: number | null;
-  /** overshootPeakC − plateauC, °C (≥ 0). */
+  /** overshootPeakC − settled temperature (the plateau, or on short runs the median after the peak), °C (≥ 0). */
   overshootC: number | null;
   /** From reaching the rating until the coolant stays within plateau ± settleBandC, s. */
   settlingTimeS: number | null;
@@ -70,16 +70,38 @@ export function operatingMetrics(
     if ((f & FLAG_IMPLAUSIBLE) === 0 && (f & FLAG_MOVING) !== 0) scratch[k++] = coolant[i]!;
   }
   const plateauC = k * periodS >= cfg.plateauMinS ? medianInPlace(scratch, k) : null;
-  if (openIdx < 0 || plateauC === null) return { ...none, plateauC };
+  if (openIdx < 0) return { ...none, plateauC };
   const windowEnd = ts[openIdx]! + cfg.overshootWindowS * MS_PER_S;
   let end = openIdx;
-  while (end < b && ts[end]! <= windowEnd) end++;
-  const m = stepResponseMetrics(ts, coolant, coolant[openIdx]!, plateauC, cfg.settleBandC, openIdx, end,
+  let peakIdx = openIdx;
+  for (; end < b && ts[end]! <= windowEnd; end++) {
+    if ((flags[end]! & FLAG_IMPLAUSIBLE) === 0 && coolant[end]! > coolant[peakIdx]!) peakIdx = end;
+  }
+  // Short runs have no plateau: settle on what the coolant did after the peak instead.
+  const settledC = plateauC ?? settledAfter(s, flags, peakIdx, b, cfg, scratch);
+  if (settledC === null) return { ...none, plateauC };
+  const m = stepResponseMetrics(ts, coolant, coolant[openIdx]!, settledC, cfg.settleBandC, openIdx, end,
     (i) => (flags[i]! & FLAG_IMPLAUSIBLE) !== 0);
   return {
     plateauC,
     overshootPeakC: m.peak,
-    overshootC: Math.max(m.peak - plateauC, 0),
+    overshootC: Math.max(m.peak - settledC, 0),
     settlingTimeS: (Math.max(m.settlingTime, ts[openIdx]!) - ts[openIdx]!) / MS_PER_S,
   };
+}
+
+/** Fewest samples after the peak for a settled temperature on a run without plateau. */
+const MIN_SETTLE_SAMPLES = 6;
+/** Settling starts this long after the peak, s. */
+const SETTLE_AFTER_PEAK_S = 120;
+
+/** Median coolant from shortly after the peak to `overshootWindowS` after it, or null. */
+function settledAfter(s: SampleArrays, flags: Uint8Array, peakIdx: number, b: number, cfg: AnalysisConfig, scratch: Float64Array): number | null {
+  const from = s.ts[peakIdx]! + SETTLE_AFTER_PEAK_S * MS_PER_S;
+  const to = s.ts[peakIdx]! + cfg.overshootWindowS * MS_PER_S;
+  let k = 0;
+  for (let i = peakIdx; i < b && s.ts[i]! <= to; i++) {
+    if (s.ts[i]! >= from && (flags[i]! & FLAG_IMPLAUSIBLE) === 0) scratch[k++] = s.coolant[i]!;
+  }
+  return k >= MIN_SETTLE_SAMPLES ? medianInPlace(scratch, k) : null;
 }

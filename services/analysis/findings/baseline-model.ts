@@ -13,6 +13,9 @@ export interface BaselineModel {
   coefficients: number[];
   sigma: number;
   n: number;
+  /** Range of each predictor seen while fitting: predictions never extrapolate beyond it. */
+  xMin: number[];
+  xMax: number[];
 }
 
 /** Predictors are dropped (median model) unless there are this many rows per coefficient. */
@@ -29,18 +32,23 @@ export function fitBaseline(rows: readonly ModelRow[]): BaselineModel | null {
   const usable = rows.filter((r) => !r.censored);
   if (usable.length < MIN_ROWS) return null;
   const p = (usable[0]?.x.length ?? 0) + 1;
+  const xMin = Array.from({ length: p - 1 }, (_, c) => Math.min(...usable.map((r) => r.x[c]!)));
+  const xMax = Array.from({ length: p - 1 }, (_, c) => Math.max(...usable.map((r) => r.x[c]!)));
   if (p > 1 && usable.length >= ROWS_PER_COEFFICIENT * p) {
     const fit = robustLinearFit(usable.map((r) => r.x), usable.map((r) => r.y));
-    if (fit && fit.coefficients.every(Number.isFinite)) return { coefficients: fit.coefficients, sigma: fit.residualSigma, n: usable.length };
+    if (fit && fit.coefficients.every(Number.isFinite)) return { coefficients: fit.coefficients, sigma: fit.residualSigma, n: usable.length, xMin, xMax };
   }
   const ys = usable.map((r) => r.y);
   const m = median(ys);
-  return { coefficients: [m, ...new Array<number>(p - 1).fill(0)], sigma: MAD_TO_SIGMA * mad(ys, m), n: usable.length };
+  return { coefficients: [m, ...new Array<number>(p - 1).fill(0)], sigma: MAD_TO_SIGMA * mad(ys, m), n: usable.length, xMin, xMax };
 }
 
-/** Expected y of a row under a model. */
+/**
+ * Expected y of a row under a model, with each predictor clamped to the range the model
+ * was fitted on (a linear fit learned in mild weather says little about a cold snap).
+ */
 export function expected(model: BaselineModel, row: ModelRow): number {
-  return predict(model, row.x);
+  return predict(model, row.x.map((v, c) => Math.min(Math.max(v, model.xMin[c] ?? v), model.xMax[c] ?? v)));
 }
 
 /**

@@ -17,9 +17,13 @@ const RECENT_DAYS = 5;
 /** Projected days to boiling at or below which the finding is critical. */
 const CRITICAL_DAYS_TO_BOIL = 14;
 
-type DayMetric = 'peakCoolantC' | 'peakIdleCoolantC' | 'warmP95CoolantC';
-/** Daily quantities judged: overall peak, peak while standing (fan), 95th percentile while moving (radiator). */
-const DAY_METRICS: readonly DayMetric[] = ['peakCoolantC', 'peakIdleCoolantC', 'warmP95CoolantC'];
+type DayMetric = 'peakCoolantC' | 'warmP95CoolantC';
+/**
+ * Daily quantities judged: the overall peak (standing or moving: fan, coolant) and the 95th
+ * percentile while moving (radiator). The standing-only peak is too dependent on whether
+ * the day happened to include warm idling to be judged on its own.
+ */
+const DAY_METRICS: readonly DayMetric[] = ['peakCoolantC', 'warmP95CoolantC'];
 
 interface ScoredDay { day: DayAggregate; metric: DayMetric; z: number; value: number; expected: number }
 
@@ -42,7 +46,7 @@ export function overheatingTrendFinding(
   const days = allDays.filter((d) => d.engineHours >= MIN_ENGINE_HOURS && d.peakCoolantC !== null);
   const baselineEnd = baselineStart + cfg.baselineDays * DAY_MS;
   const base = days.filter((d) => d.dayStartMs < baselineEnd);
-  if (base.length < cfg.baselineMinDays) return null;
+  if (now < baselineEnd || base.length < cfg.baselineMinDays) return null;
   const perDay = new Map<number, ScoredDay>();
   let peakResiduals: { t: number; r: number }[] = [];
   for (const metric of DAY_METRICS) {
@@ -51,7 +55,7 @@ export function overheatingTrendFinding(
     for (const d of days) {
       const row = dayRow(d, metric);
       if (!row) continue;
-      const z = badZ(model, row, 1, cfg.tempScaleFloorC, cfg.zCap)!;
+      const z = badZ(model, row, 1, cfg.dayScaleFloorC, cfg.zCap)!;
       const e = expected(model, row);
       const cur = perDay.get(d.dayStartMs);
       if (!cur || z > cur.z) perDay.set(d.dayStartMs, { day: d, metric, z, value: row.y, expected: e });
@@ -72,8 +76,10 @@ export function overheatingTrendFinding(
     rise = median(r.slice(-RECENT_DAYS));
     trend = mk.pIncreasing < cfg.trendAlpha && slope >= cfg.trendMinSlopeCPerDay && rise >= cfg.trendMinRiseC;
   }
-  if (cusum.alarmIndex < 0 && !trend) return null;
-  const onsetIdx = cusum.alarmIndex >= 0 ? cusum.changeIndex
+  const shifted = cusum.alarmIndex >= 0
+    && median(scored.slice(cusum.changeIndex).map((s) => s.value - s.expected)) >= cfg.trendMinRiseC;
+  if (!shifted && !trend) return null;
+  const onsetIdx = shifted ? cusum.changeIndex
     : Math.max(0, scored.findIndex((s) => s.day.dayStartMs > now - cfg.trendWindowDays * DAY_MS && s.z >= 1));
   const after = scored.slice(onsetIdx);
   const supporting = after.filter((s) => s.z >= 1);
@@ -111,7 +117,7 @@ export function overheatingTrendFinding(
     metrics: {
       medianZ: round(medianZ), riseC: round(riseC), senSlopeCPerDay: round(slope, 3), rawSlopeCPerDay: round(rawSlope, 3),
       daysToBoil: daysToBoil === null ? -1 : round(daysToBoil, 1), boilingPointC: round(boilingPointC, 1),
-      recentOverheatEpisodes: recentEpisodes, trendSignificant: trend ? 1 : 0, cusumAlarm: cusum.alarmIndex >= 0 ? 1 : 0,
+      recentOverheatEpisodes: recentEpisodes, trendSignificant: trend ? 1 : 0, cusumAlarm: shifted ? 1 : 0,
     },
     evidence,
   };

@@ -1,3 +1,4 @@
+import type { AnalysisConfig } from '../config.js';
 import type { RunMetrics } from '../run-metrics.js';
 
 /** One run reduced to a judged quantity y and the conditions x that explain part of it. */
@@ -11,12 +12,12 @@ export interface FeatureRow {
 
 /** A run quantity judged against history and peers. */
 export interface RunFeature {
-  name: 'warmupTime' | 'plateau' | 'overshoot' | 'soakOffset';
+  name: 'warmupTime' | 'plateau' | 'runPeak' | 'overshoot' | 'soakOffset';
   /** RunMetrics field shown as evidence. */
   metric: keyof RunMetrics;
   /** +1: higher than expected is bad; −1: lower is bad. */
   direction: 1 | -1;
-  extract(r: RunMetrics): Omit<FeatureRow, 'run'> | null;
+  extract(r: RunMetrics, cfg: AnalysisConfig): Omit<FeatureRow, 'run'> | null;
   /** Shown value of the evidence for a row (inverse of the y transform). */
   display(y: number): number;
 }
@@ -45,14 +46,40 @@ export const WARMUP_TIME: RunFeature = {
   display: (y) => Math.exp(y),
 };
 
-/** Plateau in steady driving relative to the thermostat rating, explained by ambient and speed. */
+/**
+ * Plateau in steady driving relative to the thermostat rating, explained by ambient and
+ * speed. Judged under the same care as the OBD-II monitor: not below −6.7 °C ambient and
+ * not when idling dominates, where healthy engines also run cool.
+ */
 export const PLATEAU: RunFeature = {
   name: 'plateau',
   metric: 'plateauC',
   direction: -1,
-  extract(r) {
+  extract(r, cfg) {
     if (r.plateauC === null || r.excludedForSensor) return null;
+    if ((r.ambientMeanC ?? Infinity) < cfg.obdMinAmbientC || r.idleFraction > cfg.obdMaxIdleFraction) return null;
     return { x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100], y: r.plateauC - r.thermostatOpenC, censored: false };
+  },
+  display: (y) => y,
+};
+
+/** Runs shorter than this say little about the temperature a warm engine holds, s. */
+const RUN_PEAK_MIN_S = 1200;
+
+/**
+ * Highest temperature of a run relative to the thermostat rating, explained by ambient and
+ * speed: a working thermostat holds the rating on any run of 20 min or more; one stuck open
+ * lets the engine run cool (and then never reaches the target, so it has no plateau).
+ * Same care as the plateau: not below −6.7 °C ambient, not when idling dominates.
+ */
+export const RUN_PEAK: RunFeature = {
+  name: 'runPeak',
+  metric: 'peakCoolantC',
+  direction: -1,
+  extract(r, cfg) {
+    if (r.peakCoolantC === null || r.excludedForSensor || r.durationS < RUN_PEAK_MIN_S) return null;
+    if ((r.ambientMeanC ?? Infinity) < cfg.obdMinAmbientC || r.idleFraction > cfg.obdMaxIdleFraction) return null;
+    return { x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100], y: r.peakCoolantC - r.thermostatOpenC, censored: false };
   },
   display: (y) => y,
 };
@@ -81,13 +108,13 @@ export const SOAK_OFFSET: RunFeature = {
   display: (y) => y,
 };
 
-export const RUN_FEATURES = [WARMUP_TIME, PLATEAU, OVERSHOOT, SOAK_OFFSET] as const;
+export const RUN_FEATURES = [WARMUP_TIME, PLATEAU, RUN_PEAK, OVERSHOOT, SOAK_OFFSET] as const;
 
 /** Rows of a feature over runs (runs whose feature is undefined are skipped). */
-export function featureRows(runs: readonly RunMetrics[], f: RunFeature): FeatureRow[] {
+export function featureRows(runs: readonly RunMetrics[], f: RunFeature, cfg: AnalysisConfig): FeatureRow[] {
   const out: FeatureRow[] = [];
   for (const run of runs) {
-    const e = f.extract(run);
+    const e = f.extract(run, cfg);
     if (e) out.push({ run, ...e });
   }
   return out;

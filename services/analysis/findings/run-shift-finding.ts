@@ -10,6 +10,8 @@ import type { ScoredRun } from './run-shift.js';
 const DAY_MS = 86_400_000;
 /** A run supports a finding when its z is at least this. */
 const SUPPORT_Z = 1;
+/** Runs beyond the repeat threshold that raise a finding without a CUSUM alarm. */
+const REPEAT_MIN_RUNS = 2;
 /** Median z after the change point that makes a run-based finding a warning. */
 const WARNING_MEDIAN_Z = 3;
 
@@ -27,23 +29,40 @@ export interface RunShift {
 }
 
 /**
- * Upper CUSUM over the runs' z-scores; returns the shift when it alarmed and its latest
+ * Upper CUSUM over daily z-scores (the median of each day's runs, so one cold or hot day
+ * counts once however many runs it had); returns the shift when it alarmed and its latest
  * evidence is not older than `findingStaleDays`, else null. The onset is the first run of
- * the excursion that alarmed.
+ * the first day of the excursion that alarmed. With `repeatZ`, at least two runs at or above
+ * it within `findingStaleDays` also raise the shift (a fault that shows only on some runs).
  */
-export function detectRunShift(scored: readonly ScoredRun[], now: number, cfg: AnalysisConfig): RunShift | null {
-  const c = upperCusum(scored.map((s) => s.z), cfg.cusumK, cfg.cusumH);
-  if (c.alarmIndex < 0) return null;
-  const after = scored.slice(c.changeIndex);
+export function detectRunShift(scored: readonly ScoredRun[], now: number, cfg: AnalysisConfig, repeatZ = Infinity): RunShift | null {
+  const days: ScoredRun[][] = [];
+  for (const s of scored) {
+    const last = days[days.length - 1];
+    if (last && Math.floor(last[0]!.run.startMs / DAY_MS) === Math.floor(s.run.startMs / DAY_MS)) last.push(s);
+    else days.push([s]);
+  }
+  const c = upperCusum(days.map((d) => median(d.map((s) => s.z))), cfg.cusumK, cfg.cusumH);
+  let changeRun: ScoredRun;
+  if (c.alarmIndex >= 0) changeRun = days[c.changeIndex]![0]!;
+  else {
+    // Rare but strong: repeated runs far outside what is expected within the stale window.
+    const strong = scored.filter((s) => s.z >= repeatZ && s.run.startMs > now - cfg.findingStaleDays * DAY_MS);
+    if (strong.length < REPEAT_MIN_RUNS) return null;
+    changeRun = strong[0]!;
+  }
+  const after = scored.filter((s) => s.run.startMs >= changeRun.run.startMs);
   const supporting = after.filter((s) => s.z >= SUPPORT_Z);
-  const lastSeen = supporting.length > 0 ? supporting[supporting.length - 1]!.run.startMs : scored[c.alarmIndex]!.run.startMs;
+  const lastSeen = supporting.length > 0 ? supporting[supporting.length - 1]!.run.startMs : changeRun.run.startMs;
   if (now - lastSeen > cfg.findingStaleDays * DAY_MS) return null;
   const medianZ = median(after.map((s) => s.z));
+  // A long run of small deviations (weather drifting out of the baseline's range) is not a fault.
+  if (medianZ < cfg.minShiftMedianZ) return null;
   const confidence = clamp01(normalCdf(medianZ - 1) * (1 - 0.5 ** supporting.length));
   return {
-    changeRun: scored[c.changeIndex]!, after, supporting, medianZ, maxStatistic: c.maxStatistic, confidence,
+    changeRun, after, supporting, medianZ, maxStatistic: c.maxStatistic, confidence,
     severity: medianZ >= WARNING_MEDIAN_Z ? 'warning' : 'advisory',
-    firstSeen: scored[c.changeIndex]!.run.startMs, lastSeen,
+    firstSeen: changeRun.run.startMs, lastSeen,
   };
 }
 

@@ -26,17 +26,20 @@ const ABNORMAL_BASELINE_Z = 3;
 
 /**
  * Scores each run's feature against the vehicle's own baseline (runs in the first
- * `baselineDays` of the epoch) when it has enough runs and looks normal to its peers,
+ * `baselineDays` of the epoch, once that window has passed) when it has enough runs and looks
+ * normal to its peers,
  * else against the family's peer model.
  */
 export function scoreFeature(
   runs: readonly RunMetrics[], feature: RunFeature, epochStartMs: number,
-  peer: PeerBaseline | null, cfg: AnalysisConfig, floor: number,
+  peer: PeerBaseline | null, now: number, cfg: AnalysisConfig, floor: number,
 ): ScoredFeature {
-  const rows = featureRows(runs, feature);
+  const rows = featureRows(runs, feature, cfg);
   const baselineEnd = epochStartMs + cfg.baselineDays * DAY_MS;
   const baselineRows = rows.filter((r) => r.run.startMs < baselineEnd);
-  const own = baselineRows.filter((r) => !r.censored).length >= cfg.baselineMinRuns ? fitBaseline(baselineRows) : null;
+  // Until the baseline window has passed, the vehicle's own expectation is still forming.
+  const own = now >= baselineEnd && baselineRows.filter((r) => !r.censored).length >= cfg.baselineMinRuns
+    ? fitBaseline(baselineRows) : null;
   const peerModel = peer?.models[feature.name] ?? null;
   let model = own ?? peerModel;
   let source: ScoredFeature['source'] = own ? 'own' : peerModel ? 'peer' : null;

@@ -14,7 +14,7 @@ const BIAS_RECENT_STARTS = 5;
 /** A run with more than this many flagged samples counts as a strong sensor event day. */
 const STRONG_EVENT_COUNT = 3;
 
-type SensorSubKind = 'out-of-range' | 'implausible-rate' | 'stuck' | 'dropouts' | 'bias';
+type SensorSubKind = 'out-of-range' | 'implausible-rate' | 'stuck' | 'bias';
 
 const WORDS: Record<SensorSubKind, { what: string; code: string; check: string }> = {
   'out-of-range': {
@@ -28,10 +28,6 @@ const WORDS: Record<SensorSubKind, { what: string; code: string; check: string }
   stuck: {
     what: 'stayed flat while the engine was running and should have been warming', code: 'P0116',
     check: 'Compare the coolant temperature sensor with a reference thermometer and replace it if it does not follow.',
-  },
-  dropouts: {
-    what: 'dropped out repeatedly while the engine was running', code: 'P0119',
-    check: 'Check the coolant temperature sensor connector and wiring, and the gateway\'s link, for intermittent contact.',
   },
   bias: {
     what: 'disagrees with the air temperature after long cold soaks, so it reads off by a fixed amount', code: 'P0116',
@@ -85,8 +81,6 @@ export function sensorFaultFindings(
     ['out-of-range', eventItems('out-of-range')],
     ['implausible-rate', eventItems('implausible-rate')],
     ['stuck', eventItems('stuck')],
-    ['dropouts', days.filter((d) => d.missingFraction > cfg.dropoutDayFraction)
-      .map((d) => ({ at: d.dayStartMs, scope: 'day' as const, metric: 'missingFraction', value: round(d.missingFraction, 3), expected: 0, z: null }))],
   ];
   for (const [sub, items] of subs) {
     if (items.length === 0) continue;

@@ -2,25 +2,26 @@ import type { AnalysisConfig } from '../config.js';
 import type { PeerBaseline } from '../peer-baseline.js';
 import type { RunMetrics } from '../run-metrics.js';
 import { type Finding, isoDay, round, SAFETY_CAUTION } from './finding.js';
-import { OVERSHOOT, PLATEAU, WARMUP_TIME } from './run-features.js';
+import { OVERSHOOT, PLATEAU, RUN_PEAK, WARMUP_TIME } from './run-features.js';
 import { combineByRun, scoreFeature } from './run-shift.js';
 import { detectRunShift, runShiftFinding } from './run-shift-finding.js';
 
 /**
  * Slow warm-up: cold starts take longer than history and peers predict for their ambient,
  * start temperature and idling (OBD-II suspensions applied), or the steady-driving plateau
- * sits lower than expected. The classic sign of a thermostat stuck open (P0128).
+ * or the highest temperature of longer runs sits lower than expected. The classic sign of a thermostat stuck open (P0128).
  */
 export function slowWarmupFinding(
   runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
 ): Finding | null {
-  const warm = scoreFeature(runs, WARMUP_TIME, baselineStart, peer, cfg, cfg.warmupLogScaleFloor);
-  const plateau = scoreFeature(runs, PLATEAU, baselineStart, peer, cfg, cfg.tempScaleFloorC);
-  const shift = detectRunShift(combineByRun([warm, plateau]), now, cfg);
+  const warm = scoreFeature(runs, WARMUP_TIME, baselineStart, peer, now, cfg, cfg.warmupLogScaleFloor);
+  const plateau = scoreFeature(runs, PLATEAU, baselineStart, peer, now, cfg, cfg.tempScaleFloorC);
+  const runPeak = scoreFeature(runs, RUN_PEAK, baselineStart, peer, now, cfg, cfg.tempScaleFloorC);
+  const shift = detectRunShift(combineByRun([warm, plateau, runPeak]), now, cfg);
   if (!shift) return null;
   const cold = shift.supporting.filter((s) => s.feature === WARMUP_TIME);
   const neverReached = cold.filter((s) => s.run.timeToTargetS === null).length;
-  const plateauDrops = shift.supporting.filter((s) => s.feature === PLATEAU).map((s) => s.expected - s.value);
+  const plateauDrops = shift.supporting.filter((s) => s.feature !== WARMUP_TIME).map((s) => s.expected - s.value);
   const target = runs[runs.length - 1]?.warmupTargetC ?? 0;
   const parts: string[] = [];
   if (cold.length > 0) {
@@ -28,8 +29,8 @@ export function slowWarmupFinding(
       + (neverReached > 0 ? ` (${neverReached} never reached ${round(target, 0)} °C)` : ''));
   }
   if (plateauDrops.length > 0) {
-    const drop = plateauDrops.sort((a, b) => a - b)[plateauDrops.length >> 1]!;
-    parts.push(`the engine ran about ${round(drop, 1)} °C cooler than usual in steady driving on ${plateauDrops.length} trip${plateauDrops.length > 1 ? 's' : ''}`);
+    const drop = [...plateauDrops].sort((a, b) => a - b)[plateauDrops.length >> 1]!;
+    parts.push(`the engine ran about ${round(drop, 1)} °C cooler than usual on ${plateauDrops.length} trip${plateauDrops.length > 1 ? 's' : ''}`);
   }
   return runShiftFinding('slow-warmup', shift, baselineStart, warm.source ?? plateau.source ?? 'none', {
     summary: `Since ${isoDay(shift.firstSeen)} ${parts.join(' and ')}, which points to a thermostat stuck open.`,
@@ -47,8 +48,8 @@ export function slowWarmupFinding(
 export function overshootFinding(
   runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
 ): Finding | null {
-  const scored = scoreFeature(runs, OVERSHOOT, baselineStart, peer, cfg, cfg.tempScaleFloorC);
-  const shift = detectRunShift(scored.scored, now, cfg);
+  const scored = scoreFeature(runs, OVERSHOOT, baselineStart, peer, now, cfg, cfg.overshootScaleFloorC);
+  const shift = detectRunShift(scored.scored, now, cfg, cfg.overshootRepeatZ);
   if (!shift) return null;
   const values = shift.supporting.map((s) => s.value).sort((a, b) => a - b);
   const usual = shift.supporting.map((s) => s.expected).sort((a, b) => a - b);
