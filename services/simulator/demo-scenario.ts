@@ -37,7 +37,7 @@ interface DemoFault {
 const DEMO_FAULTS: readonly DemoFault[] = [
   { kind: 'thermostat-stuck-open', climates: ['cold'], duties: ['urban-delivery', 'service-van'], severity: 0.8, onsetFraction: 0.45 },
   { kind: 'radiator-fouling', climates: ['hot'], duties: ['long-haul'], severity: 0.9, onsetFraction: 0.35 },
-  { kind: 'fan-failure', climates: ['hot'], duties: ['urban-delivery', 'bus'], severity: 1, onsetFraction: 0.55 },
+  { kind: 'fan-failure', climates: ['hot'], duties: ['bus', 'urban-delivery'], severity: 1, onsetFraction: 0.55 },
   { kind: 'coolant-loss', climates: ['hot', 'temperate'], duties: ['long-haul', 'urban-delivery'], severity: 0.8, onsetFraction: 0.4 },
   { kind: 'thermostat-sticking', climates: ['temperate'], duties: ['urban-delivery', 'service-van'], severity: 0.7, onsetFraction: 0.5 },
   { kind: 'sensor-spikes', climates: ['temperate'], duties: ['service-van', 'urban-delivery'], severity: 0.6, onsetFraction: 0.5 },
