@@ -1,3 +1,4 @@
+import { measureSimulatorThroughput } from '../services/simulator/simulate-command.js';
 import { benchIngest } from './ingest.js';
 import { DEFAULT_SERVER_URL } from './bench-server.js';
 
@@ -24,5 +25,14 @@ if (want('ingest')) {
     `  load: ${r.load.gateways} gateways × ${r.load.seconds} s: ${fmt(r.load.requests)} requests, ${r.load.errors} errors, ${fmt(r.load.accepted)} accepted, ${fmt(r.load.stored)} in the database (${r.load.accepted === r.load.stored && r.load.errors === 0 ? 'equal, no errors' : 'MISMATCH'})`,
   );
   if (r.load.errors > 0 || r.load.accepted !== r.load.stored) process.exitCode = 1;
+}
+if (want('simulator')) {
+  process.stderr.write('[simulator] warming up, then 24 vehicles × 42 days to NDJSON on one core\n');
+  await measureSimulatorThroughput({ vehicles: 2, days: 7 });
+  const r = await measureSimulatorThroughput({ vehicles: 24, days: 42 });
+  lines.push(
+    `simulator (thermocline simulate, NDJSON to disk, one core)`,
+    `  ${fmt(r.readings)} readings in ${r.seconds.toFixed(1)} s: ${fmt(r.readingsPerSecond).padStart(10)} readings/s   ratio to the 300,000/s target ${(r.readingsPerSecond / 300_000).toFixed(2)}`,
+  );
 }
 process.stdout.write(`\n${lines.join('\n')}\n`);
