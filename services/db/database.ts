@@ -45,6 +45,11 @@ export async function openDatabase(options: DatabaseOptions): Promise<DatabaseHa
     const pool = new pg.Pool({ connectionString: options.databaseUrl, max: options.poolSize ?? 10 });
     // Without a listener an idle client's error would crash the process.
     pool.on('error', (err) => options.onPoolError?.(err));
+    // pg-pool listens only on idle clients: a checked-out client whose connection dies between
+    // queries (a transaction waiting for more of a streamed body when the server restarts) would
+    // emit an unhandled 'error' and crash the process. Its next query fails instead, and the
+    // request answers 503.
+    pool.on('connect', (client) => client.on('error', (err) => options.onPoolError?.(err)));
     const db = new Kysely<Database>({ dialect: new PostgresDialect({ pool }) });
     return {
       db,

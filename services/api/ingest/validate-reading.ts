@@ -34,7 +34,7 @@ export interface ValidReading {
 }
 
 // RFC 3339 date-time: a time zone (Z or ±hh:mm) is required, fractional seconds optional.
-const RFC3339 = /^\d{4}-\d{2}-\d{2}[Tt ]\d{2}:\d{2}:\d{2}(\.\d{1,9})?([Zz]|[+-]\d{2}:\d{2})$/;
+const RFC3339 = /^(\d{4})-(\d{2})-(\d{2})[Tt ](\d{2}):\d{2}:\d{2}(\.\d{1,9})?([Zz]|[+-]\d{2}:\d{2})$/;
 
 export function toCelsius(value: number, unit: TemperatureUnit): number {
   if (unit === 'C') return value;
@@ -46,10 +46,14 @@ export function toCelsius(value: number, unit: TemperatureUnit): number {
 export function parseTimestamp(ts: unknown): number {
   if (typeof ts === 'number') return Number.isFinite(ts) ? ts : NaN;
   if (typeof ts !== 'string') return NaN;
-  if (RFC3339.test(ts)) {
+  const m = RFC3339.exec(ts);
+  if (m) {
     const ms = Date.parse(ts.replace(' ', 'T'));
-    // Date.parse rolls 2026-02-30 over into March; a round trip of the date part catches it.
     if (!Number.isFinite(ms)) return NaN;
+    // Date.parse rolls 2026-02-30 over into March and 24:00 into the next day; RFC 3339 allows
+    // neither (day ≤ days in the month, hour 00–23), so check the fields themselves.
+    const [year, month, day, hour] = [Number(m[1]), Number(m[2]), Number(m[3]), Number(m[4])];
+    if (day > new Date(Date.UTC(year, month, 0)).getUTCDate() || hour > 23) return NaN;
     return ms;
   }
   if (/^\d{10,15}$/.test(ts)) return Number(ts);

@@ -67,8 +67,11 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const principal = principalOf(request);
       if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
       const fleetId = principal.fleetId ?? request.query.fleet ?? null;
-      const list = await vehicles.list({ fleetId, limit: request.query.limit, ...(request.query.after ? { after: request.query.after } : {}) });
-      return { vehicles: list, nextAfter: list.length === request.query.limit ? list[list.length - 1]!.vehicleId : null };
+      const { limit, after } = request.query;
+      // One more than the page tells whether another page follows, so the last page says null.
+      const list = await vehicles.list({ fleetId, limit: limit + 1, ...(after ? { after } : {}) });
+      const page = list.slice(0, limit);
+      return { vehicles: page, nextAfter: list.length > limit ? page[page.length - 1]!.vehicleId : null };
     },
   );
 
