@@ -21,6 +21,8 @@ export interface DatabaseOptions {
   databaseUrl: string | undefined;
   pgliteDir: string;
   poolSize?: number;
+  /** PGlite only: start from this dumped data directory (tests start from a migrated one). */
+  pgliteLoadDataDir?: Blob;
   /** Called when an idle pooled client fails (server restart, network): logged, not fatal. */
   onPoolError?: (err: Error) => void;
 }
@@ -61,7 +63,7 @@ export async function openDatabase(options: DatabaseOptions): Promise<DatabaseHa
   }
   const dir = options.pgliteDir;
   if (dir !== 'memory://') mkdirSync(dir, { recursive: true });
-  const pglite = await PGlite.create(dir);
+  const pglite = await PGlite.create({ dataDir: dir, ...(options.pgliteLoadDataDir ? { loadDataDir: options.pgliteLoadDataDir } : {}) });
   const db = new Kysely<Database>({ dialect: new PGliteDialect({ pglite }) });
   return {
     db,

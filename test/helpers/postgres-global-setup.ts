@@ -1,10 +1,8 @@
-import { createHash } from 'node:crypto';
-import { readdirSync, readFileSync } from 'node:fs';
-import { join } from 'node:path';
 import pg from 'pg';
 import type { TestProject } from 'vitest/node';
 import { openDatabase } from '../../services/db/database.js';
 import { migrateToLatest } from '../../services/db/migrator.js';
+import { migrationsDigest } from './migrations-digest.js';
 
 declare module 'vitest' {
   export interface ProvidedContext {
@@ -57,10 +55,7 @@ export default async function setup(project: TestProject): Promise<() => Promise
     }
   }
 
-  const migrationsDir = join(import.meta.dirname, '..', '..', 'migrations');
-  const digest = createHash('sha256');
-  for (const f of readdirSync(migrationsDir).sort()) digest.update(f).update(readFileSync(join(migrationsDir, f)));
-  const template = `thermocline_tpl_${digest.digest('hex').slice(0, 12)}`;
+  const template = `thermocline_tpl_${migrationsDigest()}`;
 
   const admin = new pg.Client({ connectionString: adminUrl });
   await admin.connect();
