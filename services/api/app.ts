@@ -10,8 +10,14 @@ import dbPlugin from './plugins/db.js';
 import errorsPlugin from './plugins/errors.js';
 import metricsPlugin from './plugins/metrics.js';
 import openapiPlugin from './plugins/openapi.js';
+import analysisRunsRoutes from './routes/analysis-runs.js';
+import findingsRoutes from './routes/findings.js';
+import fleetRoutes from './routes/fleet.js';
 import operationsRoutes from './routes/operations.js';
 import readingsRoutes from './routes/readings.js';
+import serviceEventsRoutes from './routes/service-events.js';
+import vehicleReadingsRoutes from './routes/vehicle-readings.js';
+import vehicleRunsRoutes from './routes/vehicle-runs.js';
 import vehiclesRoutes from './routes/vehicles.js';
 
 export interface AppOptions {
@@ -63,5 +69,11 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(operationsRoutes);
   await app.register(readingsRoutes, { maxBodyBytes: config.maxBodyBytes, maxReadingsPerRequest: config.maxReadingsPerRequest });
   await app.register(vehiclesRoutes);
+  await app.register(fleetRoutes);
+  await app.register(findingsRoutes);
+  await app.register(vehicleRunsRoutes);
+  await app.register(vehicleReadingsRoutes);
+  await app.register(serviceEventsRoutes);
+  await app.register(analysisRunsRoutes, { leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize });
   return app;
 }

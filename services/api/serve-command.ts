@@ -44,6 +44,7 @@ export async function run(argv: string[]): Promise<number> {
     : undefined;
   if (worker) {
     app.ingestNotifier.on('readings', () => worker.wake());
+    app.ingestNotifier.on('analysis-needed', () => worker.wake());
     worker.start();
   }
 

@@ -1,0 +1,61 @@
+import { Type } from 'typebox';
+
+export const SeveritySchema = Type.Union([Type.Literal('advisory'), Type.Literal('warning'), Type.Literal('critical')], { description: 'advisory < warning < critical' });
+export const FindingStatusSchema = Type.Union([Type.Literal('open'), Type.Literal('acknowledged'), Type.Literal('resolved')]);
+export const FindingKindSchema = Type.Union(
+  ['slow-warmup', 'overshoot', 'overheating-trend', 'sensor-fault', 'boil-margin', 'freeze-risk'].map((k) => Type.Literal(k)),
+  { description: 'what the analysis found' },
+);
+
+const NullableString = Type.Union([Type.String(), Type.Null()]);
+const NullableDate = Type.Union([Type.String({ format: 'date-time' }), Type.Null()]);
+
+/** A finding in the at-risk list. */
+export const FindingBrief = Type.Object({
+  id: Type.String(),
+  kind: Type.String(),
+  severity: SeveritySchema,
+  confidence: Type.Number({ minimum: 0, maximum: 1 }),
+  firstSeen: Type.String({ format: 'date-time', description: 'onset as dated by the evidence' }),
+  lastSeen: Type.String({ format: 'date-time', description: 'latest supporting evidence' }),
+  summary: Type.String(),
+  recommendedCheck: Type.String({ description: 'what to check, with the safety caution' }),
+  troubleCode: NullableString,
+});
+
+export const EvidenceItemSchema = Type.Object({
+  at: Type.String({ format: 'date-time', description: 'run start or day start' }),
+  scope: Type.String({ description: "'run' or 'day'" }),
+  metric: Type.String(),
+  value: Type.Number(),
+  expected: Type.Union([Type.Number(), Type.Null()]),
+  z: Type.Union([Type.Number(), Type.Null()]),
+});
+
+/** A finding with its lifecycle and evidence. */
+export const FindingSchema = Type.Object({
+  id: Type.String(),
+  vehicleId: Type.String(),
+  fleetId: Type.String(),
+  key: Type.String({ description: 'stable identity: kind[:subKind]@baseline start' }),
+  kind: Type.String(),
+  subKind: NullableString,
+  severity: SeveritySchema,
+  confidence: Type.Number({ minimum: 0, maximum: 1 }),
+  status: FindingStatusSchema,
+  firstSeen: Type.String({ format: 'date-time' }),
+  lastSeen: Type.String({ format: 'date-time' }),
+  raisedAt: NullableDate,
+  summary: Type.String(),
+  recommendedCheck: Type.String(),
+  troubleCode: NullableString,
+  metrics: Type.Record(Type.String(), Type.Number()),
+  evidence: Type.Array(EvidenceItemSchema),
+  acknowledgedAt: NullableDate,
+  acknowledgedBy: NullableString,
+  resolvedAt: NullableDate,
+  resolvedReason: Type.Union([Type.String({ description: "'evidence-stopped' or 'service-event:<kind>'" }), Type.Null()]),
+  updatedAt: Type.String({ format: 'date-time' }),
+});
+
+export const FindingIdParams = Type.Object({ findingId: Type.String({ minLength: 1, maxLength: 64 }) });
