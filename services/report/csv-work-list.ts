@@ -1,0 +1,28 @@
+import type { WorkItem } from './weekly-report-schema.js';
+
+/** The CSV columns, named as the JSON work-list fields. */
+export const WORK_LIST_COLUMNS = [
+  'rank', 'vehicleId', 'label', 'riskScore', 'priority', 'severity', 'kind', 'status', 'since', 'lastSeen',
+  'confidence', 'troubleCode', 'why', 'check', 'caution', 'findingId',
+] as const satisfies readonly (keyof WorkItem)[];
+
+// Spreadsheets run a cell that starts with one of these as a formula (OWASP "CSV injection").
+const FORMULA_START = /^[=+\-@\t\r]/;
+
+/**
+ * One CSV field (RFC 4180): quoted when it holds a comma, a quote, CR or LF, with quotes
+ * doubled. Text that a spreadsheet would run as a formula is prefixed with an apostrophe.
+ */
+export function csvField(value: string | number | null): string {
+  if (value === null) return '';
+  if (typeof value === 'number') return String(value);
+  const text = FORMULA_START.test(value) ? `'${value}` : value;
+  return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
+}
+
+/** The work list as CSV: a header row, CRLF line ends (RFC 4180), UTF-8. */
+export function renderWorkListCsv(items: readonly WorkItem[]): string {
+  const lines = [WORK_LIST_COLUMNS.join(',')];
+  for (const w of items) lines.push(WORK_LIST_COLUMNS.map((c) => csvField(w[c])).join(','));
+  return `${lines.join('\r\n')}\r\n`;
+}

@@ -1,0 +1,48 @@
+import { escapeHtml as e } from './html-escape.js';
+import { peakChartSvg, PROJECTION_DRAWN_DAYS } from './peak-chart.js';
+import { warmupChartSvg } from './warmup-chart.js';
+import type { VehicleSection } from './weekly-report-schema.js';
+
+export const priorityClass = (p: string) => p.replace(/\s+/g, '-');
+export const badge = (p: string) => `<span class="badge ${priorityClass(p)}">${e(p)}</span>`;
+
+/** What the warm-up chart shows, in words (the caption). */
+export function warmupCaption(v: VehicleSection): string {
+  const w = v.warmup;
+  const band = w.band.length
+    ? `Green: the range of this vehicle's healthy cold starts (${w.baselineRuns} before ${w.baselineUntil}).`
+    : 'No healthy range: fewer than three judged cold starts before the onset.';
+  const curves = w.curves.length
+    ? `Blue: the latest ${w.curves.length} cold start${w.curves.length > 1 ? 's' : ''}; ${w.curves.map((c) => (c.timeToTargetMin === null ? 'target not reached' : `${c.timeToTargetMin} min to target`)).join(', ')}.`
+    : 'No cold start in the last two weeks.';
+  return `${curves} ${band} A curve below the green range warms too slowly (thermostat stuck or opening early); above it or overshooting the thermostat line, the thermostat opens late.`;
+}
+
+/** What the daily-peak chart shows, in words, with the projected boiling date. */
+export function peakCaption(v: VehicleSection): string {
+  const p = v.peaks;
+  const t = p.trend;
+  let trend = 'Too few days with driving for a trend.';
+  if (t) {
+    if (t.daysToBoil === null) trend = `Peaks are not rising towards the boiling point (${t.senSlopeCPerDay.toFixed(2)} °C/day).`;
+    else {
+      trend = `At ${t.senSlopeCPerDay.toFixed(2)} °C/day from a level of ${t.levelC} °C, the daily peak reaches the boiling point (${p.boilingPointC} °C) `
+        + `around <b>${e(t.projectedBoilDate!)}</b>, in about ${Math.round(t.daysToBoil)} days.`;
+      if (t.daysToBoil > PROJECTION_DRAWN_DAYS) trend += ` (The dashed projection is drawn for the first ${PROJECTION_DRAWN_DAYS} days.)`;
+    }
+  }
+  return `${trend} Boiling point for a ${v.capPressureKpa} kPa cap and ${v.glycolPercent} % glycol. Peaks climbing while ambient does not point to the cooling system, not the weather.`;
+}
+
+/** One at-risk vehicle: heading, the top finding, and its two charts. */
+export function vehicleSectionHtml(v: VehicleSection, timeZone: string): string {
+  const label = v.label ? ` <span class="note">${e(v.label)}</span>` : '';
+  return `<article class="vehicle" id="vehicle-${e(v.vehicleId)}" data-vehicle-id="${e(v.vehicleId)}">
+<h3>${e(v.vehicleId)}${label} ${badge(v.priority)} <span class="note">risk ${v.riskScore} · ${e(v.engineFamily)}</span></h3>
+<p class="headline">${e(v.headline)}</p>
+<div class="charts">
+<figure class="warmup">${warmupChartSvg(v.warmup, timeZone, v.vehicleId)}<figcaption><b>Cold-start warm-ups.</b> ${e(warmupCaption(v))}</figcaption></figure>
+<figure class="peaks">${peakChartSvg(v.peaks, v.vehicleId)}<figcaption><b>Daily peak coolant vs ambient.</b> ${peakCaption(v)}</figcaption></figure>
+</div>
+</article>`;
+}

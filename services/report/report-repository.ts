@@ -1,0 +1,171 @@
+import { type Kysely, sql } from 'kysely';
+import type { DayAggregate } from '../analysis/day-aggregates.js';
+import type { RunMetrics } from '../analysis/run-metrics.js';
+import type { Database } from '../db/schema.js';
+
+/** Every database read and write of the weekly report (one module for all its SQL). */
+
+export interface FleetRow { fleetId: string; name: string; timeZone: string }
+export interface ReportVehicle {
+  vehicleId: string; label: string | null; engineFamily: string;
+  thermostatOpenC: number; capPressureKpa: number; glycolPercent: number; riskScore: number;
+}
+export interface StoredDay { vehicleId: string; metrics: DayAggregate }
+export interface StoredRun { vehicleId: string; metrics: RunMetrics }
+export interface StoredFinding {
+  findingId: string; vehicleId: string; kind: string; severity: 'advisory' | 'warning' | 'critical'; confidence: number;
+  firstSeenMs: number; lastSeenMs: number; createdMs: number; status: 'open' | 'acknowledged' | 'resolved';
+  summary: string; recommendedCheck: string; troubleCode: string | null;
+  resolvedMs: number | null; resolvedReason: string | null;
+}
+export interface StoredSensorEvent { vehicleId: string; kind: string }
+export interface ReadingSeries { tsMs: number[]; coolantC: number[] }
+export interface ArchivedReport { fleetId: string; isoWeek: string; generatedAt: Date; json: unknown; html: string; csv: string }
+
+const ms = (d: Date | string) => (d instanceof Date ? d.getTime() : Date.parse(d));
+
+export function createReportRepository(db: Kysely<Database>) {
+  return {
+    async fleet(fleetId: string): Promise<FleetRow | undefined> {
+      const row = await db.selectFrom('fleets').select(['fleet_id', 'name', 'time_zone']).where('fleet_id', '=', fleetId).executeTakeFirst();
+      return row && { fleetId: row.fleet_id, name: row.name, timeZone: row.time_zone };
+    },
+
+    async fleets(): Promise<FleetRow[]> {
+      const rows = await db.selectFrom('fleets').select(['fleet_id', 'name', 'time_zone']).orderBy('fleet_id').execute();
+      return rows.map((r) => ({ fleetId: r.fleet_id, name: r.name, timeZone: r.time_zone }));
+    },
+
+    /** The fleet's vehicles with their stored risk (0 when never analysed). */
+    async vehicles(fleetId: string): Promise<ReportVehicle[]> {
+      const rows = await db.selectFrom('vehicles as v')
+        .leftJoin('vehicle_analysis as a', 'a.vehicle_id', 'v.vehicle_id')
+        .select(['v.vehicle_id', 'v.label', 'v.engine_family', 'v.thermostat_open_c', 'v.cap_pressure_kpa', 'v.glycol_percent', 'a.risk_score'])
+        .where('v.fleet_id', '=', fleetId).orderBy('v.vehicle_id').execute();
+      return rows.map((r) => ({
+        vehicleId: r.vehicle_id, label: r.label, engineFamily: r.engine_family, thermostatOpenC: r.thermostat_open_c,
+        capPressureKpa: r.cap_pressure_kpa, glycolPercent: r.glycol_percent, riskScore: r.risk_score ?? 0,
+      }));
+    },
+
+    /** Vehicle-days of the fleet's vehicles (or of `vehicleIds`) with first ≤ day ≤ last (YYYY-MM-DD). */
+    async days(fleetId: string, first: string, last: string, vehicleIds?: readonly string[]): Promise<StoredDay[]> {
+      if (vehicleIds && vehicleIds.length === 0) return [];
+      let q = db.selectFrom('vehicle_days as d').innerJoin('vehicles as v', 'v.vehicle_id', 'd.vehicle_id')
+        .select(['d.vehicle_id', 'd.metrics'])
+        .where('v.fleet_id', '=', fleetId).where('d.day', '>=', first).where('d.day', '<=', last);
+      if (vehicleIds) q = q.where('d.vehicle_id', 'in', vehicleIds);
+      const rows = await q.orderBy('d.vehicle_id').orderBy('d.day').execute();
+      return rows.map((r) => ({ vehicleId: r.vehicle_id, metrics: r.metrics as unknown as DayAggregate }));
+    },
+
+    /**
+     * Per vehicle, the longest break between consecutive days with data among days in
+     * [first, last] (YYYY-MM-DD), ms: how long the vehicle normally stands unused.
+     */
+    async longestBreaks(fleetId: string, first: string, last: string): Promise<Map<string, number>> {
+      const result = await sql<{ vehicle_id: string; gap_ms: number | string | null }>`
+        select vehicle_id, max(gap_ms) as gap_ms from (
+          select d.vehicle_id, (d.metrics->>'firstSampleMs')::float8
+                 - lag((d.metrics->>'lastSampleMs')::float8) over (partition by d.vehicle_id order by d.day) as gap_ms
+          from vehicle_days d join vehicles v on v.vehicle_id = d.vehicle_id
+          where v.fleet_id = ${fleetId} and d.day >= ${first}::date and d.day <= ${last}::date) g
+        group by vehicle_id`.execute(db);
+      return new Map(result.rows.filter((r) => r.gap_ms !== null).map((r) => [r.vehicle_id, Number(r.gap_ms)]));
+    },
+
+    /** Per vehicle, missing time inside engine runs and running time over days in [first, last], s. */
+    async gapTotals(fleetId: string, first: string, last: string): Promise<Map<string, { missingS: number; runningS: number }>> {
+      const result = await sql<{ vehicle_id: string; missing_s: number | string; running_s: number | string }>`
+        select d.vehicle_id, sum((d.metrics->>'missingS')::float8) as missing_s, sum((d.metrics->>'engineHours')::float8) * 3600 as running_s
+        from vehicle_days d join vehicles v on v.vehicle_id = d.vehicle_id
+        where v.fleet_id = ${fleetId} and d.day >= ${first}::date and d.day <= ${last}::date
+        group by d.vehicle_id`.execute(db);
+      return new Map(result.rows.map((r) => [r.vehicle_id, { missingS: Number(r.missing_s), runningS: Number(r.running_s) }]));
+    },
+
+    /** Cold-start runs of `vehicleIds` starting in [fromMs, toMs), oldest first. */
+    async coldStarts(vehicleIds: readonly string[], fromMs: number, toMs: number): Promise<StoredRun[]> {
+      if (vehicleIds.length === 0) return [];
+      const rows = await db.selectFrom('engine_runs').select(['vehicle_id', 'metrics'])
+        .where('vehicle_id', 'in', vehicleIds).where('start_kind', '=', 'cold')
+        .where('start_ts', '>=', new Date(fromMs)).where('start_ts', '<', new Date(toMs))
+        .orderBy('vehicle_id').orderBy('start_ts').execute();
+      return rows.map((r) => ({ vehicleId: r.vehicle_id, metrics: r.metrics as unknown as RunMetrics }));
+    },
+
+    /** Latest service event of each vehicle before `beforeMs`, epoch ms. */
+    async lastServiceEvents(vehicleIds: readonly string[], beforeMs: number): Promise<Map<string, number>> {
+      if (vehicleIds.length === 0) return new Map();
+      const rows = await db.selectFrom('service_events').select(['vehicle_id', (eb) => eb.fn.max('at').as('at')])
+        .where('vehicle_id', 'in', vehicleIds).where('at', '<', new Date(beforeMs)).groupBy('vehicle_id').execute();
+      return new Map(rows.map((r) => [r.vehicle_id, ms(r.at as Date)]));
+    },
+
+    /** Findings that existed at some time in [startMs, endMs): evidence before the end, not resolved before the start. */
+    async findings(fleetId: string, startMs: number, endMs: number): Promise<StoredFinding[]> {
+      const rows = await db.selectFrom('findings').selectAll()
+        .where('fleet_id', '=', fleetId).where('first_seen', '<', new Date(endMs))
+        .where((eb) => eb.or([eb('resolved_at', 'is', null), eb('resolved_at', '>=', new Date(startMs))]))
+        .orderBy('vehicle_id').orderBy('finding_id').execute();
+      return rows.map((r) => ({
+        findingId: r.finding_id, vehicleId: r.vehicle_id, kind: r.kind, severity: r.severity, confidence: r.confidence,
+        firstSeenMs: ms(r.first_seen), lastSeenMs: ms(r.last_seen), createdMs: ms(r.created_at), status: r.status,
+        summary: r.summary, recommendedCheck: r.recommended_check, troubleCode: r.trouble_code,
+        resolvedMs: r.resolved_at ? ms(r.resolved_at) : null, resolvedReason: r.resolved_reason,
+      }));
+    },
+
+    /** Sensor events of the fleet's runs starting in [startMs, endMs). */
+    async sensorEvents(fleetId: string, startMs: number, endMs: number): Promise<StoredSensorEvent[]> {
+      const rows = await db.selectFrom('sensor_events as e').innerJoin('vehicles as v', 'v.vehicle_id', 'e.vehicle_id')
+        .select(['e.vehicle_id', 'e.kind'])
+        .where('v.fleet_id', '=', fleetId).where('e.run_start', '>=', new Date(startMs)).where('e.run_start', '<', new Date(endMs))
+        .execute();
+      return rows.map((r) => ({ vehicleId: r.vehicle_id, kind: r.kind }));
+    },
+
+    /**
+     * Each vehicle's latest reading in [asOfMs − lookBackMs, asOfMs), or null. The lower bound
+     * lets Postgres skip older partitions; each lookup is one backward index probe per partition.
+     */
+    async lastReadings(fleetId: string, asOfMs: number, lookBackMs: number): Promise<Map<string, number | null>> {
+      const result = await sql<{ vehicle_id: string; last_ts: Date | string | null }>`
+        select v.vehicle_id,
+               (select max(r.ts) from readings r
+                 where r.vehicle_id = v.vehicle_id and r.ts >= ${new Date(asOfMs - lookBackMs)} and r.ts < ${new Date(asOfMs)}) as last_ts
+        from vehicles v where v.fleet_id = ${fleetId}`.execute(db);
+      return new Map(result.rows.map((r) => [r.vehicle_id, r.last_ts === null ? null : ms(r.last_ts)]));
+    },
+
+    /** One vehicle's coolant readings in [fromMs, toMs), in time order. */
+    async coolant(vehicleId: string, fromMs: number, toMs: number): Promise<ReadingSeries> {
+      const rows = await db.selectFrom('readings').select(['ts', 'coolant_c'])
+        .where('vehicle_id', '=', vehicleId).where('ts', '>=', new Date(fromMs)).where('ts', '<', new Date(toMs))
+        .orderBy('ts').execute();
+      return { tsMs: rows.map((r) => ms(r.ts)), coolantC: rows.map((r) => r.coolant_c) };
+    },
+
+    /** Stores the week's report, replacing an earlier one of the same fleet and week. */
+    async archive(fleetId: string, isoWeek: string, json: unknown, html: string, csv: string, generatedAt: Date): Promise<void> {
+      const row = { fleet_id: fleetId, iso_week: isoWeek, generated_at: generatedAt, report_json: JSON.stringify(json), report_html: html, worklist_csv: csv };
+      await db.insertInto('weekly_reports').values(row)
+        .onConflict((oc) => oc.columns(['fleet_id', 'iso_week']).doUpdateSet({
+          generated_at: generatedAt, report_json: row.report_json, report_html: html, worklist_csv: csv,
+        }))
+        .execute();
+    },
+
+    async archived(fleetId: string, isoWeek: string): Promise<ArchivedReport | undefined> {
+      const r = await db.selectFrom('weekly_reports').selectAll().where('fleet_id', '=', fleetId).where('iso_week', '=', isoWeek).executeTakeFirst();
+      return r && { fleetId: r.fleet_id, isoWeek: r.iso_week, generatedAt: r.generated_at, json: r.report_json, html: r.report_html, csv: r.worklist_csv };
+    },
+
+    async isArchived(fleetId: string, isoWeek: string): Promise<boolean> {
+      const r = await db.selectFrom('weekly_reports').select('iso_week').where('fleet_id', '=', fleetId).where('iso_week', '=', isoWeek).executeTakeFirst();
+      return r !== undefined;
+    },
+  };
+}
+
+export type ReportRepository = ReturnType<typeof createReportRepository>;
