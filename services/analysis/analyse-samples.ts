@@ -8,7 +8,11 @@ import { type SensorEvent, sensorEventsOfRun } from './sensor-events.js';
 import type { VehicleProfile } from './vehicle-profile.js';
 
 export interface AnalysisInput extends SampleArrays {
-  /** End of the vehicle's last run before these readings, ms (for the first run's soak). */
+  /**
+   * End of the vehicle's last stored run, ms, when resuming: gives the first run its soak, and
+   * if that run reaches into these readings (ends less than `runGapS` before the first one)
+   * the first run is its tail and comes back `truncatedStart`. Omit on a first analysis.
+   */
   previousRunEndMs?: number;
   /** Time of analysis, ms: a trailing run quiet for longer than `runGapS` is closed. */
   nowMs?: number;
@@ -39,8 +43,8 @@ export function resumeFromMs(openRunStartMs: number): number {
 
 /**
  * Per-run metrics, per-day aggregates and sensor events from one vehicle's readings.
- * Runs are identified by their start ts; a run that begins at the first reading with no
- * known earlier gap is `truncatedStart` (the caller already holds it from an earlier pass).
+ * Runs are identified by their start ts; when resuming, a run that continues one the caller
+ * already stored is `truncatedStart` and must not replace the stored one.
  * Pure: no clock (pass `nowMs`), no I/O.
  * @example analyseSamples(arrays, DEFAULT_VEHICLE_PROFILE, resolveConfig()).runs[0]?.timeToTargetS
  */
@@ -67,7 +71,7 @@ export function analyseSamples(input: AnalysisInput, profile: VehicleProfile, cf
     const a = bounds[k]!;
     const b = bounds[k + 1]!;
     const isLast = k + 2 >= bounds.length;
-    const truncatedStart = a === 0 && (prev === undefined || input.ts[0]! - prev <= gapMs);
+    const truncatedStart = a === 0 && prev !== undefined && input.ts[0]! - prev <= gapMs;
     const open = isLast && !(input.nowMs !== undefined && input.nowMs - input.ts[b - 1]! > gapMs);
     runs.push(computeRunMetrics(input, flags, a, b, {
       profile, cfg, periodS: samplePeriodS, hotC, prevEndMs, truncatedStart, open, scratch, episodes,

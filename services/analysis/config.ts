@@ -62,6 +62,8 @@ export interface AnalysisConfig {
   obdMinAmbientC: number;
   /** Warm-up judgement suspended when idling exceeds this share of the warm-up (13 CCR 1968.2). */
   obdMaxIdleFraction: number;
+  /** Plateau and run peaks are not judged below this mean ambient, °C (heater load). Tuned. */
+  coolRunMinAmbientC: number;
   /** Longest warm-up window used by the Newton fit, s. */
   warmupFitMaxS: number;
   /** Points the warm-up curve is decimated to before fitting. */
@@ -106,8 +108,8 @@ export interface AnalysisConfig {
   baselineMinDays: number;
   /** Smallest robust residual scale for log warm-up time (dimensionless). */
   warmupLogScaleFloor: number;
-  /** Smallest robust residual scale for the plateau, °C (1 °C quantisation). */
-  tempScaleFloorC: number;
+  /** Smallest residual scale for plateau and run peaks, °C: healthy engines run a few °C cooler on cold or easy days. Tuned. */
+  coolScaleFloorC: number;
   /** Smallest residual scale for the overshoot, °C: healthy thermostats overshoot a few °C. Tuned. */
   overshootScaleFloorC: number;
   /** Two runs at or beyond this overshoot z within `findingStaleDays` raise a finding. Tuned. */
@@ -116,8 +118,12 @@ export interface AnalysisConfig {
   dayScaleFloorC: number;
   /** CUSUM reference value (allowance), in robust standard deviations. */
   cusumK: number;
-  /** CUSUM decision threshold, in robust standard deviations. */
+  /** CUSUM decision threshold on daily warm-up evidence, in robust standard deviations. Tuned. */
   cusumH: number;
+  /** CUSUM decision threshold for overshoot, σ (healthy thermostats overshoot now and then). Tuned. */
+  overshootCusumH: number;
+  /** CUSUM decision threshold on daily peaks, σ. Tuned. */
+  dayCusumH: number;
   /** A change is reported only if the runs since it sit at least this many σ out (median). Tuned. */
   minShiftMedianZ: number;
   /** Single-run robust z-scores are capped at this to limit one outlier's weight. */
@@ -173,6 +179,7 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   obdWarmupMarginC: 11.1,
   obdMinAmbientC: -6.7,
   obdMaxIdleFraction: 0.5,
+  coolRunMinAmbientC: 0,
   warmupFitMaxS: 2400,
   warmupFitPoints: 60,
   plateauDelayS: 600,
@@ -195,12 +202,14 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   baselineMinRuns: 6,
   baselineMinDays: 6,
   warmupLogScaleFloor: 0.12,
-  tempScaleFloorC: 1.5,
+  coolScaleFloorC: 2.5,
   overshootScaleFloorC: 3.5,
   overshootRepeatZ: 3.5,
   dayScaleFloorC: 2,
   cusumK: 0.75,
-  cusumH: 6,
+  cusumH: 2.5,
+  overshootCusumH: 6,
+  dayCusumH: 3,
   minShiftMedianZ: 2,
   zCap: 4,
   findingStaleDays: 14,

@@ -16,7 +16,7 @@ export interface RunMetrics {
   endMs: number;
   durationS: number;
   sampleCount: number;
-  /** The run began at the first reading passed and may have started earlier: do not store. */
+  /** The run continues the stored run given as `previousRunEndMs`: do not store this partial copy. */
   truncatedStart: boolean;
   /** The run may still continue (no gap seen after it yet). */
   open: boolean;
@@ -48,6 +48,7 @@ export interface RunMetrics {
   newtonT0C: number | null;
   newtonRmseC: number | null;
   plateauC: number | null;
+  /** Peak after the thermostat first opens in this run (runs starting below the warm-up target). */
   overshootPeakC: number | null;
   overshootC: number | null;
   settlingTimeS: number | null;
@@ -226,7 +227,7 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
   const fit = cold && !excludedForSensor ? fitWarmupCurve(s, flags, a, b, profile.thermostatOpenC, cfg) : null;
   const op = excludedForSensor
     ? { plateauC: null, overshootPeakC: null, overshootC: null, settlingTimeS: null }
-    : operatingMetrics(s, flags, a, b, cold ? openIdx : -1, targetIdx, periodS, cfg, ctx.scratch);
+    : operatingMetrics(s, flags, a, b, startCoolant < target ? openIdx : -1, targetIdx, periodS, cfg, ctx.scratch);
   return {
     startMs: t0,
     endMs: ts[b - 1]!,

@@ -64,7 +64,7 @@ export function overheatingTrendFinding(
   }
   const scored = [...perDay.values()].sort((a, b) => a.day.dayStartMs - b.day.dayStartMs);
   if (scored.length === 0) return null;
-  const cusum = upperCusum(scored.map((s) => s.z), cfg.cusumK, cfg.cusumH);
+  const cusum = upperCusum(scored.map((s) => s.z), cfg.cusumK, cfg.dayCusumH);
   peakResiduals = peakResiduals.filter((p) => p.t > now - cfg.trendWindowDays * DAY_MS);
   let trend = false;
   let slope = 0;

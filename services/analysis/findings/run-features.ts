@@ -48,8 +48,9 @@ export const WARMUP_TIME: RunFeature = {
 
 /**
  * Plateau in steady driving relative to the thermostat rating, explained by ambient and
- * speed. Judged under the same care as the OBD-II monitor: not below −6.7 °C ambient and
- * not when idling dominates, where healthy engines also run cool.
+ * speed. Judged with more care than the OBD-II warm-up monitor: not when idling dominates and
+ * not in frost (below `coolRunMinAmbientC`), where the cab heater alone keeps healthy engines
+ * of light-load vehicles below their rating.
  */
 export const PLATEAU: RunFeature = {
   name: 'plateau',
@@ -57,7 +58,7 @@ export const PLATEAU: RunFeature = {
   direction: -1,
   extract(r, cfg) {
     if (r.plateauC === null || r.excludedForSensor) return null;
-    if ((r.ambientMeanC ?? Infinity) < cfg.obdMinAmbientC || r.idleFraction > cfg.obdMaxIdleFraction) return null;
+    if ((r.ambientMeanC ?? Infinity) < cfg.coolRunMinAmbientC || r.idleFraction > cfg.obdMaxIdleFraction) return null;
     return { x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100], y: r.plateauC - r.thermostatOpenC, censored: false };
   },
   display: (y) => y,
@@ -70,7 +71,7 @@ const RUN_PEAK_MIN_S = 1200;
  * Highest temperature of a run relative to the thermostat rating, explained by ambient and
  * speed: a working thermostat holds the rating on any run of 20 min or more; one stuck open
  * lets the engine run cool (and then never reaches the target, so it has no plateau).
- * Same care as the plateau: not below −6.7 °C ambient, not when idling dominates.
+ * Same care as the plateau: not in frost, not when idling dominates.
  */
 export const RUN_PEAK: RunFeature = {
   name: 'runPeak',
@@ -78,19 +79,23 @@ export const RUN_PEAK: RunFeature = {
   direction: -1,
   extract(r, cfg) {
     if (r.peakCoolantC === null || r.excludedForSensor || r.durationS < RUN_PEAK_MIN_S) return null;
-    if ((r.ambientMeanC ?? Infinity) < cfg.obdMinAmbientC || r.idleFraction > cfg.obdMaxIdleFraction) return null;
+    if ((r.ambientMeanC ?? Infinity) < cfg.coolRunMinAmbientC || r.idleFraction > cfg.obdMaxIdleFraction) return null;
     return { x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100], y: r.peakCoolantC - r.thermostatOpenC, censored: false };
   },
   display: (y) => y,
 };
 
-/** Overshoot above the settled temperature after the thermostat opens, explained by ambient. */
+/**
+ * Overshoot above the settled temperature after the thermostat opens, explained by ambient:
+ * on cold starts and on warm restarts that began below the warm-up target (a sticking
+ * thermostat sticks again every time it closes).
+ */
 export const OVERSHOOT: RunFeature = {
   name: 'overshoot',
   metric: 'overshootC',
   direction: 1,
   extract(r) {
-    if (r.overshootC === null || r.startKind !== 'cold' || r.excludedForSensor) return null;
+    if (r.overshootC === null || r.excludedForSensor) return null;
     return { x: [ambientOf(r)], y: r.overshootC, censored: false };
   },
   display: (y) => y,

@@ -35,14 +35,14 @@ export interface RunShift {
  * the first day of the excursion that alarmed. With `repeatZ`, at least two runs at or above
  * it within `findingStaleDays` also raise the shift (a fault that shows only on some runs).
  */
-export function detectRunShift(scored: readonly ScoredRun[], now: number, cfg: AnalysisConfig, repeatZ = Infinity): RunShift | null {
+export function detectRunShift(scored: readonly ScoredRun[], now: number, cfg: AnalysisConfig, h = cfg.cusumH, repeatZ = Infinity): RunShift | null {
   const days: ScoredRun[][] = [];
   for (const s of scored) {
     const last = days[days.length - 1];
     if (last && Math.floor(last[0]!.run.startMs / DAY_MS) === Math.floor(s.run.startMs / DAY_MS)) last.push(s);
     else days.push([s]);
   }
-  const c = upperCusum(days.map((d) => median(d.map((s) => s.z))), cfg.cusumK, cfg.cusumH);
+  const c = upperCusum(days.map((d) => median(d.map((s) => s.z))), cfg.cusumK, h);
   let changeRun: ScoredRun;
   if (c.alarmIndex >= 0) changeRun = days[c.changeIndex]![0]!;
   else {

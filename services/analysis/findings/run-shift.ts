@@ -2,8 +2,8 @@ import type { AnalysisConfig } from '../config.js';
 import type { PeerBaseline } from '../peer-baseline.js';
 import type { RunMetrics } from '../run-metrics.js';
 import { median } from '../stats/robust.js';
-import { badZ, expected, fitBaseline } from './baseline-model.js';
-import { featureRows, type RunFeature } from './run-features.js';
+import { badZ, type BaselineModel, expected, fitBaseline } from './baseline-model.js';
+import { type FeatureRow, featureRows, type RunFeature } from './run-features.js';
 
 export interface ScoredRun {
   run: RunMetrics;
@@ -53,11 +53,25 @@ export function scoreFeature(
   if (!model) return { scored: [], source: null };
   const scored: ScoredRun[] = [];
   for (const row of rows) {
-    const z = badZ(model, row, feature.direction, floor, cfg.zCap);
+    // Judge only within the ambient range a model has seen: an own baseline learned in mild
+    // weather says nothing about a cold snap, so such runs go to the peers or are skipped.
+    const m = [model, peerModel].find((c): c is BaselineModel => c !== null && ambientCovered(c, row));
+    if (!m) continue;
+    const z = badZ(m, row, feature.direction, floor, cfg.zCap);
     if (z === null) continue;
-    scored.push({ run: row.run, feature, z, value: feature.display(row.y), expected: feature.display(expected(model, row)) });
+    scored.push({ run: row.run, feature, z, value: feature.display(row.y), expected: feature.display(expected(m, row)) });
   }
   return { scored, source };
+}
+
+/** How far outside its fitted ambient range a model may still be used, °C. */
+const AMBIENT_MARGIN_C = 3;
+
+/** True when the row's first predictor (ambient, °C, in every ambient-explained feature) is within the model's range. */
+function ambientCovered(model: BaselineModel, row: FeatureRow): boolean {
+  if (row.x.length === 0 || model.xMin.length === 0) return true;
+  const a = row.x[0]!;
+  return a >= model.xMin[0]! - AMBIENT_MARGIN_C && a <= model.xMax[0]! + AMBIENT_MARGIN_C;
 }
 
 /**

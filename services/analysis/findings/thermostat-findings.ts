@@ -15,8 +15,8 @@ export function slowWarmupFinding(
   runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
 ): Finding | null {
   const warm = scoreFeature(runs, WARMUP_TIME, baselineStart, peer, now, cfg, cfg.warmupLogScaleFloor);
-  const plateau = scoreFeature(runs, PLATEAU, baselineStart, peer, now, cfg, cfg.tempScaleFloorC);
-  const runPeak = scoreFeature(runs, RUN_PEAK, baselineStart, peer, now, cfg, cfg.tempScaleFloorC);
+  const plateau = scoreFeature(runs, PLATEAU, baselineStart, peer, now, cfg, cfg.coolScaleFloorC);
+  const runPeak = scoreFeature(runs, RUN_PEAK, baselineStart, peer, now, cfg, cfg.coolScaleFloorC);
   const shift = detectRunShift(combineByRun([warm, plateau, runPeak]), now, cfg);
   if (!shift) return null;
   const cold = shift.supporting.filter((s) => s.feature === WARMUP_TIME);
@@ -49,7 +49,7 @@ export function overshootFinding(
   runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
 ): Finding | null {
   const scored = scoreFeature(runs, OVERSHOOT, baselineStart, peer, now, cfg, cfg.overshootScaleFloorC);
-  const shift = detectRunShift(scored.scored, now, cfg, cfg.overshootRepeatZ);
+  const shift = detectRunShift(scored.scored, now, cfg, cfg.overshootCusumH, cfg.overshootRepeatZ);
   if (!shift) return null;
   const values = shift.supporting.map((s) => s.value).sort((a, b) => a - b);
   const usual = shift.supporting.map((s) => s.expected).sort((a, b) => a - b);
