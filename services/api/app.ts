@@ -75,5 +75,6 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(vehicleReadingsRoutes);
   await app.register(serviceEventsRoutes);
   await app.register(analysisRunsRoutes, { leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize });
+  await app.register(import('./routes/reports.js'));
   return app;
 }

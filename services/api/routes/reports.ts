@@ -1,0 +1,87 @@
+import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
+import { Type } from 'typebox';
+import { UnknownFleetError } from '../../report/build-weekly-report.js';
+import { formatIsoWeek, lastCompleteIsoWeek, parseIsoWeek, weekWindow } from '../../report/iso-week.js';
+import { createReportRepository } from '../../report/report-repository.js';
+import { generateWeeklyReport, reportBaseName } from '../../report/weekly-report-files.js';
+import { type WeeklyReport, WeeklyReportSchema } from '../../report/weekly-report-schema.js';
+import { isValidTimeZone } from '../../report/zoned-time.js';
+import { BadRequestError, NotFoundError } from '../errors.js';
+import { assertFleetAccess, principalOf } from '../plugins/auth.js';
+import { errorResponses, SECURITY } from '../schemas/common.js';
+
+const FORMATS = { json: 'application/json; charset=utf-8', html: 'text/html; charset=utf-8', csv: 'text/csv; charset=utf-8' } as const;
+
+/** The weekly maintenance report of the caller's fleet, built on demand and archived. */
+const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
+  const reports = createReportRepository(app.database.db);
+
+  app.get(
+    '/v1/reports/weekly',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['reports'],
+        summary: 'The weekly maintenance report (JSON, HTML or the CSV work list)',
+        description: 'A week that has ended is served from the archive once built after its end; the current week, a week archived '
+          + 'before it ended, or `refresh=true` rebuild it (and replace the archived copy). HTML is one self-contained page with inline SVG charts.',
+        security: SECURITY,
+        querystring: Type.Object({
+          week: Type.Optional(Type.String({ pattern: '^\\d{4}-W\\d{2}$', description: 'ISO week, e.g. 2026-W48; default: the last complete week in the fleet time zone' })),
+          format: Type.Union([Type.Literal('json'), Type.Literal('html'), Type.Literal('csv')], { default: 'json' }),
+          fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })),
+          refresh: Type.Boolean({ default: false, description: 'rebuild even when an archived report of the ended week exists' }),
+        }),
+        response: {
+          200: {
+            description: 'the report',
+            content: {
+              'application/json': { schema: WeeklyReportSchema },
+              'text/html': { schema: Type.String({ description: 'self-contained HTML page' }) },
+              'text/csv': { schema: Type.String({ description: 'the work list, RFC 4180, header row' }) },
+            },
+          },
+          ...errorResponses(400, 401, 403, 404),
+        },
+      },
+    },
+    async (request, reply) => {
+      const principal = principalOf(request);
+      const { week, format, refresh } = request.query;
+      if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
+      const fleetId = principal.fleetId ?? request.query.fleet;
+      if (!fleetId) throw new BadRequestError('an admin key must name the fleet: ?fleet=<fleetId>');
+      const fleet = await reports.fleet(fleetId);
+      if (!fleet) throw new NotFoundError(`unknown fleet '${fleetId}'`);
+      const timeZone = isValidTimeZone(fleet.timeZone) ? fleet.timeZone : 'UTC';
+      let isoWeek;
+      try {
+        isoWeek = week ? parseIsoWeek(week) : lastCompleteIsoWeek(Date.now(), timeZone);
+      } catch (err) {
+        throw new BadRequestError((err as Error).message, 'validation_failed');
+      }
+      const name = formatIsoWeek(isoWeek);
+      const window = weekWindow(isoWeek, timeZone);
+      if (window.startMs > Date.now()) throw new BadRequestError(`week ${name} has not started yet`, 'validation_failed');
+      const archived = refresh ? undefined : await reports.archived(fleetId, name);
+      let out: { json: WeeklyReport; html: string; csv: string };
+      if (archived && archived.generatedAt.getTime() >= window.endMs) {
+        out = { json: archived.json as WeeklyReport, html: archived.html, csv: archived.csv };
+      } else {
+        try {
+          const rendered = await generateWeeklyReport(app.database.db, { fleetId, week: name });
+          out = { json: rendered.report, html: rendered.html, csv: rendered.csv };
+        } catch (err) {
+          if (err instanceof UnknownFleetError) throw new NotFoundError(err.message);
+          throw err;
+        }
+      }
+      reply.type(FORMATS[format]);
+      if (format === 'json') return reply.send(out.json);
+      if (format === 'csv') reply.header('content-disposition', `attachment; filename="${reportBaseName(fleetId, name)}.csv"`);
+      return reply.send(format === 'html' ? out.html : out.csv);
+    },
+  );
+};
+
+export default reportsRoutes;
