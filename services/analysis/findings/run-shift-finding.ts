@@ -42,15 +42,25 @@ export function detectRunShift(scored: readonly ScoredRun[], now: number, cfg: A
     if (last && Math.floor(last[0]!.run.startMs / DAY_MS) === Math.floor(s.run.startMs / DAY_MS)) last.push(s);
     else days.push([s]);
   }
-  const c = upperCusum(days.map((d) => median(d.map((s) => s.z))), cfg.cusumK, h);
-  let changeRun: ScoredRun;
-  if (c.alarmIndex >= 0) changeRun = days[c.changeIndex]![0]!;
-  else {
-    // Rare but strong: repeated runs far outside what is expected within the stale window.
-    const strong = scored.filter((s) => s.z >= repeatZ && s.run.startMs > now - cfg.findingStaleDays * DAY_MS);
-    if (strong.length < REPEAT_MIN_RUNS) return null;
-    changeRun = strong[0]!;
+  const dayZ = days.map((d) => median(d.map((s) => s.z)));
+  // The first excursion that alarms and is large enough; a small drift that alarmed earlier
+  // must not hide a real change that follows it, so later starts are tried in turn.
+  let maxStatistic = 0;
+  for (let from = 0; from < days.length;) {
+    const c = upperCusum(dayZ.slice(from), cfg.cusumK, h);
+    if (c.alarmIndex < 0) break;
+    maxStatistic = Math.max(maxStatistic, c.maxStatistic);
+    const shift = shiftFrom(scored, days[from + c.changeIndex]![0]!, now, cfg, maxStatistic);
+    if (shift) return shift;
+    from += c.changeIndex + 1;
   }
+  // Rare but strong: repeated runs far outside what is expected within the stale window.
+  const strong = scored.filter((s) => s.z >= repeatZ && s.run.startMs > now - cfg.findingStaleDays * DAY_MS);
+  return strong.length >= REPEAT_MIN_RUNS ? shiftFrom(scored, strong[0]!, now, cfg, maxStatistic) : null;
+}
+
+/** The shift starting at `changeRun`, or null when stale or too small. */
+function shiftFrom(scored: readonly ScoredRun[], changeRun: ScoredRun, now: number, cfg: AnalysisConfig, maxStatistic: number): RunShift | null {
   const after = scored.filter((s) => s.run.startMs >= changeRun.run.startMs);
   const supporting = after.filter((s) => s.z >= SUPPORT_Z);
   const lastSeen = supporting.length > 0 ? supporting[supporting.length - 1]!.run.startMs : changeRun.run.startMs;
@@ -60,7 +70,7 @@ export function detectRunShift(scored: readonly ScoredRun[], now: number, cfg: A
   if (medianZ < cfg.minShiftMedianZ) return null;
   const confidence = clamp01(normalCdf(medianZ - 1) * (1 - 0.5 ** supporting.length));
   return {
-    changeRun, after, supporting, medianZ, maxStatistic: c.maxStatistic, confidence,
+    changeRun, after, supporting, medianZ, maxStatistic, confidence,
     severity: medianZ >= WARNING_MEDIAN_Z ? 'warning' : 'advisory',
     firstSeen: changeRun.run.startMs, lastSeen,
   };

@@ -13,6 +13,8 @@ const BIAS_MIN_STARTS = 3;
 const BIAS_RECENT_STARTS = 5;
 /** A run with more than this many flagged samples counts as a strong sensor event day. */
 const STRONG_EVENT_COUNT = 3;
+/** Bias tolerance factor when no baseline (own or peer) says how warm a soaked engine stays. */
+const UNREFERENCED_TOLERANCE_FACTOR = 1.5;
 
 type SensorSubKind = 'out-of-range' | 'implausible-rate' | 'stuck' | 'bias';
 
@@ -97,17 +99,20 @@ function biasFinding(runs: readonly RunMetrics[], baselineStart: number, peer: P
   if (soaks.length < BIAS_MIN_STARTS) return null;
   const baselineEnd = baselineStart + cfg.baselineDays * DAY_MS;
   const own = soaks.filter((r) => r.startMs < baselineEnd).map((r) => r.coldSoakOffsetC!);
-  const peerRef = peer?.models.soakOffset?.coefficients[0] ?? 0;
-  const ownRef = own.length >= BIAS_MIN_STARTS ? median(own) : null;
+  const peerModel = peer?.models.soakOffset ?? null;
+  const peerRef = peerModel?.coefficients[0] ?? 0;
+  const ownRef = now >= baselineEnd && own.length >= BIAS_MIN_STARTS ? median(own) : null;
+  // With neither an own nor a peer reference, residual heat after a soak is unknown: be wider.
+  const tolerance = cfg.sensorBiasToleranceC * (ownRef === null && peerModel === null ? UNREFERENCED_TOLERANCE_FACTOR : 1);
   // An own baseline that already disagrees with the peers was learned on a biased sensor.
   const reference = ownRef !== null && Math.abs(ownRef - peerRef) < cfg.sensorBiasToleranceC ? ownRef : peerRef;
   const recent = soaks.slice(-BIAS_RECENT_STARTS);
   if (now - recent[recent.length - 1]!.startMs > cfg.findingStaleDays * DAY_MS) return null;
   const shift = median(recent.map((r) => r.coldSoakOffsetC! - reference));
-  if (Math.abs(shift) < cfg.sensorBiasToleranceC) return null;
+  if (Math.abs(shift) < tolerance) return null;
   let first = soaks.length - 1;
   while (first > 0 && Math.sign(soaks[first - 1]!.coldSoakOffsetC! - reference) === Math.sign(shift)
-    && Math.abs(soaks[first - 1]!.coldSoakOffsetC! - reference) >= cfg.sensorBiasToleranceC / 2) first--;
+    && Math.abs(soaks[first - 1]!.coldSoakOffsetC! - reference) >= tolerance / 2) first--;
   const evidence = soaks.slice(first).map((r) => ({
     at: r.startMs, scope: 'run' as const, metric: 'coldSoakOffsetC', value: round(r.coldSoakOffsetC!), expected: round(reference), z: null,
   }));
