@@ -30,9 +30,12 @@ export function testConfig(overrides: Partial<Config> = {}): Config {
   return { ...loadConfig({}), inProcessWorker: false, logLevel: 'silent', ...overrides };
 }
 
-/** Builds the app on a fresh test database (see test-database.ts). The caller must `close()` it. */
-export async function createTestApp(overrides: Partial<Config> = {}): Promise<TestApp> {
-  const tdb = await createTestDatabase();
+/**
+ * Builds the app on a fresh test database (see test-database.ts), or on `tdb` when given. The
+ * caller must `close()` it, which drops the database too.
+ */
+export async function createTestApp(overrides: Partial<Config> = {}, given?: TestDatabase): Promise<TestApp> {
+  const tdb = given ?? (await createTestDatabase());
   const config = testConfig(overrides);
   let app: FastifyInstance;
   try {

@@ -66,11 +66,12 @@ async function pgliteTemplate(): Promise<Blob> {
 
 /**
  * A fresh, migrated database for one test file: a clone of the migrated template on the
- * PostgreSQL server, or a new in-memory PGlite instance loaded with the migrated data directory.
+ * PostgreSQL server, or a new PGlite instance loaded with the migrated data directory (in memory,
+ * or in `pgliteDir` for a test that reopens it).
  */
-export async function createTestDatabase(): Promise<TestDatabase> {
+export async function createTestDatabase(options: { pgliteDir?: string } = {}): Promise<TestDatabase> {
   if (testDatabaseKind() === 'pglite') {
-    const handle = await openDatabase({ databaseUrl: undefined, pgliteDir: 'memory://', pgliteLoadDataDir: await pgliteTemplate() });
+    const handle = await openDatabase({ databaseUrl: undefined, pgliteDir: options.pgliteDir ?? 'memory://', pgliteLoadDataDir: await pgliteTemplate() });
     return { handle, url: undefined, drop: () => handle.close() };
   }
   const adminUrl = inject('postgresAdminUrl');

@@ -42,7 +42,10 @@ async function* textChunks(raw: Readable, encoding: string | undefined, maxBytes
   }
   const decoder = new StringDecoder('utf8');
   try {
-    for await (const buf of source as AsyncIterable<Buffer>) {
+    // Leaving the loop early (a bad body, a failed insert) must not destroy the request stream:
+    // that would reset the connection before the client could read the error reply. The error
+    // handler answers with "Connection: close" instead.
+    for await (const buf of source.iterator({ destroyOnReturn: false }) as AsyncIterable<Buffer>) {
       stats.bytes += buf.length;
       if (stats.bytes > maxBytes) throw new PayloadTooLargeError(`the body is larger than ${maxBytes} bytes (after decompression); split it into smaller batches`);
       const text = decoder.write(buf);

@@ -46,6 +46,9 @@ export default fp(
       } else {
         body = { error: { code: 'internal', message: `internal error (request ${request.id})` } };
       }
+      // The body is still arriving (an ingest failed part-way): close the connection after this
+      // reply rather than read the rest of a body nobody will use.
+      if (request.raw.complete === false) reply.header('connection', 'close');
       if (status >= 500) request.log.error({ err }, 'request failed');
       else request.log.info({ code: body.error.code, status }, body.error.message);
       return reply.status(status).send(body);
