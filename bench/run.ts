@@ -1,4 +1,6 @@
+import { measureAnalysisThroughput } from '../services/analysis/measure-throughput.js';
 import { measureSimulatorThroughput } from '../services/simulator/simulate-command.js';
+import { cpus, loadavg } from 'node:os';
 import { benchIngest } from './ingest.js';
 import { DEFAULT_SERVER_URL } from './bench-server.js';
 
@@ -35,4 +37,13 @@ if (want('simulator')) {
     `  ${fmt(r.readings)} readings in ${r.seconds.toFixed(1)} s: ${fmt(r.readingsPerSecond).padStart(10)} readings/s   ratio to the 300,000/s target ${(r.readingsPerSecond / 300_000).toFixed(2)}`,
   );
 }
-process.stdout.write(`\n${lines.join('\n')}\n`);
+if (want('analysis')) {
+  process.stderr.write('[analysis] per-run and per-day metrics over typed arrays, one core\n');
+  const r = measureAnalysisThroughput(60, 20);
+  lines.push(
+    `analysis library (runs, warm-up fits, day aggregates, sensor checks over typed arrays, one core)`,
+    `  ${fmt(r.readings)} readings in ${r.seconds.toFixed(2)} s: ${fmt(r.readingsPerSecond).padStart(10)} readings/s   ratio to the 5,000,000/s target ${(r.readingsPerSecond / 5_000_000).toFixed(2)}`,
+  );
+}
+const load = loadavg().map((l) => l.toFixed(2)).join(' ');
+process.stdout.write(`\nthermocline bench — ${cpus().length} cores, load average at the end ${load} (figures are only comparable on a quiet machine)\n\n${lines.join('\n')}\n`);
