@@ -189,6 +189,16 @@ describe('per-reading rejection', () => {
   });
 });
 
+describe('stored values', () => {
+  it('stores a value too small for a 4-byte float as 0 instead of failing the batch', async () => {
+    // float4 (IEEE 754 binary32) holds no magnitude below about 1.4e-45; Postgres refuses them.
+    const res = await post(json([{ vehicleId: 'S-1', ts: iso(0), coolant: -5e-324, ambient: 1e-40 }]));
+    expect(res.json()).toEqual({ accepted: 1, duplicates: 0, rejected: [] });
+    const [row] = await storedRows('S-1');
+    expect([row?.coolant_c, row?.ambient_c].map(Math.abs)).toEqual([0, 0]);
+  });
+});
+
 describe('duplicates', () => {
   it('counts a repeated reading as a duplicate and stores it once, in a batch and on retry', async () => {
     const batch = json([
@@ -209,6 +219,7 @@ describe('malformed and oversized requests', () => {
     ['an array instead of an object', `[{"vehicleId":"M-1","ts":"${iso(0)}","coolant":70}]`],
     ['readings that are not an array', `{"readings":5}`],
     ['no readings field', `{"unit":"C"}`],
+    ['a field name with an escape JSON does not allow', `{"\\q":1,"readings":[{"vehicleId":"M-1","ts":"${iso(0)}","coolant":70}]}`],
     ['text after the object', `{"readings":[{"vehicleId":"M-1","ts":"${iso(0)}","coolant":70}]} trailing`],
   ])('answers 400 with the uniform body for %s and stores nothing', async (_name, body) => {
     const res = await post(body);

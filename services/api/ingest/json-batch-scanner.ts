@@ -72,7 +72,7 @@ export class JsonBatchScanner {
             else if (k === 0x5c) this.escaped = true;
             else if (k === 0x22) {
               this.buf += chunk.slice(start, i);
-              this.key = JSON.parse(this.buf) as string;
+              this.key = this.parseFieldName(this.buf);
               this.buf = '';
               this.state = State.ExpectColon;
               break;
@@ -196,6 +196,14 @@ export class JsonBatchScanner {
       }
       events.push({ type: 'field', key: this.key, value });
       this.state = State.ExpectCommaOrEnd;
+    }
+  }
+
+  private parseFieldName(text: string): string {
+    try {
+      return JSON.parse(text) as string;
+    } catch {
+      this.fail(`a field name is not a valid JSON string (bad escape or control character): ${text.slice(0, 40)}`);
     }
   }
 

@@ -60,6 +60,16 @@ export function parseTimestamp(ts: unknown): number {
   return NaN;
 }
 
+/**
+ * Channels are stored as float4 (about 7 significant digits), which cannot hold magnitudes below
+ * about 1e-38: Postgres refuses 5e-324 with "value out of range: underflow". Rounding to 1e-6 of
+ * the unit loses nothing float4 keeps for values of the channels' size and makes such values 0.
+ */
+const STORED_RESOLUTION = 1e6;
+function stored(value: number): number {
+  return Math.round(value * STORED_RESOLUTION) / STORED_RESOLUTION;
+}
+
 function optionalNumber(value: unknown): number | string {
   if (value === undefined || value === null || value === '') return NaN;
   if (typeof value === 'number') return Number.isFinite(value) ? value : 'not a finite number';
@@ -118,5 +128,5 @@ export function validateReading(raw: unknown, defaultUnit: TemperatureUnit, nowM
   if (typeof rpm === 'string') return `rpm is ${rpm}`;
   if (!Number.isNaN(rpm) && !(rpm >= 0 && rpm <= RPM_MAX)) return `rpm ${rpm} is outside 0 to ${RPM_MAX} (SAE J1939 SPN 190)`;
 
-  return { vehicleId, tsMs, coolantC, ambientC, speedKph, rpm };
+  return { vehicleId, tsMs, coolantC: stored(coolantC), ambientC: stored(ambientC), speedKph: stored(speedKph), rpm: stored(rpm) };
 }
