@@ -195,7 +195,7 @@ describe('stored values', () => {
     const res = await post(json([{ vehicleId: 'S-1', ts: iso(0), coolant: -5e-324, ambient: 1e-40 }]));
     expect(res.json()).toEqual({ accepted: 1, duplicates: 0, rejected: [] });
     const [row] = await storedRows('S-1');
-    expect([row?.coolant_c, row?.ambient_c].map(Math.abs)).toEqual([0, 0]);
+    expect([Math.abs(row!.coolant_c), Math.abs(row!.ambient_c!)]).toEqual([0, 0]);
   });
 });
 
