@@ -1,3 +1,4 @@
+import { round } from '../analysis/findings/finding.js';
 import type { StoredDay, StoredFinding, StoredSensorEvent } from './report-repository.js';
 import type { WeeklyReport } from './weekly-report-schema.js';
 
@@ -7,7 +8,6 @@ export const GAP_LIST_MIN_FRACTION = 0.02;
 /** …when that is this much more than their own share over the weeks before (short engine-off stops inside a run count as missing, so each duty has its own normal level). */
 export const GAP_EXCESS_FRACTION = 0.05;
 
-const round = (v: number, digits: number) => Math.round(v * 10 ** digits) / 10 ** digits;
 
 /**
  * Sensor faults (the week's sensor events by kind, open sensor-fault findings) and gaps

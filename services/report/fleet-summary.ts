@@ -1,3 +1,4 @@
+import { round } from '../analysis/findings/finding.js';
 import type { ReportVehicle, StoredDay } from './report-repository.js';
 import type { WeeklyReport } from './weekly-report-schema.js';
 
@@ -7,7 +8,6 @@ export const SILENT_GATEWAY_H = 48;
 export const SILENT_LOOKBACK_DAYS = 60;
 
 const HOUR_MS = 3_600_000;
-const round1 = (v: number) => Math.round(v * 10) / 10;
 
 /**
  * The fleet's week in numbers, from the week's vehicle-days and each gateway's last reading
@@ -32,8 +32,8 @@ export function summariseFleet(
     return [{
       vehicleId: v.vehicleId, label: v.label,
       lastReadingAt: last === null ? null : new Date(last).toISOString(),
-      silentHours: last === null ? null : round1((asOfMs - last) / HOUR_MS),
-      usualLongestBreakHours: usual === null ? null : round1(usual / HOUR_MS),
+      silentHours: last === null ? null : round((asOfMs - last) / HOUR_MS, 1),
+      usualLongestBreakHours: usual === null ? null : round(usual / HOUR_MS, 1),
       // A van parked every weekend is silent for 60 h every Monday: only a break longer than its usual ones needs a look.
       unusual: last === null || usual === null || asOfMs - last > usual,
     }];
@@ -41,7 +41,7 @@ export function summariseFleet(
   return {
     vehicles: vehicles.length,
     vehiclesReporting: reporting.size,
-    engineHours: round1(engineHours),
+    engineHours: round(engineHours, 1),
     engineRuns,
     coldStarts,
     vehiclesToBook,

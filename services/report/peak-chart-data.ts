@@ -1,3 +1,4 @@
+import { round } from '../analysis/findings/finding.js';
 import type { DayAggregate } from '../analysis/day-aggregates.js';
 import { sensSlope } from '../analysis/stats/mann-kendall.js';
 import { median } from '../analysis/stats/robust.js';
@@ -15,7 +16,6 @@ export const TREND_MIN_DAYS = 3;
 /** A crossing further away than this is not projected, days. */
 export const MAX_PROJECTION_DAYS = 365;
 
-const round = (v: number, digits: number) => Math.round(v * 10 ** digits) / 10 ** digits;
 
 /**
  * The daily-peak trend the overheating-trend finding uses, as of `lastDay`: Sen's slope of the

@@ -1,3 +1,4 @@
+import { round } from '../analysis/findings/finding.js';
 import { quantileSorted } from 'simple-statistics';
 import type { RunMetrics } from '../analysis/run-metrics.js';
 import type { ReadingSeries } from './report-repository.js';
@@ -18,7 +19,6 @@ const MIN_CURVE_RUN_S = 600;
 const BAND_LOW_Q = 0.1;
 const BAND_HIGH_Q = 0.9;
 
-const round1 = (v: number) => Math.round(v * 10) / 10;
 
 /**
  * A run's first-order warm-up model at `tS` seconds, capped at its settled (plateau)
@@ -45,9 +45,9 @@ export function baselineBand(healthy: readonly RunMetrics[]): { band: WarmupChar
     const values = runs.map((r) => newtonCurveC(r, minute * 60)!).sort((a, b) => a - b);
     band.push({
       minute,
-      lowC: round1(quantileSorted(values, BAND_LOW_Q)),
-      medianC: round1(quantileSorted(values, 0.5)),
-      highC: round1(quantileSorted(values, BAND_HIGH_Q)),
+      lowC: round(quantileSorted(values, BAND_LOW_Q), 1),
+      medianC: round(quantileSorted(values, 0.5), 1),
+      highC: round(quantileSorted(values, BAND_HIGH_Q), 1),
     });
   }
   return { band, baselineRuns: runs.length };
@@ -67,20 +67,20 @@ export function warmupCurve(run: RunMetrics, readings: ReadingSeries | null): Wa
     for (let i = 0; i < readings.tsMs.length; i++) {
       const tS = (readings.tsMs[i]! - run.startMs) / 1000;
       if (tS < nextS) continue;
-      points.push([round1(tS / 60), round1(readings.coolantC[i]!)]);
+      points.push([round(tS / 60, 1), round(readings.coolantC[i]!, 1)]);
       nextS = tS + CURVE_STEP_S;
     }
   } else {
     for (let minute = 0; minute <= Math.min(WARMUP_CHART_MIN, run.durationS / 60); minute++) {
       const c = newtonCurveC(run, minute * 60);
-      if (c !== null) points.push([minute, round1(c)]);
+      if (c !== null) points.push([minute, round(c, 1)]);
     }
   }
   if (points.length < 2) return null;
   return {
     runStart: new Date(run.startMs).toISOString(),
-    startAmbientC: run.startAmbientC === null ? null : round1(run.startAmbientC),
-    timeToTargetMin: run.timeToTargetS === null ? null : round1(run.timeToTargetS / 60),
+    startAmbientC: run.startAmbientC === null ? null : round(run.startAmbientC, 1),
+    timeToTargetMin: run.timeToTargetS === null ? null : round(run.timeToTargetS / 60, 1),
     source: readings && readings.tsMs.length > 1 ? 'readings' : 'newton-fit',
     points,
   };

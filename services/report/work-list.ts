@@ -1,4 +1,4 @@
-import { SAFETY_CAUTION, type Severity } from '../analysis/findings/finding.js';
+import { round, SAFETY_CAUTION, type Severity } from '../analysis/findings/finding.js';
 import type { ReportVehicle, StoredFinding } from './report-repository.js';
 import type { Priority, WorkItem } from './weekly-report-schema.js';
 
@@ -7,7 +7,6 @@ const SEVERITY_RANK: Readonly<Record<Severity, number>> = { critical: 0, warning
 export const PRIORITY_OF: Readonly<Record<Severity, Priority>> = { critical: 'book now', warning: 'book this week', advisory: 'at next service' };
 
 const isoDate = (ms: number) => new Date(Math.floor(ms / DAY_MS) * DAY_MS).toISOString().slice(0, 10);
-const round3 = (v: number) => Math.round(v * 1000) / 1000;
 
 /** The check without the safety caution the analysis appends (the report states it once per item, in `caution`). */
 export function checkWithoutCaution(check: string): string {
@@ -42,7 +41,7 @@ export function buildWorkList(unresolved: readonly StoredFinding[], vehicles: Re
     check: checkWithoutCaution(f.recommendedCheck),
     since: isoDate(f.firstSeenMs),
     lastSeen: isoDate(f.lastSeenMs),
-    confidence: round3(f.confidence),
+    confidence: round(f.confidence, 3),
     troubleCode: f.troubleCode,
     caution: SAFETY_CAUTION,
   }));
