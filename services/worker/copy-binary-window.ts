@@ -8,19 +8,35 @@ const HEADER_BYTES = 19;
 const PG_EPOCH_MS = 946_684_800_000;
 const TWO_POW_32 = 4_294_967_296;
 
+/** Printed values remembered per window read (telemetry repeats values a lot); bounded. */
+const PRINTED_CACHE_MAX = 65_536;
+
 /**
  * The value Postgres prints for a `real` (shortest decimal that reads back as the same float4),
  * so the binary path hands the analysis exactly what the text path does. Telemetry values are
- * whole or 1/32 steps (SPN 110, SPN 171), which are exact: the loop runs only for other values.
+ * mostly whole or 1/32 steps (SPN 110, SPN 171), which print exactly; others (°F converted at ingest)
+ * repeat, so each distinct one is worked out once per window. One difference remains: a float4
+ * exactly halfway between two shortest decimals (about 1 value in 20,000 of random data) comes out
+ * one unit in the last printed digit away from Postgres's choice, i.e. within 1e-7 relative.
  */
-function float4AsPrinted(f: number): number {
-  if (Number.isInteger(f * 1024) && Math.abs(f) < 8192) return f;
+function float4AsPrinted(f: number, cache: Map<number, number>): number {
+  // Whole numbers, and 1/32 steps below 64 (at most 7 digits, no shorter decimal within half a
+  // float4 step), print exactly.
+  if (Number.isInteger(f) ? Math.abs(f) < 16_777_216 : Number.isInteger(f * 32) && Math.abs(f) < 64) return f;
   if (!Number.isFinite(f)) return f;
-  for (let digits = 1; digits < 9; digits++) {
+  const known = cache.get(f);
+  if (known !== undefined) return known;
+  let printed = Number(f.toPrecision(9));
+  for (let digits = 6; digits < 9; digits++) {
     const d = Number(f.toPrecision(digits));
-    if (Math.fround(d) === f) return d;
+    if (Math.fround(d) === f) {
+      printed = d;
+      break;
+    }
   }
-  return Number(f.toPrecision(9));
+  if (cache.size >= PRINTED_CACHE_MAX) cache.clear();
+  cache.set(f, printed);
+  return printed;
 }
 
 function quoteLiteral(value: string): string {
@@ -70,6 +86,7 @@ export function decodeBinaryWindow(buf: Buffer): SampleArrays {
     ts: new Float64Array(n), coolant: new Float64Array(n), ambient: new Float64Array(n), speedKph: new Float64Array(n), rpm: new Float64Array(n),
   };
   const reals = [out.coolant, out.ambient, out.speedKph, out.rpm];
+  const printed = new Map<number, number>();
   p = start;
   for (let i = 0; i < n; i++) {
     const fields = buf.readInt16BE(p);
@@ -83,7 +100,7 @@ export function decodeBinaryWindow(buf: Buffer): SampleArrays {
       const target = reals[j - 1]!;
       if (len < 0) target[i] = NaN;
       else {
-        target[i] = float4AsPrinted(buf.readFloatBE(p));
+        target[i] = float4AsPrinted(buf.readFloatBE(p), printed);
         p += len;
       }
     }

@@ -28,19 +28,22 @@ export function parseNumberList(text: string, out: Float64Array, offset: number)
       value = value * 10 + (c - 48);
       c = ++i < len ? text.charCodeAt(i) : 44;
     }
+    let exact = true;
     if (c === 46) {
       let scale = 1;
-      let frac = 0;
       c = ++i < len ? text.charCodeAt(i) : 44;
       while (c >= 48 && c <= 57) {
-        frac = frac * 10 + (c - 48);
+        value = value * 10 + (c - 48);
         scale *= 10;
         c = ++i < len ? text.charCodeAt(i) : 44;
       }
-      value += frac / scale;
+      // digits / 10^k is one correctly rounded division (the same double as Number()) while the
+      // digits fit in 2^53; longer fields go to Number() below.
+      exact = value <= Number.MAX_SAFE_INTEGER;
+      value /= scale;
     }
-    if (c !== 44) {
-      // Exponent, 'NaN' or 'Infinity': rare, so let Number() handle the whole field.
+    if (c !== 44 || !exact) {
+      // Exponent, 'NaN', 'Infinity' or too many digits: rare, so let Number() handle the field.
       let end = text.indexOf(',', i);
       if (end < 0) end = len;
       out[k++] = Number(text.slice(start, end));

@@ -19,7 +19,7 @@ interface WindowText {
 /**
  * Reads a vehicle's readings in [fromMs, toMs) as typed arrays, ascending in time: by binary
  * COPY on a PostgreSQL server, by the text aggregate below on PGlite (which has no COPY TO
- * STDOUT through its driver). Both give the same numbers.
+ * STDOUT through its driver). Both give the numbers Postgres prints (see float4AsPrinted).
  */
 export function readWindow(handle: DatabaseHandle, vehicleId: string, fromMs: number, toMs: number): Promise<SampleArrays> {
   return handle.pool ? readWindowByCopy(handle.pool, vehicleId, fromMs, toMs) : readWindowAsText(handle, vehicleId, fromMs, toMs);
