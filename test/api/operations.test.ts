@@ -6,9 +6,8 @@ import { once } from 'node:events';
 import type { Response as LightMyRequestResponse } from 'light-my-request';
 import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { openDatabase } from '../../services/db/database.js';
 import { createTestApp, useTestApp } from '../helpers/test-app.js';
-import { createTestDatabase, testDatabaseKind } from '../helpers/test-database.js';
+import { countStoredReadings, createTestDatabase, testDatabaseKind } from '../helpers/test-database.js';
 
 const t = useTestApp();
 let key: string;
@@ -148,23 +147,7 @@ describe('database outage during an ingest', () => {
     if (testDatabaseKind() === 'pglite') dir = await mkdtemp(join(tmpdir(), 'thermocline-outage-'));
     const tdb = await createTestDatabase(dir ? { pgliteDir: dir } : {});
     const outage = await createTestApp({}, tdb);
-    const countStored = async (): Promise<number> => {
-      if (tdb.url) {
-        const client = new pg.Client({ connectionString: tdb.url });
-        await client.connect();
-        try {
-          return Number((await client.query('select count(*) as n from readings')).rows[0].n);
-        } finally {
-          await client.end();
-        }
-      }
-      const reopened = await openDatabase({ databaseUrl: undefined, pgliteDir: dir! });
-      try {
-        return Number((await reopened.db.selectFrom('readings').select((eb) => eb.fn.countAll().as('n')).executeTakeFirstOrThrow()).n);
-      } finally {
-        await reopened.close();
-      }
-    };
+    const countStored = () => countStoredReadings(tdb);
     try {
       const k = await outage.createKey('fleet-o', ['ingest']);
       const headers = { ...outage.auth(k), 'content-type': 'application/x-ndjson' };

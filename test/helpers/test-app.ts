@@ -1,9 +1,11 @@
 import type { FastifyInstance } from 'fastify';
+import type { Kysely } from 'kysely';
 import { afterAll, beforeAll } from 'vitest';
 import { buildApp } from '../../services/api/app.js';
 import { loadConfig, type Config } from '../../services/config.js';
 import { createApiKeysRepository, type Scope } from '../../services/db/api-keys-repository.js';
 import { createFleetsRepository } from '../../services/db/fleets-repository.js';
+import type { Database } from '../../services/db/schema.js';
 import { PartitionKeeper } from '../../services/db/partitions.js';
 import { createReadingsRepository } from '../../services/db/readings-repository.js';
 import { createTestDatabase, type TestDatabase } from './test-database.js';
@@ -23,6 +25,12 @@ export interface TestApp {
   countReadings(vehicleIds?: string[]): Promise<number>;
   /** Closes the app and drops the database. */
   close(): Promise<void>;
+}
+
+/** Creates the fleet (if new) and a key for it; returns the plain key. */
+export async function createFleetKey(db: Kysely<Database>, fleetId: string, scopes: Scope[]): Promise<string> {
+  await createFleetsRepository(db).ensure(fleetId);
+  return (await createApiKeysRepository(db).create({ fleetId, scopes })).key;
 }
 
 /** The configuration the tests run with: the defaults of an empty environment plus `overrides`. */
@@ -47,16 +55,12 @@ export async function createTestApp(overrides: Partial<Config> = {}, given?: Tes
   }
   const db = tdb.handle.db;
   const keys = createApiKeysRepository(db);
-  const fleets = createFleetsRepository(db);
   const readings = createReadingsRepository(tdb.handle, new PartitionKeeper());
   return {
     app,
     tdb,
     config,
-    async createKey(fleetId, scopes) {
-      await fleets.ensure(fleetId);
-      return (await keys.create({ fleetId, scopes })).key;
-    },
+    createKey: (fleetId, scopes) => createFleetKey(db, fleetId, scopes),
     async createAdminKey() {
       return (await keys.create({ fleetId: null, scopes: ['admin'] })).key;
     },

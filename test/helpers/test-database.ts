@@ -9,7 +9,7 @@ import pg from 'pg';
 import { inject } from 'vitest';
 import { openDatabase, type DatabaseHandle } from '../../services/db/database.js';
 import { migrateToLatest } from '../../services/db/migrator.js';
-import type { Database } from '../../services/db/schema.js';
+import { toNumber, type Database } from '../../services/db/schema.js';
 import { migrationsDigest } from './migrations-digest.js';
 
 export type TestDatabaseKind = 'postgres' | 'pglite';
@@ -23,6 +23,8 @@ export interface TestDatabase {
   handle: DatabaseHandle;
   /** Connection string (postgres only), for child processes and real servers. */
   url: string | undefined;
+  /** Folder of a file-backed PGlite database (pglite with `pgliteDir` only). */
+  dir: string | undefined;
   /** Closes the handle and drops the database. */
   drop(): Promise<void>;
 }
@@ -72,7 +74,7 @@ async function pgliteTemplate(): Promise<Blob> {
 export async function createTestDatabase(options: { pgliteDir?: string } = {}): Promise<TestDatabase> {
   if (testDatabaseKind() === 'pglite') {
     const handle = await openDatabase({ databaseUrl: undefined, pgliteDir: options.pgliteDir ?? 'memory://', pgliteLoadDataDir: await pgliteTemplate() });
-    return { handle, url: undefined, drop: () => handle.close() };
+    return { handle, url: undefined, dir: options.pgliteDir, drop: () => handle.close() };
   }
   const adminUrl = inject('postgresAdminUrl');
   const template = inject('postgresTemplate');
@@ -85,6 +87,7 @@ export async function createTestDatabase(options: { pgliteDir?: string } = {}): 
   return {
     handle,
     url: url.toString(),
+    dir: undefined,
     drop: async () => {
       if (dropped) return;
       dropped = true;
@@ -92,4 +95,19 @@ export async function createTestDatabase(options: { pgliteDir?: string } = {}): 
       await adminQuery(adminUrl, `drop database if exists ${name} with (force)`);
     },
   };
+}
+
+/**
+ * Readings stored in a test database, counted over a connection of its own: works after the app
+ * (and its handle) closed, for a server database or a file-backed PGlite one.
+ */
+export async function countStoredReadings(tdb: TestDatabase): Promise<number> {
+  if (!tdb.url && !tdb.dir) throw new Error('an in-memory PGlite database cannot be reopened: pass pgliteDir');
+  const handle = await openDatabase({ databaseUrl: tdb.url, pgliteDir: tdb.dir ?? '', poolSize: 1 });
+  try {
+    const row = await handle.db.selectFrom('readings').select((eb) => eb.fn.countAll().as('n')).executeTakeFirstOrThrow();
+    return toNumber(row.n);
+  } finally {
+    await handle.close();
+  }
 }
