@@ -82,10 +82,14 @@ export function operatingMetrics(
   if (settledC === null) return { ...none, plateauC };
   const m = stepResponseMetrics(ts, coolant, coolant[openIdx]!, settledC, cfg.settleBandC, openIdx, end,
     (i) => (flags[i]! & FLAG_IMPLAUSIBLE) !== 0);
+  // The overshoot is the highest point after opening, also when the engine settles below the
+  // rating (cold days, heater on): there the step "response" points down and its extreme
+  // would be the lowest point, which hid late-opening thermostats in cold climates.
+  const peakC = coolant[peakIdx]!;
   return {
     plateauC,
-    overshootPeakC: m.peak,
-    overshootC: Math.max(m.peak - settledC, 0),
+    overshootPeakC: peakC,
+    overshootC: Math.max(peakC - settledC, 0),
     settlingTimeS: (Math.max(m.settlingTime, ts[openIdx]!) - ts[openIdx]!) / MS_PER_S,
   };
 }

@@ -6,7 +6,8 @@ import type { Climate } from './weather.js';
 
 /**
  * The evaluation scenario: a fleet for measuring detection quality. Every fault kind appears
- * several times (at least 6 each from 70 vehicles up), on vehicles where it shows; healthy
+ * several times (at least 6 each from 70 vehicles up; from 94 up every vehicle beyond the 54
+ * faulty ones is healthy, at least 10 per group), on vehicles where it shows; healthy
  * vehicles cover cold, temperate and hot climates and heavy load (long haul in the heat),
  * so false alarms on normal-but-unusual behaviour can be counted. Onsets leave at least
  * three weeks of healthy history when the run is 36 days or longer.
@@ -28,9 +29,11 @@ const HOT_DUTIES: readonly Duty[] = ['urban-delivery', 'bus', 'service-van'];
 const FAULT_PLACEMENT: Readonly<Record<FaultKind, { climates: readonly Climate[]; duties: readonly Duty[] }>> = {
   'thermostat-stuck-open': { climates: ['cold', 'cold', 'temperate'], duties: ['urban-delivery', 'long-haul', 'service-van'] },
   'thermostat-sticking': { climates: ['cold', 'temperate', 'hot'], duties: ['urban-delivery', 'service-van', 'bus', 'long-haul'] },
-  'radiator-fouling': { climates: ['hot', 'hot', 'temperate'], duties: ['long-haul', 'urban-delivery'] },
-  'fan-failure': { climates: ['hot'], duties: ['bus', 'urban-delivery', 'bus'] },
-  'coolant-loss': { climates: ['hot', 'temperate'], duties: ['long-haul', 'urban-delivery', 'bus'] },
+  // Progressive faults show where the cooling system works hardest: heavy vehicles in the heat
+  // (long-haul tractors on grades, buses crawling and idling at layovers with the A/C on).
+  'radiator-fouling': { climates: ['hot'], duties: ['long-haul', 'bus'] },
+  'fan-failure': { climates: ['hot'], duties: ['bus', 'bus', 'service-van'] },
+  'coolant-loss': { climates: ['hot'], duties: ['bus', 'long-haul'] },
   'sensor-stuck': { climates: ['cold', 'temperate', 'hot'], duties: LIGHT_DUTIES },
   'sensor-spikes': { climates: ['cold', 'temperate', 'hot'], duties: LIGHT_DUTIES },
   'sensor-dropouts': { climates: ['cold', 'temperate', 'hot'], duties: LIGHT_DUTIES },
@@ -43,10 +46,17 @@ export const MIN_HEALTHY_HISTORY_DAYS = 22;
 const MIN_FAULT_DAYS = 14;
 const DAY_MS = 86_400_000;
 
+/** Vehicles per fault kind in a full evaluation fleet. */
+const FAULTS_PER_KIND = 6;
+/** Healthy vehicles per group from which a 5 % false-alarm rate means something. */
+const FULL_HEALTHY_PER_GROUP = 10;
+
 /** Number of healthy vehicles in an evaluation fleet of n. */
 function healthyCount(n: number): number {
+  const faulty = FAULT_KINDS.length * FAULTS_PER_KIND;
+  if (n - faulty >= HEALTHY_GROUPS.length * FULL_HEALTHY_PER_GROUP) return n - faulty;
   const share = Math.round(0.3 * n);
-  return n - 9 * 6 >= 16 ? Math.max(16, Math.min(share, n - 9 * 6)) : Math.max(Math.min(n, 4), share);
+  return n - faulty >= 16 ? Math.max(16, Math.min(share, n - faulty)) : Math.max(Math.min(n, 4), share);
 }
 
 /** Onset day for a run of `days`: after 3 weeks where possible, else in the middle. */

@@ -9,9 +9,9 @@ import type { CoolingSystem } from './cooling-system.js';
  * |-----------------------|--------------------------------------------------------------------------|
  * | thermostat-stuck-open | valve never closes below x = 0.04 + 0.10·s (0..1 opening)                 |
  * | thermostat-sticking   | valve stays shut until wax > rating + 6 + 12·s °C, then jumps open        |
- * | radiator-fouling      | air side ×(1 − 0.75·s·min(1, w/4)): progressive over about 4 weeks        |
+ * | radiator-fouling      | air side ×(1 − 0.75·s·min(1, w/2)): builds up over about 2 weeks          |
  * | fan-failure           | fan air flow ×max(0, 1 − 1.5·s) (dead from s = 2/3; less: slipping clutch) |
- * | coolant-loss          | coolant level 1 − min(0.5, 0.08·s·w): a slow leak, worse every week       |
+ * | coolant-loss          | coolant level 1 − min(0.5, 0.16·s·w): a leak, a little more lost each day |
  * | sensor-*              | see coolant-sensor.ts                                                     |
  */
 
@@ -59,12 +59,21 @@ export const STUCK_OPEN_PER_SEVERITY = 0.1;
 /** How late a sticking thermostat opens, °C above its rating, at severity 0 and per severity. */
 export const STICKING_LATE_BASE_C = 6;
 export const STICKING_LATE_PER_SEVERITY_C = 12;
-/** Air-side loss of a fully fouled radiator at severity 1, and the weeks it takes to build up. */
+/**
+ * Air-side loss of a fully fouled radiator at severity 1, and the weeks it takes to build up:
+ * a season of dust, chaff, seeds or insects on the core blocks it within a couple of weeks
+ * (common practice: radiators are blown out weekly in harvest or on dusty sites).
+ */
 export const FOULING_MAX_LOSS = 0.75;
-export const FOULING_RAMP_WEEKS = 4;
-/** Coolant lost per week at severity 1, fraction of the charge, and the most that is lost. */
-export const COOLANT_LOSS_PER_WEEK = 0.08;
+export const FOULING_RAMP_WEEKS = 2;
+/**
+ * Coolant lost per week at severity 1, fraction of the charge, and the most that is lost: a
+ * weeping hose, pump seal or head gasket that needs topping up every week or two (16 % of a
+ * 20–40 L charge is 3–6 L a week). Slower seeps take months to show and are left to inspection.
+ */
+export const COOLANT_LOSS_PER_WEEK = 0.16;
 export const COOLANT_LOSS_MAX = 0.5;
+
 
 /** Sets the cooling system's fault multipliers for time tMs (epoch ms). */
 export function applyPhysicalFaults(cs: CoolingSystem, faults: readonly FaultSpec[], tMs: number): void {

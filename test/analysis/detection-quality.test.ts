@@ -4,12 +4,16 @@ import {
 } from '../../services/analysis/evaluation.js';
 import { evaluateFleet } from './evaluation-fleet.js';
 
-/** The simulator's evaluation fleet: every fault kind 6 times, 16 healthy vehicles, 6 weeks from the CLI's default start. */
-const OPTIONS = { vehicles: 70, days: 42, seed: 7, startMs: Date.UTC(2026, 9, 5) };
+/**
+ * The simulator's evaluation fleet: every fault kind 6 times (progressive faults on heavy
+ * vehicles in the hot depot), 10 healthy vehicles per group, 6 weeks from the CLI's default start.
+ */
+const OPTIONS = { vehicles: 94, days: 42, seed: 7, startMs: Date.UTC(2026, 9, 5) };
 const STEP_FAULT_MAX_DELAY_DAYS = 3;
 const PROGRESSIVE_MAX_DELAY_DAYS = 10;
 const MIN_RECALL = 0.9;
-/** Simulating 70 vehicles for 6 weeks (and their fault-free twins) takes 30–70 s on 2 shared cores. */
+const PROGRESSIVE_FAULTS = ['radiator-fouling', 'coolant-loss', 'fan-failure'];
+/** Simulating 94 vehicles for 6 weeks (and their fault-free twins) takes 50–90 s on 2 shared cores. */
 const EVALUATION_TIMEOUT_MS = 240_000;
 const MAX_HEALTHY_FALSE_ALARM_RATE = 0.05;
 /**
@@ -17,11 +21,13 @@ const MAX_HEALTHY_FALSE_ALARM_RATE = 0.05;
  * "Analysis library"). They are printed and held to a weaker bound instead of being hidden.
  */
 const KNOWN_SHORTFALLS: Readonly<Record<string, string>> = {
-  'thermostat-sticking': 'late opening shows on heavier runs only; often reported first as an overheating trend',
-  'coolant-loss': 'the slowest losses stay within the daily-peak noise for the first 10+ days',
-  'radiator-fouling': 'fouling builds over 4 weeks; one of two visible cases shows after 11 days',
-  'fan-failure': 'both this analysis and the 105 °C threshold alarm on the first overheating day (a tie)',
+  'radiator-fouling': 'fouling builds over 2 weeks; the daily-peak trend finds 5 of 6 (the lightest case shows on 3 days only) after a median of about 11 days (target 10)',
+  'healthy-cold': 'one of 10 healthy vans in the cold depot gets a slow-warmup finding in the November cold snap (own baseline learned in milder weather)',
+  'healthy-temperate': 'one of 10 healthy light-duty vans in the temperate depot shows a significant slow rise of daily peaks as the season turns',
 };
+/** Weaker bounds for the lines above (still far better than the naive rules). */
+const SHORTFALL_MAX_DELAY_DAYS = 14;
+const SHORTFALL_MAX_GROUP_RATE = 0.1;
 
 describe('detection quality on the simulated evaluation fleet', () => {
   let ours: DetectionTable;
@@ -38,31 +44,31 @@ describe('detection quality on the simulated evaluation fleet', () => {
   it('finds at least 90 % of every visible fault kind, of the right kind', () => {
     for (const line of ours.faults) {
       if (line.visible === 0) continue;
-      const recall = line.rightKind / line.visible;
-      if (KNOWN_SHORTFALLS[line.faultKind]) expect(line.detected / line.visible, line.faultKind).toBeGreaterThanOrEqual(0.5);
-      else expect(recall, line.faultKind).toBeGreaterThanOrEqual(MIN_RECALL);
+      expect(line.rightKind / line.visible, line.faultKind).toBeGreaterThanOrEqual(KNOWN_SHORTFALLS[line.faultKind] ? 0.8 : MIN_RECALL);
     }
   });
 
   it('raises no finding on at most 5 % of healthy vehicles in every climate and under heavy load', () => {
-    const n = ours.healthy.reduce((s, h) => s + h.n, 0);
-    const alarms = ours.healthy.reduce((s, h) => s + h.falseAlarms, 0);
-    expect(n).toBeGreaterThanOrEqual(16);
-    expect(alarms / n).toBeLessThanOrEqual(MAX_HEALTHY_FALSE_ALARM_RATE);
-    for (const h of ours.healthy) expect(h.rate, h.group).toBeLessThanOrEqual(0.25);
+    for (const h of ours.healthy) {
+      expect(h.n, h.group).toBeGreaterThanOrEqual(10);
+      expect(h.rate, h.group).toBeLessThanOrEqual(KNOWN_SHORTFALLS[h.group] ? SHORTFALL_MAX_GROUP_RATE : MAX_HEALTHY_FALSE_ALARM_RATE);
+    }
   });
 
   it('reports a stuck-open thermostat within 3 days and progressive faults within 10 days (median)', () => {
     for (const line of ours.faults) {
-      if (line.medianDelayDays === null || KNOWN_SHORTFALLS[line.faultKind]) continue;
-      const limit = line.faultKind === 'thermostat-stuck-open' ? STEP_FAULT_MAX_DELAY_DAYS : PROGRESSIVE_MAX_DELAY_DAYS;
-      expect(line.medianDelayDays, line.faultKind).toBeLessThanOrEqual(limit);
+      if (line.medianDelayDays === null) continue;
+      if (KNOWN_SHORTFALLS[line.faultKind]) {
+        expect(line.medianDelayDays, line.faultKind).toBeLessThanOrEqual(SHORTFALL_MAX_DELAY_DAYS);
+        continue;
+      }
+      if (line.faultKind === 'thermostat-stuck-open') expect(line.medianDelayDays, line.faultKind).toBeLessThanOrEqual(STEP_FAULT_MAX_DELAY_DAYS);
+      if (PROGRESSIVE_FAULTS.includes(line.faultKind)) expect(line.medianDelayDays, line.faultKind).toBeLessThanOrEqual(PROGRESSIVE_MAX_DELAY_DAYS);
     }
   });
 
-  it('does better than the naive threshold rules on every line but the documented ones', () => {
+  it('does better than the naive threshold rules on every line', () => {
     for (const c of comparison) {
-      if (KNOWN_SHORTFALLS[c.line]) continue;
       expect(c.better, `${c.line}: ${c.reason}`).toBe(true);
     }
   });

@@ -18,8 +18,8 @@ export interface RunFeature {
   /** +1: higher than expected is bad; −1: lower is bad. */
   direction: 1 | -1;
   extract(r: RunMetrics, cfg: AnalysisConfig): Omit<FeatureRow, 'run'> | null;
-  /** Shown value of the evidence for a row (inverse of the y transform). */
-  display(y: number): number;
+  /** Shown value of the evidence for a row of run `r` (inverse of the y transform). */
+  display(y: number, r: RunMetrics): number;
 }
 
 /** Ambient assumed when the gateway sends none, °C (so x stays numeric; common practice). */
@@ -86,19 +86,22 @@ export const RUN_PEAK: RunFeature = {
 };
 
 /**
- * Overshoot above the settled temperature after the thermostat opens, explained by ambient:
- * on cold starts and on warm restarts that began below the warm-up target (a sticking
- * thermostat sticks again every time it closes).
+ * Overshoot: how far past its rating the coolant climbs after the thermostat first opens
+ * (cold starts, and warm restarts that began below the warm-up target: a sticking
+ * thermostat sticks again every time it closes), explained by ambient. Judged against the
+ * rating rather than the settled temperature, because on cold days the engine settles
+ * below its rating (heater, wind) and the peak-to-plateau difference then swings widely
+ * on healthy thermostats too; the evidence shows the peak in °C.
  */
 export const OVERSHOOT: RunFeature = {
   name: 'overshoot',
-  metric: 'overshootC',
+  metric: 'overshootPeakC',
   direction: 1,
   extract(r) {
-    if (r.overshootC === null || r.excludedForSensor) return null;
-    return { x: [ambientOf(r)], y: r.overshootC, censored: false };
+    if (r.overshootPeakC === null || r.excludedForSensor) return null;
+    return { x: [ambientOf(r)], y: r.overshootPeakC - r.thermostatOpenC, censored: false };
   },
-  display: (y) => y,
+  display: (y, r) => y + r.thermostatOpenC,
 };
 
 /** Start coolant minus ambient after a long soak (a working sensor reads ambient). */

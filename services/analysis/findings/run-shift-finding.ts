@@ -12,6 +12,12 @@ const DAY_MS = 86_400_000;
 const SUPPORT_Z = 1;
 /** Runs beyond the repeat threshold that raise a finding without a CUSUM alarm. */
 const REPEAT_MIN_RUNS = 2;
+/**
+ * Fewest supporting runs for any run-based finding: one odd trip (a short, easy run in the
+ * cold that never reached the rating) is not yet a change. Tuned: one such trip raised a
+ * slow-warmup on healthy light-duty vans in the cold depot.
+ */
+const MIN_SUPPORTING_RUNS = 2;
 /** Median z after the change point that makes a run-based finding a warning. */
 const WARNING_MEDIAN_Z = 3;
 
@@ -63,6 +69,7 @@ export function detectRunShift(scored: readonly ScoredRun[], now: number, cfg: A
 function shiftFrom(scored: readonly ScoredRun[], changeRun: ScoredRun, now: number, cfg: AnalysisConfig, maxStatistic: number): RunShift | null {
   const after = scored.filter((s) => s.run.startMs >= changeRun.run.startMs);
   const supporting = after.filter((s) => s.z >= SUPPORT_Z);
+  if (supporting.length < MIN_SUPPORTING_RUNS) return null;
   const lastSeen = supporting.length > 0 ? supporting[supporting.length - 1]!.run.startMs : changeRun.run.startMs;
   if (now - lastSeen > cfg.findingStaleDays * DAY_MS) return null;
   const medianZ = median(after.map((s) => s.z));

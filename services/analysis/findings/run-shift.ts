@@ -59,7 +59,7 @@ export function scoreFeature(
     if (!m) continue;
     const z = badZ(m, row, feature.direction, floor, cfg.zCap);
     if (z === null) continue;
-    scored.push({ run: row.run, feature, z, value: feature.display(row.y), expected: feature.display(expected(m, row)) });
+    scored.push({ run: row.run, feature, z, value: feature.display(row.y, row.run), expected: feature.display(expected(m, row), row.run) });
   }
   return { scored, source };
 }

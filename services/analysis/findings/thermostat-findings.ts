@@ -42,8 +42,9 @@ export function slowWarmupFinding(
 }
 
 /**
- * Overshoot: after the thermostat opens, the coolant peaks further above its settled
- * temperature than history and peers predict. The sign of a sticking thermostat.
+ * Overshoot: after the thermostat opens, the coolant peaks further past its rating (and
+ * above the temperature it then settles at) than history and peers predict. The sign of a
+ * sticking thermostat that opens late.
  */
 export function overshootFinding(
   runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
@@ -51,13 +52,13 @@ export function overshootFinding(
   const scored = scoreFeature(runs, OVERSHOOT, baselineStart, peer, now, cfg, cfg.overshootScaleFloorC);
   const shift = detectRunShift(scored.scored, now, cfg, cfg.overshootCusumH, cfg.overshootRepeatZ);
   if (!shift) return null;
-  const values = shift.supporting.map((s) => s.value).sort((a, b) => a - b);
-  const usual = shift.supporting.map((s) => s.expected).sort((a, b) => a - b);
-  const typical = values[values.length >> 1] ?? 0;
-  const normal = usual[usual.length >> 1] ?? 0;
+  const above = (xs: number[]) => xs.sort((a, b) => a - b)[xs.length >> 1] ?? 0;
+  const typical = above(shift.supporting.map((s) => s.value - s.run.thermostatOpenC));
+  const normal = above(shift.supporting.map((s) => s.expected - s.run.thermostatOpenC));
+  const overshoots = shift.supporting.map((s) => s.run.overshootC).filter((v): v is number => v !== null);
   return runShiftFinding('overshoot', shift, baselineStart, scored.source ?? 'none', {
-    summary: `Since ${isoDay(shift.firstSeen)} the coolant overshoots by about ${round(typical, 1)} °C when the thermostat opens `
-      + `(usually ${round(normal, 1)} °C), a sign of a sticking thermostat.`,
+    summary: `Since ${isoDay(shift.firstSeen)} the coolant climbs about ${round(typical, 0)} °C past the thermostat's rating before it `
+      + `takes control (usually ${round(normal, 0)} °C) and then drops back by about ${round(above(overshoots), 0)} °C, a sign of a sticking thermostat.`,
     recommendedCheck: 'Check the thermostat for sticking (replace it if it opens late) and bleed any trapped air from the '
       + 'cooling system. ' + SAFETY_CAUTION,
     troubleCode: null,
