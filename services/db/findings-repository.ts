@@ -79,15 +79,6 @@ export function createFindingsRepository(db: Kysely<Database>) {
       return rows.map(toFindingView);
     },
 
-    /** Open findings of some vehicles at or above a severity, for the at-risk list. */
-    async openOf(vehicleIds: readonly string[], severities: readonly Severity[]) {
-      if (vehicleIds.length === 0) return [];
-      return db.selectFrom('findings')
-        .select(['finding_id', 'vehicle_id', 'kind', 'severity', 'confidence', 'first_seen', 'last_seen', 'summary', 'recommended_check', 'trouble_code'])
-        .where('vehicle_id', 'in', [...vehicleIds]).where('status', '=', 'open').where('severity', 'in', [...severities])
-        .orderBy('vehicle_id').orderBy(SEVERITY_ORDER).orderBy('confidence', 'desc').orderBy('finding_id').execute();
-    },
-
     /** open → acknowledged (idempotent); returns the row, or 'resolved' when it is already resolved. */
     async acknowledge(trx: Kysely<Database>, findingId: string, keyId: string): Promise<FindingView | 'resolved' | undefined> {
       const row = await trx.selectFrom('findings').selectAll().where('finding_id', '=', findingId).forUpdate().executeTakeFirst();

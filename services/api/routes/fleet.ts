@@ -1,15 +1,27 @@
 import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { sql } from 'kysely';
 import { Type } from 'typebox';
-import { createFindingsRepository, severitiesFrom } from '../../db/findings-repository.js';
+import type { Severity } from '../../analysis/findings/finding.js';
+import { severitiesFrom } from '../../db/findings-repository.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { FindingBrief, SeveritySchema } from '../schemas/finding.js';
 
+interface BriefRow {
+  id: string;
+  kind: string;
+  severity: Severity;
+  confidence: number;
+  firstSeen: number;
+  lastSeen: number;
+  summary: string;
+  recommendedCheck: string;
+  troubleCode: string | null;
+}
+
 /** The planner's fleet view: which vehicles are at risk, and why. */
 const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
   const db = app.database.db;
-  const findings = createFindingsRepository(db);
 
   app.get(
     '/v1/fleet/at-risk',
@@ -46,29 +58,31 @@ const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
       if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
       const fleetId = principal.fleetId ?? request.query.fleet ?? null;
       const severities = severitiesFrom(request.query.minSeverity ?? 'advisory');
-      // Served by vehicle_analysis_risk_idx (fleet_id, risk_score desc, vehicle_id): no sort of the fleet.
-      const top = await sql<{ vehicle_id: string; risk_score: number; max_severity: 'advisory' | 'warning' | 'critical'; last_reading_at: Date | null }>`
-        select vehicle_id, risk_score, max_severity, last_reading_at from vehicle_analysis
-        where (${fleetId}::text is null or fleet_id = ${fleetId}) and open_findings > 0 and max_severity = any(${severities}::text[])
-        order by risk_score desc, vehicle_id
+      // One round trip: the top vehicles come from vehicle_analysis_risk_idx (fleet_id, risk_score
+      // desc, vehicle_id) without sorting the fleet, their open findings from
+      // findings_vehicle_status_idx, aggregated per vehicle as JSON (times as epoch ms).
+      const top = await sql<{ vehicle_id: string; risk_score: number; max_severity: Severity; last_reading_at: Date | null; findings: BriefRow[] }>`
+        select a.vehicle_id, a.risk_score, a.max_severity, a.last_reading_at,
+               coalesce((
+                 select json_agg(json_build_object(
+                          'id', f.finding_id, 'kind', f.kind, 'severity', f.severity, 'confidence', f.confidence,
+                          'firstSeen', date_part('epoch', f.first_seen) * 1000, 'lastSeen', date_part('epoch', f.last_seen) * 1000,
+                          'summary', f.summary, 'recommendedCheck', f.recommended_check, 'troubleCode', f.trouble_code)
+                        order by case f.severity when 'critical' then 0 when 'warning' then 1 else 2 end, f.confidence desc, f.finding_id)
+                 from findings f
+                 where f.vehicle_id = a.vehicle_id and f.status = 'open' and f.severity = any(${severities}::text[])), '[]') as findings
+        from vehicle_analysis a
+        where (${fleetId}::text is null or a.fleet_id = ${fleetId}) and a.open_findings > 0 and a.max_severity = any(${severities}::text[])
+        order by a.risk_score desc, a.vehicle_id
         limit ${request.query.limit}`.execute(db);
-      const rows = await findings.openOf(top.rows.map((r) => r.vehicle_id), severities);
-      const byVehicle = new Map<string, typeof rows>();
-      for (const r of rows) {
-        const list = byVehicle.get(r.vehicle_id) ?? [];
-        list.push(r);
-        byVehicle.set(r.vehicle_id, list);
-      }
+      const iso = (ms: number) => new Date(Math.round(ms)).toISOString();
       return {
         vehicles: top.rows.map((v) => ({
           vehicleId: v.vehicle_id,
           riskScore: v.risk_score,
           maxSeverity: v.max_severity,
           analysedUpTo: v.last_reading_at?.toISOString() ?? null,
-          findings: (byVehicle.get(v.vehicle_id) ?? []).map((f) => ({
-            id: f.finding_id, kind: f.kind, severity: f.severity, confidence: f.confidence, firstSeen: f.first_seen.toISOString(),
-            lastSeen: f.last_seen.toISOString(), summary: f.summary, recommendedCheck: f.recommended_check, troubleCode: f.trouble_code,
-          })),
+          findings: v.findings.map((f) => ({ ...f, firstSeen: iso(f.firstSeen), lastSeen: iso(f.lastSeen) })),
         })),
       };
     },
