@@ -29,6 +29,14 @@ export interface Config {
   workerLeaseMs: number;
   /** Vehicles leased per worker batch. */
   workerBatchSize: number;
+  /** Build weekly reports on schedule inside the worker. */
+  reportSchedule: boolean;
+  /** ISO weekday the weekly report is built on (1 = Monday … 7 = Sunday), fleet time zone. */
+  reportWeekday: number;
+  /** Local hour (0–23) from which the weekly report is built. */
+  reportHour: number;
+  /** Also write scheduled reports as files here (default: archived in the database only). */
+  reportDir: string | undefined;
 }
 
 export class ConfigError extends Error {
@@ -78,5 +86,9 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     workerPollMs: int(env, 'WORKER_POLL_MS', 5000, 50, 3_600_000),
     workerLeaseMs: int(env, 'WORKER_LEASE_MS', 120_000, 1000, 86_400_000),
     workerBatchSize: int(env, 'WORKER_BATCH_SIZE', 20, 1, 10_000),
+    reportSchedule: bool(env, 'REPORT_SCHEDULE', true),
+    reportWeekday: int(env, 'REPORT_WEEKDAY', 1, 1, 7),
+    reportHour: int(env, 'REPORT_HOUR', 6, 0, 23),
+    reportDir: env.REPORT_DIR || undefined,
   };
 }

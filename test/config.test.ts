@@ -18,6 +18,10 @@ describe('loadConfig', () => {
       workerPollMs: 5000,
       workerLeaseMs: 120_000,
       workerBatchSize: 20,
+      reportSchedule: true,
+      reportWeekday: 1,
+      reportHour: 6,
+      reportDir: undefined,
     });
   });
 
@@ -37,6 +41,10 @@ describe('loadConfig', () => {
       WORKER_POLL_MS: '250',
       WORKER_LEASE_MS: '30000',
       WORKER_BATCH_SIZE: '5',
+      REPORT_SCHEDULE: 'false',
+      REPORT_WEEKDAY: '7',
+      REPORT_HOUR: '23',
+      REPORT_DIR: '/srv/reports',
     });
     expect(config).toEqual({
       port: 0,
@@ -53,6 +61,10 @@ describe('loadConfig', () => {
       workerPollMs: 250,
       workerLeaseMs: 30_000,
       workerBatchSize: 5,
+      reportSchedule: false,
+      reportWeekday: 7,
+      reportHour: 23,
+      reportDir: '/srv/reports',
     });
   });
 
@@ -82,6 +94,9 @@ describe('loadConfig', () => {
     ['WORKER_LEASE_MS', '1e12'],
     ['WORKER_BATCH_SIZE', '0'],
     ['IN_PROCESS_WORKER', 'maybe'],
+    ['REPORT_WEEKDAY', '0'],
+    ['REPORT_HOUR', '24'],
+    ['REPORT_SCHEDULE', 'weekly'],
     ['LOG_LEVEL', 'verbose'],
     ['ADMIN_API_KEY', 'short'],
   ])('throws a ConfigError naming %s for the value %s', (name, value) => {

@@ -4,6 +4,7 @@ import { loadConfig } from '../config.js';
 import { createApiKeysRepository } from '../db/api-keys-repository.js';
 import { openDatabase } from '../db/database.js';
 import { migrateToLatest } from '../db/migrator.js';
+import { startReportSchedule } from '../worker/report-schedule.js';
 import { Worker } from '../worker/worker.js';
 import { buildApp } from './app.js';
 
@@ -47,6 +48,7 @@ export async function run(argv: string[]): Promise<number> {
     app.ingestNotifier.on('analysis-needed', () => worker.wake());
     worker.start();
   }
+  const reports = worker ? startReportSchedule(config, database, logger) : undefined;
 
   await new Promise<void>((resolve) => {
     let stopping = false;
@@ -56,7 +58,7 @@ export async function run(argv: string[]): Promise<number> {
       app.log.info({ signal }, 'shutting down: no new connections, finishing requests in flight');
       // The worker stops first (its vehicle in hand finished, other leases released): app.close()
       // closes the database.
-      Promise.resolve(worker?.stop())
+      Promise.all([worker?.stop(), reports?.stop()])
         .then(() => app.close())
         .then(
           () => {

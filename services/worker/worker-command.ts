@@ -4,6 +4,7 @@ import { loadConfig } from '../config.js';
 import { openDatabase } from '../db/database.js';
 import { migrateToLatest } from '../db/migrator.js';
 import { AnalysisRuns } from './analysis-runs.js';
+import { startReportSchedule } from './report-schedule.js';
 import { Worker } from './worker.js';
 
 const HELP = `usage: thermocline worker [--once]
@@ -18,7 +19,8 @@ options:
   -h, --help    show this help
 
 environment: DATABASE_URL (required: the embedded database belongs to the API process, whose
-in-process worker analyses it), WORKER_POLL_MS, WORKER_LEASE_MS, WORKER_BATCH_SIZE, LOG_LEVEL.
+in-process worker analyses it), WORKER_POLL_MS, WORKER_LEASE_MS, WORKER_BATCH_SIZE, LOG_LEVEL,
+REPORT_SCHEDULE, REPORT_WEEKDAY, REPORT_HOUR, REPORT_DIR (the weekly report is built on schedule).
 `;
 
 export async function run(argv: string[]): Promise<number> {
@@ -48,6 +50,7 @@ export async function run(argv: string[]): Promise<number> {
     }
     const worker = new Worker({ handle: database, pollMs: config.workerPollMs, leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize, logger });
     worker.start();
+    const reports = startReportSchedule(config, database, logger);
     await new Promise<void>((resolve) => {
       const stop = (signal: string) => {
         logger.info({ signal }, 'stopping: finishing the vehicle in hand, releasing the other leases');
@@ -56,7 +59,7 @@ export async function run(argv: string[]): Promise<number> {
       process.once('SIGTERM', () => stop('SIGTERM'));
       process.once('SIGINT', () => stop('SIGINT'));
     });
-    await worker.stop();
+    await Promise.all([worker.stop(), reports?.stop()]);
     return 0;
   } finally {
     await database.close();
