@@ -1,6 +1,7 @@
 import { measureAnalysisThroughput } from '../services/analysis/measure-throughput.js';
 import { measureSimulatorThroughput } from '../services/simulator/simulate-command.js';
 import { cpus, loadavg } from 'node:os';
+import { benchAnalysisE2e } from './analysis-e2e.js';
 import { benchIngest } from './ingest.js';
 import { DEFAULT_SERVER_URL } from './bench-server.js';
 
@@ -43,6 +44,17 @@ if (want('analysis')) {
   lines.push(
     `analysis library (runs, warm-up fits, day aggregates, sensor checks over typed arrays, one core)`,
     `  ${fmt(r.readings)} readings in ${r.seconds.toFixed(2)} s: ${fmt(r.readingsPerSecond).padStart(10)} readings/s   ratio to the 5,000,000/s target ${(r.readingsPerSecond / 5_000_000).toFixed(2)}`,
+  );
+}
+if (want('worker')) {
+  const r = await benchAnalysisE2e(serverUrl);
+  const t = r.throughput;
+  lines.push(
+    `analysis end to end on PostgreSQL (database → runs, days, findings, risk)`,
+    `  ${fmt(t.readings)} readings of ${t.vehicles} vehicles in ${t.seconds.toFixed(1)} s wall: ${fmt(t.readingsPerS)} readings/s; CPU worker ${t.workerCpuS.toFixed(2)} s + PostgreSQL ${t.postgresCpuS.toFixed(2)} s`,
+    `  per core: ${fmt(t.readingsPerCoreS).padStart(10)} readings/s   ratio to the 1,000,000/s target ${(t.readingsPerCoreS / 1_000_000).toFixed(2)}  (read only ${fmt(t.readOnlyReadingsPerS)}/s, analysis only ${fmt(t.analyseOnlyReadingsPerS)}/s)`,
+    `  worker peak RSS: ${r.memory.small.vehicles} vehicles ${r.memory.small.peakRssMb.toFixed(0)} MB, ${r.memory.large.vehicles} vehicles ${r.memory.large.peakRssMb.toFixed(0)} MB: ratio ${r.memory.ratio.toFixed(2)} (flat = about 1)`,
+    `  GET /v1/fleet/at-risk, ${fmt(r.atRisk.vehicles)} vehicles, ${fmt(r.atRisk.findings)} findings, ${r.atRisk.requests} requests: p50 ${r.atRisk.p50Ms.toFixed(1)} ms, p99 ${r.atRisk.p99Ms.toFixed(1)} ms   ratio to the 20 ms target ${(r.atRisk.p99Ms / 20).toFixed(2)}`,
   );
 }
 const load = loadavg().map((l) => l.toFixed(2)).join(' ');
