@@ -2,6 +2,7 @@ import type { AnalysisConfig } from './config.js';
 import type { HotEpisode, RunMetrics } from './run-metrics.js';
 import { FLAG_ENGINE_ON, FLAG_IMPLAUSIBLE, FLAG_MOVING, FLAG_OUT_OF_RANGE, FLAG_RATE, FLAG_WARM } from './sample-flags.js';
 import { MS_PER_DAY, MS_PER_S, type SampleArrays, utcDay } from './sample-arrays.js';
+import { isTransportGap } from './transport-gap.js';
 
 /**
  * One vehicle-day (UTC), flat and JSON-serialisable; `null` where there was nothing to
@@ -43,9 +44,10 @@ export interface DayAggregate {
   idleFraction: number;
   rateFlagCount: number;
   outOfRangeCount: number;
+  /** Gaps lost in transport (the vehicle moving on both sides; engine-off stops are not gaps). */
   dropoutCount: number;
   missingS: number;
-  /** Share of running time missing (dropouts within runs), 0..1. */
+  /** Share of running time missing (transport gaps within runs), 0..1. */
   missingFraction: number;
 }
 
@@ -98,7 +100,7 @@ export function aggregateDays(
       if ((f & FLAG_ENGINE_ON) === 0) continue;
       on++;
       const dt = i + 1 < n ? ts[i + 1]! - ts[i]! : periodMs;
-      if (dt > dropoutMs && dt <= gapMs) {
+      if (dt > dropoutMs && dt <= gapMs && i + 1 < n && isTransportGap(f, flags[i + 1]!)) {
         dropouts++;
         missingMs += dt - periodMs;
       }

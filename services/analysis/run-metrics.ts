@@ -1,6 +1,7 @@
 import type { AnalysisConfig } from './config.js';
 import { FLAG_ENGINE_ON, FLAG_IMPLAUSIBLE, FLAG_MOVING, FLAG_OUT_OF_RANGE, FLAG_RATE, FLAG_WARM } from './sample-flags.js';
 import { MS_PER_S, type SampleArrays } from './sample-arrays.js';
+import { isTransportGap } from './transport-gap.js';
 import type { VehicleProfile } from './vehicle-profile.js';
 import { fitWarmupCurve, operatingMetrics } from './warmup-metrics.js';
 
@@ -62,6 +63,7 @@ export interface RunMetrics {
   hotPeakC: number | null;
   rateFlagCount: number;
   outOfRangeCount: number;
+  /** Gaps lost in transport (the vehicle moving on both sides; engine-off stops are not gaps). */
   dropoutCount: number;
   missingS: number;
   /** Highest minus lowest plausible coolant reading, °C. */
@@ -149,7 +151,7 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
     const f = flags[i]!;
     const t = ts[i]!;
     const dt = i + 1 < b ? ts[i + 1]! - t : periodS * MS_PER_S;
-    if (dt > dropoutMs) {
+    if (dt > dropoutMs && i + 1 < b && isTransportGap(f, flags[i + 1]!)) {
       dropouts++;
       missingMs += dt - periodS * MS_PER_S;
     }

@@ -23,13 +23,28 @@ export function boilMarginFinding(days: readonly DayAggregate[], baselineStart: 
     key: findingKey('boil-margin', null, baselineStart), kind: 'boil-margin', subKind: null, severity,
     confidence: round(Math.min(1, 0.6 + 0.1 * thin.length), 3),
     firstSeen: thin[0]!.dayStartMs, lastSeen: thin[thin.length - 1]!.dayStartMs,
-    summary: `On ${isoDay(worst.dayStartMs)} the coolant reached ${round(worst.peakCoolantC!, 0)} °C, only ${round(margin, 1)} °C below its `
-      + `boiling point of ${round(boilingPointC, 0)} °C under the pressure cap.`,
+    summary: boilMarginSummary(worst.dayStartMs, worst.peakCoolantC!, margin, boilingPointC),
     recommendedCheck: 'Check the pressure cap, coolant level and mixture, radiator and fan before the next heavy duty. ' + SAFETY_CAUTION,
     troubleCode: 'P0217',
     metrics: { boilingPointC: round(boilingPointC, 1), minMarginC: round(margin, 1), daysThin: thin.length },
     evidence: thin.map((d) => ({ at: d.dayStartMs, scope: 'day' as const, metric: 'peakCoolantC', value: round(d.peakCoolantC!), expected: round(boilingPointC), z: null })),
   };
+}
+
+/**
+ * The boil-margin sentence: "only x °C below" while there is a margin, "at" or "x °C above"
+ * once the peak has reached the boiling point (the coolant has then boiled or the cap has lifted).
+ */
+function boilMarginSummary(dayMs: number, peakC: number, marginC: number, boilingPointC: number): string {
+  const shownMarginC = round(marginC, 1);
+  // Whole degrees read well while there is a margin; at or past the boiling point the tenths
+  // show why "above" is said of two temperatures that would round to the same degree.
+  const digits = shownMarginC > 1 ? 0 : 1;
+  const reached = `On ${isoDay(dayMs)} the coolant reached ${round(peakC, digits)} °C, `;
+  const boiling = `boiling point of ${round(boilingPointC, digits)} °C under the pressure cap`;
+  if (shownMarginC > 0) return `${reached}only ${shownMarginC} °C below its ${boiling}.`;
+  if (shownMarginC === 0) return `${reached}at its ${boiling}: it may have boiled or lifted the cap.`;
+  return `${reached}${round(-marginC, 1)} °C above its ${boiling}: it has boiled or lifted the cap.`;
 }
 
 /**
