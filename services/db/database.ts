@@ -49,9 +49,9 @@ export async function openDatabase(options: DatabaseOptions): Promise<DatabaseHa
     pool.on('error', (err) => options.onPoolError?.(err));
     // pg-pool listens only on idle clients: a checked-out client whose connection dies between
     // queries (a transaction waiting for more of a streamed body when the server restarts) would
-    // emit an unhandled 'error' and crash the process. Its next query fails instead, and the
-    // request answers 503.
-    pool.on('connect', (client) => client.on('error', (err) => options.onPoolError?.(err)));
+    // emit an unhandled 'error' and crash the process. Ignoring it here is safe: the client's next
+    // query fails with the error, and the request answers 503.
+    pool.on('connect', (client) => client.on('error', () => undefined));
     const db = new Kysely<Database>({ dialect: new PostgresDialect({ pool }) });
     return {
       db,

@@ -61,9 +61,10 @@ export function parseTimestamp(ts: unknown): number {
 }
 
 /**
- * Channels are stored as float4 (about 7 significant digits), which cannot hold magnitudes below
- * about 1e-38: Postgres refuses 5e-324 with "value out of range: underflow". Rounding to 1e-6 of
- * the unit loses nothing float4 keeps for values of the channels' size and makes such values 0.
+ * Channels are stored as float4 (about 7 significant digits), and Postgres refuses a value too
+ * small for it (5e-324 fails the whole batch with "value out of range: underflow"). Rounding to
+ * 1e-6 of the unit loses nothing float4 keeps for values of the channels' size and makes such
+ * values 0.
  */
 const STORED_RESOLUTION = 1e6;
 function stored(value: number): number {
