@@ -2,6 +2,7 @@ import { sql } from 'kysely';
 import type { DatabaseHandle } from '../services/db/database.js';
 import { createFleetsRepository } from '../services/db/fleets-repository.js';
 import { monthIndexOf, PartitionKeeper } from '../services/db/partitions.js';
+import { refreshOpenFindingsBrief } from '../services/db/vehicle-risk.js';
 
 const DAY_MS = 86_400_000;
 export const BENCH_START_MS = Date.UTC(2026, 8, 7);
@@ -65,6 +66,7 @@ export async function seedFindings(h: DatabaseHandle, fleetId: string, vehicles:
              (array['advisory', 'warning', 'critical'])[max(case severity when 'advisory' then 1 when 'warning' then 2 else 3 end)] as max_sev
       from findings where findings.vehicle_id = v.vehicle_id) f on true
     where v.fleet_id = ${fleetId}`.execute(db);
+  await refreshOpenFindingsBrief(db, sql`a.fleet_id = ${fleetId}`);
   await sql`analyze`.execute(db);
   const n = await sql<{ n: number }>`select count(*)::int as n from findings where fleet_id = ${fleetId}`.execute(db);
   return n.rows[0]?.n ?? 0;

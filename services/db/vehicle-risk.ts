@@ -1,4 +1,4 @@
-import { sql, type Kysely } from 'kysely';
+import { sql, type Kysely, type RawBuilder } from 'kysely';
 import { resolveConfig } from '../analysis/config.js';
 import type { Severity } from '../analysis/findings/finding.js';
 import { riskScore } from '../analysis/risk-score.js';
@@ -6,11 +6,45 @@ import type { Database } from './schema.js';
 
 const SEVERITY_RANK: Record<Severity, number> = { advisory: 1, warning: 2, critical: 3 };
 
+/** One open finding as the at-risk list shows it (vehicle_analysis.open_findings_brief, migration 0004). */
+export interface FindingBriefView {
+  id: string;
+  kind: string;
+  severity: Severity;
+  confidence: number;
+  /** ISO 8601. */
+  firstSeen: string;
+  lastSeen: string;
+  summary: string;
+  recommendedCheck: string;
+  troubleCode: string | null;
+}
+
+/** ISO 8601 in UTC with milliseconds, as Date.prototype.toISOString prints it. */
+const isoText = (column: string) => sql.raw(`to_char(f.${column} AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"')`);
+
 /**
- * Recomputes a vehicle's risk, open-finding count and highest open severity from its stored
- * `open` findings (acknowledged and resolved ones do not count, as in `riskScore`), at the
- * vehicle's analysis time (its latest reading), and stores them in vehicle_analysis. Called by
- * the worker after each pass and by the planner actions that change a finding's status.
+ * Rebuilds `open_findings_brief` of the vehicle_analysis rows (alias `a`) matching `where` from
+ * their open findings, in one statement.
+ */
+export async function refreshOpenFindingsBrief(trx: Kysely<Database>, where: RawBuilder<unknown>): Promise<void> {
+  await sql`
+    update vehicle_analysis a set open_findings_brief = coalesce((
+      select jsonb_agg(jsonb_build_object(
+               'id', f.finding_id, 'kind', f.kind, 'severity', f.severity, 'confidence', f.confidence,
+               'firstSeen', ${isoText('first_seen')}, 'lastSeen', ${isoText('last_seen')},
+               'summary', f.summary, 'recommendedCheck', f.recommended_check, 'troubleCode', f.trouble_code)
+               order by case f.severity when 'critical' then 0 when 'warning' then 1 else 2 end, f.confidence desc, f.finding_id)
+      from findings f where f.vehicle_id = a.vehicle_id and f.status = 'open'), '[]'::jsonb)
+    where ${where}`.execute(trx);
+}
+
+/**
+ * Recomputes a vehicle's risk, open-finding count, highest open severity and the brief of its
+ * open findings from its stored `open` findings (acknowledged and resolved ones do not count, as
+ * in `riskScore`), at the vehicle's analysis time (its latest reading), and stores them in
+ * vehicle_analysis, where the at-risk list reads them without touching findings. Called by the
+ * worker after each pass and by the planner actions that change a finding's status.
  */
 export async function refreshVehicleRisk(trx: Kysely<Database>, vehicleId: string): Promise<number | undefined> {
   const state = await trx.selectFrom('vehicle_analysis as a').innerJoin('vehicles as v', 'v.vehicle_id', 'a.vehicle_id')
@@ -24,5 +58,6 @@ export async function refreshVehicleRisk(trx: Kysely<Database>, vehicleId: strin
   let max: Severity | null = null;
   for (const f of open) if (max === null || SEVERITY_RANK[f.severity] > SEVERITY_RANK[max]) max = f.severity;
   await sql`update vehicle_analysis set risk_score = ${risk}, open_findings = ${open.length}, max_severity = ${max} where vehicle_id = ${vehicleId}`.execute(trx);
+  await refreshOpenFindingsBrief(trx, sql`a.vehicle_id = ${vehicleId}`);
   return risk;
 }

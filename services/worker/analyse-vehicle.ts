@@ -7,9 +7,10 @@ import { utcDayStartMs } from '../analysis/sample-arrays.js';
 import type { SensorEvent } from '../analysis/sensor-events.js';
 import type { DatabaseHandle } from '../db/database.js';
 import { refreshVehicleRisk } from '../db/vehicle-risk.js';
-import { createAnalysisStore, type WindowResults } from './analysis-store.js';
+import { createAnalysisStore, type VehicleState, type WindowResults } from './analysis-store.js';
 import { syncFindings } from './findings-sync.js';
 import type { PeerBaselines } from './peer-baselines.js';
+import type { SampleArrays } from '../analysis/sample-arrays.js';
 import type { Lease, QueueRepository } from './queue-repository.js';
 import { latestReading, readingBefore, readWindow } from './readings-window.js';
 
@@ -58,6 +59,47 @@ function finalPart(r: WindowResults, beforeMs: number): WindowResults {
   };
 }
 
+/** What a pass reads before analysing: the window and its first slice of readings. */
+export interface PreparedVehicle {
+  /** When the preparation began, ms (logged as the pass's start). */
+  startedAt: number;
+  state: VehicleState;
+  windowFromMs: number;
+  /** Latest reading in the window, ms; undefined when the window is empty. */
+  lastMs: number | undefined;
+  /** Last reading before the window, ms (for the gap before its first run). */
+  previousRunEndMs: number | undefined;
+  /** The first slice's readings (up to WINDOW_SLICE_DAYS), when the window has any. */
+  first: { toMs: number; arrays: SampleArrays } | undefined;
+}
+
+/**
+ * Step 1 and the first read of step 2 of `analyseVehicle`, separated so a worker can read the next
+ * leased vehicle's window while it analyses and writes the current one (on a server the two run
+ * on different connections, so Postgres and the worker work in parallel).
+ */
+export async function prepareVehicle(handle: DatabaseHandle, lease: Lease, nowMs: number): Promise<PreparedVehicle> {
+  const startedAt = Date.now();
+  const store = createAnalysisStore(handle.db);
+  const state = await store.vehicleState(lease.vehicleId);
+  const cfg = resolveConfig(state.profile.engineFamily);
+  const dirtyDay = Number.isFinite(lease.windowFromMs) ? utcDayStartMs(lease.windowFromMs) : Infinity;
+  let windowFrom = Math.min(state.resumeFromMs ?? Infinity, dirtyDay);
+  if (!Number.isFinite(windowFrom)) windowFrom = utcDayStartMs(state.lastReadingMs ?? nowMs);
+  windowFrom = await store.extendOverStoredRuns(lease.vehicleId, windowFrom, cfg.runGapS * 1000);
+  const lastMs = await latestReading(handle, lease.vehicleId, windowFrom);
+  if (lastMs === undefined) return { startedAt, state, windowFromMs: windowFrom, lastMs, previousRunEndMs: undefined, first: undefined };
+  const previousRunEndMs = await readingBefore(handle, lease.vehicleId, windowFrom);
+  const toMs = sliceEnd(windowFrom, WINDOW_SLICE_DAYS * DAY_MS, lastMs);
+  const arrays = await readWindow(handle, lease.vehicleId, windowFrom, toMs);
+  return { startedAt, state, windowFromMs: windowFrom, lastMs, previousRunEndMs, first: { toMs, arrays } };
+}
+
+/** End (exclusive) of the slice from `fromMs`: `sliceMs` later, or just past the last reading. */
+function sliceEnd(fromMs: number, sliceMs: number, lastMs: number): number {
+  return fromMs + sliceMs > lastMs ? lastMs + 1 : fromMs + sliceMs;
+}
+
 /**
  * One pass over one leased vehicle:
  * 1. window start: the earlier of its watermark (`resume_from`, the day its open run began)
@@ -73,28 +115,27 @@ function finalPart(r: WindowResults, beforeMs: number): WindowResults {
  *    start on, syncs the findings, records the watermark, refreshes the risk and finishes the
  *    lease. Re-running over the same data writes the same rows.
  */
-export async function analyseVehicle(ctx: AnalyseContext, lease: Lease): Promise<VehicleOutcome> {
+export async function analyseVehicle(ctx: AnalyseContext, lease: Lease, prepared?: PreparedVehicle): Promise<VehicleOutcome> {
   const { handle, queue, workerId } = ctx;
   const store = createAnalysisStore(handle.db);
-  const state = await store.vehicleState(lease.vehicleId);
+  const p = prepared ?? (await prepareVehicle(handle, lease, ctx.nowMs));
+  const { state, lastMs } = p;
+  const windowFrom = p.windowFromMs;
   const cfg = resolveConfig(state.profile.engineFamily);
-  const gapMs = cfg.runGapS * 1000;
-  const dirtyDay = Number.isFinite(lease.windowFromMs) ? utcDayStartMs(lease.windowFromMs) : Infinity;
-  let windowFrom = Math.min(state.resumeFromMs ?? Infinity, dirtyDay);
-  if (!Number.isFinite(windowFrom)) windowFrom = utcDayStartMs(state.lastReadingMs ?? ctx.nowMs);
-  windowFrom = await store.extendOverStoredRuns(lease.vehicleId, windowFrom, gapMs);
 
   const fresh: WindowResults = { runs: [], days: [], sensorEvents: [] };
   let readings = 0;
   let resumeFromMs: number | null = null;
-  const lastMs = await latestReading(handle, lease.vehicleId, windowFrom);
   if (lastMs !== undefined) {
     let from = windowFrom;
-    let previousRunEndMs = await readingBefore(handle, lease.vehicleId, from);
+    let previousRunEndMs = p.previousRunEndMs;
     let sliceMs = WINDOW_SLICE_DAYS * DAY_MS;
+    let first = p.first;
     for (;;) {
       const last = from + sliceMs > lastMs;
-      const arrays = await readWindow(handle, lease.vehicleId, from, last ? lastMs + 1 : from + sliceMs);
+      const toMs = sliceEnd(from, sliceMs, lastMs);
+      const arrays = first && first.toMs === toMs ? first.arrays : await readWindow(handle, lease.vehicleId, from, toMs);
+      first = undefined;
       const a = analyseSamples({ ...arrays, ...(previousRunEndMs !== undefined ? { previousRunEndMs } : {}), ...(last ? { nowMs: ctx.nowMs } : {}) }, state.profile, cfg);
       const stored = (x: { truncatedStart: boolean }) => !x.truncatedStart;
       if (last) {

@@ -69,15 +69,19 @@ export async function readWindowByCopy(pool: pg.Pool, vehicleId: string, fromMs:
 
 /** Decodes binary COPY tuples (ts timestamptz, then four real columns, nullable) into arrays. */
 export function decodeBinaryWindow(buf: Buffer): SampleArrays {
-  let n = 0;
-  let p = HEADER_BYTES + (buf.length >= HEADER_BYTES ? buf.readInt32BE(15) : 0);
+  // A DataView over the bytes reads big-endian words inline (Buffer#readInt32BE and friends
+  // bounds-check each call); the row count comes from a first pass over the field lengths only.
+  const view = new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
+  const end = buf.byteLength;
+  let p = HEADER_BYTES + (end >= HEADER_BYTES ? view.getInt32(15) : 0);
   const start = p;
-  while (p + 2 <= buf.length) {
-    const fields = buf.readInt16BE(p);
+  let n = 0;
+  while (p + 2 <= end) {
+    const fields = view.getInt16(p);
     p += 2;
     if (fields < 0) break;
     for (let j = 0; j < fields; j++) {
-      const len = buf.readInt32BE(p);
+      const len = view.getInt32(p);
       p += 4 + (len > 0 ? len : 0);
     }
     n++;
@@ -89,18 +93,18 @@ export function decodeBinaryWindow(buf: Buffer): SampleArrays {
   const printed = new Map<number, number>();
   p = start;
   for (let i = 0; i < n; i++) {
-    const fields = buf.readInt16BE(p);
+    const fields = view.getInt16(p);
     p += 2 + 4;
-    const micros = buf.readInt32BE(p) * TWO_POW_32 + buf.readUInt32BE(p + 4);
+    const micros = view.getInt32(p) * TWO_POW_32 + view.getUint32(p + 4);
     out.ts[i] = Math.round(micros / 1000) + PG_EPOCH_MS;
     p += 8;
     for (let j = 1; j < fields; j++) {
-      const len = buf.readInt32BE(p);
+      const len = view.getInt32(p);
       p += 4;
       const target = reals[j - 1]!;
       if (len < 0) target[i] = NaN;
       else {
-        target[i] = float4AsPrinted(buf.readFloatBE(p), printed);
+        target[i] = float4AsPrinted(view.getFloat32(p), printed);
         p += len;
       }
     }

@@ -3,21 +3,10 @@ import { sql } from 'kysely';
 import { Type } from 'typebox';
 import type { Severity } from '../../analysis/findings/finding.js';
 import { severitiesFrom } from '../../db/findings-repository.js';
+import type { FindingBriefView } from '../../db/vehicle-risk.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { FindingBrief, SeveritySchema } from '../schemas/finding.js';
-
-interface BriefRow {
-  id: string;
-  kind: string;
-  severity: Severity;
-  confidence: number;
-  firstSeen: number;
-  lastSeen: number;
-  summary: string;
-  recommendedCheck: string;
-  troubleCode: string | null;
-}
 
 /** The planner's fleet view: which vehicles are at risk, and why. */
 const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
@@ -58,31 +47,23 @@ const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
       if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
       const fleetId = principal.fleetId ?? request.query.fleet ?? null;
       const severities = severitiesFrom(request.query.minSeverity ?? 'advisory');
-      // One round trip: the top vehicles come from vehicle_analysis_risk_idx (fleet_id, risk_score
-      // desc, vehicle_id) without sorting the fleet, their open findings from
-      // findings_vehicle_status_idx, aggregated per vehicle as JSON (times as epoch ms).
-      const top = await sql<{ vehicle_id: string; risk_score: number; max_severity: Severity; last_reading_at: Date | null; findings: BriefRow[] }>`
-        select a.vehicle_id, a.risk_score, a.max_severity, a.last_reading_at,
-               coalesce((
-                 select json_agg(json_build_object(
-                          'id', f.finding_id, 'kind', f.kind, 'severity', f.severity, 'confidence', f.confidence,
-                          'firstSeen', date_part('epoch', f.first_seen) * 1000, 'lastSeen', date_part('epoch', f.last_seen) * 1000,
-                          'summary', f.summary, 'recommendedCheck', f.recommended_check, 'troubleCode', f.trouble_code)
-                        order by case f.severity when 'critical' then 0 when 'warning' then 1 else 2 end, f.confidence desc, f.finding_id)
-                 from findings f
-                 where f.vehicle_id = a.vehicle_id and f.status = 'open' and f.severity = any(${severities}::text[])), '[]') as findings
+      // One index range scan of vehicle_analysis_risk_idx (fleet_id, risk_score desc, vehicle_id), no
+      // sort, no join: each vehicle's open findings are kept beside its risk as JSON (migration 0004),
+      // already in the response's shape and order.
+      const top = await sql<{ vehicle_id: string; risk_score: number; max_severity: Severity; last_reading_at: Date | null; brief: FindingBriefView[] }>`
+        select a.vehicle_id, a.risk_score, a.max_severity, a.last_reading_at, a.open_findings_brief as brief
         from vehicle_analysis a
         where (${fleetId}::text is null or a.fleet_id = ${fleetId}) and a.open_findings > 0 and a.max_severity = any(${severities}::text[])
         order by a.risk_score desc, a.vehicle_id
         limit ${request.query.limit}`.execute(db);
-      const iso = (ms: number) => new Date(Math.round(ms)).toISOString();
+      const all = severities.length === 3;
       return {
         vehicles: top.rows.map((v) => ({
           vehicleId: v.vehicle_id,
           riskScore: v.risk_score,
           maxSeverity: v.max_severity,
           analysedUpTo: v.last_reading_at?.toISOString() ?? null,
-          findings: v.findings.map((f) => ({ ...f, firstSeen: iso(f.firstSeen), lastSeen: iso(f.lastSeen) })),
+          findings: all ? v.brief : v.brief.filter((f) => severities.includes(f.severity)),
         })),
       };
     },
