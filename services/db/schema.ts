@@ -146,6 +146,8 @@ export interface VehicleAnalysisTable {
   last_reading_at: Date | null;
   readings_analysed: Generated<BigIntColumn>;
   analysed_at: Generated<Date>;
+  /** The open findings as the at-risk list shows them (migration 0004, kept by refreshVehicleRisk). */
+  open_findings_brief: Generated<Json<unknown[]>>;
 }
 
 export interface PeerBaselinesTable {
