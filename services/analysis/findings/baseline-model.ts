@@ -45,18 +45,21 @@ export function fitBaseline(rows: readonly ModelRow[]): BaselineModel | null {
 
 /**
  * Expected y of a row under a model, with each predictor clamped to the range the model
- * was fitted on (a linear fit learned in mild weather says little about a cold snap).
+ * was fitted on (a linear fit learned in mild weather says little about a cold snap),
+ * except predictors marked in `extrapolates` (physically grounded forms).
  */
-export function expected(model: BaselineModel, row: ModelRow): number {
-  return predict(model, row.x.map((v, c) => Math.min(Math.max(v, model.xMin[c] ?? v), model.xMax[c] ?? v)));
+export function expected(model: BaselineModel, row: ModelRow, extrapolates?: readonly boolean[]): number {
+  return predict(model, row.x.map((v, c) => (extrapolates?.[c] ? v : Math.min(Math.max(v, model.xMin[c] ?? v), model.xMax[c] ?? v))));
 }
 
 /**
  * Robust z-score of a row in the feature's bad direction, capped at ±zCap; null for a
  * censored row that does not yet exceed the expectation (inconclusive).
  */
-export function badZ(model: BaselineModel, row: ModelRow, direction: 1 | -1, floor: number, zCap: number): number | null {
-  const z = (direction * (row.y - expected(model, row))) / Math.max(model.sigma, floor);
+export function badZ(
+  model: BaselineModel, row: ModelRow, direction: 1 | -1, floor: number, zCap: number, extrapolates?: readonly boolean[],
+): number | null {
+  const z = (direction * (row.y - expected(model, row, extrapolates))) / Math.max(model.sigma, floor);
   if (row.censored && z <= 0) return null;
   return Math.max(-zCap, Math.min(zCap, z));
 }

@@ -17,6 +17,10 @@ export interface RunFeature {
   metric: keyof RunMetrics;
   /** +1: higher than expected is bad; −1: lower is bad. */
   direction: 1 | -1;
+  /** Index of the ambient predictor (°C) in x, for the scorer's ambient range check; default 0. */
+  ambientPredictor?: number;
+  /** Per predictor: true when predictions may extrapolate beyond the fitted range (default: clamped). */
+  extrapolates?: readonly boolean[];
   extract(r: RunMetrics, cfg: AnalysisConfig): Omit<FeatureRow, 'run'> | null;
   /** Shown value of the evidence for a row of run `r` (inverse of the y transform). */
   display(y: number, r: RunMetrics): number;
@@ -30,13 +34,19 @@ const MIN_DEFICIT_C = 5;
 const ambientOf = (r: RunMetrics) => r.startAmbientC ?? r.ambientMeanC ?? DEFAULT_AMBIENT_C;
 
 /**
- * Warm-up time: ln(time to the 20 °F target), explained by ln(start deficit), ambient and
- * the share of idling. Censored by the run's length when the target was never reached.
+ * Warm-up time: ln(time to the 20 °F target), explained by ln(start deficit), ambient at
+ * start and the share of idling. Censored by the run's length when the target was never
+ * reached. The ambient range check must look at the second predictor (it used to test
+ * ln(deficit) and let cold-snap runs through against a mild-weather baseline). ln(deficit)
+ * extrapolates: a first-order warm-up takes τ·ln((T∞ − T0)/(T∞ − T_target)), so a colder
+ * start lengthens it in that form.
  */
 export const WARMUP_TIME: RunFeature = {
   name: 'warmupTime',
   metric: 'timeToTargetS',
   direction: 1,
+  ambientPredictor: 1,
+  extrapolates: [true, false, false],
   extract(r) {
     if (!r.warmupEligible || r.startCoolantC === null) return null;
     const x = [Math.log(Math.max(r.warmupTargetC - r.startCoolantC, MIN_DEFICIT_C)), ambientOf(r), r.warmupIdleFraction];

@@ -44,7 +44,7 @@ export function scoreFeature(
   let model = own ?? peerModel;
   let source: ScoredFeature['source'] = own ? 'own' : peerModel ? 'peer' : null;
   if (own && peerModel) {
-    const zs = baselineRows.map((r) => badZ(peerModel, r, feature.direction, floor, cfg.zCap)).filter((z): z is number => z !== null);
+    const zs = baselineRows.map((r) => badZ(peerModel, r, feature.direction, floor, cfg.zCap, feature.extrapolates)).filter((z): z is number => z !== null);
     if (median(zs) > ABNORMAL_BASELINE_Z) {
       model = peerModel;
       source = 'peer';
@@ -55,11 +55,12 @@ export function scoreFeature(
   for (const row of rows) {
     // Judge only within the ambient range a model has seen: an own baseline learned in mild
     // weather says nothing about a cold snap, so such runs go to the peers or are skipped.
-    const m = [model, peerModel].find((c): c is BaselineModel => c !== null && ambientCovered(c, row));
+    const m = [model, peerModel].find((c): c is BaselineModel => c !== null && ambientCovered(c, row, feature.ambientPredictor ?? 0));
     if (!m) continue;
-    const z = badZ(m, row, feature.direction, floor, cfg.zCap);
+    const z = badZ(m, row, feature.direction, floor, cfg.zCap, feature.extrapolates);
     if (z === null) continue;
-    scored.push({ run: row.run, feature, z, value: feature.display(row.y, row.run), expected: feature.display(expected(m, row), row.run) });
+    const e = expected(m, row, feature.extrapolates);
+    scored.push({ run: row.run, feature, z, value: feature.display(row.y, row.run), expected: feature.display(e, row.run) });
   }
   return { scored, source };
 }
@@ -67,11 +68,11 @@ export function scoreFeature(
 /** How far outside its fitted ambient range a model may still be used, °C. */
 const AMBIENT_MARGIN_C = 3;
 
-/** True when the row's first predictor (ambient, °C, in every ambient-explained feature) is within the model's range. */
-function ambientCovered(model: BaselineModel, row: FeatureRow): boolean {
-  if (row.x.length === 0 || model.xMin.length === 0) return true;
-  const a = row.x[0]!;
-  return a >= model.xMin[0]! - AMBIENT_MARGIN_C && a <= model.xMax[0]! + AMBIENT_MARGIN_C;
+/** True when the row's ambient predictor (°C, at index `at`) is within the model's range. */
+function ambientCovered(model: BaselineModel, row: FeatureRow, at: number): boolean {
+  if (row.x.length <= at || model.xMin.length <= at) return true;
+  const a = row.x[at]!;
+  return a >= model.xMin[at]! - AMBIENT_MARGIN_C && a <= model.xMax[at]! + AMBIENT_MARGIN_C;
 }
 
 /**
