@@ -17,4 +17,3 @@ export { SAFETY_CAUTION, type EvidenceItem, type Finding, type FindingKind, type
 export { resolvedKinds, type ServiceEvent, type ServiceEventKind } from './findings/service-events.js';
 export { coolantBoilingPointC, saturationTemperatureK } from './physics/boiling-point.js';
 export { freezingPointC } from './physics/freezing-point.js';
-export { measureAnalysisThroughput } from './measure-throughput.js';
