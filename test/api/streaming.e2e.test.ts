@@ -64,10 +64,13 @@ describe('streaming ingest over a socket', () => {
   it('stores a 200,000-line NDJSON stream sent in small chunks with bounded memory', async () => {
     const LINES = 200_000;
     const PER_WRITE = 200;
-    const rssBefore = process.memoryUsage().rss;
-    let rssPeak = rssBefore;
+    const before = process.memoryUsage();
+    let rssPeak = before.rss;
+    let heapPeak = before.heapUsed;
     const sampler = setInterval(() => {
-      rssPeak = Math.max(rssPeak, process.memoryUsage().rss);
+      const m = process.memoryUsage();
+      rssPeak = Math.max(rssPeak, m.rss);
+      heapPeak = Math.max(heapPeak, m.heapUsed);
     }, 25);
     try {
       const { req, reply } = startPost(base, key);
@@ -79,9 +82,14 @@ describe('streaming ingest over a socket', () => {
       clearInterval(sampler);
     }
     expect(await t.countReadings(['S-0', 'S-1', 'S-2', 'S-3'])).toBe(LINES);
-    // Server and client share this process, so this bounds both (measured: about 35 MB); a server
-    // that buffered the body would hold all 200,000 parsed readings at once.
-    expect((rssPeak - rssBefore) / 2 ** 20).toBeLessThan(150);
+    // Server and client share this process, so this bounds both; a server that buffered the body
+    // would hold the 20 MB of text and all 200,000 parsed readings at once. The JS heap is the
+    // honest measure on both databases (measured: under 40 MB of growth). RSS is checked on the
+    // server database only: PGlite runs inside this process, and its WebAssembly memory grows with
+    // the pages it caches and never shrinks, which says nothing about request buffering.
+    console.log(`streaming 200k lines: heap +${((heapPeak - before.heapUsed) / 2 ** 20).toFixed(0)} MB, rss +${((rssPeak - before.rss) / 2 ** 20).toFixed(0)} MB`);
+    expect((heapPeak - before.heapUsed) / 2 ** 20).toBeLessThan(80);
+    if (testDatabaseKind() === 'postgres') expect((rssPeak - before.rss) / 2 ** 20).toBeLessThan(150);
   });
 
   it('stores a gzip-compressed NDJSON stream', async () => {
