@@ -73,9 +73,17 @@ export async function benchIngest(serverUrl: string): Promise<IngestBenchResult>
     const copySeconds = (performance.now() - t0) / 1000;
     if ((await count(h, 'readings_copy')) !== ROWS) throw new Error('\\copy did not load every row');
 
-    log('HTTP: JSON batches of 1,000, 4 concurrent clients');
+    // A gateway sits in one vehicle: each JSON batch is 1,000 consecutive readings of one vehicle,
+    // posted by 4 gateways at once (the same rows as \copy, regrouped).
+    log('HTTP: JSON batches of 1,000 readings of one vehicle each, 4 concurrent gateways');
+    const byVehicle = new Map<string, string[]>();
+    for (const r of rows) {
+      let list = byVehicle.get(r.vehicleId);
+      if (!list) byVehicle.set(r.vehicleId, (list = []));
+      list.push(ndjsonLine(r));
+    }
     const jsonBodies: string[] = [];
-    for (let i = 0; i < ROWS; i += 1000) jsonBodies.push(`{"unit":"C","readings":[${rows.slice(i, i + 1000).map(ndjsonLine).join(',')}]}`);
+    for (const list of byVehicle.values()) for (let i = 0; i < list.length; i += 1000) jsonBodies.push(`{"unit":"C","readings":[${list.slice(i, i + 1000).join(',')}]}`);
     const json = await postAll(server.baseUrl, key, 'application/json', jsonBodies, 4);
     if (json.accepted !== ROWS || (await count(h, 'readings')) !== ROWS) throw new Error('JSON ingest did not store every row');
     await sql`truncate readings, analysis_queue`.execute(h.db);
