@@ -8,6 +8,7 @@ import { createApiKeysRepository } from '../db/api-keys-repository.js';
 import { openDatabase } from '../db/database.js';
 import { createFleetsRepository } from '../db/fleets-repository.js';
 import { migrateToLatest } from '../db/migrator.js';
+import { formatIsoWeek, lastCompleteIsoWeek } from '../report/iso-week.js';
 import { DEMO_FLEET_ID, planFleet, type SimVehicle } from '../simulator/index.js';
 import { formatAtRiskTable, type AtRiskVehicle } from './at-risk-table.js';
 import { feedVehicle, type FeedTotals } from './gateway-feed.js';
@@ -33,18 +34,6 @@ const DAY_MS = 86_400_000;
 
 function say(line: string): void {
   process.stderr.write(`${line}\n`);
-}
-
-/** ISO 8601 week label (e.g. 2026-W48) of the last complete Monday–Sunday week before `nowMs`. */
-export function lastCompleteIsoWeek(nowMs: number): string {
-  const today = Math.floor(nowMs / DAY_MS) * DAY_MS;
-  const weekday = (new Date(today).getUTCDay() + 6) % 7; // Monday 0
-  const lastSunday = today - (weekday + 1) * DAY_MS;
-  const thursday = lastSunday - 3 * DAY_MS;
-  const year = new Date(thursday).getUTCFullYear();
-  const jan1 = Date.UTC(year, 0, 1);
-  const week = Math.floor((thursday - jan1) / DAY_MS / 7) + 1;
-  return `${year}-W${String(week).padStart(2, '0')}`;
 }
 
 async function api<T>(baseUrl: string, key: string, method: string, path: string, body?: unknown): Promise<{ status: number; json: T }> {
@@ -163,7 +152,7 @@ export async function run(argv: string[]): Promise<number> {
       process.stdout.write(`\nVehicles at risk — Quillmoor Provisions (${ranked.length} of ${fleet.length})\n\n${formatAtRiskTable(ranked, checks)}\n\n`);
       process.stdout.write('Advice only: never open a hot, pressurised cooling system; follow the manufacturer\'s service procedure and local rules; a qualified technician decides.\n\n');
 
-      const week = lastCompleteIsoWeek(Date.now());
+      const week = formatIsoWeek(lastCompleteIsoWeek(Date.now(), 'UTC'));
       const outDir = resolve(values.out);
       await mkdir(outDir, { recursive: true });
       const written: string[] = [];
