@@ -137,38 +137,30 @@ export async function run(argv: string[]): Promise<number> {
 
     say('demo: analysing (POST /v1/analysis/runs?wait=true) …');
     const analysis = await api<Record<string, unknown>>(address, readKey, 'POST', '/v1/analysis/runs?wait=true');
-    if (analysis.status === 404) {
-      say('demo: the analysis endpoint does not exist in this build; stopping after ingest');
-    } else {
-      if (analysis.status >= 300) throw new Error(`analysis answered ${analysis.status}: ${JSON.stringify(analysis.json)}`);
-      say(`demo: analysis done: ${JSON.stringify(analysis.json)} [${elapsed()}]`);
-      const atRisk = await api<{ vehicles: AtRiskVehicle[] }>(address, readKey, 'GET', '/v1/fleet/at-risk?limit=15');
-      const ranked = atRisk.json.vehicles.filter((v) => v.riskScore > 0);
-      const checks = new Map<string, string>();
-      for (const v of ranked) {
-        const detail = await api<{ findings: Array<{ id: string; recommendedCheck: string }> }>(address, readKey, 'GET', `/v1/vehicles/${v.vehicleId}/findings`);
-        for (const f of detail.json.findings ?? []) checks.set(f.id, f.recommendedCheck);
-      }
-      process.stdout.write(`\nVehicles at risk — Quillmoor Provisions (${ranked.length} of ${fleet.length})\n\n${formatAtRiskTable(ranked, checks)}\n\n`);
-      process.stdout.write('Advice only: never open a hot, pressurised cooling system; follow the manufacturer\'s service procedure and local rules; a qualified technician decides.\n\n');
-
-      const week = formatIsoWeek(lastCompleteIsoWeek(Date.now(), 'UTC'));
-      const outDir = resolve(values.out);
-      await mkdir(outDir, { recursive: true });
-      const written: string[] = [];
-      for (const format of ['html', 'csv', 'json'] as const) {
-        const res = await fetch(`${address}/v1/reports/weekly?week=${week}&format=${format}`, { headers: { authorization: `Bearer ${readKey}` } });
-        if (res.status === 404 && format === 'html') {
-          say('demo: the weekly report endpoint does not exist in this build');
-          break;
-        }
-        if (!res.ok) throw new Error(`weekly report (${format}) answered ${res.status}: ${await res.text()}`);
-        const file = join(outDir, `weekly-report-${week}.${format}`);
-        await writeFile(file, Buffer.from(await res.arrayBuffer()));
-        written.push(file);
-      }
-      if (written.length > 0) process.stdout.write(`Weekly report ${week}: ${written[0]}\n  (also ${written.slice(1).join(', ')})\n`);
+    if (analysis.status >= 300) throw new Error(`analysis answered ${analysis.status}: ${JSON.stringify(analysis.json)}`);
+    say(`demo: analysis done: ${JSON.stringify(analysis.json)} [${elapsed()}]`);
+    const atRisk = await api<{ vehicles: AtRiskVehicle[] }>(address, readKey, 'GET', '/v1/fleet/at-risk?limit=15');
+    const ranked = atRisk.json.vehicles.filter((v) => v.riskScore > 0);
+    const checks = new Map<string, string>();
+    for (const v of ranked) {
+      const detail = await api<{ findings: Array<{ id: string; recommendedCheck: string }> }>(address, readKey, 'GET', `/v1/vehicles/${v.vehicleId}/findings`);
+      for (const f of detail.json.findings ?? []) checks.set(f.id, f.recommendedCheck);
     }
+    process.stdout.write(`\nVehicles at risk — Quillmoor Provisions (${ranked.length} of ${fleet.length})\n\n${formatAtRiskTable(ranked, checks)}\n\n`);
+    process.stdout.write('Advice only: never open a hot, pressurised cooling system; follow the manufacturer\'s service procedure and local rules; a qualified technician decides.\n\n');
+
+    const week = formatIsoWeek(lastCompleteIsoWeek(Date.now(), 'UTC'));
+    const outDir = resolve(values.out);
+    await mkdir(outDir, { recursive: true });
+    const written: string[] = [];
+    for (const format of ['html', 'csv', 'json'] as const) {
+      const res = await fetch(`${address}/v1/reports/weekly?week=${week}&format=${format}`, { headers: { authorization: `Bearer ${readKey}` } });
+      if (!res.ok) throw new Error(`weekly report (${format}) answered ${res.status}: ${await res.text()}`);
+      const file = join(outDir, `weekly-report-${week}.${format}`);
+      await writeFile(file, Buffer.from(await res.arrayBuffer()));
+      written.push(file);
+    }
+    process.stdout.write(`Weekly report ${week}: ${written[0]}\n  (also ${written.slice(1).join(', ')})\n`);
     say(`demo: done in ${elapsed()}`);
   } catch (err) {
     await app.close();
