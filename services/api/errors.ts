@@ -56,17 +56,6 @@ export class UnsupportedMediaTypeError extends AppError {
   }
 }
 
-export class DatabaseUnavailableError extends AppError {
-  constructor(cause: unknown) {
-    super(503, 'database_unavailable', 'the database is unavailable; nothing was stored, retry later', { cause });
-  }
-}
-
-/** Turns any thrown value into an Error without losing it. */
-export function toError(value: unknown): Error {
-  return value instanceof Error ? value : new Error(String(value));
-}
-
 // SQLSTATE classes and node socket codes meaning "the database cannot be reached right now".
 const UNAVAILABLE_SQLSTATE = /^(08|53|57P0[1-3])/;
 const UNAVAILABLE_NODE_CODES = new Set(['ECONNREFUSED', 'ECONNRESET', 'ETIMEDOUT', 'EPIPE', 'ENOTFOUND', 'EHOSTUNREACH']);

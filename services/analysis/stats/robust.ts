@@ -58,9 +58,3 @@ export function mad(values: ArrayLike<number>, center = median(values)): number 
   for (let i = 0; i < values.length; i++) if (Number.isFinite(values[i])) d.push(Math.abs(values[i]! - center));
   return medianInPlace(d);
 }
-
-/** Robust σ estimate, 1.4826 · MAD, never below `floor`. */
-export function robustSigma(values: ArrayLike<number>, floor = 0): number {
-  const s = MAD_TO_SIGMA * mad(values);
-  return Number.isFinite(s) ? Math.max(s, floor) : floor;
-}

@@ -17,11 +17,6 @@ export function bodyFormatOf(contentType: string | undefined): BodyFormat | unde
   return undefined;
 }
 
-/** Raw records of a body in order; `unit` is the batch-level unit once known. */
-export interface RecordBatch {
-  records: unknown[];
-}
-
 export interface BodyStats {
   bytes: number;
 }
