@@ -1,7 +1,8 @@
 import type { AnalysisConfig } from '../config.js';
 import type { DayAggregate } from '../day-aggregates.js';
 import { freezingPointC } from '../physics/freezing-point.js';
-import { type Finding, findingKey, isoDay, round, SAFETY_CAUTION, type Severity } from './finding.js';
+import { type Finding, findingKey, round, SAFETY_CAUTION, type Severity } from './finding.js';
+import { utcDay } from '../sample-arrays.js';
 
 const DAY_MS = 86_400_000;
 /** Days of recent history the margins look at. */
@@ -40,7 +41,7 @@ function boilMarginSummary(dayMs: number, peakC: number, marginC: number, boilin
   // Whole degrees read well while there is a margin; at or past the boiling point the tenths
   // show why "above" is said of two temperatures that would round to the same degree.
   const digits = shownMarginC > 1 ? 0 : 1;
-  const reached = `On ${isoDay(dayMs)} the coolant reached ${round(peakC, digits)} °C, `;
+  const reached = `On ${utcDay(dayMs)} the coolant reached ${round(peakC, digits)} °C, `;
   const boiling = `boiling point of ${round(boilingPointC, digits)} °C under the pressure cap`;
   if (shownMarginC > 0) return `${reached}only ${shownMarginC} °C below its ${boiling}.`;
   if (shownMarginC === 0) return `${reached}at its ${boiling}: it may have boiled or lifted the cap.`;

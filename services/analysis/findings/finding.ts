@@ -66,9 +66,3 @@ export function round(value: number, digits = 2): number {
 export function clamp01(v: number): number {
   return v < 0 ? 0 : v > 1 ? 1 : v;
 }
-
-const DAY_MS = 86_400_000;
-/** ISO date of ms, for summaries. */
-export function isoDay(ms: number): string {
-  return new Date(Math.floor(ms / DAY_MS) * DAY_MS).toISOString().slice(0, 10);
-}

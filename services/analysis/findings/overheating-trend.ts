@@ -6,8 +6,9 @@ import { normalCdf } from '../stats/normal-cdf.js';
 import { median } from '../stats/robust.js';
 import { badZ, expected, fitBaseline, type ModelRow } from './baseline-model.js';
 import {
-  clamp01, type EvidenceItem, type Finding, findingKey, isoDay, MAX_EVIDENCE_ITEMS, round, SAFETY_CAUTION, type Severity,
+  clamp01, type EvidenceItem, type Finding, findingKey, MAX_EVIDENCE_ITEMS, round, SAFETY_CAUTION, type Severity,
 } from './finding.js';
+import { utcDay } from '../sample-arrays.js';
 
 const DAY_MS = 86_400_000;
 /** Days with less running than this are too thin to judge, h. */
@@ -108,7 +109,7 @@ export function overheatingTrendFinding(
     confidence: round(clamp01(normalCdf(medianZ - 1) * (1 - 0.5 ** supporting.length) * (trend ? 1 : 0.9)), 3),
     firstSeen,
     lastSeen,
-    summary: `Since ${isoDay(firstSeen)} peak coolant temperatures run about ${round(riseC, 1)} °C above what the weather explains`
+    summary: `Since ${utcDay(firstSeen)} peak coolant temperatures run about ${round(riseC, 1)} °C above what the weather explains`
       + (daysToBoil !== null ? `, rising ${round(rawSlope, 2)} °C a day (boiling point ${round(boilingPointC, 0)} °C in about ${Math.round(daysToBoil)} days at this rate)` : '')
       + '; likely a fouled radiator, a failing fan or coolant loss.',
     recommendedCheck: 'Check the coolant level and look for leaks with the engine cold, inspect the radiator core for blockage, '

@@ -4,7 +4,8 @@ import type { PeerBaseline } from '../peer-baseline.js';
 import type { RunMetrics } from '../run-metrics.js';
 import type { SensorEvent, SensorEventKind } from '../sensor-events.js';
 import { median } from '../stats/robust.js';
-import { clamp01, type EvidenceItem, type Finding, findingKey, isoDay, MAX_EVIDENCE_ITEMS, round, SAFETY_CAUTION } from './finding.js';
+import { clamp01, type EvidenceItem, type Finding, findingKey, MAX_EVIDENCE_ITEMS, round, SAFETY_CAUTION } from './finding.js';
+import { utcDay } from '../sample-arrays.js';
 
 const DAY_MS = 86_400_000;
 /** Fewest long-soak starts to judge a bias. */
@@ -43,7 +44,7 @@ function sensorFinding(sub: SensorSubKind, baselineStart: number, firstSeen: num
   return {
     key: findingKey('sensor-fault', sub, baselineStart), kind: 'sensor-fault', subKind: sub,
     severity: warning ? 'warning' : 'advisory', confidence: round(clamp01(confidence), 3), firstSeen, lastSeen,
-    summary: `Since ${isoDay(firstSeen)} the coolant temperature reading ${w.what}; engine judgements from it are held back.`,
+    summary: `Since ${utcDay(firstSeen)} the coolant temperature reading ${w.what}; engine judgements from it are held back.`,
     recommendedCheck: `${w.check} ${SAFETY_CAUTION}`, troubleCode: w.code, metrics, evidence: evidence.slice(-MAX_EVIDENCE_ITEMS),
   };
 }

@@ -1,7 +1,8 @@
 import type { AnalysisConfig } from '../config.js';
 import type { PeerBaseline } from '../peer-baseline.js';
 import type { RunMetrics } from '../run-metrics.js';
-import { type Finding, isoDay, round, SAFETY_CAUTION } from './finding.js';
+import { type Finding, round, SAFETY_CAUTION } from './finding.js';
+import { utcDay } from '../sample-arrays.js';
 import { OVERSHOOT, PLATEAU, RUN_PEAK, WARMUP_TIME } from './run-features.js';
 import { combineByRun, scoreFeature } from './run-shift.js';
 import { detectRunShift, runShiftFinding } from './run-shift-finding.js';
@@ -33,7 +34,7 @@ export function slowWarmupFinding(
     parts.push(`the engine ran about ${round(drop, 1)} °C cooler than usual on ${plateauDrops.length} trip${plateauDrops.length > 1 ? 's' : ''}`);
   }
   return runShiftFinding('slow-warmup', shift, baselineStart, warm.source ?? plateau.source ?? 'none', {
-    summary: `Since ${isoDay(shift.firstSeen)} ${parts.join(' and ')}, which points to a thermostat stuck open.`,
+    summary: `Since ${utcDay(shift.firstSeen)} ${parts.join(' and ')}, which points to a thermostat stuck open.`,
     recommendedCheck: 'Check that the thermostat closes (a stuck-open thermostat is the usual cause) and compare the coolant '
       + 'temperature reading with a reference thermometer on a cold engine. ' + SAFETY_CAUTION,
     troubleCode: 'P0128',
@@ -57,7 +58,7 @@ export function overshootFinding(
   const normal = above(shift.supporting.map((s) => s.expected - s.run.thermostatOpenC));
   const overshoots = shift.supporting.map((s) => s.run.overshootC).filter((v): v is number => v !== null);
   return runShiftFinding('overshoot', shift, baselineStart, scored.source ?? 'none', {
-    summary: `Since ${isoDay(shift.firstSeen)} the coolant climbs about ${round(typical, 0)} °C past the thermostat's rating before it `
+    summary: `Since ${utcDay(shift.firstSeen)} the coolant climbs about ${round(typical, 0)} °C past the thermostat's rating before it `
       + `takes control (usually ${round(normal, 0)} °C) and then drops back by about ${round(above(overshoots), 0)} °C, a sign of a sticking thermostat.`,
     recommendedCheck: 'Check the thermostat for sticking (replace it if it opens late) and bleed any trapped air from the '
       + 'cooling system. ' + SAFETY_CAUTION,
