@@ -1,12 +1,10 @@
 import { round, SAFETY_CAUTION, type Severity } from '../analysis/findings/finding.js';
+import { utcDay } from '../analysis/sample-arrays.js';
 import type { ReportVehicle, StoredFinding } from './report-repository.js';
 import type { Priority, WorkItem } from './weekly-report-schema.js';
 
-const DAY_MS = 86_400_000;
 const SEVERITY_RANK: Readonly<Record<Severity, number>> = { critical: 0, warning: 1, advisory: 2 };
 export const PRIORITY_OF: Readonly<Record<Severity, Priority>> = { critical: 'book now', warning: 'book this week', advisory: 'at next service' };
-
-const isoDate = (ms: number) => new Date(Math.floor(ms / DAY_MS) * DAY_MS).toISOString().slice(0, 10);
 
 /** The check without the safety caution the analysis appends (the report states it once per item, in `caution`). */
 export function checkWithoutCaution(check: string): string {
@@ -39,8 +37,8 @@ export function buildWorkList(unresolved: readonly StoredFinding[], vehicles: Re
     status: f.status === 'acknowledged' ? 'acknowledged' : 'open',
     why: f.summary,
     check: checkWithoutCaution(f.recommendedCheck),
-    since: isoDate(f.firstSeenMs),
-    lastSeen: isoDate(f.lastSeenMs),
+    since: utcDay(f.firstSeenMs),
+    lastSeen: utcDay(f.lastSeenMs),
     confidence: round(f.confidence, 3),
     troubleCode: f.troubleCode,
     caution: SAFETY_CAUTION,

@@ -3,7 +3,7 @@ import type { DayAggregate } from '../analysis/day-aggregates.js';
 import type { ServiceEvent } from '../analysis/findings/service-events.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
 import type { SensorEvent } from '../analysis/sensor-events.js';
-import { utcDay } from '../analysis/sample-arrays.js';
+import { utcDay, utcDayStartMs } from '../analysis/sample-arrays.js';
 import { DEFAULT_VEHICLE_PROFILE, type VehicleProfile } from '../analysis/vehicle-profile.js';
 import type { Database } from '../db/schema.js';
 
@@ -62,7 +62,7 @@ export function createAnalysisStore(db: Kysely<Database>) {
           where vehicle_id = ${vehicleId} and start_ts < ${ts(from)} and end_ts >= ${ts(from - gapMs)}`.execute(db);
         const start = r.rows[0]?.start_ts;
         if (!start) return from;
-        const day = Date.parse(utcDay(start.getTime()));
+        const day = utcDayStartMs(start.getTime());
         if (day >= from) return from;
         from = day;
       }
