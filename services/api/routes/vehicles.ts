@@ -6,6 +6,7 @@ import { BadRequestError, NotFoundError } from '../errors.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
 import { Vehicle, VehicleProfilePatchBody } from '../schemas/vehicle.js';
+import { requireVehicle } from '../vehicle-access.js';
 
 /** Vehicle profiles: the cooling-system facts the analysis needs (thermostat, cap, glycol). */
 const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
@@ -87,12 +88,7 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
         response: { 200: Vehicle, ...errorResponses(401, 403, 404) },
       },
     },
-    async (request) => {
-      const vehicle = await vehicles.get(request.params.vehicleId);
-      if (!vehicle) throw new NotFoundError(`no vehicle '${request.params.vehicleId}'`);
-      assertFleetAccess(principalOf(request), vehicle.fleetId);
-      return vehicle;
-    },
+    async (request) => requireVehicle(vehicles, principalOf(request), request.params.vehicleId),
   );
 };
 
