@@ -72,7 +72,6 @@ function textArrayLiteral(values: string[], length: number): string {
 export function createReadingsRepository(handle: DatabaseHandle, partitions: PartitionKeeper) {
   const { db } = handle;
 
-  /** Inserts one chunk; returns per-vehicle inserted counts and earliest inserted ts. */
   /** Per vehicle: rows inserted and the earliest inserted ts. */
   type Inserted = Array<{ vehicle_id: string; n: string | number; first_ts: Date }>;
 
@@ -102,7 +101,7 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
         state.careful = true;
       }
     }
-    const result = await sql<{ vehicle_id: string; n: string | number; first_ts: Date }>`
+    const result = await sql<Inserted[number]>`
       with ins as (
         insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) ${rows}
         on conflict do nothing
