@@ -1,6 +1,6 @@
 import type { Kysely } from 'kysely';
 import type { Database } from '../db/schema.js';
-import { addIsoWeeks, formatIsoWeek, isoWeekAt, isoWeekDate, weekWindow } from './iso-week.js';
+import { formatIsoWeek, isoWeekAt, isoWeekDate, lastCompleteIsoWeek, weekWindow } from './iso-week.js';
 import { createReportRepository } from './report-repository.js';
 import { generateWeeklyReport, writeWeeklyReport } from './weekly-report-files.js';
 import { isValidTimeZone, zonedTimeToUtcMs } from './zoned-time.js';
@@ -66,7 +66,7 @@ export class WeeklyReportScheduler {
     for (const fleet of await repo.fleets()) {
       const timeZone = isValidTimeZone(fleet.timeZone) ? fleet.timeZone : 'UTC';
       if (now < this.dueAt(now, timeZone)) continue;
-      const week = addIsoWeeks(isoWeekAt(now, timeZone), -1);
+      const week = lastCompleteIsoWeek(now, timeZone);
       const isoWeek = formatIsoWeek(week);
       const archived = await repo.archived(fleet.fleetId, isoWeek);
       if (archived && archived.generatedAt.getTime() >= weekWindow(week, timeZone).endMs) continue;
