@@ -12,7 +12,7 @@ import { migrateToLatest } from '../services/db/migrator.js';
 import { AnalysisRuns } from '../services/worker/analysis-runs.js';
 import { readWindow } from '../services/worker/readings-window.js';
 import { BENCH_START_MS, seedFindings, seedReadings } from './analysis-seed.js';
-import { ROOT, scratchDatabase, startServer } from './bench-server.js';
+import { DEFAULT_SERVER_URL, ROOT, scratchDatabase, startServer } from './bench-server.js';
 
 export interface AnalysisBenchResult {
   /** 1, 5 and 15 minute load averages before and after (the machine may be shared). */
@@ -237,6 +237,6 @@ export async function benchAnalysisE2e(serverUrl: string): Promise<AnalysisBench
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {
-  const result = await benchAnalysisE2e(process.env.DATABASE_URL || 'postgres://postgres@127.0.0.1:5432/postgres');
+  const result = await benchAnalysisE2e(process.env.DATABASE_URL || DEFAULT_SERVER_URL);
   process.stdout.write(`${JSON.stringify(result, null, 2)}\n`);
 }
