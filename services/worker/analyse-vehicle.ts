@@ -3,14 +3,13 @@ import { resolveConfig } from '../analysis/config.js';
 import type { DayAggregate } from '../analysis/day-aggregates.js';
 import { deriveFindings } from '../analysis/derive-findings.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
-import { utcDayStartMs } from '../analysis/sample-arrays.js';
+import { utcDayStartMs, type SampleArrays } from '../analysis/sample-arrays.js';
 import type { SensorEvent } from '../analysis/sensor-events.js';
 import type { DatabaseHandle } from '../db/database.js';
 import { refreshVehicleRisk } from '../db/vehicle-risk.js';
 import { createAnalysisStore, type VehicleState, type WindowResults } from './analysis-store.js';
 import { syncFindings } from './findings-sync.js';
 import type { PeerBaselines } from './peer-baselines.js';
-import type { SampleArrays } from '../analysis/sample-arrays.js';
 import type { Lease, QueueRepository } from './queue-repository.js';
 import { latestReading, readingBefore, readWindow } from './readings-window.js';
 
