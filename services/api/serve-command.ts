@@ -50,7 +50,7 @@ export async function run(argv: string[]): Promise<number> {
   }
   const reports = worker ? startReportSchedule(config, database, logger) : undefined;
 
-  await new Promise<void>((resolve) => {
+  return new Promise<number>((resolve) => {
     let stopping = false;
     const stop = (signal: string) => {
       if (stopping) return;
@@ -63,16 +63,15 @@ export async function run(argv: string[]): Promise<number> {
         .then(
           () => {
             app.log.info('stopped');
-            resolve();
+            resolve(0);
           },
           (err: unknown) => {
             app.log.error({ err }, 'shutdown failed');
-            resolve();
+            resolve(1);
           },
         );
     };
     process.once('SIGTERM', () => stop('SIGTERM'));
     process.once('SIGINT', () => stop('SIGINT'));
   });
-  return 0;
 }
