@@ -23,7 +23,9 @@ serving the API until Ctrl-C. Without DATABASE_URL it runs on a fresh embedded d
 
 options:
   --vehicles N   vehicles to simulate (default 32)
-  --days D       days of history, ending last midnight UTC (default 42)
+  --days D       days of history (default 42)
+  --end DATE     last midnight of the history, YYYY-MM-DD UTC (default: last midnight; the
+                 weekly report is for the last complete ISO week before it)
   --seed S       simulation seed (default 7)
   --out DIR      where the weekly report is written (default ./demo-out)
   --no-serve     exit when done instead of serving
@@ -52,6 +54,7 @@ export async function run(argv: string[]): Promise<number> {
     options: {
       vehicles: { type: 'string', default: '32' },
       days: { type: 'string', default: '42' },
+      end: { type: 'string' },
       seed: { type: 'string', default: '7' },
       out: { type: 'string', default: './demo-out' },
       'no-serve': { type: 'boolean', default: false },
@@ -67,6 +70,12 @@ export async function run(argv: string[]): Promise<number> {
   const seed = Number(values.seed);
   if (!Number.isInteger(vehicles) || vehicles < 1 || !Number.isInteger(days) || days < 1 || !Number.isInteger(seed)) {
     process.stderr.write('demo: --vehicles, --days and --seed must be whole numbers ≥ 1\n');
+    return 2;
+  }
+  const lastMidnightMs = Math.floor(Date.now() / DAY_MS) * DAY_MS;
+  const endMs = values.end === undefined ? lastMidnightMs : Date.parse(`${values.end}T00:00:00Z`);
+  if (!/^\d{4}-\d{2}-\d{2}$/.test(values.end ?? '2000-01-01') || !Number.isFinite(endMs) || endMs > lastMidnightMs) {
+    process.stderr.write('demo: --end must be a date YYYY-MM-DD, not after today\n');
     return 2;
   }
   const started = performance.now();
@@ -98,8 +107,7 @@ export async function run(argv: string[]): Promise<number> {
   }
 
   try {
-    const todayMs = Math.floor(Date.now() / DAY_MS) * DAY_MS;
-    const startMs = todayMs - days * DAY_MS;
+    const startMs = endMs - days * DAY_MS;
     const fleet: SimVehicle[] = planFleet({ vehicles, days, seed, startMs, scenario: 'demo' });
     say(`demo: Quillmoor Provisions: ${fleet.length} vehicles, ${days} days from ${new Date(startMs).toISOString().slice(0, 10)}`);
 
@@ -149,7 +157,7 @@ export async function run(argv: string[]): Promise<number> {
     process.stdout.write(`\nVehicles at risk — Quillmoor Provisions (${ranked.length} of ${fleet.length})\n\n${formatAtRiskTable(ranked, checks)}\n\n`);
     process.stdout.write('Advice only: never open a hot, pressurised cooling system; follow the manufacturer\'s service procedure and local rules; a qualified technician decides.\n\n');
 
-    const week = formatIsoWeek(lastCompleteIsoWeek(Date.now(), 'UTC'));
+    const week = formatIsoWeek(lastCompleteIsoWeek(endMs, 'UTC'));
     const outDir = resolve(values.out);
     await mkdir(outDir, { recursive: true });
     const written: string[] = [];

@@ -9,6 +9,7 @@ import { testDatabaseKind } from '../helpers/test-database.js';
 
 const ROOT = join(import.meta.dirname, '..', '..');
 const DAY_MS = 86_400_000;
+const END_DATE = '2026-11-30';
 
 // `npm run demo` runs on the embedded database; this runs a small version of it end to end
 // through the real CLI (simulate → HTTP ingest → analysis → at-risk list → weekly report).
@@ -21,7 +22,8 @@ describe.skipIf(testDatabaseKind() !== 'pglite')('npm run demo', () => {
   it('ingests the simulated fleet over HTTP, lists the faulty vehicles at risk and writes the weekly report', async () => {
     const work = await mkdtemp(join(tmpdir(), 'thermocline-demo-'));
     dirs.push(work);
-    const args = ['--vehicles', '8', '--days', '21', '--seed', '7', '--out', join(work, 'out'), '--no-serve'];
+    // A fixed end date keeps the simulated weather, and so the outcome, the same every day.
+    const args = ['--vehicles', '8', '--days', '21', '--seed', '7', '--end', END_DATE, '--out', join(work, 'out'), '--no-serve'];
     const child = spawn(process.execPath, [join(ROOT, 'bin', 'thermocline.js'), 'demo', ...args], {
       env: { ...process.env, PGLITE_DIR: join(work, 'data'), PORT: '0', DATABASE_URL: '' },
       stdio: ['ignore', 'pipe', 'pipe'],
@@ -38,8 +40,7 @@ describe.skipIf(testDatabaseKind() !== 'pglite')('npm run demo', () => {
     expect(stderr).toMatch(/demo: analysis done/);
 
     // The same plan the demo simulated: which vehicles really have a fault, and which kind.
-    const todayMs = Math.floor(Date.now() / DAY_MS) * DAY_MS;
-    const fleet = planFleet({ vehicles: 8, days: 21, seed: 7, startMs: todayMs - 21 * DAY_MS, scenario: 'demo' });
+    const fleet = planFleet({ vehicles: 8, days: 21, seed: 7, startMs: Date.parse(`${END_DATE}T00:00:00Z`) - 21 * DAY_MS, scenario: 'demo' });
     const faulty = new Map(fleet.filter((v) => v.faults.length > 0).map((v) => [v.vehicleId, v.faults[0]!.kind]));
     expect(faulty.size).toBeGreaterThan(0);
 
