@@ -8,6 +8,7 @@ import { createApiKeysRepository } from '../db/api-keys-repository.js';
 import { openDatabase } from '../db/database.js';
 import { createFleetsRepository } from '../db/fleets-repository.js';
 import { migrateToLatest } from '../db/migrator.js';
+import { utcDayStartMs } from '../analysis/sample-arrays.js';
 import { formatIsoWeek, lastCompleteIsoWeek } from '../report/iso-week.js';
 import { DEMO_FLEET_ID, planFleet, type SimVehicle } from '../simulator/index.js';
 import { formatAtRiskTable, type AtRiskVehicle } from './at-risk-table.js';
@@ -72,7 +73,7 @@ export async function run(argv: string[]): Promise<number> {
     process.stderr.write('demo: --vehicles, --days and --seed must be whole numbers ≥ 1\n');
     return 2;
   }
-  const lastMidnightMs = Math.floor(Date.now() / DAY_MS) * DAY_MS;
+  const lastMidnightMs = utcDayStartMs(Date.now());
   const endMs = values.end === undefined ? lastMidnightMs : Date.parse(`${values.end}T00:00:00Z`);
   if (!/^\d{4}-\d{2}-\d{2}$/.test(values.end ?? '2000-01-01') || !Number.isFinite(endMs) || endMs > lastMidnightMs) {
     process.stderr.write('demo: --end must be a date YYYY-MM-DD, not after today\n');

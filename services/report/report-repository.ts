@@ -2,9 +2,11 @@ import { type Kysely, sql } from 'kysely';
 import type { DayAggregate } from '../analysis/day-aggregates.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
 import type { Database } from '../db/schema.js';
+import { isValidTimeZone } from './zoned-time.js';
 
 /** Every database read and write of the weekly report (one module for all its SQL). */
 
+/** A fleet; `timeZone` is always a valid IANA zone (an unknown stored zone reads as UTC). */
 export interface FleetRow { fleetId: string; name: string; timeZone: string }
 export interface ReportVehicle {
   vehicleId: string; label: string | null; engineFamily: string;
@@ -22,18 +24,22 @@ export interface StoredSensorEvent { vehicleId: string; kind: string }
 export interface ReadingSeries { tsMs: number[]; coolantC: number[] }
 export interface ArchivedReport { fleetId: string; isoWeek: string; generatedAt: Date; json: unknown; html: string; csv: string }
 
+function fleetRow(r: { fleet_id: string; name: string; time_zone: string }): FleetRow {
+  return { fleetId: r.fleet_id, name: r.name, timeZone: isValidTimeZone(r.time_zone) ? r.time_zone : 'UTC' };
+}
+
 const ms = (d: Date | string) => (d instanceof Date ? d.getTime() : Date.parse(d));
 
 export function createReportRepository(db: Kysely<Database>) {
   return {
     async fleet(fleetId: string): Promise<FleetRow | undefined> {
       const row = await db.selectFrom('fleets').select(['fleet_id', 'name', 'time_zone']).where('fleet_id', '=', fleetId).executeTakeFirst();
-      return row && { fleetId: row.fleet_id, name: row.name, timeZone: row.time_zone };
+      return row && fleetRow(row);
     },
 
     async fleets(): Promise<FleetRow[]> {
       const rows = await db.selectFrom('fleets').select(['fleet_id', 'name', 'time_zone']).orderBy('fleet_id').execute();
-      return rows.map((r) => ({ fleetId: r.fleet_id, name: r.name, timeZone: r.time_zone }));
+      return rows.map(fleetRow);
     },
 
     /** The fleet's vehicles with their stored risk (0 when never analysed). */

@@ -3,7 +3,7 @@ import type { Database } from '../db/schema.js';
 import { formatIsoWeek, isoWeekAt, isoWeekDate, lastCompleteIsoWeek, weekWindow } from './iso-week.js';
 import { createReportRepository } from './report-repository.js';
 import { generateWeeklyReport, writeWeeklyReport } from './weekly-report-files.js';
-import { isValidTimeZone, zonedTimeToUtcMs } from './zoned-time.js';
+import { zonedTimeToUtcMs } from './zoned-time.js';
 
 export interface WeeklyReportSchedulerOptions {
   db: Kysely<Database>;
@@ -64,7 +64,7 @@ export class WeeklyReportScheduler {
     const repo = createReportRepository(this.options.db);
     const built: string[] = [];
     for (const fleet of await repo.fleets()) {
-      const timeZone = isValidTimeZone(fleet.timeZone) ? fleet.timeZone : 'UTC';
+      const { timeZone } = fleet;
       if (now < this.dueAt(now, timeZone)) continue;
       const week = lastCompleteIsoWeek(now, timeZone);
       const isoWeek = formatIsoWeek(week);

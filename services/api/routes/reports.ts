@@ -5,7 +5,6 @@ import { formatIsoWeek, lastCompleteIsoWeek, parseIsoWeek, weekWindow } from '..
 import { createReportRepository } from '../../report/report-repository.js';
 import { generateWeeklyReport, reportBaseName } from '../../report/weekly-report-files.js';
 import { type WeeklyReport, WeeklyReportSchema } from '../../report/weekly-report-schema.js';
-import { isValidTimeZone } from '../../report/zoned-time.js';
 import { BadRequestError, NotFoundError } from '../errors.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
@@ -53,7 +52,7 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       if (!fleetId) throw new BadRequestError('an admin key must name the fleet: ?fleet=<fleetId>');
       const fleet = await reports.fleet(fleetId);
       if (!fleet) throw new NotFoundError(`unknown fleet '${fleetId}'`);
-      const timeZone = isValidTimeZone(fleet.timeZone) ? fleet.timeZone : 'UTC';
+      const { timeZone } = fleet;
       let isoWeek;
       try {
         isoWeek = week ? parseIsoWeek(week) : lastCompleteIsoWeek(Date.now(), timeZone);
