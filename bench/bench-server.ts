@@ -38,9 +38,9 @@ export async function scratchDatabase(serverUrl: string, name: string): Promise<
 }
 
 /** Runs `thermocline serve` as a child process (its own core) and waits until it answers. */
-export async function startServer(env: Record<string, string>): Promise<{ baseUrl: string; child: ChildProcess; stop: () => Promise<void> }> {
+export async function startServer(env: Record<string, string>, nodeArgs: string[] = []): Promise<{ baseUrl: string; child: ChildProcess; stop: () => Promise<void> }> {
   const port = await freePort();
-  const child = spawn(process.execPath, [join(ROOT, 'bin', 'thermocline.js'), 'serve'], {
+  const child = spawn(process.execPath, [...nodeArgs, join(ROOT, 'bin', 'thermocline.js'), 'serve'], {
     env: { ...process.env, LOG_LEVEL: 'warn', IN_PROCESS_WORKER: 'false', RATE_LIMIT_PER_MINUTE: '10000000', ...env, PORT: String(port), HOST: '127.0.0.1' },
     stdio: ['ignore', 'inherit', 'inherit'],
   });

@@ -1,6 +1,11 @@
-import { sql, type Transaction } from 'kysely';
+import { Readable } from 'node:stream';
+import { pipeline } from 'node:stream/promises';
+import { sql, type Kysely, type RawBuilder, type Transaction } from 'kysely';
+import type pg from 'pg';
+import { from as copyFrom } from 'pg-copy-streams';
 import type { DatabaseHandle } from './database.js';
 import { monthIndexOf, type PartitionKeeper } from './partitions.js';
+import { encodeReadingsCopy, READINGS_COPY_COLUMNS } from './readings-copy.js';
 import { toNumber, type Database } from './schema.js';
 
 /** A column-wise chunk of validated readings in °C; absent optional channels are NaN. */
@@ -69,133 +74,269 @@ function textArrayLiteral(values: string[], length: number): string {
   return `{"${values.slice(0, length).join('","')}"}`;
 }
 
+/** Per vehicle: rows inserted and the earliest inserted ts. */
+type Inserted = Array<{ vehicle_id: string; n: string | number; first_ts: Date }>;
+
+/**
+ * The connection an ingest transaction runs on: statements, and on a PostgreSQL server a binary
+ * COPY into `readings` (PGlite's driver has no COPY FROM STDIN).
+ */
+interface IngestConnection {
+  run<R>(query: RawBuilder<R>): Promise<R[]>;
+  copyIn: ((data: Buffer) => Promise<void>) | undefined;
+  /** Where new partitions are attached (see `partitions.ensure`). */
+  partitionTarget: Kysely<Database> | Transaction<Database>;
+}
+
+/** What one attempt at storing a request has inserted so far. */
+class Tally {
+  staged = 0;
+  accepted = 0;
+  readonly vehicles = new Set<string>();
+  readonly dirtyFrom = new Map<string, number>();
+
+  /** Counts a chunk handed to the insert. */
+  stage(chunk: ReadingChunk): void {
+    this.staged += chunk.length;
+    for (let i = 0; i < chunk.length; i++) this.vehicles.add(chunk.vehicleIds[i]!);
+  }
+
+  /** Counts what the insert reports as new. */
+  add(rows: Inserted): void {
+    for (const r of rows) {
+      this.accepted += toNumber(r.n);
+      const first = r.first_ts.getTime();
+      const prev = this.dirtyFrom.get(r.vehicle_id);
+      if (prev === undefined || first < prev) this.dirtyFrom.set(r.vehicle_id, first);
+    }
+  }
+}
+
+function isUniqueViolation(err: unknown): boolean {
+  return (err as { code?: unknown }).code === UNIQUE_VIOLATION;
+}
+
+/** Runs `fn` in a transaction on one client checked out of the pool (COPY needs the client itself). */
+async function inPoolTransaction<T>(pool: pg.Pool, db: Kysely<Database>, fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
+  const client = await pool.connect();
+  let broken: Error | undefined;
+  const conn: IngestConnection = {
+    run: async <R>(query: RawBuilder<R>) => {
+      const compiled = query.compile(db);
+      return (await client.query(compiled.sql, compiled.parameters as unknown[])).rows as R[];
+    },
+    copyIn: async (data) => {
+      const stream = client.query(copyFrom(`copy readings ${READINGS_COPY_COLUMNS} from stdin (format binary)`));
+      await pipeline(Readable.from([data]), stream);
+    },
+    partitionTarget: db,
+  };
+  try {
+    await client.query('begin');
+    try {
+      const out = await fn(conn);
+      await client.query('commit');
+      return out;
+    } catch (err) {
+      await client.query('rollback').catch((rollbackErr: unknown) => {
+        broken = rollbackErr instanceof Error ? rollbackErr : new Error(String(rollbackErr));
+      });
+      throw err;
+    }
+  } finally {
+    // A client whose rollback failed is not handed out again.
+    client.release(broken);
+  }
+}
+
 export function createReadingsRepository(handle: DatabaseHandle, partitions: PartitionKeeper) {
-  const { db } = handle;
+  const { db, pool } = handle;
 
-  /** Per vehicle: rows inserted and the earliest inserted ts. */
-  type Inserted = Array<{ vehicle_id: string; n: string | number; first_ts: Date }>;
+  function transaction<T>(fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
+    if (pool) return inPoolTransaction(pool, db, fn);
+    return db.transaction().execute((trx) =>
+      fn({ run: async <R>(query: RawBuilder<R>) => (await query.execute(trx)).rows, copyIn: undefined, partitionTarget: trx }));
+  }
 
-  /**
-   * Inserts one chunk. Most chunks hold no reading that is already stored, so the first try is
-   * a plain INSERT inside a savepoint (measured on PostgreSQL 15: 194k rows/s, against 102k/s
-   * for ON CONFLICT DO NOTHING with RETURNING, which is needed to tell what was new). A
-   * duplicate raises 23505; the chunk is then rolled back to the savepoint and inserted the
-   * careful way, as is every later chunk of a request that has met a duplicate (a retry).
-   */
-  async function insertChunk(trx: Transaction<Database>, chunk: ReadingChunk, state: { careful: boolean }): Promise<Inserted> {
+  function unnestRows(chunk: ReadingChunk) {
     const n = chunk.length;
-    const rows = sql`
+    return sql`
       select v, to_timestamp(t / 1000.0), c, a, s, r
       from unnest(${textArrayLiteral(chunk.vehicleIds, n)}::text[], ${floatArrayLiteral(chunk.tsMs, n)}::float8[],
                   ${floatArrayLiteral(chunk.coolantC, n)}::real[], ${floatArrayLiteral(chunk.ambientC, n)}::real[],
                   ${floatArrayLiteral(chunk.speedKph, n)}::real[], ${floatArrayLiteral(chunk.rpm, n)}::real[]) as u(v, t, c, a, s, r)`;
-    if (!state.careful) {
-      await sql`savepoint ingest_chunk`.execute(trx);
-      try {
-        await sql`insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) ${rows}`.execute(trx);
-        await sql`release savepoint ingest_chunk`.execute(trx);
-        return insertedFromChunk(chunk);
-      } catch (err) {
-        if ((err as { code?: unknown }).code !== UNIQUE_VIOLATION) throw err;
-        await sql`rollback to savepoint ingest_chunk`.execute(trx);
-        state.careful = true;
-      }
-    }
-    const result = await sql<Inserted[number]>`
+  }
+
+  /**
+   * The fast insert of a whole chunk, which fails with 23505 if any of its readings is already
+   * stored: binary COPY on a PostgreSQL server (measured: 3.0 ms of backend CPU per 1,000 rows,
+   * against 3.5–4.8 ms for INSERT … SELECT FROM unnest() and 6.4 ms for the ON CONFLICT …
+   * RETURNING below), the plain INSERT on PGlite.
+   */
+  async function insertAll(conn: IngestConnection, chunk: ReadingChunk): Promise<Inserted> {
+    if (conn.copyIn) await conn.copyIn(encodeReadingsCopy(chunk));
+    else await conn.run(sql`insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) ${unnestRows(chunk)}`);
+    return insertedFromChunk(chunk);
+  }
+
+  /** The careful insert: skips readings already stored and reports what was new. */
+  function insertNew(conn: IngestConnection, chunk: ReadingChunk): Promise<Inserted> {
+    return conn.run(sql<Inserted[number]>`
       with ins as (
-        insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) ${rows}
+        insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) ${unnestRows(chunk)}
         on conflict do nothing
         returning vehicle_id, ts
       )
-      select vehicle_id, count(*) as n, min(ts) as first_ts from ins group by vehicle_id`.execute(trx);
-    return result.rows;
+      select vehicle_id, count(*) as n, min(ts) as first_ts from ins group by vehicle_id`);
+  }
+
+  /** Creates the partitions a chunk needs (months of its readings). */
+  async function ensurePartitions(conn: IngestConnection, chunk: ReadingChunk): Promise<void> {
+    const months = new Set<number>();
+    let monthStart = Infinity;
+    let monthEnd = -Infinity;
+    for (let i = 0; i < chunk.length; i++) {
+      const t = chunk.tsMs[i]!;
+      if (t < monthStart || t >= monthEnd) {
+        const m = monthIndexOf(t);
+        months.add(m);
+        monthStart = Date.UTC(1970, m, 1);
+        monthEnd = Date.UTC(1970, m + 1, 1);
+      }
+    }
+    // Partitions are attached on another connection and committed at once (attaching does not
+    // conflict with this transaction's inserts); PGlite has one connection, so there it happens
+    // inside this transaction.
+    await partitions.ensure(conn.partitionTarget, months);
+  }
+
+  /**
+   * One statement for the rest of a request (a round trip each cost as much as 1,000 rows):
+   * refuse the batch if it names another fleet's vehicle, else register unknown vehicles, mark
+   * vehicles with new rows for analysis (sorted ids: concurrent requests lock queue rows in the
+   * same order) and write the audit row.
+   */
+  async function finish(conn: IngestConnection, fleetId: string, tally: Tally, audit: IngestAuditInput, started: number): Promise<void> {
+    const ids = [...tally.vehicles].sort();
+    const queued = [...tally.dirtyFrom.keys()].sort();
+    const firsts = queued.map((id) => tally.dirtyFrom.get(id)!);
+    const foreign = await conn.run(sql<{ vehicle_id: string }>`
+      with foreign_vehicles as (
+        select vehicle_id from vehicles where vehicle_id = any(${ids}::text[]) and fleet_id <> ${fleetId}
+      ), registered as (
+        insert into vehicles (vehicle_id, fleet_id)
+        select v, ${fleetId} from unnest(${ids}::text[]) as v
+        where not exists (select 1 from foreign_vehicles)
+        on conflict (vehicle_id) do nothing
+      ), marked as (
+        insert into analysis_queue (vehicle_id, fleet_id, dirty_from)
+        select v, ${fleetId}, to_timestamp(t / 1000.0) from unnest(${queued}::text[], ${firsts}::float8[]) as u(v, t)
+        where not exists (select 1 from foreign_vehicles)
+        on conflict (vehicle_id) do update
+          set dirty_from = least(analysis_queue.dirty_from, excluded.dirty_from),
+              generation = analysis_queue.generation + 1,
+              enqueued_at = now()
+      ), audited as (
+        insert into ingest_audit (key_id, fleet_id, content_type, body_bytes, accepted, duplicates, rejected, vehicles, duration_ms)
+        select ${audit.keyId}, ${fleetId}, ${audit.contentType}, ${audit.bodyBytes()}, ${tally.accepted}, ${tally.staged - tally.accepted},
+               ${audit.rejected()}, ${tally.vehicles.size}, ${Date.now() - started}
+        where not exists (select 1 from foreign_vehicles)
+      )
+      select vehicle_id from foreign_vehicles order by vehicle_id limit 10`);
+    if (foreign.length > 0) throw new ForeignVehiclesError(foreign.map((r) => r.vehicle_id));
+  }
+
+  /**
+   * A body of one chunk (a gateway's batch, up to INSERT_CHUNK_ROWS readings) is tried with the
+   * fast insert and no savepoint; if it meets a stored reading the transaction is rolled back and
+   * the chunk, still in memory, is stored again the careful way.
+   */
+  async function ingestOneChunk(fleetId: string, chunk: ReadingChunk | undefined, audit: IngestAuditInput, started: number): Promise<Tally> {
+    const attempt = (careful: boolean) =>
+      transaction(async (conn) => {
+        const tally = new Tally();
+        if (chunk) {
+          await ensurePartitions(conn, chunk);
+          tally.stage(chunk);
+          tally.add(careful ? await insertNew(conn, chunk) : await insertAll(conn, chunk));
+        }
+        await finish(conn, fleetId, tally, audit, started);
+        return tally;
+      });
+    try {
+      return await attempt(false);
+    } catch (err) {
+      if (!chunk || !isUniqueViolation(err)) throw err;
+      return attempt(true);
+    }
+  }
+
+  /**
+   * A longer body, chunk by chunk as it streams in: while one chunk is inserted the next is
+   * parsed. Each chunk is tried with the fast insert inside a savepoint; a duplicate rolls back to
+   * the savepoint and that chunk and every later one go the careful way (a retried body).
+   */
+  async function ingestStream(fleetId: string, chunks: AsyncIterable<ReadingChunk>, audit: IngestAuditInput, started: number): Promise<Tally> {
+    return transaction(async (conn) => {
+      const tally = new Tally();
+      let careful = false;
+      const store = async (chunk: ReadingChunk): Promise<Inserted> => {
+        if (!careful) {
+          await conn.run(sql`savepoint ingest_chunk`);
+          try {
+            const rows = await insertAll(conn, chunk);
+            await conn.run(sql`release savepoint ingest_chunk`);
+            return rows;
+          } catch (err) {
+            if (!isUniqueViolation(err)) throw err;
+            await conn.run(sql`rollback to savepoint ingest_chunk`);
+            careful = true;
+          }
+        }
+        return insertNew(conn, chunk);
+      };
+      let pending: Promise<void> | undefined;
+      for await (const chunk of chunks) {
+        await pending;
+        await ensurePartitions(conn, chunk);
+        tally.stage(chunk);
+        pending = store(chunk).then((rows) => tally.add(rows));
+        // Keep a failed insert from being an unhandled rejection while the next chunk is parsed.
+        pending.catch(() => undefined);
+      }
+      await pending;
+      await finish(conn, fleetId, tally, audit, started);
+      return tally;
+    });
   }
 
   return {
     /**
-     * Stores a stream of validated readings for one fleet in one transaction, chunk by chunk as
-     * they arrive, with ON CONFLICT DO NOTHING (a retried reading is a duplicate, never a second
-     * row). While one chunk is being inserted the next is parsed. Registers unknown vehicles to
-     * the fleet, marks vehicles with new rows for analysis (earliest new ts) and writes the audit
-     * row. Resolves only after COMMIT; on any error nothing is stored.
+     * Stores a stream of validated readings for one fleet in one transaction; a reading already
+     * stored (same vehicle and ts) is a duplicate, never a second row. Registers unknown vehicles
+     * to the fleet, marks vehicles with new rows for analysis (earliest new ts) and writes the
+     * audit row. Resolves only after COMMIT; on any error nothing is stored.
      */
     async ingest(fleetId: string, chunks: AsyncIterable<ReadingChunk>, audit: IngestAuditInput): Promise<IngestResult> {
       const started = Date.now();
-      const vehicles = new Set<string>();
-      const dirtyFrom = new Map<string, number>();
-      let staged = 0;
-      let accepted = 0;
-
-      await db.transaction().execute(async (trx) => {
-        let pending: Promise<void> | undefined;
-        const insertState = { careful: false };
-        for await (const chunk of chunks) {
-          if (chunk.length === 0) continue;
-          const months = new Set<number>();
-          let monthStart = Infinity;
-          let monthEnd = -Infinity;
-          for (let i = 0; i < chunk.length; i++) {
-            vehicles.add(chunk.vehicleIds[i]!);
-            const t = chunk.tsMs[i]!;
-            if (t < monthStart || t >= monthEnd) {
-              const m = monthIndexOf(t);
-              months.add(m);
-              monthStart = Date.UTC(1970, m, 1);
-              monthEnd = Date.UTC(1970, m + 1, 1);
-            }
-          }
-          await pending;
-          // Partitions are attached on another connection and committed at once (attaching does
-          // not conflict with this transaction's inserts); PGlite has one connection, so there
-          // it happens inside this transaction.
-          await partitions.ensure(handle.kind === 'pglite' ? trx : db, months);
-          staged += chunk.length;
-          pending = insertChunk(trx, chunk, insertState).then((rows) => {
-            for (const r of rows) {
-              accepted += toNumber(r.n);
-              const first = r.first_ts.getTime();
-              const prev = dirtyFrom.get(r.vehicle_id);
-              if (prev === undefined || first < prev) dirtyFrom.set(r.vehicle_id, first);
-            }
-          });
-          // Keep a failed insert from being an unhandled rejection while the next chunk is parsed.
-          pending.catch(() => undefined);
+      // Look two chunks ahead: a body of one chunk is stored without savepoints.
+      const it = chunks[Symbol.asyncIterator]();
+      const nonEmpty = async (): Promise<ReadingChunk | undefined> => {
+        for (;;) {
+          const next = await it.next();
+          if (next.done) return undefined;
+          if (next.value.length > 0) return next.value;
         }
-        await pending;
-
-        // One statement for the rest (a round trip each cost as much as 1,000 rows): refuse the
-        // batch if it names another fleet's vehicle, else register unknown vehicles, mark vehicles
-        // with new rows for analysis (sorted ids: concurrent requests lock queue rows in the same
-        // order) and write the audit row.
-        const ids = [...vehicles].sort();
-        const queued = [...dirtyFrom.keys()].sort();
-        const firsts = queued.map((id) => dirtyFrom.get(id)!);
-        const foreign = await sql<{ vehicle_id: string }>`
-          with foreign_vehicles as (
-            select vehicle_id from vehicles where vehicle_id = any(${ids}::text[]) and fleet_id <> ${fleetId}
-          ), registered as (
-            insert into vehicles (vehicle_id, fleet_id)
-            select v, ${fleetId} from unnest(${ids}::text[]) as v
-            where not exists (select 1 from foreign_vehicles)
-            on conflict (vehicle_id) do nothing
-          ), marked as (
-            insert into analysis_queue (vehicle_id, fleet_id, dirty_from)
-            select v, ${fleetId}, to_timestamp(t / 1000.0) from unnest(${queued}::text[], ${firsts}::float8[]) as u(v, t)
-            where not exists (select 1 from foreign_vehicles)
-            on conflict (vehicle_id) do update
-              set dirty_from = least(analysis_queue.dirty_from, excluded.dirty_from),
-                  generation = analysis_queue.generation + 1,
-                  enqueued_at = now()
-          ), audited as (
-            insert into ingest_audit (key_id, fleet_id, content_type, body_bytes, accepted, duplicates, rejected, vehicles, duration_ms)
-            select ${audit.keyId}, ${fleetId}, ${audit.contentType}, ${audit.bodyBytes()}, ${accepted}, ${staged - accepted},
-                   ${audit.rejected()}, ${vehicles.size}, ${Date.now() - started}
-            where not exists (select 1 from foreign_vehicles)
-          )
-          select vehicle_id from foreign_vehicles order by vehicle_id limit 10`.execute(trx);
-        if (foreign.rows.length > 0) throw new ForeignVehiclesError(foreign.rows.map((r) => r.vehicle_id));
-      });
-      return { accepted, duplicates: staged - accepted, staged, vehicles: vehicles.size };
+      };
+      const first = await nonEmpty();
+      const second = first ? await nonEmpty() : undefined;
+      async function* all(): AsyncGenerator<ReadingChunk> {
+        yield first!;
+        yield second!;
+        for (let next = await nonEmpty(); next; next = await nonEmpty()) yield next;
+      }
+      const tally = second ? await ingestStream(fleetId, all(), audit, started) : await ingestOneChunk(fleetId, first, audit, started);
+      return { accepted: tally.accepted, duplicates: tally.staged - tally.accepted, staged: tally.staged, vehicles: tally.vehicles.size };
     },
 
     /** Number of stored readings of a vehicle (tests, bench and the load check). */
