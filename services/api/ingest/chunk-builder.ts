@@ -1,13 +1,14 @@
 import type { ReadingChunk } from '../../db/readings-repository.js';
 import type { ValidReading } from './validate-reading.js';
 
+/** Arrays start this long and double up to the capacity: most bodies are a gateway's small batch. */
+const INITIAL_ROWS = 1024;
+
 /** Collects validated readings column-wise into fixed-size chunks for the bulk insert. */
 export class ChunkBuilder {
-  private chunk: ReadingChunk;
+  private chunk: ReadingChunk = ChunkBuilder.empty(0);
 
-  constructor(readonly capacity: number) {
-    this.chunk = ChunkBuilder.empty(capacity);
-  }
+  constructor(readonly capacity: number) {}
 
   private static empty(capacity: number): ReadingChunk {
     return {
@@ -30,6 +31,7 @@ export class ChunkBuilder {
   }
 
   push(r: ValidReading): void {
+    if (this.chunk.length === this.chunk.tsMs.length) this.grow();
     const c = this.chunk;
     const i = c.length++;
     c.vehicleIds[i] = r.vehicleId;
@@ -43,7 +45,20 @@ export class ChunkBuilder {
   /** Hands out the collected chunk and starts a new one. */
   take(): ReadingChunk {
     const out = this.chunk;
-    this.chunk = ChunkBuilder.empty(this.capacity);
+    this.chunk = ChunkBuilder.empty(0);
     return out;
+  }
+
+  private grow(): void {
+    const old = this.chunk;
+    const next = ChunkBuilder.empty(Math.min(this.capacity, Math.max(INITIAL_ROWS, old.tsMs.length * 2)));
+    next.length = old.length;
+    for (let i = 0; i < old.length; i++) next.vehicleIds[i] = old.vehicleIds[i]!;
+    next.tsMs.set(old.tsMs);
+    next.coolantC.set(old.coolantC);
+    next.ambientC.set(old.ambientC);
+    next.speedKph.set(old.speedKph);
+    next.rpm.set(old.rpm);
+    this.chunk = next;
   }
 }
