@@ -64,6 +64,12 @@ export interface AnalysisConfig {
   obdMaxIdleFraction: number;
   /** Plateau and run peaks are not judged below this mean ambient, °C (heater load). Tuned. */
   coolRunMinAmbientC: number;
+  /**
+   * The plateau is judged only on runs idling at most this share of their running time (steady
+   * driving), 0..1. Tuned: in stop-start delivery at 0–5 °C, idling with the cab heater on full
+   * cools a healthy light van 6–16 °C below its rating before it moves on (seed 7, EV-033).
+   */
+  plateauMaxIdleFraction: number;
   /** Longest warm-up window used by the Newton fit, s. */
   warmupFitMaxS: number;
   /** Points the warm-up curve is decimated to before fitting. */
@@ -98,6 +104,14 @@ export interface AnalysisConfig {
   trendMinSlopeCPerDay: number;
   /** Smallest rise of recent corrected peaks over the baseline that matters, °C. Tuned. */
   trendMinRiseC: number;
+  /**
+   * An overheating trend is reported only when the engine overheated (an episode above the hot
+   * threshold) on at least one day within this many days, days. Tuned: daily peaks of healthy
+   * light vans wander within the band the thermostat and fan hold (up to rating + 11 °C), and a
+   * rise there alone raised trends (seeds 7 and 11, EV-034); every simulated cooling fault
+   * overheated before or on the day its trend was confirmed.
+   */
+  trendHotWindowDays: number;
 
   // --- baselines and change detection ---
   /** The vehicle's own baseline is learned over this many days after its baseline start. */
@@ -180,6 +194,7 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   obdMinAmbientC: -6.7,
   obdMaxIdleFraction: 0.5,
   coolRunMinAmbientC: 0,
+  plateauMaxIdleFraction: 0.3,
   warmupFitMaxS: 2400,
   warmupFitPoints: 60,
   plateauDelayS: 600,
@@ -197,6 +212,7 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   trendAlpha: 0.01,
   trendMinSlopeCPerDay: 0.15,
   trendMinRiseC: 2.5,
+  trendHotWindowDays: 7,
 
   baselineDays: 10,
   baselineMinRuns: 6,

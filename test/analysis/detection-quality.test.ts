@@ -22,8 +22,6 @@ const MAX_HEALTHY_FALSE_ALARM_RATE = 0.05;
  */
 const KNOWN_SHORTFALLS: Readonly<Record<string, string>> = {
   'radiator-fouling': 'fouling builds over 2 weeks; the daily-peak trend finds 5 of 6 (the lightest case shows on 3 days only) after a median of about 11 days (target 10)',
-  'healthy-cold': 'one of 10 healthy vans in the cold depot gets a slow-warmup finding in the November cold snap (own baseline learned in milder weather)',
-  'healthy-temperate': 'one of 10 healthy light-duty vans in the temperate depot shows a significant slow rise of daily peaks as the season turns',
 };
 /** Weaker bounds for the lines above (still far better than the naive rules). */
 const SHORTFALL_MAX_DELAY_DAYS = 14;

@@ -38,8 +38,9 @@ function dayRow(d: DayAggregate, metric: DayMetric): ModelRow | null {
  * Overheating trend: daily peaks (overall, standing, moving 95th percentile) rising above
  * what the vehicle's own baseline days predict for the day's ambient temperature — by
  * CUSUM (a shift, e.g. a dead fan) or by Mann–Kendall with Sen's slope on the
- * ambient-corrected peaks (a creeping fault, e.g. fouling or coolant loss). Projects the
- * days until peaks reach the boiling point at cap pressure.
+ * ambient-corrected peaks (a creeping fault, e.g. fouling or coolant loss) — once the engine
+ * has overheated at least once within `trendHotWindowDays`. Projects the days until peaks
+ * reach the boiling point at cap pressure.
  */
 export function overheatingTrendFinding(
   allDays: readonly DayAggregate[], baselineStart: number, boilingPointC: number, now: number, cfg: AnalysisConfig,
@@ -80,6 +81,8 @@ export function overheatingTrendFinding(
   const shifted = cusum.alarmIndex >= 0
     && median(scored.slice(cusum.changeIndex).map((s) => s.value - s.expected)) >= cfg.trendMinRiseC;
   if (!shifted && !trend) return null;
+  // A rise within the band the thermostat and fan still hold is not yet overheating.
+  if (!days.some((d) => d.dayStartMs > now - cfg.trendHotWindowDays * DAY_MS && d.overheatEpisodes > 0)) return null;
   const onsetIdx = shifted ? cusum.changeIndex
     : Math.max(0, scored.findIndex((s) => s.day.dayStartMs > now - cfg.trendWindowDays * DAY_MS && s.z >= 1));
   const after = scored.slice(onsetIdx);

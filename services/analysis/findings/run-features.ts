@@ -58,9 +58,10 @@ export const WARMUP_TIME: RunFeature = {
 
 /**
  * Plateau in steady driving relative to the thermostat rating, explained by ambient and
- * speed. Judged with more care than the OBD-II warm-up monitor: not when idling dominates and
- * not in frost (below `coolRunMinAmbientC`), where the cab heater alone keeps healthy engines
- * of light-load vehicles below their rating.
+ * speed. Judged with more care than the OBD-II warm-up monitor: only on runs that idle at most
+ * `plateauMaxIdleFraction` of their time (the monitor stops at half) and not in frost (below
+ * `coolRunMinAmbientC`), where the cab heater alone keeps healthy engines of light-load
+ * vehicles below their rating.
  */
 export const PLATEAU: RunFeature = {
   name: 'plateau',
@@ -68,7 +69,7 @@ export const PLATEAU: RunFeature = {
   direction: -1,
   extract(r, cfg) {
     if (r.plateauC === null || r.excludedForSensor) return null;
-    if ((r.ambientMeanC ?? Infinity) < cfg.coolRunMinAmbientC || r.idleFraction > cfg.obdMaxIdleFraction) return null;
+    if ((r.ambientMeanC ?? Infinity) < cfg.coolRunMinAmbientC || r.idleFraction > cfg.plateauMaxIdleFraction) return null;
     return { x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100], y: r.plateauC - r.thermostatOpenC, censored: false };
   },
   display: (y) => y,

@@ -1,0 +1,62 @@
+import { describe, expect, it } from 'vitest';
+import { DEFAULT_ANALYSIS_CONFIG as CFG } from '../../../services/analysis/config.js';
+import type { DayAggregate } from '../../../services/analysis/day-aggregates.js';
+import { overheatingTrendFinding } from '../../../services/analysis/findings/overheating-trend.js';
+import { PLATEAU } from '../../../services/analysis/findings/run-features.js';
+import type { RunMetrics } from '../../../services/analysis/run-metrics.js';
+import { utcDay } from '../../../services/analysis/sample-arrays.js';
+
+const DAY_MS = 86_400_000;
+const START = Date.UTC(2026, 9, 5);
+const RATING_C = 90;
+const BOILING_C = 128;
+
+/** A working day with the given peak; the rest of the record is plausible filler. */
+function day(i: number, peakC: number, overheatEpisodes: number): DayAggregate {
+  const dayStartMs = START + i * DAY_MS;
+  return {
+    day: utcDay(dayStartMs), dayStartMs, firstSampleMs: dayStartMs + 6 * 3_600_000, lastSampleMs: dayStartMs + 14 * 3_600_000,
+    sampleCount: 2880, engineHours: 6, runCount: 8, coldStartCount: 1,
+    peakCoolantC: peakC, rawMaxCoolantC: peakC, minCoolantC: 12, peakMovingCoolantC: peakC, peakIdleCoolantC: peakC - 4,
+    warmMedianCoolantC: RATING_C + 1, warmP95CoolantC: RATING_C + 3, hotSeconds: 60 * overheatEpisodes,
+    overheatEpisodes, overheatLongestS: overheatEpisodes > 0 ? 60 : 0, overheatPeakC: overheatEpisodes > 0 ? peakC : null,
+    overheatIdleShare: 0, ambientMeanC: 15, ambientMinC: 10, ambientMaxC: 20, meanSpeedKph: 35, meanRpm: 1500,
+    idleFraction: 0.3, rateFlagCount: 0, outOfRangeCount: 0, dropoutCount: 0, missingS: 0, missingFraction: 0,
+  };
+}
+
+/** 10 baseline days with peaks 7–9 °C above the rating, then 14 days climbing 0.5 °C a day. */
+function risingPeaks(episodesFrom: number): DayAggregate[] {
+  return Array.from({ length: 24 }, (_, i) => {
+    const peakC = RATING_C + 8 + ((i * 7) % 3) - 1 + (i >= 10 ? 0.5 * (i - 9) : 0);
+    return day(i, Math.round(peakC), i >= episodesFrom ? 2 : 0);
+  });
+}
+
+describe('overheating trend', () => {
+  const now = START + 24 * DAY_MS;
+
+  it('reports rising daily peaks once the engine has overheated within the window', () => {
+    const f = overheatingTrendFinding(risingPeaks(20), START, BOILING_C, now, CFG);
+    expect(f?.kind).toBe('overheating-trend');
+  });
+
+  it('stays quiet while the rise stays below the hot threshold (no overheating episode in the window)', () => {
+    // Same peaks; the only episodes are older than trendHotWindowDays.
+    const days = risingPeaks(99).map((d, i) => (i === 2 ? day(2, d.peakCoolantC!, 1) : d));
+    expect(overheatingTrendFinding(days, START, BOILING_C, now, CFG)).toBeNull();
+    // With a window reaching back to that early episode the same rise is reported.
+    expect(overheatingTrendFinding(days, START, BOILING_C, now, { ...CFG, trendHotWindowDays: 30 })?.kind).toBe('overheating-trend');
+  });
+});
+
+describe('plateau feature', () => {
+  const run = (idleFraction: number) => ({
+    plateauC: 84, excludedForSensor: false, ambientMeanC: 2, idleFraction, meanSpeedKph: 30, thermostatOpenC: 88,
+  }) as RunMetrics;
+
+  it('judges runs in steady driving and leaves stop-start runs that idle more than plateauMaxIdleFraction unjudged', () => {
+    expect(PLATEAU.extract(run(CFG.plateauMaxIdleFraction - 0.1), CFG)?.y).toBe(-4);
+    expect(PLATEAU.extract(run(CFG.plateauMaxIdleFraction + 0.05), CFG)).toBeNull();
+  });
+});
