@@ -128,6 +128,13 @@ export interface AnalysisConfig {
   overshootScaleFloorC: number;
   /** Two runs at or beyond this overshoot z within `findingStaleDays` raise a finding. Tuned. */
   overshootRepeatZ: number;
+  /**
+   * Two runs at or beyond this warm-up/plateau/run-peak z within `findingStaleDays` raise a
+   * slow-warmup finding without a CUSUM alarm, σ. Tuned: a thermostat that sticks open mid-day
+   * shows on the runs after it, and the day's median dilutes them with the morning's
+   * (seed 11, EV-041: three runs at z 4 after a 10:00 onset, day median 1.95).
+   */
+  slowWarmupRepeatZ: number;
   /** Smallest residual scale for daily peaks, °C: route and weather move them by a few °C. Tuned. */
   dayScaleFloorC: number;
   /** CUSUM reference value (allowance), in robust standard deviations. */
@@ -221,6 +228,7 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   coolScaleFloorC: 2.5,
   overshootScaleFloorC: 3.5,
   overshootRepeatZ: 3.5,
+  slowWarmupRepeatZ: 4,
   dayScaleFloorC: 2,
   cusumK: 0.75,
   cusumH: 2.5,

@@ -10,7 +10,8 @@ import { detectRunShift, runShiftFinding } from './run-shift-finding.js';
 /**
  * Slow warm-up: cold starts take longer than history and peers predict for their ambient,
  * start temperature and idling (OBD-II suspensions applied), or the steady-driving plateau
- * or the highest temperature of longer runs sits lower than expected. The classic sign of a thermostat stuck open (P0128).
+ * or the highest temperature of longer runs sits lower than expected (a CUSUM over days, or
+ * two runs at `slowWarmupRepeatZ` or beyond). The classic sign of a thermostat stuck open (P0128).
  */
 export function slowWarmupFinding(
   runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
@@ -18,7 +19,7 @@ export function slowWarmupFinding(
   const warm = scoreFeature(runs, WARMUP_TIME, baselineStart, peer, now, cfg, cfg.warmupLogScaleFloor);
   const plateau = scoreFeature(runs, PLATEAU, baselineStart, peer, now, cfg, cfg.coolScaleFloorC);
   const runPeak = scoreFeature(runs, RUN_PEAK, baselineStart, peer, now, cfg, cfg.coolScaleFloorC);
-  const shift = detectRunShift(combineByRun([warm, plateau, runPeak]), now, cfg);
+  const shift = detectRunShift(combineByRun([warm, plateau, runPeak]), now, cfg, cfg.cusumH, cfg.slowWarmupRepeatZ);
   if (!shift) return null;
   const cold = shift.supporting.filter((s) => s.feature === WARMUP_TIME);
   const neverReached = cold.filter((s) => s.run.timeToTargetS === null).length;

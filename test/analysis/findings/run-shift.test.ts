@@ -2,8 +2,10 @@ import { describe, expect, it } from 'vitest';
 import { analyseSamples } from '../../../services/analysis/analyse-samples.js';
 import { DEFAULT_ANALYSIS_CONFIG as CFG } from '../../../services/analysis/config.js';
 import { expected, fitBaseline, type ModelRow } from '../../../services/analysis/findings/baseline-model.js';
-import { WARMUP_TIME } from '../../../services/analysis/findings/run-features.js';
-import { scoreFeature } from '../../../services/analysis/findings/run-shift.js';
+import { PLATEAU, WARMUP_TIME } from '../../../services/analysis/findings/run-features.js';
+import { type ScoredRun, scoreFeature } from '../../../services/analysis/findings/run-shift.js';
+import { detectRunShift } from '../../../services/analysis/findings/run-shift-finding.js';
+import type { RunMetrics } from '../../../services/analysis/run-metrics.js';
 import { DEFAULT_VEHICLE_PROFILE as PROFILE } from '../../../services/analysis/vehicle-profile.js';
 import { concatSamples, syntheticDrive } from '../synthetic-drive.js';
 
@@ -41,5 +43,25 @@ describe('warm-up scoring', () => {
     const row: ModelRow = { x: [4.5, 10], y: 0, censored: false };
     expect(expected(model, row, [true, false])).toBeCloseTo(2 + 4.5 + 0.5 * 4, 2);
     expect(expected(model, row)).toBeCloseTo(2 + 4.2 + 0.5 * 4, 2);
+  });
+});
+
+describe('run shift', () => {
+  it('raises a fault that starts mid-day from repeated runs at the repeat z, which the day median alone dilutes', () => {
+    // Ten quiet days, then a day whose three morning runs are normal and three afternoon runs
+    // sit 4 σ out: the day median is 1.75, below the CUSUM threshold on its own.
+    const scored: ScoredRun[] = [];
+    for (let d = 0; d <= 10; d++) {
+      for (let k = 0; k < 6; k++) {
+        const z = d === 10 && k >= 3 ? 4 : -0.5;
+        const run = { startMs: START + d * DAY_MS + (7 + 2 * k) * 3_600_000 } as RunMetrics;
+        scored.push({ run, feature: PLATEAU, z, value: z === 4 ? -14 : 0, expected: -1 });
+      }
+    }
+    const now = START + 11 * DAY_MS;
+    expect(detectRunShift(scored, now, CFG)).toBeNull();
+    const shift = detectRunShift(scored, now, CFG, CFG.cusumH, CFG.slowWarmupRepeatZ);
+    expect(shift?.firstSeen).toBe(START + 10 * DAY_MS + 13 * 3_600_000);
+    expect(shift?.supporting).toHaveLength(3);
   });
 });
