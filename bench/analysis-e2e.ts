@@ -10,7 +10,7 @@ import { createApiKeysRepository } from '../services/db/api-keys-repository.js';
 import { openDatabase, type DatabaseHandle } from '../services/db/database.js';
 import { migrateToLatest } from '../services/db/migrator.js';
 import { AnalysisRuns } from '../services/worker/analysis-runs.js';
-import { readWindow } from '../services/worker/readings-window.js';
+import { readWindows } from '../services/worker/readings-window.js';
 import { BENCH_START_MS, seedFindings, seedReadings } from './analysis-seed.js';
 import { DEFAULT_SERVER_URL, ROOT, scratchDatabase, startServer } from './bench-server.js';
 
@@ -33,7 +33,12 @@ export interface AnalysisBenchResult {
     postgresCpuS: number;
     /** readings / (worker + Postgres CPU seconds): readings per CPU-second, i.e. per core fully used. */
     readingsPerCoreS: number;
-    /** The phases alone, for diagnosis: reading windows, and analyseSamples on them. */
+    /**
+     * The figures above are the first analysis in this process (JIT cold); these are the same run
+     * over a second fleet of as many fresh readings right after, as a long-running worker sees it.
+     */
+    warm: { seconds: number; readingsPerS: number; workerCpuS: number; postgresCpuS: number; readingsPerCoreS: number };
+    /** The phases alone, for diagnosis: reading windows (20 vehicles a statement, as the worker does), and analyseSamples on them. */
     readOnlyReadingsPerS: number;
     analyseOnlyReadingsPerS: number;
   };
@@ -86,63 +91,75 @@ async function migrated(serverUrl: string, name: string): Promise<{ h: DatabaseH
   return { h, url: scratch.url, drop: async () => { await h.close(); await scratch.drop(); } };
 }
 
+/** One analysis run over a seeded fleet, with this process's CPU and its Postgres backends' CPU. */
+async function measuredRun(h: DatabaseHandle, fleetId: string): Promise<{ readings: number; seconds: number; workerCpuS: number; postgresCpuS: number }> {
+  // Postgres backends of this database, sampled while the run goes on (pool connections open lazily).
+  const first = new Map<number, number>();
+  const last = new Map<number, number>();
+  const sample = async () => {
+    const pids = await sql<{ pid: number }>`select pid from pg_stat_activity where datname = current_database()`.execute(h.db);
+    for (const { pid } of pids.rows) {
+      const ticks = cpuTicksOf(pid);
+      if (ticks === undefined) continue;
+      if (!first.has(pid)) first.set(pid, ticks);
+      last.set(pid, ticks);
+    }
+  };
+  await sample();
+  const cpu0 = process.cpuUsage();
+  const t0 = performance.now();
+  const runs = new AnalysisRuns(h, { leaseMs: 600_000, batchSize: 20 });
+  const { done } = runs.start(fleetId);
+  let finished = false;
+  const sampler = (async () => {
+    while (!finished) {
+      await sample();
+      await new Promise((r) => setTimeout(r, 250));
+    }
+  })();
+  const run = await done;
+  const seconds = (performance.now() - t0) / 1000;
+  finished = true;
+  await sampler;
+  await sample();
+  const cpu = process.cpuUsage(cpu0);
+  let pgTicks = 0;
+  for (const [pid, start] of first) pgTicks += (last.get(pid) ?? start) - start;
+  if (run.status !== 'succeeded' || run.vehiclesFailed > 0) throw new Error(`analysis run failed: ${run.error ?? JSON.stringify(run.failures)}`);
+  return { readings: run.readingsAnalysed, seconds, workerCpuS: (cpu.user + cpu.system) / 1e6, postgresCpuS: pgTicks / CLOCK_TICKS_PER_S };
+}
+
 async function measureThroughput(serverUrl: string): Promise<AnalysisBenchResult['throughput']> {
   const { h, drop } = await migrated(serverUrl, 'thermocline_bench_analysis');
   try {
     const readings = await seedReadings(h, 'tput', THROUGHPUT.vehicles, THROUGHPUT.days);
     log(`throughput: ${readings.toLocaleString('en-US')} readings of ${THROUGHPUT.vehicles} vehicles seeded`);
-    // Postgres backends of this database, sampled while the run goes on (pool connections open lazily).
-    const first = new Map<number, number>();
-    const last = new Map<number, number>();
-    const sample = async () => {
-      const pids = await sql<{ pid: number }>`select pid from pg_stat_activity where datname = current_database()`.execute(h.db);
-      for (const { pid } of pids.rows) {
-        const ticks = cpuTicksOf(pid);
-        if (ticks === undefined) continue;
-        if (!first.has(pid)) first.set(pid, ticks);
-        last.set(pid, ticks);
-      }
-    };
-    await sample();
-    const cpu0 = process.cpuUsage();
-    const t0 = performance.now();
-    const runs = new AnalysisRuns(h, { leaseMs: 600_000, batchSize: 20 });
-    const { done } = runs.start(null);
-    let finished = false;
-    const sampler = (async () => {
-      while (!finished) {
-        await sample();
-        await new Promise((r) => setTimeout(r, 250));
-      }
-    })();
-    const run = await done;
-    const seconds = (performance.now() - t0) / 1000;
-    finished = true;
-    await sampler;
-    await sample();
-    const cpu = process.cpuUsage(cpu0);
-    const workerCpuS = (cpu.user + cpu.system) / 1e6;
-    let pgTicks = 0;
-    for (const [pid, start] of first) pgTicks += (last.get(pid) ?? start) - start;
-    const postgresCpuS = pgTicks / CLOCK_TICKS_PER_S;
-    if (run.status !== 'succeeded' || run.vehiclesFailed > 0) throw new Error(`analysis run failed: ${run.error ?? JSON.stringify(run.failures)}`);
+    const cold = await measuredRun(h, 'tput');
+    // A long-running worker has its JIT warm: the same again over a second fleet of fresh readings.
+    await seedReadings(h, 'warm', THROUGHPUT.vehicles, THROUGHPUT.days);
+    const warm = await measuredRun(h, 'warm');
+    const perCore = (r: typeof cold) => r.readings / (r.workerCpuS + r.postgresCpuS);
+    log(`throughput, second fleet (JIT warm): ${Math.round(warm.readings / warm.seconds).toLocaleString('en-US')} readings/s wall, CPU worker ${warm.workerCpuS.toFixed(2)} s + PostgreSQL ${warm.postgresCpuS.toFixed(2)} s: ${Math.round(perCore(warm)).toLocaleString('en-US')} readings per CPU-second`);
 
-    // The phases alone, over the same windows.
-    const ids = (await h.db.selectFrom('vehicles').select('vehicle_id').where('fleet_id', '=', 'tput').execute()).map((r) => r.vehicle_id);
+    // The phases alone, over the same windows, read in batches as the worker reads them.
+    const ids = (await h.db.selectFrom('vehicles').select('vehicle_id').where('fleet_id', '=', 'tput').orderBy('vehicle_id').execute()).map((r) => r.vehicle_id);
     let readS = 0;
     let analyseS = 0;
     const cfg = resolveConfig('bench-13l');
-    for (const id of ids) {
+    for (let i = 0; i < ids.length; i += 20) {
       const a = performance.now();
-      const arrays = await readWindow(h, id, BENCH_START_MS, BENCH_START_MS + THROUGHPUT.days * DAY_MS);
+      const windows = ids.slice(i, i + 20).map((vehicleId) => ({ vehicleId, fromMs: BENCH_START_MS, toMs: BENCH_START_MS + THROUGHPUT.days * DAY_MS }));
+      const arrays = await readWindows(h, windows);
       const b = performance.now();
-      analyseSamples({ ...arrays, nowMs: Date.now() }, DEFAULT_VEHICLE_PROFILE, cfg);
+      for (const w of arrays) analyseSamples({ ...w, nowMs: Date.now() }, DEFAULT_VEHICLE_PROFILE, cfg);
       readS += (b - a) / 1000;
       analyseS += (performance.now() - b) / 1000;
     }
     return {
-      vehicles: THROUGHPUT.vehicles, days: THROUGHPUT.days, readings: run.readingsAnalysed, seconds, readingsPerS: run.readingsAnalysed / seconds, workerCpuS, postgresCpuS,
-      readingsPerCoreS: run.readingsAnalysed / (workerCpuS + postgresCpuS), readOnlyReadingsPerS: readings / readS, analyseOnlyReadingsPerS: readings / analyseS,
+      vehicles: THROUGHPUT.vehicles, days: THROUGHPUT.days, readings: cold.readings, seconds: cold.seconds, readingsPerS: cold.readings / cold.seconds,
+      workerCpuS: cold.workerCpuS, postgresCpuS: cold.postgresCpuS, readingsPerCoreS: perCore(cold),
+      warm: { seconds: warm.seconds, readingsPerS: warm.readings / warm.seconds, workerCpuS: warm.workerCpuS, postgresCpuS: warm.postgresCpuS, readingsPerCoreS: perCore(warm) },
+      readOnlyReadingsPerS: readings / readS, analyseOnlyReadingsPerS: readings / analyseS,
     };
   } finally {
     await drop();

@@ -7,11 +7,17 @@ import { refreshOpenFindingsBrief } from '../services/db/vehicle-risk.js';
 const DAY_MS = 86_400_000;
 export const BENCH_START_MS = Date.UTC(2026, 8, 7);
 
+/** Each simulated gateway posts a vehicle's readings every this many seconds (30 readings at 10 s). */
+const POST_EVERY_S = 300;
+
 /**
  * Readings for `vehicles` vehicles over `days` days, made in SQL (fast): one 8-hour shift a day at
  * 10 s, a Newton warm-up from a cold-soaked start to a regulated ~90 °C with 1 °C quantisation,
- * ambient varying by day and vehicle, speed and rpm varying along the shift. Every vehicle is
- * queued for analysis. Returns the number of readings.
+ * ambient varying by day and vehicle (repeating every 20 vehicles), speed and rpm varying along the shift. Rows are inserted
+ * in the order ingest would store them: in time, each vehicle's readings in posts of 5 minutes,
+ * the posts of all vehicles interleaved, so one vehicle's readings are spread over many heap
+ * pages (about 30 of a page's ~120 rows are one vehicle's). Every vehicle is queued for
+ * analysis. Returns the number of readings.
  */
 export async function seedReadings(h: DatabaseHandle, fleetId: string, vehicles: number, days: number): Promise<number> {
   const db = h.db;
@@ -21,17 +27,16 @@ export async function seedReadings(h: DatabaseHandle, fleetId: string, vehicles:
   await new PartitionKeeper().ensure(db, months);
   const ids = Array.from({ length: vehicles }, (_, i) => `${fleetId}-${String(i + 1).padStart(5, '0')}`);
   await sql`insert into vehicles (vehicle_id, fleet_id, engine_family) select unnest(${ids}::text[]), ${fleetId}, 'bench-13l'`.execute(db);
-  for (let i = 0; i < ids.length; i += 20) {
-    const part = ids.slice(i, i + 20);
+  for (let d = 0; d < days; d++) {
     await sql`
       insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm)
-      select v, to_timestamp(${BENCH_START_MS / 1000}::float8 + d * 86400 + 6 * 3600 + s),
+      select v, to_timestamp(${BENCH_START_MS / 1000}::float8 + ${d} * 86400 + 6 * 3600 + s),
              round(least(89 + (s / 600) % 3, 104 - (94 - amb) * exp(-s / 480.0))),
              amb, 30 + (s / 60) % 50, 900 + (s / 30) % 900
-      from unnest(${part}::text[]) with ordinality as u(v, k),
-           generate_series(0, ${days - 1}) d,
-           lateral (select (5 + 10 * sin(d / 5.0 + k))::real as amb) a,
-           generate_series(0, 8 * 3600, 10) s`.execute(db);
+      from unnest(${ids}::text[]) with ordinality as u(v, k),
+           lateral (select (5 + 10 * sin(${d} / 5.0 + 1 + (k - 1) % 20))::real as amb) a,
+           generate_series(0, 8 * 3600, 10) s
+      order by s / ${POST_EVERY_S}, k, s`.execute(db);
   }
   await sql`insert into analysis_queue (vehicle_id, fleet_id, dirty_from) select unnest(${ids}::text[]), ${fleetId}, to_timestamp(${BENCH_START_MS / 1000})`.execute(db);
   await sql`analyze readings`.execute(db);

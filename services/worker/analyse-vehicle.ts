@@ -11,10 +11,27 @@ import { createAnalysisStore, type VehicleState, type WindowResults } from './an
 import { syncFindings } from './findings-sync.js';
 import type { PeerBaselines } from './peer-baselines.js';
 import type { Lease, QueueRepository } from './queue-repository.js';
-import { latestReading, readingBefore, readWindow } from './readings-window.js';
+import { latestReading, readingBefore } from './readings-window.js';
+
+/*
+ * One pass over one leased vehicle:
+ * 1. window start: the earlier of its watermark (`resume_from`, the day its open run began)
+ *    and the day of the earliest new reading (late or back-filled data), moved back over any
+ *    stored run that reaches it (`prepareVehicle`);
+ * 2. reads the readings from there on as typed arrays, slice by slice, and analyses them
+ *    (`WindowAnalysis`), each slice resuming where the previous one's open run began;
+ * 3. re-derives the findings from the stored run/day history plus the new results
+ *    (`deriveFindings`, closed runs only: an open run's metrics are provisional) at the
+ *    vehicle's analysis time, its latest reading; the engine family's peer baseline and the
+ *    vehicle's service events are passed in;
+ * 4. in one transaction, if the lease is still held: replaces the derived rows from the window
+ *    start on, syncs the findings, records the watermark, refreshes the risk and finishes the
+ *    lease. Re-running over the same data writes the same rows.
+ * `processLeases` runs these steps for a batch of leased vehicles, reading their slices together.
+ */
 
 const DAY_MS = 86_400_000;
-/** Readings are read and analysed in slices of this many days: memory stays bounded by one slice. */
+/** Readings are read and analysed in slices of at most this many days (shorter when many vehicles are read together): memory stays bounded. */
 export const WINDOW_SLICE_DAYS = 14;
 
 /** The lease was lost (expired and taken by another worker) before the results were written. */
@@ -58,7 +75,7 @@ function finalPart(r: WindowResults, beforeMs: number): WindowResults {
   };
 }
 
-/** What a pass reads before analysing: the window and its first slice of readings. */
+/** What a pass knows before reading: the window and the readings around it. */
 export interface PreparedVehicle {
   /** When the preparation began, ms (logged as the pass's start). */
   startedAt: number;
@@ -68,15 +85,9 @@ export interface PreparedVehicle {
   lastMs: number | undefined;
   /** Last reading before the window, ms (for the gap before its first run). */
   previousRunEndMs: number | undefined;
-  /** The first slice's readings (up to WINDOW_SLICE_DAYS), when the window has any. */
-  first: { toMs: number; arrays: SampleArrays } | undefined;
 }
 
-/**
- * Step 1 and the first read of step 2 of `analyseVehicle`, separated so a worker can read the next
- * leased vehicle's window while it analyses and writes the current one (on a server the two run
- * on different connections, so Postgres and the worker work in parallel).
- */
+/** Step 1 of a pass: the window of this pass and the readings that bound it. */
 export async function prepareVehicle(handle: DatabaseHandle, lease: Lease, nowMs: number): Promise<PreparedVehicle> {
   const startedAt = Date.now();
   const store = createAnalysisStore(handle.db);
@@ -87,11 +98,78 @@ export async function prepareVehicle(handle: DatabaseHandle, lease: Lease, nowMs
   if (!Number.isFinite(windowFrom)) windowFrom = utcDayStartMs(state.lastReadingMs ?? nowMs);
   windowFrom = await store.extendOverStoredRuns(lease.vehicleId, windowFrom, cfg.runGapS * 1000);
   const lastMs = await latestReading(handle, lease.vehicleId, windowFrom);
-  if (lastMs === undefined) return { startedAt, state, windowFromMs: windowFrom, lastMs, previousRunEndMs: undefined, first: undefined };
-  const previousRunEndMs = await readingBefore(handle, lease.vehicleId, windowFrom);
-  const toMs = sliceEnd(windowFrom, WINDOW_SLICE_DAYS * DAY_MS, lastMs);
-  const arrays = await readWindow(handle, lease.vehicleId, windowFrom, toMs);
-  return { startedAt, state, windowFromMs: windowFrom, lastMs, previousRunEndMs, first: { toMs, arrays } };
+  const previousRunEndMs = lastMs === undefined ? undefined : await readingBefore(handle, lease.vehicleId, windowFrom);
+  return { startedAt, state, windowFromMs: windowFrom, lastMs, previousRunEndMs };
+}
+
+/**
+ * Step 2 of a pass: the window's readings analysed slice by slice (`analyseSamples`),
+ * each slice resuming where the previous one's open run began. The caller reads each slice that
+ * `nextSlice` names and hands it to `consume`, so a worker can read the slices of many vehicles
+ * in one statement.
+ */
+export class WindowAnalysis {
+  readonly fresh: WindowResults = { runs: [], days: [], sensorEvents: [] };
+  /** Readings analysed (each counted once, although a slice may re-read the previous one's open run). */
+  readings = 0;
+  /** Watermark for the next pass: the UTC midnight before the open run, or null. */
+  resumeFromMs: number | null = null;
+  private from: number;
+  private previousRunEndMs: number | undefined;
+  private done: boolean;
+  private readonly cfg;
+
+  /**
+   * @param sliceMs the first slice's length, ms (a whole number of days: slices end at UTC
+   *   midnights); memory is bounded by one slice of readings. Doubled when one run outlasts it.
+   * @param nowMs wall clock: a trailing run quiet for longer than the run gap is closed.
+   */
+  constructor(private readonly p: PreparedVehicle, private sliceMs: number, private readonly nowMs: number) {
+    this.from = p.windowFromMs;
+    this.previousRunEndMs = p.previousRunEndMs;
+    this.done = p.lastMs === undefined;
+    this.cfg = resolveConfig(p.state.profile.engineFamily);
+  }
+
+  /** The readings to read next, [fromMs, toMs); undefined when the window has been analysed. */
+  nextSlice(): { fromMs: number; toMs: number } | undefined {
+    if (this.done) return undefined;
+    return { fromMs: this.from, toMs: sliceEnd(this.from, this.sliceMs, this.p.lastMs!) };
+  }
+
+  /** Analyses the readings of the slice `nextSlice` named. */
+  consume(arrays: SampleArrays): void {
+    const lastMs = this.p.lastMs!;
+    const from = this.from;
+    const last = from + this.sliceMs > lastMs;
+    const previousRunEndMs = this.previousRunEndMs;
+    const a = analyseSamples({ ...arrays, ...(previousRunEndMs !== undefined ? { previousRunEndMs } : {}), ...(last ? { nowMs: this.nowMs } : {}) }, this.p.state.profile, this.cfg);
+    const stored = (x: { truncatedStart: boolean }) => !x.truncatedStart;
+    if (last) {
+      this.fresh.runs.push(...a.runs.filter(stored));
+      this.fresh.days.push(...a.days);
+      this.fresh.sensorEvents.push(...a.sensorEvents);
+      this.readings += arrays.ts.length;
+      this.resumeFromMs = a.resumeFromMs;
+      this.done = true;
+      return;
+    }
+    const next = a.resumeFromMs ?? from + this.sliceMs;
+    if (next <= from) {
+      // One run longer than the slice: read a longer slice rather than make no progress.
+      this.sliceMs *= 2;
+      return;
+    }
+    const part = finalPart(a, next);
+    this.fresh.runs.push(...part.runs.filter(stored));
+    this.fresh.days.push(...part.days);
+    this.fresh.sensorEvents.push(...part.sensorEvents);
+    let k = 0;
+    while (k < arrays.ts.length && arrays.ts[k]! < next) k++;
+    this.readings += k;
+    this.previousRunEndMs = k > 0 ? arrays.ts[k - 1] : previousRunEndMs;
+    this.from = next;
+  }
 }
 
 /** End (exclusive) of the slice from `fromMs`: `sliceMs` later, or just past the last reading. */
@@ -99,69 +177,14 @@ function sliceEnd(fromMs: number, sliceMs: number, lastMs: number): number {
   return fromMs + sliceMs > lastMs ? lastMs + 1 : fromMs + sliceMs;
 }
 
-/**
- * One pass over one leased vehicle:
- * 1. window start: the earlier of its watermark (`resume_from`, the day its open run began)
- *    and the day of the earliest new reading (late or back-filled data), moved back over any
- *    stored run that reaches it;
- * 2. reads the readings from there on as typed arrays, slice by slice, and analyses them
- *    (`analyseSamples`), each slice resuming where the previous one's open run began;
- * 3. re-derives the findings from the stored run/day history plus the new results
- *    (`deriveFindings`, closed runs only: an open run's metrics are provisional) at the
- *    vehicle's analysis time, its latest reading; the engine family's peer baseline and the
- *    vehicle's service events are passed in;
- * 4. in one transaction, if the lease is still held: replaces the derived rows from the window
- *    start on, syncs the findings, records the watermark, refreshes the risk and finishes the
- *    lease. Re-running over the same data writes the same rows.
- */
-export async function analyseVehicle(ctx: AnalyseContext, lease: Lease, prepared?: PreparedVehicle): Promise<VehicleOutcome> {
+/** Steps 3 and 4 of a pass, once the window has been analysed. */
+export async function writeVehicle(ctx: AnalyseContext, lease: Lease, p: PreparedVehicle, analysis: WindowAnalysis): Promise<VehicleOutcome> {
   const { handle, queue, workerId } = ctx;
   const store = createAnalysisStore(handle.db);
-  const p = prepared ?? (await prepareVehicle(handle, lease, ctx.nowMs));
   const { state, lastMs } = p;
   const windowFrom = p.windowFromMs;
   const cfg = resolveConfig(state.profile.engineFamily);
-
-  const fresh: WindowResults = { runs: [], days: [], sensorEvents: [] };
-  let readings = 0;
-  let resumeFromMs: number | null = null;
-  if (lastMs !== undefined) {
-    let from = windowFrom;
-    let previousRunEndMs = p.previousRunEndMs;
-    let sliceMs = WINDOW_SLICE_DAYS * DAY_MS;
-    let first = p.first;
-    for (;;) {
-      const last = from + sliceMs > lastMs;
-      const toMs = sliceEnd(from, sliceMs, lastMs);
-      const arrays = first && first.toMs === toMs ? first.arrays : await readWindow(handle, lease.vehicleId, from, toMs);
-      first = undefined;
-      const a = analyseSamples({ ...arrays, ...(previousRunEndMs !== undefined ? { previousRunEndMs } : {}), ...(last ? { nowMs: ctx.nowMs } : {}) }, state.profile, cfg);
-      const stored = (x: { truncatedStart: boolean }) => !x.truncatedStart;
-      if (last) {
-        fresh.runs.push(...a.runs.filter(stored));
-        fresh.days.push(...a.days);
-        fresh.sensorEvents.push(...a.sensorEvents);
-        readings += arrays.ts.length;
-        resumeFromMs = a.resumeFromMs;
-        break;
-      }
-      const next = a.resumeFromMs ?? from + sliceMs;
-      if (next <= from) {
-        // One run longer than the slice: read a longer slice rather than make no progress.
-        sliceMs *= 2;
-        continue;
-      }
-      const part = finalPart(a, next);
-      fresh.runs.push(...part.runs.filter(stored));
-      fresh.days.push(...part.days);
-      fresh.sensorEvents.push(...part.sensorEvents);
-      let k = 0;
-      while (k < arrays.ts.length && arrays.ts[k]! < next) k++;
-      readings += k;
-      previousRunEndMs = k > 0 ? arrays.ts[k - 1] : previousRunEndMs;
-      from = next;
-    }
-  }
+  const { fresh, readings, resumeFromMs } = analysis;
 
   const asOfMs = lastMs ?? state.lastReadingMs;
   const history = await store.historyBefore(lease.vehicleId, windowFrom);

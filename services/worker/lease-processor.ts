@@ -1,7 +1,8 @@
 import type { DatabaseHandle } from '../db/database.js';
-import { analyseVehicle, LeaseLostError, prepareVehicle, type PreparedVehicle, type VehicleOutcome } from './analyse-vehicle.js';
+import { LeaseLostError, prepareVehicle, WindowAnalysis, WINDOW_SLICE_DAYS, writeVehicle, type PreparedVehicle, type VehicleOutcome } from './analyse-vehicle.js';
 import type { PeerBaselines } from './peer-baselines.js';
 import type { Lease, QueueRepository } from './queue-repository.js';
+import { readWindows } from './readings-window.js';
 
 /** The few pino methods the worker logs through. */
 export interface WorkerLogger {
@@ -19,7 +20,7 @@ export interface ProcessContext {
   workerId: string;
   leaseMs: number;
   logger: WorkerLogger;
-  /** Asked before each vehicle: true releases the rest of the batch untouched. */
+  /** Asked before each read round and each write: true finishes the vehicle in hand and releases the rest of the batch. */
   stopRequested: () => boolean;
 }
 
@@ -34,59 +35,123 @@ function message(err: unknown): string {
 }
 
 /**
- * Analyses a batch of leased vehicles one after the other. Before each vehicle the leases of the
- * rest are extended (a heartbeat), so a long batch does not lose them; a failure is recorded on
- * the queue row (backoff, last_error) and the batch goes on; a stop request releases what is
- * left. On a server the next vehicle's window is read while the current one is analysed.
- * Each vehicle's start and end are logged ('vehicle analysed') with the worker id.
+ * The slices of a batch's vehicles that are read together cover at most this many vehicle-days:
+ * with more vehicles than fit at WINDOW_SLICE_DAYS each, the slices shorten, down to one day,
+ * and beyond that the vehicles are read in groups. At 10 s readings all day long that is 1.2
+ * million readings, 48 MB of arrays (plus the decoder's, 41 bytes a reading).
+ */
+export const BATCH_READ_VEHICLE_DAYS = 140;
+const DAY_MS = 86_400_000;
+
+/** A leased vehicle on its way through the batch. */
+interface Pass {
+  lease: Lease;
+  prepared: PreparedVehicle;
+  analysis: WindowAnalysis;
+}
+
+/**
+ * Analyses a batch of leased vehicles: prepares each (window, bounding readings), then reads the
+ * slices of all of them together, round by round, in one statement per round (readings arrive
+ * interleaved across vehicles, so this visits each heap page once instead of once per vehicle)
+ * and analyses each vehicle's slice, then derives and writes each vehicle's results in its own
+ * transaction. The leases are extended (a heartbeat) before a round or a write once a quarter of
+ * the lease period has passed, so a long batch does not lose them; a failure is recorded on the vehicle's queue row (backoff,
+ * last_error) and the batch goes on; a stop request finishes the vehicle in hand and releases the
+ * rest. Each vehicle's start and end are logged ('vehicle analysed') with the worker id.
  */
 export async function processLeases(ctx: ProcessContext, leases: readonly Lease[]): Promise<BatchSummary> {
   const summary: BatchSummary = { analysed: [], failed: [], released: [] };
-  // On a server, the next vehicle's window is read (on another pooled connection) while this one
-  // is analysed and written: Postgres and the worker then work at the same time. PGlite has one
-  // connection, whose open transaction a concurrent read would join, so there it stays sequential.
-  const pipelined = ctx.handle.pool !== undefined;
-  const prefetch = (lease: Lease | undefined) => {
-    if (!pipelined || !lease) return undefined;
-    const prepared = prepareVehicle(ctx.handle, lease, Date.now());
-    prepared.catch(() => undefined); // settled when consumed; the failure is handled there
-    return prepared;
+  const nowMs = Date.now();
+  const release = async (rest: readonly Lease[]) => {
+    const ids = rest.map((l) => l.vehicleId);
+    await ctx.queue.release(ctx.workerId, ids);
+    summary.released.push(...ids);
   };
-  let next: Promise<PreparedVehicle> | undefined;
-  for (let i = 0; i < leases.length; i++) {
-    const lease = leases[i]!;
-    const rest = leases.slice(i).map((l) => l.vehicleId);
-    if (ctx.stopRequested()) {
-      await next?.catch(() => undefined);
-      await ctx.queue.release(ctx.workerId, rest);
-      summary.released.push(...rest);
+  const failed = async (lease: Lease, err: unknown) => {
+    summary.failed.push({ vehicleId: lease.vehicleId, error: message(err) });
+    if (err instanceof LeaseLostError) {
+      ctx.logger.warn({ workerId: ctx.workerId, vehicleId: lease.vehicleId }, err.message);
+      return;
+    }
+    ctx.logger.error({ err, workerId: ctx.workerId, vehicleId: lease.vehicleId, attempts: lease.attempts }, 'vehicle analysis failed; retrying after backoff');
+    await ctx.queue.fail(ctx.workerId, lease.vehicleId, message(err)).catch((e: unknown) =>
+      ctx.logger.error({ err: e, vehicleId: lease.vehicleId }, 'could not record the failure; the lease will expire instead'));
+  };
+  // Leases are extended when a quarter of the lease period has passed since the last extension.
+  let extendedAt = -Infinity;
+  const heartbeat = async (passes: readonly { lease: Lease }[]) => {
+    if (Date.now() - extendedAt < ctx.leaseMs / 4) return;
+    extendedAt = Date.now();
+    await ctx.queue.extend(ctx.workerId, passes.map((p) => p.lease.vehicleId), ctx.leaseMs);
+  };
+
+  if (ctx.stopRequested()) {
+    await release(leases);
+    return summary;
+  }
+  await heartbeat(leases.map((lease) => ({ lease })));
+  const prepared: Array<{ lease: Lease; prepared: PreparedVehicle }> = [];
+  for (const lease of leases) {
+    try {
+      prepared.push({ lease, prepared: await prepareVehicle(ctx.handle, lease, nowMs) });
+    } catch (err) {
+      await failed(lease, err);
+    }
+  }
+  const reading = prepared.filter((p) => p.prepared.lastMs !== undefined).length;
+  const sliceDays = Math.max(1, Math.min(WINDOW_SLICE_DAYS, Math.floor(BATCH_READ_VEHICLE_DAYS / Math.max(1, reading))));
+  const groupSize = Math.max(1, Math.floor(BATCH_READ_VEHICLE_DAYS / sliceDays));
+  let open: Pass[] = prepared.map((p) => ({ ...p, analysis: new WindowAnalysis(p.prepared, sliceDays * DAY_MS, nowMs) }));
+
+  for (;;) {
+    if (ctx.stopRequested() && open.length > 1) {
+      await release(open.slice(1).map((p) => p.lease));
+      open = open.slice(0, 1);
+    }
+    const round = open.flatMap((pass) => {
+      const slice = pass.analysis.nextSlice();
+      return slice ? [{ pass, window: { vehicleId: pass.lease.vehicleId, ...slice } }] : [];
+    });
+    if (round.length === 0) break;
+    await heartbeat(open);
+    const errors = new Map<Pass, unknown>();
+    for (let g = 0; g < round.length; g += groupSize) {
+      const group = round.slice(g, g + groupSize);
+      try {
+        const arrays = await readWindows(ctx.handle, group.map((r) => r.window));
+        group.forEach(({ pass }, k) => {
+          try {
+            pass.analysis.consume(arrays[k]!);
+          } catch (err) {
+            errors.set(pass, err);
+          }
+        });
+      } catch (err) {
+        for (const { pass } of group) errors.set(pass, err);
+      }
+    }
+    for (const [pass, err] of errors) await failed(pass.lease, err);
+    open = open.filter((p) => !errors.has(p));
+  }
+
+  for (let i = 0; i < open.length; i++) {
+    const { lease, prepared: p, analysis } = open[i]!;
+    if (ctx.stopRequested() && i > 0) {
+      await release(open.slice(i).map((x) => x.lease));
       break;
     }
-    await ctx.queue.extend(ctx.workerId, rest, ctx.leaseMs);
-    const current = next;
-    next = undefined;
-    const startedAt = Date.now();
+    await heartbeat(open.slice(i));
     try {
-      const prepared = current ? await current : undefined;
-      if (i + 1 < leases.length && !ctx.stopRequested()) next = prefetch(leases[i + 1]);
-      const outcome = await analyseVehicle({ handle: ctx.handle, queue: ctx.queue, peers: ctx.peers, workerId: ctx.workerId, nowMs: startedAt }, lease, prepared);
+      const outcome = await writeVehicle({ handle: ctx.handle, queue: ctx.queue, peers: ctx.peers, workerId: ctx.workerId, nowMs }, lease, p, analysis);
       summary.analysed.push(outcome);
       ctx.logger.info({
-        workerId: ctx.workerId, vehicleId: lease.vehicleId, startedAt: prepared?.startedAt ?? startedAt, finishedAt: Date.now(), readings: outcome.readings,
+        workerId: ctx.workerId, vehicleId: lease.vehicleId, startedAt: p.startedAt, finishedAt: Date.now(), readings: outcome.readings,
         findings: outcome.findings, riskScore: outcome.riskScore, queue: outcome.queue,
       }, 'vehicle analysed');
     } catch (err) {
-      if (i + 1 < leases.length && !next && !ctx.stopRequested()) next = prefetch(leases[i + 1]);
-      summary.failed.push({ vehicleId: lease.vehicleId, error: message(err) });
-      if (err instanceof LeaseLostError) {
-        ctx.logger.warn({ workerId: ctx.workerId, vehicleId: lease.vehicleId }, err.message);
-        continue;
-      }
-      ctx.logger.error({ err, workerId: ctx.workerId, vehicleId: lease.vehicleId, attempts: lease.attempts }, 'vehicle analysis failed; retrying after backoff');
-      await ctx.queue.fail(ctx.workerId, lease.vehicleId, message(err)).catch((e: unknown) =>
-        ctx.logger.error({ err: e, vehicleId: lease.vehicleId }, 'could not record the failure; the lease will expire instead'));
+      await failed(lease, err);
     }
   }
-  await next?.catch(() => undefined);
   return summary;
 }

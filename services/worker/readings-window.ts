@@ -1,7 +1,7 @@
 import { sql } from 'kysely';
 import type { SampleArrays } from '../analysis/sample-arrays.js';
 import type { DatabaseHandle } from '../db/database.js';
-import { readWindowByCopy } from './copy-binary-window.js';
+import { readWindowsByCopy, type WindowRequest } from './copy-binary-window.js';
 import { parseNumberList } from './number-list.js';
 
 const MS_PER_S = 1000;
@@ -17,12 +17,22 @@ interface WindowText {
 }
 
 /**
- * Reads a vehicle's readings in [fromMs, toMs) as typed arrays, ascending in time: by binary
- * COPY on a PostgreSQL server, by the text aggregate below on PGlite (which has no COPY TO
- * STDOUT through its driver). Both give the numbers Postgres prints (see float4AsPrinted).
+ * Reads several vehicles' readings, each in its [fromMs, toMs), as typed arrays ascending in
+ * time, in the order asked: all in one binary COPY on a PostgreSQL server, one text aggregate
+ * per vehicle on PGlite (which has no COPY TO STDOUT through its driver). Both give the numbers
+ * Postgres prints (see float4AsPrinted).
  */
-export function readWindow(handle: DatabaseHandle, vehicleId: string, fromMs: number, toMs: number): Promise<SampleArrays> {
-  return handle.pool ? readWindowByCopy(handle.pool, vehicleId, fromMs, toMs) : readWindowAsText(handle, vehicleId, fromMs, toMs);
+export async function readWindows(handle: DatabaseHandle, windows: readonly WindowRequest[]): Promise<SampleArrays[]> {
+  if (handle.pool) return readWindowsByCopy(handle.pool, windows);
+  const out: SampleArrays[] = [];
+  for (const w of windows) out.push(await readWindowAsText(handle, w.vehicleId, w.fromMs, w.toMs));
+  return out;
+}
+
+/** One vehicle's readings in [fromMs, toMs), as `readWindows` reads them. */
+export async function readWindow(handle: DatabaseHandle, vehicleId: string, fromMs: number, toMs: number): Promise<SampleArrays> {
+  const [arrays] = await readWindows(handle, [{ vehicleId, fromMs, toMs }]);
+  return arrays!;
 }
 
 /**
@@ -53,7 +63,9 @@ export async function readWindowAsText(handle: DatabaseHandle, vehicleId: string
   if (!row || n === 0) return out;
   const columns: Array<[string | null, Float64Array]> = [[row.ts, out.ts], [row.coolant, out.coolant], [row.ambient, out.ambient], [row.speed, out.speedKph], [row.rpm, out.rpm]];
   for (const [text, target] of columns) {
-    const got = parseNumberList(text ?? '', target, 0);
+    // One NULL value aggregates to '', which parses as no value at all.
+    if (n === 1 && !text) target[0] = NaN;
+    const got = n === 1 && !text ? 1 : parseNumberList(text ?? '', target, 0);
     if (got !== n) throw new Error(`reading window of ${vehicleId}: expected ${n} values, parsed ${got}`);
   }
   const ts = out.ts;

@@ -1,0 +1,108 @@
+import type pg from 'pg';
+
+/** Backend message types of the COPY OUT sub-protocol (PostgreSQL frontend/backend protocol 3.0). */
+const COPY_DATA = 0x64; // 'd'
+const COPY_DONE = 0x63; // 'c'
+const ERROR_RESPONSE = 0x45; // 'E'
+/** One byte of message type, then an int32 length that counts itself. */
+const MESSAGE_HEADER_BYTES = 5;
+
+/**
+ * Receives the payload of each CopyData message as bytes [start, end) of a chunk, with a DataView
+ * over the same chunk (made once per chunk, not per message); both are valid during the call only.
+ */
+export type CopyDataSink = (bytes: Uint8Array, view: DataView, start: number, end: number) => void;
+
+/** The parts of pg's Connection this reader uses (not in pg's public types). */
+interface PgConnection {
+  stream: NodeJS.ReadableStream & { listeners(event: 'data'): Array<(chunk: Buffer) => void> };
+  query(text: string): void;
+}
+
+/**
+ * `COPY … TO STDOUT` on a checked-out pg client, handing each CopyData payload to `sink` straight
+ * from the socket's chunks. pg-copy-streams re-buffers every message (PostgreSQL sends one per
+ * row) into its own Buffer and stream chunk: measured about 0.3 µs of worker CPU per row, as much
+ * as decoding the row. Like pg-copy-streams, this takes the socket's 'data' events from pg's
+ * parser while the copy runs and hands them back at CopyDone (or at an ErrorResponse, which pg
+ * then parses and reports); pg completes the query on CommandComplete and ReadyForQuery.
+ */
+export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink): Promise<void> {
+  return new Promise<void>((resolve, reject) => {
+    let failure: Error | undefined;
+    const submittable = {
+      submit(connection: PgConnection) {
+        const stream = connection.stream;
+        const pgHandler = stream.listeners('data')[0];
+        if (!pgHandler) throw new Error('copyOut: the pg connection has no data listener to take over');
+        stream.removeListener('data', pgHandler);
+        let pending: Buffer | undefined;
+        let finished = false;
+        /** Walks the messages of `buf` from `p`; returns where an incomplete one begins (or the end). */
+        const walk = (buf: Buffer, p: number): number => {
+          const view = new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
+          while (p + MESSAGE_HEADER_BYTES <= buf.length) {
+            const type = buf[p]!;
+            const end = p + 1 + view.getInt32(p + 1);
+            if (type === COPY_DONE || type === ERROR_RESPONSE) {
+              // Hand the rest (CopyDone excluded; an error included) back to pg's parser.
+              finished = true;
+              stream.removeListener('data', onData);
+              stream.on('data', pgHandler);
+              const rest = type === COPY_DONE ? buf.subarray(Math.min(end, buf.length)) : buf.subarray(p);
+              if (rest.length > 0) pgHandler(rest);
+              return buf.length;
+            }
+            if (end > buf.length) break;
+            if (type === COPY_DATA && !failure) {
+              try {
+                sink(buf, view, p + MESSAGE_HEADER_BYTES, end);
+              } catch (err) {
+                // Read on to the end of the copy so the connection stays usable; reported after.
+                failure = err instanceof Error ? err : new Error(String(err));
+              }
+            }
+            // CopyOutResponse, and NoticeResponse or ParameterStatus interleaved: nothing to do.
+            p = end;
+          }
+          return p;
+        };
+        const onData = (chunk: Buffer) => {
+          let from = 0;
+          if (pending) {
+            // Join only the message that straddles the two chunks, not the whole chunk.
+            const head = pending.length >= MESSAGE_HEADER_BYTES ? pending : Buffer.concat([pending, chunk.subarray(0, MESSAGE_HEADER_BYTES - pending.length)]);
+            const size = head.length >= MESSAGE_HEADER_BYTES ? 1 + head.readInt32BE(1) : Infinity;
+            const missing = size - pending.length;
+            if (missing > chunk.length) {
+              pending = Buffer.concat([pending, chunk]);
+              return;
+            }
+            const joined = Buffer.concat([pending, chunk.subarray(0, missing)]);
+            pending = undefined;
+            walk(joined, 0);
+            if (finished) {
+              if (missing < chunk.length) pgHandler(chunk.subarray(missing));
+              return;
+            }
+            from = missing;
+          }
+          const p = walk(chunk, from);
+          if (!finished && p < chunk.length) pending = Buffer.from(chunk.subarray(p));
+        };
+        stream.on('data', onData);
+        connection.query(text);
+      },
+      handleCommandComplete() {},
+      handleReadyForQuery() {
+        if (failure) reject(failure);
+        else resolve();
+      },
+      // An ErrorResponse (after pg parsed it) or a dead connection; no ReadyForQuery reaches this query then.
+      handleError(err: Error) {
+        reject(err);
+      },
+    };
+    client.query(submittable as unknown as pg.QueryConfig);
+  });
+}
