@@ -18,13 +18,12 @@ const want = (name: string) => sections.size === 0 || sections.has(name);
 const lines: string[] = [];
 if (want('ingest')) {
   const r = await benchIngest(serverUrl);
-  const best = Math.max(r.jsonRowsPerS, r.ndjsonRowsPerS);
   lines.push(
     `ingest (${fmt(r.rows)} readings into ${serverUrl.replace(/\/\/[^@]*@/, '//')})`,
     `  psql \\copy                                                ${fmt(r.copyRowsPerS).padStart(10)} readings/s`,
     `  HTTP JSON batches of 1,000 (one vehicle each, 4 gateways) ${fmt(r.jsonRowsPerS).padStart(10)} readings/s   ratio to \\copy ${(r.jsonRowsPerS / r.copyRowsPerS).toFixed(2)}`,
     `  HTTP NDJSON bodies of 100,000 (100 vehicles, 2 uploaders) ${fmt(r.ndjsonRowsPerS).padStart(10)} readings/s   ratio to \\copy ${(r.ndjsonRowsPerS / r.copyRowsPerS).toFixed(2)}`,
-    `  target: HTTP ≥ 0.5 × \\copy         ${best / r.copyRowsPerS >= 0.5 ? 'met' : 'NOT met'}`,
+    `  target: HTTP ≥ 0.5 × \\copy: JSON batches ${r.jsonRowsPerS / r.copyRowsPerS >= 0.5 ? 'met' : 'NOT met'}, NDJSON bodies ${r.ndjsonRowsPerS / r.copyRowsPerS >= 0.5 ? 'met' : 'NOT met'}`,
     `  load: ${r.load.gateways} gateways × ${r.load.seconds} s: ${fmt(r.load.requests)} requests, ${r.load.errors} errors, ${fmt(r.load.accepted)} accepted, ${fmt(r.load.stored)} in the database (${r.load.accepted === r.load.stored && r.load.errors === 0 ? 'equal, no errors' : 'MISMATCH'})`,
   );
   if (r.load.errors > 0 || r.load.accepted !== r.load.stored) process.exitCode = 1;
