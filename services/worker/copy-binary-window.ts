@@ -95,15 +95,16 @@ function permute(a: SampleArrays, order: Uint32Array): SampleArrays {
  * (a BitmapOr of the vehicles' index ranges) visits each page once instead of once per vehicle,
  * and leaves the rows in heap order, which is insertion order: no sort in Postgres, and one here
  * only for a window that late data left out of order. COPY takes no bind parameters, so the
- * values are inlined as quoted literals.
+ * values are inlined as quoted literals. With `buffers` (reused by the caller) the arrays are views
+ * into them, valid until the next read with the same buffers.
  */
-export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowRequest[]): Promise<SampleArrays[]> {
+export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowRequest[], buffers = new WindowBuffers()): Promise<SampleArrays[]> {
   if (windows.length === 0) return [];
   if (new Set(windows.map((w) => w.vehicleId)).size !== windows.length) throw new Error('readWindowsByCopy: one window per vehicle');
   const where = windows.map((w) =>
     `(vehicle_id = ${quoteLiteral(w.vehicleId)} and ts >= ${quoteLiteral(new Date(w.fromMs).toISOString())}::timestamptz and ts < ${quoteLiteral(new Date(w.toMs).toISOString())}::timestamptz)`);
   const text = `copy (select vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm from readings where ${where.join(' or ')}) to stdout (format binary)`;
-  const decoder = new WindowsDecoder(windows.map((w) => Buffer.from(w.vehicleId, 'utf8')));
+  const decoder = new WindowsDecoder(windows.map((w) => Buffer.from(w.vehicleId, 'utf8')), buffers);
   const client = await pool.connect();
   try {
     await copyOut(client, text, (bytes, view, start, end) => decoder.message(bytes, view, start, end));
@@ -117,14 +118,39 @@ export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowR
 
 const INITIAL_ROWS = 65_536;
 const COLUMNS = 5;
+
+function grown<T extends Float64Array | Uint16Array>(a: T, rows: number, make: (n: number) => T): T {
+  if (a.length >= rows) return a;
+  const b = make(Math.max(rows, a.length * 2));
+  b.set(a);
+  return b;
+}
+
 /**
- * The decode columns of the last read, kept for the next one: allocating (and zeroing) them
- * afresh for each read of a batch cost more garbage collection than the decoding itself. A read
- * takes them (so two reads at once never share them) and puts them back when done, up to this
- * many rows (41 bytes each).
+ * Memory that one reader (a worker's batch) reuses from read to read: the decode columns and the
+ * arrays handed out. Allocating (and zeroing) them afresh for each read cost more garbage
+ * collection and page faults than the decoding itself. The arrays a read returns with these
+ * buffers are views into them, valid until the next read with the same buffers.
  */
-const SCRATCH_KEPT_ROWS = 1 << 20;
-let idleScratch: { owner: Uint16Array; columns: Float64Array[] } | undefined;
+export class WindowBuffers {
+  owner = new Uint16Array(INITIAL_ROWS);
+  /** Decoded rows, in arrival order: ts, coolant, ambient, speedKph, rpm. */
+  columns = Array.from({ length: COLUMNS }, () => new Float64Array(INITIAL_ROWS));
+  /** The same rows grouped by window. */
+  out = Array.from({ length: COLUMNS }, () => new Float64Array(0));
+
+  /** Room for at least `rows` decoded rows, keeping those decoded so far. */
+  reserveDecoded(rows: number): void {
+    this.owner = grown(this.owner, rows, (n) => new Uint16Array(n));
+    this.columns = this.columns.map((c) => grown(c, rows, (n) => new Float64Array(n)));
+  }
+
+  /** Room for `rows` grouped rows (nothing kept). */
+  reserveOut(rows: number): Float64Array[] {
+    if (this.out[0]!.length < rows) this.out = this.out.map(() => new Float64Array(Math.max(rows, INITIAL_ROWS)));
+    return this.out;
+  }
+}
 
 /**
  * Decodes binary COPY messages of (vehicle_id text, ts timestamptz, four nullable reals) into
@@ -133,9 +159,6 @@ let idleScratch: { owner: Uint16Array; columns: Float64Array[] } | undefined;
  */
 class WindowsDecoder {
   private rows = 0;
-  private owner: Uint16Array;
-  /** ts, coolant, ambient, speedKph, rpm. */
-  private columns: Float64Array[];
   private readonly counts: Uint32Array;
   private headerSeen = false;
   private last = 0;
@@ -144,13 +167,9 @@ class WindowsDecoder {
   private readonly lastOut = new Float64Array(COLUMNS).fill(NaN);
   private readonly printed = new Map<number, number>();
 
-  constructor(private readonly ids: readonly Buffer[]) {
+  constructor(private readonly ids: readonly Buffer[], private readonly buffers: WindowBuffers) {
     if (ids.length > 65_535) throw new Error('readWindowsByCopy: at most 65,535 windows in one read');
     this.counts = new Uint32Array(ids.length);
-    const reused = idleScratch;
-    idleScratch = undefined;
-    this.owner = reused?.owner ?? new Uint16Array(INITIAL_ROWS);
-    this.columns = reused?.columns ?? Array.from({ length: COLUMNS }, () => new Float64Array(INITIAL_ROWS));
   }
 
   message(bytes: Uint8Array, view: DataView, start: number, end: number): void {
@@ -167,11 +186,12 @@ class WindowsDecoder {
       const idLen = view.getInt32(p + 2);
       const k = this.windowOf(bytes, p + 6, idLen);
       p += 6 + idLen;
-      if (this.rows === this.owner.length) this.grow();
+      const buffers = this.buffers;
+      if (this.rows === buffers.owner.length) buffers.reserveDecoded(this.rows + 1);
       const i = this.rows++;
-      this.owner[i] = k;
+      buffers.owner[i] = k;
       this.counts[k]!++;
-      const [ts, coolant, ambient, speedKph, rpm] = this.columns as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
+      const [ts, coolant, ambient, speedKph, rpm] = buffers.columns as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
       const micros = view.getInt32(p + 4) * TWO_POW_32 + view.getUint32(p + 8);
       ts[i] = Math.round(micros / 1000) + PG_EPOCH_MS;
       p += 12;
@@ -199,17 +219,6 @@ class WindowsDecoder {
     return p + 4 + len;
   }
 
-  private grow(): void {
-    const owner = new Uint16Array(this.owner.length * 2);
-    owner.set(this.owner);
-    this.owner = owner;
-    this.columns = this.columns.map((c) => {
-      const grown = new Float64Array(c.length * 2);
-      grown.set(c);
-      return grown;
-    });
-  }
-
   /** Index of the window whose vehicle id is the `len` bytes at `p` (consecutive rows are often the same vehicle's). */
   private windowOf(bytes: Uint8Array, p: number, len: number): number {
     if (sameBytes(this.ids[this.last]!, bytes, p, len)) return this.last;
@@ -222,23 +231,22 @@ class WindowsDecoder {
     throw new Error(`binary COPY: a row of vehicle ${Buffer.from(bytes.subarray(p, p + len)).toString('utf8')}, which no window asked for`);
   }
 
-  /** One set of arrays per window, each ascending in time. */
+  /** One set of arrays per window (views into the buffers' `out`), each ascending in time. */
   split(): SampleArrays[] {
-    const out = Array.from(this.counts, (n) => Array.from({ length: COLUMNS }, () => new Float64Array(n)));
-    const at = new Uint32Array(this.ids.length);
-    const owner = this.owner;
+    const { owner, columns } = this.buffers;
+    const out = this.buffers.reserveOut(this.rows);
+    const starts = new Uint32Array(this.ids.length);
+    for (let k = 1; k < starts.length; k++) starts[k] = starts[k - 1]! + this.counts[k - 1]!;
+    const at = new Uint32Array(starts.length);
     for (let c = 0; c < COLUMNS; c++) {
-      const from = this.columns[c]!;
-      const to = out.map((columns) => columns[c]!);
-      at.fill(0);
-      for (let i = 0; i < this.rows; i++) {
-        const k = owner[i]!;
-        to[k]![at[k]!++] = from[i]!;
-      }
+      const from = columns[c]!;
+      const to = out[c]!;
+      at.set(starts);
+      for (let i = 0; i < this.rows; i++) to[at[owner[i]!]!++] = from[i]!;
     }
-    if (this.owner.length <= SCRATCH_KEPT_ROWS) idleScratch = { owner: this.owner, columns: this.columns };
-    return out.map(([ts, coolant, ambient, speedKph, rpm]) => {
-      const a: SampleArrays = { ts: ts!, coolant: coolant!, ambient: ambient!, speedKph: speedKph!, rpm: rpm! };
+    return Array.from(starts, (start, k) => {
+      const [ts, coolant, ambient, speedKph, rpm] = out.map((column) => column.subarray(start, start + this.counts[k]!)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
+      const a: SampleArrays = { ts, coolant, ambient, speedKph, rpm };
       return isAscending(a.ts) ? a : permute(a, ascendingOrder(a.ts));
     });
   }

@@ -2,6 +2,7 @@ import type { DatabaseHandle } from '../db/database.js';
 import { LeaseLostError, prepareVehicle, WindowAnalysis, WINDOW_SLICE_DAYS, writeVehicle, type PreparedVehicle, type VehicleOutcome } from './analyse-vehicle.js';
 import type { PeerBaselines } from './peer-baselines.js';
 import type { Lease, QueueRepository } from './queue-repository.js';
+import { WindowBuffers } from './copy-binary-window.js';
 import { readWindows } from './readings-window.js';
 
 /** The few pino methods the worker logs through. */
@@ -103,6 +104,8 @@ export async function processLeases(ctx: ProcessContext, leases: readonly Lease[
   const sliceDays = Math.max(1, Math.min(WINDOW_SLICE_DAYS, Math.floor(BATCH_READ_VEHICLE_DAYS / Math.max(1, reading))));
   const groupSize = Math.max(1, Math.floor(BATCH_READ_VEHICLE_DAYS / sliceDays));
   let open: Pass[] = prepared.map((p) => ({ ...p, analysis: new WindowAnalysis(p.prepared, sliceDays * DAY_MS, nowMs) }));
+  // Each round's arrays are analysed before the next round reads: one set of buffers serves them all.
+  const buffers = new WindowBuffers();
 
   for (;;) {
     if (ctx.stopRequested() && open.length > 1) {
@@ -119,7 +122,7 @@ export async function processLeases(ctx: ProcessContext, leases: readonly Lease[
     for (let g = 0; g < round.length; g += groupSize) {
       const group = round.slice(g, g + groupSize);
       try {
-        const arrays = await readWindows(ctx.handle, group.map((r) => r.window));
+        const arrays = await readWindows(ctx.handle, group.map((r) => r.window), buffers);
         group.forEach(({ pass }, k) => {
           try {
             pass.analysis.consume(arrays[k]!);

@@ -1,7 +1,7 @@
 import { sql } from 'kysely';
 import type { SampleArrays } from '../analysis/sample-arrays.js';
 import type { DatabaseHandle } from '../db/database.js';
-import { readWindowsByCopy, type WindowRequest } from './copy-binary-window.js';
+import { readWindowsByCopy, type WindowBuffers, type WindowRequest } from './copy-binary-window.js';
 import { parseNumberList } from './number-list.js';
 
 const MS_PER_S = 1000;
@@ -20,10 +20,11 @@ interface WindowText {
  * Reads several vehicles' readings, each in its [fromMs, toMs), as typed arrays ascending in
  * time, in the order asked: all in one binary COPY on a PostgreSQL server, one text aggregate
  * per vehicle on PGlite (which has no COPY TO STDOUT through its driver). Both give the numbers
- * Postgres prints (see float4AsPrinted).
+ * Postgres prints (see float4AsPrinted). With `buffers`, a server read returns views into them,
+ * valid until the next read with the same buffers.
  */
-export async function readWindows(handle: DatabaseHandle, windows: readonly WindowRequest[]): Promise<SampleArrays[]> {
-  if (handle.pool) return readWindowsByCopy(handle.pool, windows);
+export async function readWindows(handle: DatabaseHandle, windows: readonly WindowRequest[], buffers?: WindowBuffers): Promise<SampleArrays[]> {
+  if (handle.pool) return readWindowsByCopy(handle.pool, windows, buffers);
   const out: SampleArrays[] = [];
   for (const w of windows) out.push(await readWindowAsText(handle, w.vehicleId, w.fromMs, w.toMs));
   return out;
