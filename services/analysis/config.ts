@@ -143,6 +143,15 @@ export interface AnalysisConfig {
   cusumH: number;
   /** CUSUM decision threshold for overshoot, σ (healthy thermostats overshoot now and then). Tuned. */
   overshootCusumH: number;
+  /**
+   * An overshoot change is reported only if the runs since it sit at least this many σ out
+   * (median), σ. Lower than `minShiftMedianZ` because the 6 σ CUSUM already guards against
+   * healthy overshoots. Tuned: a lightly sticking thermostat adds about 6 °C to each cold
+   * start's peak, z ≈ 1.7 at the 3.5 °C floor and less on warm restarts, so the median since
+   * the change stayed below 2 for two weeks (seed 11, EV-060). 0.75–1.25 give the same tables on
+   * seeds 3, 5, 7 and 11; 1.5 misses EV-060.
+   */
+  overshootMinShiftMedianZ: number;
   /** CUSUM decision threshold on daily peaks, σ. Tuned. */
   dayCusumH: number;
   /** A change is reported only if the runs since it sit at least this many σ out (median). Tuned. */
@@ -233,6 +242,7 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   cusumK: 0.75,
   cusumH: 2.5,
   overshootCusumH: 6,
+  overshootMinShiftMedianZ: 1,
   dayCusumH: 3,
   minShiftMedianZ: 2,
   zCap: 4,

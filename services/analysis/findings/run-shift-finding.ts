@@ -40,8 +40,11 @@ export interface RunShift {
  * evidence is not older than `findingStaleDays`, else null. The onset is the first run of
  * the first day of the excursion that alarmed. With `repeatZ`, at least two runs at or above
  * it within `findingStaleDays` also raise the shift (a fault that shows only on some runs).
+ * The runs since the change must sit at least `minMedianZ` out (median).
  */
-export function detectRunShift(scored: readonly ScoredRun[], now: number, cfg: AnalysisConfig, h = cfg.cusumH, repeatZ = Infinity): RunShift | null {
+export function detectRunShift(
+  scored: readonly ScoredRun[], now: number, cfg: AnalysisConfig, h = cfg.cusumH, repeatZ = Infinity, minMedianZ = cfg.minShiftMedianZ,
+): RunShift | null {
   const days: ScoredRun[][] = [];
   for (const s of scored) {
     const last = days[days.length - 1];
@@ -56,17 +59,19 @@ export function detectRunShift(scored: readonly ScoredRun[], now: number, cfg: A
     const c = upperCusum(dayZ.slice(from), cfg.cusumK, h);
     if (c.alarmIndex < 0) break;
     maxStatistic = Math.max(maxStatistic, c.maxStatistic);
-    const shift = shiftFrom(scored, days[from + c.changeIndex]![0]!, now, cfg, maxStatistic);
+    const shift = shiftFrom(scored, days[from + c.changeIndex]![0]!, now, cfg, maxStatistic, minMedianZ);
     if (shift) return shift;
     from += c.changeIndex + 1;
   }
   // Rare but strong: repeated runs far outside what is expected within the stale window.
   const strong = scored.filter((s) => s.z >= repeatZ && s.run.startMs > now - cfg.findingStaleDays * DAY_MS);
-  return strong.length >= REPEAT_MIN_RUNS ? shiftFrom(scored, strong[0]!, now, cfg, maxStatistic) : null;
+  return strong.length >= REPEAT_MIN_RUNS ? shiftFrom(scored, strong[0]!, now, cfg, maxStatistic, minMedianZ) : null;
 }
 
 /** The shift starting at `changeRun`, or null when stale or too small. */
-function shiftFrom(scored: readonly ScoredRun[], changeRun: ScoredRun, now: number, cfg: AnalysisConfig, maxStatistic: number): RunShift | null {
+function shiftFrom(
+  scored: readonly ScoredRun[], changeRun: ScoredRun, now: number, cfg: AnalysisConfig, maxStatistic: number, minMedianZ: number,
+): RunShift | null {
   const after = scored.filter((s) => s.run.startMs >= changeRun.run.startMs);
   const supporting = after.filter((s) => s.z >= SUPPORT_Z);
   if (supporting.length < MIN_SUPPORTING_RUNS) return null;
@@ -74,7 +79,7 @@ function shiftFrom(scored: readonly ScoredRun[], changeRun: ScoredRun, now: numb
   if (now - lastSeen > cfg.findingStaleDays * DAY_MS) return null;
   const medianZ = median(after.map((s) => s.z));
   // A long run of small deviations (weather drifting out of the baseline's range) is not a fault.
-  if (medianZ < cfg.minShiftMedianZ) return null;
+  if (medianZ < minMedianZ) return null;
   const confidence = clamp01(normalCdf(medianZ - 1) * (1 - 0.5 ** supporting.length));
   return {
     changeRun, after, supporting, medianZ, maxStatistic, confidence,

@@ -52,7 +52,7 @@ export function overshootFinding(
   runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
 ): Finding | null {
   const scored = scoreFeature(runs, OVERSHOOT, baselineStart, peer, now, cfg, cfg.overshootScaleFloorC);
-  const shift = detectRunShift(scored.scored, now, cfg, cfg.overshootCusumH, cfg.overshootRepeatZ);
+  const shift = detectRunShift(scored.scored, now, cfg, cfg.overshootCusumH, cfg.overshootRepeatZ, cfg.overshootMinShiftMedianZ);
   if (!shift) return null;
   const above = (xs: number[]) => xs.sort((a, b) => a - b)[xs.length >> 1] ?? 0;
   const typical = above(shift.supporting.map((s) => s.value - s.run.thermostatOpenC));

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { analyseSamples } from '../../../services/analysis/analyse-samples.js';
 import { DEFAULT_ANALYSIS_CONFIG as CFG } from '../../../services/analysis/config.js';
 import { expected, fitBaseline, type ModelRow } from '../../../services/analysis/findings/baseline-model.js';
-import { PLATEAU, WARMUP_TIME } from '../../../services/analysis/findings/run-features.js';
+import { OVERSHOOT, PLATEAU, WARMUP_TIME } from '../../../services/analysis/findings/run-features.js';
 import { type ScoredRun, scoreFeature } from '../../../services/analysis/findings/run-shift.js';
 import { detectRunShift } from '../../../services/analysis/findings/run-shift-finding.js';
 import type { RunMetrics } from '../../../services/analysis/run-metrics.js';
@@ -63,5 +63,19 @@ describe('run shift', () => {
     const shift = detectRunShift(scored, now, CFG, CFG.cusumH, CFG.slowWarmupRepeatZ);
     expect(shift?.firstSeen).toBe(START + 10 * DAY_MS + 13 * 3_600_000);
     expect(shift?.supporting).toHaveLength(3);
+  });
+
+  it('reports a steady, moderate overshoot shift under the overshoot median-z bound but not under the general one', () => {
+    // Ten normal days, then twelve days of cold starts 1.7 σ out (a lightly sticking thermostat):
+    // the 6 σ CUSUM alarms, and the runs since the change sit 1.7 σ out (median).
+    const scored: ScoredRun[] = [];
+    for (let d = 0; d < 22; d++) {
+      const z = d >= 10 ? 1.7 : 0;
+      scored.push({ run: { startMs: START + d * DAY_MS + 6 * 3_600_000 } as RunMetrics, feature: OVERSHOOT, z, value: 92 + 3.5 * z, expected: 92 });
+    }
+    const now = START + 22 * DAY_MS;
+    expect(detectRunShift(scored, now, CFG, CFG.overshootCusumH, CFG.overshootRepeatZ)).toBeNull();
+    const shift = detectRunShift(scored, now, CFG, CFG.overshootCusumH, CFG.overshootRepeatZ, CFG.overshootMinShiftMedianZ);
+    expect(shift?.firstSeen).toBe(START + 10 * DAY_MS + 6 * 3_600_000);
   });
 });
