@@ -116,7 +116,7 @@ export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowR
   return decoder.split();
 }
 
-const INITIAL_ROWS = 65_536;
+const INITIAL_ROWS = 262_144;
 const COLUMNS = 5;
 
 function grown<T extends Float64Array | Uint16Array>(a: T, rows: number, make: (n: number) => T): T {
@@ -191,14 +191,11 @@ class WindowsDecoder {
       const i = this.rows++;
       buffers.owner[i] = k;
       this.counts[k]!++;
-      const [ts, coolant, ambient, speedKph, rpm] = buffers.columns as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
+      const columns = buffers.columns;
       const micros = view.getInt32(p + 4) * TWO_POW_32 + view.getUint32(p + 8);
-      ts[i] = Math.round(micros / 1000) + PG_EPOCH_MS;
+      columns[0]![i] = Math.round(micros / 1000) + PG_EPOCH_MS;
       p += 12;
-      p = this.real(view, p, coolant, i, 1);
-      p = this.real(view, p, ambient, i, 2);
-      p = this.real(view, p, speedKph, i, 3);
-      p = this.real(view, p, rpm, i, 4);
+      for (let c = 1; c < COLUMNS; c++) p = this.real(view, p, columns[c]!, i, c);
     }
   }
 
