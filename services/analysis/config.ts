@@ -112,6 +112,19 @@ export interface AnalysisConfig {
    * overheated before or on the day its trend was confirmed.
    */
   trendHotWindowDays: number;
+  /**
+   * Smallest residual scale for the daily time above the hot threshold, s: healthy engines
+   * spend none or a minute or two there on the hottest days. Tuned: 45–75 s all find 6 of 6
+   * radiator foulings on seed 7 (median 10.2–10.9 d).
+   */
+  hotTimeScaleFloorS: number;
+  /**
+   * Smallest rise of the daily time above the hot threshold over the baseline that matters
+   * (median since the change), s. Tuned: 90–120 s find every radiator fouling on seed 7
+   * (240 s: also, but 1.3 d later); healthy vehicles never exceeded 170 s on one day on seeds
+   * 3, 5, 7 and 11.
+   */
+  hotTimeMinRiseS: number;
 
   // --- baselines and change detection ---
   /** The vehicle's own baseline is learned over this many days after its baseline start. */
@@ -229,6 +242,8 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   trendMinSlopeCPerDay: 0.15,
   trendMinRiseC: 2.5,
   trendHotWindowDays: 7,
+  hotTimeScaleFloorS: 60,
+  hotTimeMinRiseS: 120,
 
   baselineDays: 10,
   baselineMinRuns: 6,

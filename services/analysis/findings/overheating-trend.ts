@@ -18,13 +18,16 @@ const RECENT_DAYS = 5;
 /** Projected days to boiling at or below which the finding is critical. */
 const CRITICAL_DAYS_TO_BOIL = 14;
 
-type DayMetric = 'peakCoolantC' | 'warmP95CoolantC';
+type DayMetric = 'peakCoolantC' | 'warmP95CoolantC' | 'hotSeconds';
 /**
  * Daily quantities judged: the overall peak (standing or moving: fan, coolant) and the 95th
  * percentile while moving (radiator). The standing-only peak is too dependent on whether
  * the day happened to include warm idling to be judged on its own.
  */
 const DAY_METRICS: readonly DayMetric[] = ['peakCoolantC', 'warmP95CoolantC'];
+
+/** Where the daily time above the hot threshold turned up, and by how much (median since), s. */
+interface HotTimeShift { startMs: number; riseS: number }
 
 interface ScoredDay { day: DayAggregate; metric: DayMetric; z: number; value: number; expected: number }
 
@@ -35,10 +38,27 @@ function dayRow(d: DayAggregate, metric: DayMetric): ModelRow | null {
 }
 
 /**
+ * Daily time above the hot threshold against what the baseline days predict for the day's
+ * ambient (healthy engines: none or a minute on the hottest days): an upper CUSUM of its
+ * robust z, with its own scale floor and smallest rise in seconds. It rises days before the
+ * peaks do on a fouling radiator, whose fan can no longer pull the coolant back quickly.
+ */
+function hotTimeShift(days: readonly DayAggregate[], base: readonly DayAggregate[], cfg: AnalysisConfig): HotTimeShift | null {
+  const model = fitBaseline(base.map((d) => dayRow(d, 'hotSeconds')!));
+  if (!model) return null;
+  const rows = days.map((d) => dayRow(d, 'hotSeconds')!);
+  const c = upperCusum(rows.map((r) => badZ(model, r, 1, cfg.hotTimeScaleFloorS, cfg.zCap)!), cfg.cusumK, cfg.dayCusumH);
+  if (c.alarmIndex < 0) return null;
+  const riseS = median(rows.slice(c.changeIndex).map((r) => r.y - expected(model, r)));
+  return riseS >= cfg.hotTimeMinRiseS ? { startMs: days[c.changeIndex]!.dayStartMs, riseS } : null;
+}
+
+/**
  * Overheating trend: daily peaks (overall, standing, moving 95th percentile) rising above
  * what the vehicle's own baseline days predict for the day's ambient temperature — by
- * CUSUM (a shift, e.g. a dead fan) or by Mann–Kendall with Sen's slope on the
- * ambient-corrected peaks (a creeping fault, e.g. fouling or coolant loss) — once the engine
+ * CUSUM (a shift, e.g. a dead fan), by a CUSUM of the daily time above the hot threshold,
+ * or by Mann–Kendall with Sen's slope on the ambient-corrected peaks (a creeping fault, e.g.
+ * fouling or coolant loss) — once the engine
  * has overheated at least once within `trendHotWindowDays`. Projects the days until peaks
  * reach the boiling point at cap pressure.
  */
@@ -78,12 +98,15 @@ export function overheatingTrendFinding(
     rise = median(r.slice(-RECENT_DAYS));
     trend = mk.pIncreasing < cfg.trendAlpha && slope >= cfg.trendMinSlopeCPerDay && rise >= cfg.trendMinRiseC;
   }
-  const shifted = cusum.alarmIndex >= 0
+  const peaksShifted = cusum.alarmIndex >= 0
     && median(scored.slice(cusum.changeIndex).map((s) => s.value - s.expected)) >= cfg.trendMinRiseC;
+  const hot = hotTimeShift(days, base, cfg);
+  const shifted = peaksShifted || hot !== null;
   if (!shifted && !trend) return null;
   // A rise within the band the thermostat and fan still hold is not yet overheating.
   if (!days.some((d) => d.dayStartMs > now - cfg.trendHotWindowDays * DAY_MS && d.overheatEpisodes > 0)) return null;
-  const onsetIdx = shifted ? cusum.changeIndex
+  const shiftStartMs = Math.min(peaksShifted ? scored[cusum.changeIndex]!.day.dayStartMs : Infinity, hot?.startMs ?? Infinity);
+  const onsetIdx = shifted ? Math.max(0, scored.findIndex((s) => s.day.dayStartMs >= shiftStartMs))
     : Math.max(0, scored.findIndex((s) => s.day.dayStartMs > now - cfg.trendWindowDays * DAY_MS && s.z >= 1));
   const after = scored.slice(onsetIdx);
   const supporting = after.filter((s) => s.z >= 1);
@@ -114,6 +137,7 @@ export function overheatingTrendFinding(
     lastSeen,
     summary: `Since ${utcDay(firstSeen)} peak coolant temperatures run about ${round(riseC, 1)} °C above what the weather explains`
       + (daysToBoil !== null ? `, rising ${round(rawSlope, 2)} °C a day (boiling point ${round(boilingPointC, 0)} °C in about ${Math.round(daysToBoil)} days at this rate)` : '')
+      + (hot ? `, and the engine spends about ${Math.max(1, Math.round(hot.riseS / 60))} min a day longer above its hot threshold` : '')
       + '; likely a fouled radiator, a failing fan or coolant loss.',
     recommendedCheck: 'Check the coolant level and look for leaks with the engine cold, inspect the radiator core for blockage, '
       + 'check that the cooling fan engages when the engine is hot, and pressure-test the cap. ' + SAFETY_CAUTION,
@@ -121,7 +145,8 @@ export function overheatingTrendFinding(
     metrics: {
       medianZ: round(medianZ), riseC: round(riseC), senSlopeCPerDay: round(slope, 3), rawSlopeCPerDay: round(rawSlope, 3),
       daysToBoil: daysToBoil === null ? -1 : round(daysToBoil, 1), boilingPointC: round(boilingPointC, 1),
-      recentOverheatEpisodes: recentEpisodes, trendSignificant: trend ? 1 : 0, cusumAlarm: shifted ? 1 : 0,
+      recentOverheatEpisodes: recentEpisodes, trendSignificant: trend ? 1 : 0, cusumAlarm: peaksShifted ? 1 : 0,
+      hotTimeAlarm: hot ? 1 : 0, hotTimeRiseS: hot ? round(hot.riseS, 0) : 0,
     },
     evidence,
   };

@@ -50,6 +50,29 @@ describe('overheating trend', () => {
   });
 });
 
+describe('overheating trend from the time spent above the hot threshold', () => {
+  // Peaks stay flat (the fan still pulls them back), but the time above the hot threshold grows.
+  const days = (hotS: number, from = 12) => Array.from({ length: 16 }, (_, i) => {
+    const d = day(i, RATING_C + 8 + ((i * 7) % 3) - 1, i >= from ? 3 : 0);
+    return { ...d, hotSeconds: i >= from ? hotS : 0 };
+  });
+  const now = START + 16 * DAY_MS;
+
+  it('reports days with minutes above the hot threshold that the baseline days never had', () => {
+    const f = overheatingTrendFinding(days(300), START, BOILING_C, now, CFG);
+    expect(f?.metrics.hotTimeAlarm).toBe(1);
+    expect(f?.firstSeen).toBe(START + 12 * DAY_MS);
+    expect(f?.summary).toContain('5 min a day longer above its hot threshold');
+  });
+
+  it('ignores a rise smaller than hotTimeMinRiseS, even when it lasts long enough for the CUSUM', () => {
+    // Six days at 1.5 σ: the CUSUM passes its threshold, the median rise stays below the bound.
+    const small = days(CFG.hotTimeMinRiseS - 30, 10);
+    expect(overheatingTrendFinding(small, START, BOILING_C, now, CFG)).toBeNull();
+    expect(overheatingTrendFinding(small, START, BOILING_C, now, { ...CFG, hotTimeMinRiseS: 60 })?.metrics.hotTimeAlarm).toBe(1);
+  });
+});
+
 describe('plateau feature', () => {
   const run = (idleFraction: number) => ({
     plateauC: 84, excludedForSensor: false, ambientMeanC: 2, idleFraction, meanSpeedKph: 30, thermostatOpenC: 88,
