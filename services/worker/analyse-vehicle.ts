@@ -11,13 +11,13 @@ import { createAnalysisStore, type VehicleState, type WindowResults } from './an
 import { syncFindings } from './findings-sync.js';
 import type { PeerBaselines } from './peer-baselines.js';
 import type { Lease, QueueRepository } from './queue-repository.js';
-import { latestReading, readingBefore } from './readings-window.js';
+import { windowBounds } from './readings-window.js';
 
 /*
  * One pass over one leased vehicle:
  * 1. window start: the earlier of its watermark (`resume_from`, the day its open run began)
  *    and the day of the earliest new reading (late or back-filled data), moved back over any
- *    stored run that reaches it (`prepareVehicle`);
+ *    stored run that reaches it (`prepareVehicles`);
  * 2. reads the readings from there on as typed arrays, slice by slice, and analyses them
  *    (`WindowAnalysis`), each slice resuming where the previous one's open run began;
  * 3. re-derives the findings from the stored run/day history plus the new results
@@ -87,19 +87,23 @@ export interface PreparedVehicle {
   previousRunEndMs: number | undefined;
 }
 
-/** Step 1 of a pass: the window of this pass and the readings that bound it. */
-export async function prepareVehicle(handle: DatabaseHandle, lease: Lease, nowMs: number): Promise<PreparedVehicle> {
+/** Step 1 of a pass, for a batch of leased vehicles at once: each one's window and the readings that bound it. */
+export async function prepareVehicles(handle: DatabaseHandle, leases: readonly Lease[], nowMs: number): Promise<PreparedVehicle[]> {
   const startedAt = Date.now();
   const store = createAnalysisStore(handle.db);
-  const state = await store.vehicleState(lease.vehicleId);
-  const cfg = resolveConfig(state.profile.engineFamily);
-  const dirtyDay = Number.isFinite(lease.windowFromMs) ? utcDayStartMs(lease.windowFromMs) : Infinity;
-  let windowFrom = Math.min(state.resumeFromMs ?? Infinity, dirtyDay);
-  if (!Number.isFinite(windowFrom)) windowFrom = utcDayStartMs(state.lastReadingMs ?? nowMs);
-  windowFrom = await store.extendOverStoredRuns(lease.vehicleId, windowFrom, cfg.runGapS * 1000);
-  const lastMs = await latestReading(handle, lease.vehicleId, windowFrom);
-  const previousRunEndMs = lastMs === undefined ? undefined : await readingBefore(handle, lease.vehicleId, windowFrom);
-  return { startedAt, state, windowFromMs: windowFrom, lastMs, previousRunEndMs };
+  const states = await store.vehicleStates(leases.map((l) => l.vehicleId));
+  const starts = await store.extendOverStoredRuns(leases.map((lease, k) => {
+    const state = states[k]!;
+    const dirtyDay = Number.isFinite(lease.windowFromMs) ? utcDayStartMs(lease.windowFromMs) : Infinity;
+    let fromMs = Math.min(state.resumeFromMs ?? Infinity, dirtyDay);
+    if (!Number.isFinite(fromMs)) fromMs = utcDayStartMs(state.lastReadingMs ?? nowMs);
+    return { vehicleId: lease.vehicleId, fromMs, gapMs: resolveConfig(state.profile.engineFamily).runGapS * 1000 };
+  }));
+  const bounds = await windowBounds(handle, leases.map((lease, k) => ({ vehicleId: lease.vehicleId, fromMs: starts[k]! })));
+  return leases.map((_, k) => {
+    const { lastMs, beforeMs } = bounds[k]!;
+    return { startedAt, state: states[k]!, windowFromMs: starts[k]!, lastMs, previousRunEndMs: lastMs === undefined ? undefined : beforeMs };
+  });
 }
 
 /**

@@ -36,36 +36,49 @@ const ts = (msValue: number) => sql`to_timestamp(${msValue}::float8 / 1000)`;
 /** Reads and writes the worker's derived tables: engine_runs, vehicle_days, sensor_events. */
 export function createAnalysisStore(db: Kysely<Database>) {
   return {
-    async vehicleState(vehicleId: string): Promise<VehicleState> {
-      const v = await db.selectFrom('vehicles').select(['engine_family', 'thermostat_open_c', 'cap_pressure_kpa', 'glycol_percent'])
-        .where('vehicle_id', '=', vehicleId).executeTakeFirst();
-      const a = await db.selectFrom('vehicle_analysis').select(['resume_from', 'last_reading_at']).where('vehicle_id', '=', vehicleId).executeTakeFirst();
-      return {
-        profile: v
-          ? { engineFamily: v.engine_family, thermostatOpenC: v.thermostat_open_c, capPressureKpa: v.cap_pressure_kpa, glycolPercent: v.glycol_percent }
+    /** What the worker knows about each vehicle before analysing it, in the order asked (one statement for a batch). */
+    async vehicleStates(vehicleIds: readonly string[]): Promise<VehicleState[]> {
+      const r = await sql<{ engine_family: string | null; thermostat_open_c: number; cap_pressure_kpa: number; glycol_percent: number; resume_from: Date | null; last_reading_at: Date | null }>`
+        select v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent, a.resume_from, a.last_reading_at
+        from unnest(${[...vehicleIds]}::text[]) with ordinality as l(vehicle_id, o)
+        left join vehicles v on v.vehicle_id = l.vehicle_id
+        left join vehicle_analysis a on a.vehicle_id = l.vehicle_id
+        order by l.o`.execute(db);
+      return r.rows.map((x) => ({
+        profile: x.engine_family !== null
+          ? { engineFamily: x.engine_family, thermostatOpenC: x.thermostat_open_c, capPressureKpa: x.cap_pressure_kpa, glycolPercent: x.glycol_percent }
           : { ...DEFAULT_VEHICLE_PROFILE },
-        resumeFromMs: a?.resume_from?.getTime() ?? null,
-        lastReadingMs: a?.last_reading_at?.getTime() ?? null,
-      };
+        resumeFromMs: x.resume_from?.getTime() ?? null,
+        lastReadingMs: x.last_reading_at?.getTime() ?? null,
+      }));
     },
 
     /**
-     * Moves a window start back over any stored run that reaches it (or ends less than `gapMs`
-     * before it), to the UTC midnight before that run's start: late readings may extend, merge
-     * or split it, so it is recomputed whole. Repeats until no stored run reaches the start.
+     * Moves each window start back over any stored run that reaches it (or ends less than its
+     * `gapMs` before it), to the UTC midnight before that run's start: late readings may extend,
+     * merge or split it, so it is recomputed whole. Repeats until no stored run reaches a start;
+     * one statement per repetition for the whole batch. Returns the starts in the order given.
      */
-    async extendOverStoredRuns(vehicleId: string, fromMs: number, gapMs: number): Promise<number> {
-      let from = fromMs;
-      for (;;) {
-        const r = await sql<{ start_ts: Date }>`
-          select min(start_ts) as start_ts from engine_runs
-          where vehicle_id = ${vehicleId} and start_ts < ${ts(from)} and end_ts >= ${ts(from - gapMs)}`.execute(db);
-        const start = r.rows[0]?.start_ts;
-        if (!start) return from;
-        const day = utcDayStartMs(start.getTime());
-        if (day >= from) return from;
-        from = day;
+    async extendOverStoredRuns(windows: ReadonlyArray<{ vehicleId: string; fromMs: number; gapMs: number }>): Promise<number[]> {
+      const from = windows.map((w) => w.fromMs);
+      let moving = windows.map((_, k) => k);
+      while (moving.length > 0) {
+        const r = await sql<{ start_ts: Date | null }>`
+          select (select min(start_ts) from engine_runs r
+                  where r.vehicle_id = l.vehicle_id and r.start_ts < to_timestamp(l.from_ms / 1000) and r.end_ts >= to_timestamp(l.since_ms / 1000)) as start_ts
+          from unnest(${moving.map((k) => windows[k]!.vehicleId)}::text[], ${moving.map((k) => from[k]!)}::float8[], ${moving.map((k) => from[k]! - windows[k]!.gapMs)}::float8[])
+            with ordinality as l(vehicle_id, from_ms, since_ms, o)
+          order by l.o`.execute(db);
+        moving = moving.filter((k, j) => {
+          const start = r.rows[j]?.start_ts;
+          if (!start) return false;
+          const day = utcDayStartMs(start.getTime());
+          if (day >= from[k]!) return false;
+          from[k] = day;
+          return true;
+        });
       }
+      return from;
     },
 
     /** Runs, days and sensor events stored before `beforeMs`, and every service event. */

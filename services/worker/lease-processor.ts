@@ -1,5 +1,5 @@
 import type { DatabaseHandle } from '../db/database.js';
-import { LeaseLostError, prepareVehicle, WindowAnalysis, WINDOW_SLICE_DAYS, writeVehicle, type PreparedVehicle, type VehicleOutcome } from './analyse-vehicle.js';
+import { LeaseLostError, prepareVehicles, WindowAnalysis, WINDOW_SLICE_DAYS, writeVehicle, type PreparedVehicle, type VehicleOutcome } from './analyse-vehicle.js';
 import type { PeerBaselines } from './peer-baselines.js';
 import type { Lease, QueueRepository } from './queue-repository.js';
 import { WindowBuffers } from './copy-binary-window.js';
@@ -52,7 +52,7 @@ interface Pass {
 }
 
 /**
- * Analyses a batch of leased vehicles: prepares each (window, bounding readings), then reads the
+ * Analyses a batch of leased vehicles: prepares them (windows, bounding readings), then reads the
  * slices of all of them together, round by round, in one statement per round (readings arrive
  * interleaved across vehicles, so this visits each heap page once instead of once per vehicle)
  * and analyses each vehicle's slice, then derives and writes each vehicle's results in its own
@@ -92,13 +92,12 @@ export async function processLeases(ctx: ProcessContext, leases: readonly Lease[
     return summary;
   }
   await heartbeat(leases.map((lease) => ({ lease })));
-  const prepared: Array<{ lease: Lease; prepared: PreparedVehicle }> = [];
-  for (const lease of leases) {
-    try {
-      prepared.push({ lease, prepared: await prepareVehicle(ctx.handle, lease, nowMs) });
-    } catch (err) {
-      await failed(lease, err);
-    }
+  let prepared: Array<{ lease: Lease; prepared: PreparedVehicle }> = [];
+  try {
+    const all = await prepareVehicles(ctx.handle, leases, nowMs);
+    prepared = leases.map((lease, k) => ({ lease, prepared: all[k]! }));
+  } catch (err) {
+    for (const lease of leases) await failed(lease, err);
   }
   const reading = prepared.filter((p) => p.prepared.lastMs !== undefined).length;
   const sliceDays = Math.max(1, Math.min(WINDOW_SLICE_DAYS, Math.floor(BATCH_READ_VEHICLE_DAYS / Math.max(1, reading))));

@@ -74,18 +74,18 @@ export async function readWindowAsText(handle: DatabaseHandle, vehicleId: string
   return out;
 }
 
-/** Time of the vehicle's last reading before `beforeMs`, or undefined. */
-export async function readingBefore(handle: DatabaseHandle, vehicleId: string, beforeMs: number): Promise<number | undefined> {
-  const r = await sql<{ ts: Date }>`
-    select ts from readings where vehicle_id = ${vehicleId} and ts < to_timestamp(${beforeMs}::float8 / 1000)
-    order by ts desc limit 1`.execute(handle.db);
-  return r.rows[0]?.ts.getTime();
+/** Readings that bound a window starting at `fromMs`: the latest one in it and the last one before it, ms. */
+export interface WindowBounds {
+  lastMs: number | undefined;
+  beforeMs: number | undefined;
 }
 
-/** Time of the vehicle's latest reading at or after `fromMs`, or undefined. */
-export async function latestReading(handle: DatabaseHandle, vehicleId: string, fromMs: number): Promise<number | undefined> {
-  const r = await sql<{ ts: Date }>`
-    select ts from readings where vehicle_id = ${vehicleId} and ts >= to_timestamp(${fromMs}::float8 / 1000)
-    order by ts desc limit 1`.execute(handle.db);
-  return r.rows[0]?.ts.getTime();
+/** The bounds of each window (two index probes each, one statement for all), in the order given. */
+export async function windowBounds(handle: DatabaseHandle, windows: ReadonlyArray<{ vehicleId: string; fromMs: number }>): Promise<WindowBounds[]> {
+  const r = await sql<{ last_ts: Date | null; before_ts: Date | null }>`
+    select (select ts from readings r where r.vehicle_id = l.vehicle_id and r.ts >= to_timestamp(l.from_ms / 1000) order by ts desc limit 1) as last_ts,
+           (select ts from readings r where r.vehicle_id = l.vehicle_id and r.ts < to_timestamp(l.from_ms / 1000) order by ts desc limit 1) as before_ts
+    from unnest(${windows.map((w) => w.vehicleId)}::text[], ${windows.map((w) => w.fromMs)}::float8[]) with ordinality as l(vehicle_id, from_ms, o)
+    order by l.o`.execute(handle.db);
+  return r.rows.map((x) => ({ lastMs: x.last_ts?.getTime(), beforeMs: x.before_ts?.getTime() }));
 }
