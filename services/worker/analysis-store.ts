@@ -83,44 +83,42 @@ export function createAnalysisStore(db: Kysely<Database>) {
 
     /** Runs, days and sensor events stored before `beforeMs`, and every service event. */
     async historyBefore(vehicleId: string, beforeMs: number): Promise<StoredHistory> {
-      const runs = await sql<{ metrics: RunMetrics }>`
-        select metrics from engine_runs where vehicle_id = ${vehicleId} and start_ts < ${ts(beforeMs)} order by start_ts`.execute(db);
-      const days = await sql<{ metrics: DayAggregate }>`
-        select metrics from vehicle_days where vehicle_id = ${vehicleId} and day < ${utcDay(beforeMs)}::date order by day`.execute(db);
-      const events = await sql<{ event: SensorEvent }>`
-        select event from sensor_events where vehicle_id = ${vehicleId} and run_start < ${ts(beforeMs)} order by run_start, kind`.execute(db);
+      // One statement for the three derived tables (each aggregated in order): the worker's
+      // per-vehicle statements cost about as much PostgreSQL CPU as reading its readings.
+      const r = await sql<{ runs: RunMetrics[]; days: DayAggregate[]; events: SensorEvent[] }>`
+        select (select coalesce(jsonb_agg(metrics order by start_ts), '[]') from engine_runs where vehicle_id = ${vehicleId} and start_ts < ${ts(beforeMs)}) as runs,
+               (select coalesce(jsonb_agg(metrics order by day), '[]') from vehicle_days where vehicle_id = ${vehicleId} and day < ${utcDay(beforeMs)}::date) as days,
+               (select coalesce(jsonb_agg(event order by run_start, kind), '[]') from sensor_events where vehicle_id = ${vehicleId} and run_start < ${ts(beforeMs)}) as events`.execute(db);
       const services = await db.selectFrom('service_events').select(['kind', 'at']).where('vehicle_id', '=', vehicleId).orderBy('at').orderBy('event_id').execute();
+      const row = r.rows[0];
       return {
-        runs: runs.rows.map((r) => r.metrics),
-        days: days.rows.map((r) => r.metrics),
-        sensorEvents: events.rows.map((r) => r.event),
+        runs: row?.runs ?? [],
+        days: row?.days ?? [],
+        sensorEvents: row?.events ?? [],
         serviceEvents: services.map((s) => ({ kind: s.kind as ServiceEvent['kind'], at: s.at.getTime() })),
       };
     },
 
     /** Replaces everything derived from `fromMs` (a UTC midnight) on with `results`. */
     async replaceFrom(trx: Kysely<Database>, vehicleId: string, fromMs: number, results: WindowResults): Promise<void> {
-      await sql`delete from engine_runs where vehicle_id = ${vehicleId} and start_ts >= ${ts(fromMs)}`.execute(trx);
-      await sql`delete from vehicle_days where vehicle_id = ${vehicleId} and day >= ${utcDay(fromMs)}::date`.execute(trx);
-      await sql`delete from sensor_events where vehicle_id = ${vehicleId} and run_start >= ${ts(fromMs)}`.execute(trx);
-      // Each table in one statement: the rows travel as one JSON array parameter.
-      if (results.runs.length > 0) {
-        await sql`
+      // Two statements: the deletes of the three tables, then their inserts (each table's rows
+      // travel as one JSON array parameter). Data-modifying CTEs all run, read or not.
+      await sql`
+        with runs as (delete from engine_runs where vehicle_id = ${vehicleId} and start_ts >= ${ts(fromMs)}),
+             days as (delete from vehicle_days where vehicle_id = ${vehicleId} and day >= ${utcDay(fromMs)}::date)
+        delete from sensor_events where vehicle_id = ${vehicleId} and run_start >= ${ts(fromMs)}`.execute(trx);
+      if (results.runs.length + results.days.length + results.sensorEvents.length === 0) return;
+      await sql`
+        with runs as (
           insert into engine_runs (vehicle_id, start_ts, end_ts, start_kind, open, metrics)
           select ${vehicleId}, to_timestamp((e->>'startMs')::float8 / 1000), to_timestamp((e->>'endMs')::float8 / 1000), e->>'startKind', (e->>'open')::boolean, e
-          from jsonb_array_elements(${JSON.stringify(results.runs)}::jsonb) e`.execute(trx);
-      }
-      if (results.days.length > 0) {
-        await sql`
+          from jsonb_array_elements(${JSON.stringify(results.runs)}::jsonb) e),
+        days as (
           insert into vehicle_days (vehicle_id, day, metrics)
-          select ${vehicleId}, (e->>'day')::date, e from jsonb_array_elements(${JSON.stringify(results.days)}::jsonb) e`.execute(trx);
-      }
-      if (results.sensorEvents.length > 0) {
-        await sql`
-          insert into sensor_events (vehicle_id, run_start, kind, event)
-          select ${vehicleId}, to_timestamp((e->>'runStartMs')::float8 / 1000), e->>'kind', e
-          from jsonb_array_elements(${JSON.stringify(results.sensorEvents)}::jsonb) e`.execute(trx);
-      }
+          select ${vehicleId}, (e->>'day')::date, e from jsonb_array_elements(${JSON.stringify(results.days)}::jsonb) e)
+        insert into sensor_events (vehicle_id, run_start, kind, event)
+        select ${vehicleId}, to_timestamp((e->>'runStartMs')::float8 / 1000), e->>'kind', e
+        from jsonb_array_elements(${JSON.stringify(results.sensorEvents)}::jsonb) e`.execute(trx);
     },
 
     /** Records the pass: watermark, latest reading, readings analysed. */

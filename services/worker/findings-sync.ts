@@ -28,9 +28,12 @@ export interface SyncInput {
 export async function syncFindings(trx: Kysely<Database>, input: SyncInput): Promise<void> {
   const { vehicleId, asOfMs } = input;
   const asOf = sql`to_timestamp(${asOfMs}::float8 / 1000)`;
-  if (input.derived.length > 0) {
-    const reopen = sql`(findings.status = 'resolved' and findings.resolved_reason = ${EVIDENCE_STOPPED})`;
-    await sql`
+  const reopen = sql`(findings.status = 'resolved' and findings.resolved_reason = ${EVIDENCE_STOPPED})`;
+  const keys = input.derived.map((f) => f.key);
+  // One statement: the upsert as a data-modifying CTE (it runs though nothing reads it) and the
+  // resolving update touch disjoint rows (derived keys vs. keys not derived).
+  await sql`
+    with upserted as (
       insert into findings (vehicle_id, finding_id, fleet_id, finding_key, kind, sub_kind, severity, confidence, first_seen, last_seen,
                             summary, recommended_check, trouble_code, metrics, evidence, raised_at)
       select ${vehicleId}, gen_random_uuid()::text, ${input.fleetId}, f->>'key', f->>'kind', f->>'subKind', f->>'severity', (f->>'confidence')::real,
@@ -50,10 +53,8 @@ export async function syncFindings(trx: Kysely<Database>, input: SyncInput): Pro
              findings.recommended_check, findings.trouble_code, findings.metrics, findings.evidence)
             is distinct from
             (excluded.kind, excluded.sub_kind, excluded.severity, excluded.confidence, excluded.first_seen, excluded.last_seen, excluded.summary,
-             excluded.recommended_check, excluded.trouble_code, excluded.metrics, excluded.evidence)`.execute(trx);
-  }
-  const keys = input.derived.map((f) => f.key);
-  await sql`
+             excluded.recommended_check, excluded.trouble_code, excluded.metrics, excluded.evidence)
+    )
     update findings set status = 'resolved', resolved_reason = ${EVIDENCE_STOPPED}, resolved_at = ${asOf}, updated_at = now()
     where vehicle_id = ${vehicleId} and status in ('open', 'acknowledged')
       and not (finding_key = any(${keys}::text[]))
