@@ -1,11 +1,8 @@
-import { Readable } from 'node:stream';
-import { pipeline } from 'node:stream/promises';
-import { sql, type Kysely, type RawBuilder, type Transaction } from 'kysely';
-import type pg from 'pg';
-import { from as copyFrom } from 'pg-copy-streams';
+import { sql } from 'kysely';
 import type { DatabaseHandle } from './database.js';
+import { autocommitConnection, inTransaction, type IngestConnection } from './ingest-connection.js';
 import { monthIndexOf, type PartitionKeeper } from './partitions.js';
-import { encodeReadingsCopy, READINGS_COPY_COLUMNS } from './readings-copy.js';
+import { encodeReadingsCopy } from './readings-copy.js';
 import { toNumber, type Database } from './schema.js';
 
 /** A column-wise chunk of validated readings in °C; absent optional channels are NaN. */
@@ -77,18 +74,6 @@ function textArrayLiteral(values: string[], length: number): string {
 /** Per vehicle: rows inserted and the earliest inserted ts. */
 type Inserted = Array<{ vehicle_id: string; n: string | number; first_ts: Date }>;
 
-/**
- * The connection an ingest transaction runs on: statements, and on a PostgreSQL server a binary
- * COPY into `readings` (PGlite's driver has no COPY FROM STDIN).
- */
-interface IngestConnection {
-  /** Runs a statement; a `name` makes it a prepared statement on a PostgreSQL server (parsed and planned once per connection). */
-  run<R>(query: RawBuilder<R>, name?: string): Promise<R[]>;
-  copyIn: ((data: Buffer) => Promise<void>) | undefined;
-  /** Where new partitions are attached (see `partitions.ensure`). */
-  partitionTarget: Kysely<Database> | Transaction<Database>;
-}
-
 /** What one attempt at storing a request has inserted so far. */
 class Tally {
   staged = 0;
@@ -117,59 +102,11 @@ function isUniqueViolation(err: unknown): boolean {
   return (err as { code?: unknown }).code === UNIQUE_VIOLATION;
 }
 
-/** Runs statements compiled by Kysely straight on a pg pool or client, named ones as prepared statements. */
-function pgRunner(target: pg.Pool | pg.PoolClient, db: Kysely<Database>): IngestConnection['run'] {
-  return async <R>(query: RawBuilder<R>, name?: string) => {
-    const compiled = query.compile(db);
-    return (await target.query({ text: compiled.sql, values: compiled.parameters as unknown[], ...(name ? { name } : {}) })).rows as R[];
-  };
-}
-
-/** Runs `fn` in a transaction on one client checked out of the pool (COPY needs the client itself). */
-async function inPoolTransaction<T>(pool: pg.Pool, db: Kysely<Database>, fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
-  const client = await pool.connect();
-  let broken: Error | undefined;
-  const conn: IngestConnection = {
-    run: pgRunner(client, db),
-    copyIn: async (data) => {
-      const stream = client.query(copyFrom(`copy readings ${READINGS_COPY_COLUMNS} from stdin (format binary)`));
-      await pipeline(Readable.from([data]), stream);
-    },
-    partitionTarget: db,
-  };
-  try {
-    await client.query('begin');
-    try {
-      const out = await fn(conn);
-      await client.query('commit');
-      return out;
-    } catch (err) {
-      await client.query('rollback').catch((rollbackErr: unknown) => {
-        broken = rollbackErr instanceof Error ? rollbackErr : new Error(String(rollbackErr));
-      });
-      throw err;
-    }
-  } finally {
-    // A client whose rollback failed is not handed out again.
-    client.release(broken);
-  }
-}
-
 export function createReadingsRepository(handle: DatabaseHandle, partitions: PartitionKeeper) {
-  const { db, pool } = handle;
+  const { db } = handle;
 
-  /** Single statements outside a transaction (each is atomic on its own). */
-  const autocommit: IngestConnection = {
-    run: pool ? pgRunner(pool, db) : async <R>(query: RawBuilder<R>) => (await query.execute(db)).rows,
-    copyIn: undefined,
-    partitionTarget: db,
-  };
-
-  function transaction<T>(fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
-    if (pool) return inPoolTransaction(pool, db, fn);
-    return db.transaction().execute((trx) =>
-      fn({ run: async <R>(query: RawBuilder<R>) => (await query.execute(trx)).rows, copyIn: undefined, partitionTarget: trx }));
-  }
+  const autocommit = autocommitConnection(handle);
+  const transaction = <T>(fn: (conn: IngestConnection) => Promise<T>) => inTransaction(handle, fn);
 
   function unnestRows(chunk: ReadingChunk) {
     const n = chunk.length;
