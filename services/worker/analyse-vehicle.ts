@@ -114,11 +114,14 @@ export async function prepareVehicles(handle: DatabaseHandle, leases: readonly L
  */
 export class WindowAnalysis {
   readonly fresh: WindowResults = { runs: [], days: [], sensorEvents: [] };
-  /** Readings analysed (each counted once, although a slice may re-read the previous one's open run). */
+  /** Readings analysed (each counted once, although a slice re-analyses the previous one's open run). */
   readings = 0;
   /** Watermark for the next pass: the UTC midnight before the open run, or null. */
   resumeFromMs: number | null = null;
   private from: number;
+  /** Where the next read starts: the previous slice's end (its tail from `from` on is kept in `carry`). */
+  private readFrom: number;
+  private carry: SampleArrays | undefined;
   private previousRunEndMs: number | undefined;
   private done: boolean;
   private readonly cfg;
@@ -130,22 +133,31 @@ export class WindowAnalysis {
    */
   constructor(private readonly p: PreparedVehicle, private sliceMs: number, private readonly nowMs: number) {
     this.from = p.windowFromMs;
+    this.readFrom = p.windowFromMs;
     this.previousRunEndMs = p.previousRunEndMs;
     this.done = p.lastMs === undefined;
     this.cfg = resolveConfig(p.state.profile.engineFamily);
   }
 
-  /** The readings to read next, [fromMs, toMs); undefined when the window has been analysed. */
+  /**
+   * The readings to read next, [fromMs, toMs); undefined when the window has been analysed. A
+   * slice starts where the previous one's open run began, but the readings from there to the
+   * previous slice's end are kept rather than read again (a day in seven with 7-day slices).
+   */
   nextSlice(): { fromMs: number; toMs: number } | undefined {
     if (this.done) return undefined;
-    return { fromMs: this.from, toMs: sliceEnd(this.from, this.sliceMs, this.p.lastMs!) };
+    return { fromMs: this.readFrom, toMs: sliceEnd(this.from, this.sliceMs, this.p.lastMs!) };
   }
 
-  /** Analyses the readings of the slice `nextSlice` named. */
-  consume(arrays: SampleArrays): void {
+  /** Analyses the readings of the slice `nextSlice` named (they may be views into buffers the caller reuses). */
+  consume(read: SampleArrays): void {
     const lastMs = this.p.lastMs!;
     const from = this.from;
+    const toMs = sliceEnd(from, this.sliceMs, lastMs);
     const last = from + this.sliceMs > lastMs;
+    const arrays = this.carry ? concatArrays(this.carry, read) : read;
+    this.carry = undefined;
+    this.readFrom = toMs;
     const previousRunEndMs = this.previousRunEndMs;
     const a = analyseSamples({ ...arrays, ...(previousRunEndMs !== undefined ? { previousRunEndMs } : {}), ...(last ? { nowMs: this.nowMs } : {}) }, this.p.state.profile, this.cfg);
     const stored = (x: { truncatedStart: boolean }) => !x.truncatedStart;
@@ -160,8 +172,9 @@ export class WindowAnalysis {
     }
     const next = a.resumeFromMs ?? from + this.sliceMs;
     if (next <= from) {
-      // One run longer than the slice: read a longer slice rather than make no progress.
+      // One run longer than the slice: a longer slice rather than no progress.
       this.sliceMs *= 2;
+      this.carry = sliceArrays(arrays, 0);
       return;
     }
     const part = finalPart(a, next);
@@ -172,8 +185,29 @@ export class WindowAnalysis {
     while (k < arrays.ts.length && arrays.ts[k]! < next) k++;
     this.readings += k;
     this.previousRunEndMs = k > 0 ? arrays.ts[k - 1] : previousRunEndMs;
+    this.carry = sliceArrays(arrays, k);
     this.from = next;
   }
+}
+
+const COLUMN_NAMES = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm'] as const;
+
+/** A copy of the rows from `k` on. */
+function sliceArrays(a: SampleArrays, k: number): SampleArrays {
+  const out = {} as SampleArrays;
+  for (const c of COLUMN_NAMES) out[c] = a[c].slice(k);
+  return out;
+}
+
+/** The rows of `a`, then those of `b`. */
+function concatArrays(a: SampleArrays, b: SampleArrays): SampleArrays {
+  const out = {} as SampleArrays;
+  for (const c of COLUMN_NAMES) {
+    out[c] = new Float64Array(a[c].length + b[c].length);
+    out[c].set(a[c]);
+    out[c].set(b[c], a[c].length);
+  }
+  return out;
 }
 
 /** End (exclusive) of the slice from `fromMs`: `sliceMs` later, or just past the last reading. */
