@@ -11,6 +11,7 @@ import { createAnalysisStore, type VehicleState, type WindowResults } from './an
 import { syncFindings } from './findings-sync.js';
 import type { PeerBaselines } from './peer-baselines.js';
 import type { Lease, QueueRepository } from './queue-repository.js';
+import { COLUMN_NAMES } from './copy-binary-window.js';
 import { windowBounds } from './readings-window.js';
 
 /*
@@ -144,18 +145,20 @@ export class WindowAnalysis {
    * slice starts where the previous one's open run began, but the readings from there to the
    * previous slice's end are kept rather than read again (a day in seven with 7-day slices).
    */
-  nextSlice(): { fromMs: number; toMs: number } | undefined {
+  nextSlice(): { fromMs: number; toMs: number; prefix?: SampleArrays } | undefined {
     if (this.done) return undefined;
-    return { fromMs: this.readFrom, toMs: sliceEnd(this.from, this.sliceMs, this.p.lastMs!) };
+    return { fromMs: this.readFrom, toMs: sliceEnd(this.from, this.sliceMs, this.p.lastMs!), ...(this.carry ? { prefix: this.carry } : {}) };
   }
 
-  /** Analyses the readings of the slice `nextSlice` named (they may be views into buffers the caller reuses). */
-  consume(read: SampleArrays): void {
+  /**
+   * Analyses the slice `nextSlice` named: the kept rows (its `prefix`) followed by those read,
+   * as `readWindows` returns them; they may be views into buffers the caller reuses.
+   */
+  consume(arrays: SampleArrays): void {
     const lastMs = this.p.lastMs!;
     const from = this.from;
     const toMs = sliceEnd(from, this.sliceMs, lastMs);
     const last = from + this.sliceMs > lastMs;
-    const arrays = this.carry ? concatArrays(this.carry, read) : read;
     this.carry = undefined;
     this.readFrom = toMs;
     const previousRunEndMs = this.previousRunEndMs;
@@ -190,23 +193,10 @@ export class WindowAnalysis {
   }
 }
 
-const COLUMN_NAMES = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm'] as const;
-
-/** A copy of the rows from `k` on. */
+/** A copy of the rows from `k` on (the caller's arrays may be views into buffers it reuses). */
 function sliceArrays(a: SampleArrays, k: number): SampleArrays {
   const out = {} as SampleArrays;
   for (const c of COLUMN_NAMES) out[c] = a[c].slice(k);
-  return out;
-}
-
-/** The rows of `a`, then those of `b`. */
-function concatArrays(a: SampleArrays, b: SampleArrays): SampleArrays {
-  const out = {} as SampleArrays;
-  for (const c of COLUMN_NAMES) {
-    out[c] = new Float64Array(a[c].length + b[c].length);
-    out[c].set(a[c]);
-    out[c].set(b[c], a[c].length);
-  }
   return out;
 }
 

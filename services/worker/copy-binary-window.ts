@@ -48,6 +48,8 @@ export interface WindowRequest {
   vehicleId: string;
   fromMs: number;
   toMs: number;
+  /** Readings already at hand that come before `fromMs`: returned first, as if read too. */
+  prefix?: SampleArrays;
 }
 
 function isAscending(ts: Float64Array): boolean {
@@ -113,11 +115,13 @@ export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowR
     throw err;
   }
   client.release();
-  return decoder.split();
+  return decoder.split(windows.map((w) => w.prefix));
 }
 
 const INITIAL_ROWS = 262_144;
 const COLUMNS = 5;
+/** The SampleArrays columns in decode order. */
+export const COLUMN_NAMES = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm'] as const;
 
 function grown<T extends Float64Array | Uint16Array>(a: T, rows: number, make: (n: number) => T): T {
   if (a.length >= rows) return a;
@@ -229,20 +233,25 @@ class WindowsDecoder {
   }
 
   /** One set of arrays per window (views into the buffers' `out`), each ascending in time. */
-  split(): SampleArrays[] {
+  split(prefixes: ReadonlyArray<SampleArrays | undefined>): SampleArrays[] {
     const { owner, columns } = this.buffers;
-    const out = this.buffers.reserveOut(this.rows);
+    const sizes = Array.from(this.counts, (n, k) => n + (prefixes[k]?.ts.length ?? 0));
+    const out = this.buffers.reserveOut(sizes.reduce((a, b) => a + b, 0));
     const starts = new Uint32Array(this.ids.length);
-    for (let k = 1; k < starts.length; k++) starts[k] = starts[k - 1]! + this.counts[k - 1]!;
+    for (let k = 1; k < starts.length; k++) starts[k] = starts[k - 1]! + sizes[k - 1]!;
     const at = new Uint32Array(starts.length);
     for (let c = 0; c < COLUMNS; c++) {
       const from = columns[c]!;
       const to = out[c]!;
-      at.set(starts);
+      prefixes.forEach((prefix, k) => {
+        const rows = prefix?.[COLUMN_NAMES[c]!];
+        at[k] = starts[k]! + (rows?.length ?? 0);
+        if (rows) to.set(rows, starts[k]!);
+      });
       for (let i = 0; i < this.rows; i++) to[at[owner[i]!]!++] = from[i]!;
     }
     return Array.from(starts, (start, k) => {
-      const [ts, coolant, ambient, speedKph, rpm] = out.map((column) => column.subarray(start, start + this.counts[k]!)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
+      const [ts, coolant, ambient, speedKph, rpm] = out.map((column) => column.subarray(start, start + sizes[k]!)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
       const a: SampleArrays = { ts, coolant, ambient, speedKph, rpm };
       return isAscending(a.ts) ? a : permute(a, ascendingOrder(a.ts));
     });

@@ -1,7 +1,7 @@
 import { sql } from 'kysely';
 import type { SampleArrays } from '../analysis/sample-arrays.js';
 import type { DatabaseHandle } from '../db/database.js';
-import { readWindowsByCopy, type WindowBuffers, type WindowRequest } from './copy-binary-window.js';
+import { COLUMN_NAMES, readWindowsByCopy, type WindowBuffers, type WindowRequest } from './copy-binary-window.js';
 import { parseNumberList } from './number-list.js';
 
 const MS_PER_S = 1000;
@@ -26,7 +26,21 @@ interface WindowText {
 export async function readWindows(handle: DatabaseHandle, windows: readonly WindowRequest[], buffers?: WindowBuffers): Promise<SampleArrays[]> {
   if (handle.pool) return readWindowsByCopy(handle.pool, windows, buffers);
   const out: SampleArrays[] = [];
-  for (const w of windows) out.push(await readWindowAsText(handle, w.vehicleId, w.fromMs, w.toMs));
+  for (const w of windows) {
+    const read = await readWindowAsText(handle, w.vehicleId, w.fromMs, w.toMs);
+    out.push(w.prefix ? concatArrays(w.prefix, read) : read);
+  }
+  return out;
+}
+
+/** The rows of `a`, then those of `b`. */
+function concatArrays(a: SampleArrays, b: SampleArrays): SampleArrays {
+  const out = {} as SampleArrays;
+  for (const c of COLUMN_NAMES) {
+    out[c] = new Float64Array(a[c].length + b[c].length);
+    out[c].set(a[c]);
+    out[c].set(b[c], a[c].length);
+  }
   return out;
 }
 

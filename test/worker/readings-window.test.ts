@@ -59,4 +59,14 @@ describe('readWindows', () => {
     expect(together[2]!.ts.length).toBe(1);
     expect(together[3]!.ts.length).toBe(0);
   });
+
+  it('returns the rows a caller already holds (a prefix) before the rows it reads', async () => {
+    const [head] = await readWindows(tdb.handle, [{ vehicleId: 'RW-B', fromMs: T0, toMs: T0 + HOUR_MS }]);
+    const [joined, other] = await readWindows(tdb.handle, [
+      { vehicleId: 'RW-B', fromMs: T0 + HOUR_MS, toMs: T0 + 2 * HOUR_MS, prefix: head! },
+      { vehicleId: 'RW-C', fromMs: T0, toMs: T0 + HOUR_MS },
+    ]);
+    expect(joined).toEqual(await readWindowAsText(tdb.handle, 'RW-B', T0, T0 + 2 * HOUR_MS));
+    expect(other).toEqual(await readWindowAsText(tdb.handle, 'RW-C', T0, T0 + HOUR_MS));
+  });
 });
