@@ -28,7 +28,7 @@ export interface AnalysisBenchResult {
      * core), database to findings, with its Postgres backends running beside it.
      */
     readingsPerS: number;
-    /** CPU seconds of this process (all its threads) and of this database's Postgres backends during the run. */
+    /** CPU seconds of this process (all its threads) and of this database's Postgres client backends during the run. */
     workerCpuS: number;
     postgresCpuS: number;
     /** readings / (worker + Postgres CPU seconds): readings per CPU-second, i.e. per core fully used. */
@@ -93,11 +93,13 @@ async function migrated(serverUrl: string, name: string): Promise<{ h: DatabaseH
 
 /** One analysis run over a seeded fleet, with this process's CPU and its Postgres backends' CPU. */
 async function measuredRun(h: DatabaseHandle, fleetId: string): Promise<{ readings: number; seconds: number; workerCpuS: number; postgresCpuS: number }> {
-  // Postgres backends of this database, sampled while the run goes on (pool connections open lazily).
+  // The client backends of this database (the pool's connections, which open lazily), sampled while
+  // the run goes on; autovacuum workers cleaning up after the seeding's inserts are not the worker's.
   const first = new Map<number, number>();
   const last = new Map<number, number>();
   const sample = async () => {
-    const pids = await sql<{ pid: number }>`select pid from pg_stat_activity where datname = current_database()`.execute(h.db);
+    const pids = await sql<{ pid: number }>`
+      select pid from pg_stat_activity where datname = current_database() and backend_type = 'client backend'`.execute(h.db);
     for (const { pid } of pids.rows) {
       const ticks = cpuTicksOf(pid);
       if (ticks === undefined) continue;
