@@ -10,7 +10,15 @@ export interface IsoWeek {
 }
 
 const DAY_MS = 86_400_000;
+const WEEK_MS = 7 * DAY_MS;
+/** The epoch (1970-01-01) was a Thursday: the first Monday 00:00 UTC is 4 days later. */
+const MONDAY_OFFSET_MS = 4 * DAY_MS;
 const ISO_WEEK_PATTERN = /^(\d{4})-W(\d{2})$/;
+
+/** Start (Monday 00:00 UTC) of the UTC ISO week containing `ms`, epoch ms. */
+export function utcWeekStartMs(ms: number): number {
+  return Math.floor((ms - MONDAY_OFFSET_MS) / WEEK_MS) * WEEK_MS + MONDAY_OFFSET_MS;
+}
 
 /** Formats as `YYYY-Www`, e.g. `2026-W48`. */
 export function formatIsoWeek(w: IsoWeek): string {

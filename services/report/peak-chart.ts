@@ -1,5 +1,6 @@
 import { type ChartOption, GRID, LEGEND, renderChartSvg, Y_NAME } from './chart-svg.js';
 import type { PeakChart } from './weekly-report-schema.js';
+import { utcWeekStartMs } from './iso-week.js';
 
 const DAY_MS = 86_400_000;
 /** The projection is drawn at most this far past the last day, days (further: stated in words). */
@@ -12,11 +13,6 @@ const Y_STEP_C = 20;
 const dayMs = (day: string) => Date.parse(`${day}T00:00:00Z`);
 const MONTHS = ['Jan', 'Feb', 'Mar', 'Apr', 'May', 'Jun', 'Jul', 'Aug', 'Sep', 'Oct', 'Nov', 'Dec'];
 const dayLabel = (ms: number) => `${new Date(ms).getUTCDate()} ${MONTHS[new Date(ms).getUTCMonth()]}`;
-/** UTC midnight of the Monday on or before `ms`. */
-const mondayOnOrBefore = (ms: number) => {
-  const day = Math.floor(ms / DAY_MS) * DAY_MS;
-  return day - ((new Date(day).getUTCDay() + 6) % 7) * DAY_MS;
-};
 
 /** The trend line's points: through the level on the anchor day with Sen's slope, back over the window and on to the projection. */
 export function trendLine(p: PeakChart): { fitted: [number, number][]; projected: [number, number][] } {
@@ -79,7 +75,7 @@ export function peakChartSvg(p: PeakChart, vehicleId: string): string {
     legend: { ...LEGEND, data: series.filter((s) => s.name !== 'limits').map((s) => s.name) },
     // A value axis with ticks on Mondays: the time axis adds month-start ticks that crowd the labels.
     xAxis: {
-      type: 'value', min: mondayOnOrBefore(firstMs), max: lastMs + DAY_MS / 2, interval: 7 * DAY_MS,
+      type: 'value', min: utcWeekStartMs(firstMs), max: lastMs + DAY_MS / 2, interval: 7 * DAY_MS,
       name: 'date (UTC days; ticks on Mondays)', nameLocation: 'middle', nameGap: 26,
       axisLabel: { formatter: (v: number) => dayLabel(v), showMaxLabel: false },
       splitLine: { show: true, lineStyle: { color: '#eee' } },

@@ -2,11 +2,9 @@ import { sql, type Kysely } from 'kysely';
 import { buildPeerBaseline, type PeerBaseline } from '../analysis/peer-baseline.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
 import type { Database } from '../db/schema.js';
+import { utcWeekStartMs } from '../report/iso-week.js';
 
 const DAY_MS = 86_400_000;
-const WEEK_MS = 7 * DAY_MS;
-/** 1970-01-01 was a Thursday: weeks start on Monday (ISO 8601), 4 days later. */
-const MONDAY_OFFSET_MS = 4 * DAY_MS;
 /** A family's baseline learns from its closed runs of this many days before the week starts. */
 export const PEER_WINDOW_DAYS = 56;
 /** At most this many runs (the latest) feed one rebuild: bounds its memory and time. */
@@ -14,11 +12,6 @@ export const PEER_MAX_RUNS = 20_000;
 
 /** A stored baseline: the library's PeerBaseline plus the week it was built for. */
 export type StoredPeerBaseline = PeerBaseline & { weekStartMs: number };
-
-/** Start (Monday 00:00 UTC) of the ISO week containing `ms`. */
-export function weekStartMs(ms: number): number {
-  return Math.floor((ms - MONDAY_OFFSET_MS) / WEEK_MS) * WEEK_MS + MONDAY_OFFSET_MS;
-}
 
 /**
  * Engine-family peer baselines, rebuilt at most once per analysis week: when a vehicle's
@@ -34,7 +27,7 @@ export class PeerBaselines {
 
   /** The family's baseline for analysis time `asOfMs`, rebuilt first if a new week began. */
   async forAnalysis(family: string, asOfMs: number): Promise<StoredPeerBaseline | null> {
-    const week = weekStartMs(asOfMs);
+    const week = utcWeekStartMs(asOfMs);
     let stored = this.cache.get(family);
     if (stored === undefined || (stored?.weekStartMs ?? -Infinity) < week) {
       stored = await this.load(family);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { addIsoWeeks, formatIsoWeek, isoWeekAt, isoWeekDate, isoWeekOfDate, isoWeeksInYear, lastCompleteIsoWeek, parseIsoWeek, weekWindow } from '../../services/report/iso-week.js';
+import { addIsoWeeks, formatIsoWeek, isoWeekAt, isoWeekDate, isoWeekOfDate, isoWeeksInYear, lastCompleteIsoWeek, parseIsoWeek, utcWeekStartMs, weekWindow } from '../../services/report/iso-week.js';
 
 // Expected values follow ISO 8601 week dates (Monday first; week 1 holds the year's first
 // Thursday); the calendar dates were read off a printed calendar (from memory where noted).
@@ -20,6 +20,18 @@ describe('ISO 8601 week arithmetic', () => {
     [2027, 1, 1, '2026-W53'],
   ])('puts %i-%i-%i in %s', (y, m, d, week) => {
     expect(formatIsoWeek(isoWeekOfDate(y, m, d))).toBe(week);
+  });
+
+  it('finds the Monday 00:00 UTC that starts the week of any instant', () => {
+    // 2021-01-03 is a Sunday of 2020-W53, which began on Monday 2020-12-28 (the ISO 8601 example above).
+    expect(new Date(utcWeekStartMs(Date.parse('2021-01-03T23:59:59.999Z'))).toISOString()).toBe('2020-12-28T00:00:00.000Z');
+    expect(new Date(utcWeekStartMs(Date.parse('2021-01-04T00:00:00Z'))).toISOString()).toBe('2021-01-04T00:00:00.000Z');
+    // Agrees with the week-date arithmetic on every day of two years.
+    for (let ms = Date.parse('2026-01-01T12:00:00Z'); ms < Date.parse('2028-01-01T00:00:00Z'); ms += 86_400_000) {
+      const d = new Date(ms);
+      const monday = isoWeekDate(isoWeekOfDate(d.getUTCFullYear(), d.getUTCMonth() + 1, d.getUTCDate()), 1);
+      expect(new Date(utcWeekStartMs(ms)).toISOString().slice(0, 10)).toBe(monday);
+    }
   });
 
   it('knows which years have 53 weeks (years starting on a Thursday, or leap years starting on a Wednesday)', () => {
