@@ -8,6 +8,7 @@ import { createApiKeysRepository } from '../db/api-keys-repository.js';
 import { openDatabase } from '../db/database.js';
 import { createFleetsRepository } from '../db/fleets-repository.js';
 import { migrateToLatest } from '../db/migrator.js';
+import { SAFETY_CAUTION } from '../analysis/findings/finding.js';
 import { utcDayStartMs } from '../analysis/sample-arrays.js';
 import { formatIsoWeek, lastCompleteIsoWeek } from '../report/iso-week.js';
 import { DEMO_FLEET_ID, planFleet, type SimVehicle } from '../simulator/index.js';
@@ -156,7 +157,7 @@ export async function run(argv: string[]): Promise<number> {
       for (const f of detail.json.findings ?? []) checks.set(f.id, f.recommendedCheck);
     }
     process.stdout.write(`\nVehicles at risk — Quillmoor Provisions (${ranked.length} of ${fleet.length})\n\n${formatAtRiskTable(ranked, checks)}\n\n`);
-    process.stdout.write('Advice only: never open a hot, pressurised cooling system; follow the manufacturer\'s service procedure and local rules; a qualified technician decides.\n\n');
+    process.stdout.write(`${SAFETY_CAUTION}\n\n`);
 
     const week = formatIsoWeek(lastCompleteIsoWeek(endMs, 'UTC'));
     const outDir = resolve(values.out);
