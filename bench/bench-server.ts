@@ -37,7 +37,11 @@ export async function scratchDatabase(serverUrl: string, name: string): Promise<
   };
 }
 
-/** Runs `thermocline serve` as a child process (its own core) and waits until it answers. */
+/**
+ * Runs `thermocline serve` as a child process (its own core) and waits until it answers.
+ * `nodeArgs` go to that node process, e.g. `['--cpu-prof', '--cpu-prof-dir=/tmp/prof']` to
+ * profile the server during a bench (NODE_OPTIONS does not allow --cpu-prof).
+ */
 export async function startServer(env: Record<string, string>, nodeArgs: string[] = []): Promise<{ baseUrl: string; child: ChildProcess; stop: () => Promise<void> }> {
   const port = await freePort();
   const child = spawn(process.execPath, [...nodeArgs, join(ROOT, 'bin', 'thermocline.js'), 'serve'], {
