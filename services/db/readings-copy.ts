@@ -2,10 +2,10 @@ import type { ReadingChunk } from './readings-repository.js';
 
 /** Binary COPY header: the 11-byte signature, 4 bytes of flags, 4 bytes of header extension length. */
 const COPY_SIGNATURE = Buffer.from('PGCOPY\n\xff\r\n\0', 'latin1');
-const HEADER_BYTES = 19;
-/** timestamptz is sent as microseconds since 2000-01-01T00:00:00Z. */
-const PG_EPOCH_MS = 946_684_800_000;
-const TWO_POW_32 = 4_294_967_296;
+export const HEADER_BYTES = 19;
+/** timestamptz travels as int64 microseconds since 2000-01-01T00:00:00Z, here as two 32-bit halves. */
+export const PG_EPOCH_MS = 946_684_800_000;
+export const TWO_POW_32 = 4_294_967_296;
 const COLUMNS = 6;
 /** Per row: field count, then each field's length; ts is 8 bytes, the four channels 4 bytes each (float4). */
 const FIXED_ROW_BYTES = 2 + 4 + (4 + 8) + 4 * (4 + 4);

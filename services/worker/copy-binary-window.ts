@@ -1,12 +1,7 @@
 import type pg from 'pg';
 import type { SampleArrays } from '../analysis/sample-arrays.js';
+import { HEADER_BYTES, PG_EPOCH_MS, TWO_POW_32 } from '../db/readings-copy.js';
 import { copyOut } from './copy-out.js';
-
-/** Postgres binary COPY: 11-byte signature, 4-byte flags, 4-byte header extension length. */
-const HEADER_BYTES = 19;
-/** timestamptz counts microseconds from 2000-01-01T00:00:00Z. */
-const PG_EPOCH_MS = 946_684_800_000;
-const TWO_POW_32 = 4_294_967_296;
 
 /** Printed values remembered per window read (telemetry repeats values a lot); bounded. */
 const PRINTED_CACHE_MAX = 65_536;

@@ -44,12 +44,6 @@ function concatArrays(a: SampleArrays, b: SampleArrays): SampleArrays {
   return out;
 }
 
-/** One vehicle's readings in [fromMs, toMs), as `readWindows` reads them. */
-export async function readWindow(handle: DatabaseHandle, vehicleId: string, fromMs: number, toMs: number): Promise<SampleArrays> {
-  const [arrays] = await readWindows(handle, [{ vehicleId, fromMs, toMs }]);
-  return arrays!;
-}
-
 /**
  * The portable window read. One row per reading as a JS object tops out near 400k rows/s; here Postgres aggregates the
  * whole window into one comma-separated string per column (over an index-ordered subquery, which
