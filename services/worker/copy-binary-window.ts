@@ -53,7 +53,7 @@ function isAscending(ts: Float64Array): boolean {
 }
 
 /** Row indices in ascending ts (ties in their read order). */
-export function ascendingOrder(ts: Float64Array): Uint32Array {
+function ascendingOrder(ts: Float64Array): Uint32Array {
   const n = ts.length;
   const order = new Uint32Array(n);
   let min = Infinity;
