@@ -125,6 +125,25 @@ export interface AnalysisConfig {
    * 3, 5, 7 and 11.
    */
   hotTimeMinRiseS: number;
+  /**
+   * Smallest residual scale for the daily median coolant temperature while driving warm, °C.
+   * Tuned (with the two below, on seeds 3, 5, 7, 11, 13 and 17): 0.94–1.56 give the same
+   * radiator-fouling delays on seed 7 (9.2–9.3 d).
+   */
+  warmMedianScaleFloorC: number;
+  /**
+   * Smallest rise of that driving median over its baseline (median since the change) that
+   * matters, °C. Tuned: 1.9–2.5 give the same tables; at 1.5 a seed-3 fan failure is lost to an
+   * alarm raised before its onset.
+   */
+  warmMedianMinRiseC: number;
+  /**
+   * The driving median's baseline grows with the history: all days from the baseline start up
+   * to this many days before now, days. Tuned: 7.5–12.5 find every radiator fouling on seed 7
+   * within 9.2–9.3 d; a fault left unreported longer than this starts to be learned as normal,
+   * which the other measures (judged against the first `baselineDays`) do not.
+   */
+  warmMedianBaselineLagDays: number;
 
   // --- baselines and change detection ---
   /** The vehicle's own baseline is learned over this many days after its baseline start. */
@@ -244,6 +263,9 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   trendHotWindowDays: 7,
   hotTimeScaleFloorS: 60,
   hotTimeMinRiseS: 120,
+  warmMedianScaleFloorC: 1.25,
+  warmMedianMinRiseC: 2,
+  warmMedianBaselineLagDays: 10,
 
   baselineDays: 10,
   baselineMinRuns: 6,

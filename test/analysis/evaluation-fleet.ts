@@ -1,5 +1,5 @@
 import { analyseSamples, type SampleAnalysis } from '../../services/analysis/analyse-samples.js';
-import { resolveConfig } from '../../services/analysis/config.js';
+import { type AnalysisConfig, resolveConfig } from '../../services/analysis/config.js';
 import { deriveFindings } from '../../services/analysis/derive-findings.js';
 import { type EvaluatedVehicle, NAIVE_COLD, NAIVE_OVERHEAT } from '../../services/analysis/evaluation.js';
 import { buildPeerBaseline, type PeerBaseline } from '../../services/analysis/peer-baseline.js';
@@ -104,7 +104,9 @@ export function analyseFleet(opts: EvaluationOptions): AnalysedFleet {
  * baselines rebuilt weekly from the runs known by then), recording when each finding first
  * appears. The naive rules are applied to the same day aggregates and runs.
  */
-export function replayFindings({ fleet, analyses, visible }: Omit<AnalysedFleet, 'readings'>, opts: EvaluationOptions): Omit<FleetEvaluation, 'readings'> {
+export function replayFindings(
+  { fleet, analyses, visible }: Omit<AnalysedFleet, 'readings'>, opts: EvaluationOptions, overrides: Partial<AnalysisConfig> = {},
+): Omit<FleetEvaluation, 'readings'> {
   const peerCache = new Map<string, PeerBaseline>();
   const peerAt = (family: string, nowMs: number): PeerBaseline => {
     const weekStart = opts.startMs + Math.floor((nowMs - opts.startMs) / (7 * DAY_MS)) * 7 * DAY_MS;
@@ -124,7 +126,7 @@ export function replayFindings({ fleet, analyses, visible }: Omit<AnalysedFleet,
   for (const v of fleet) {
     const a = analyses.get(v.vehicleId)!;
     const profile = profileOf(v);
-    const cfg = resolveConfig(v.engineFamily);
+    const cfg = resolveConfig(v.engineFamily, overrides);
     const seen = new Set<string>();
     const alarms: { kind: string; atMs: number }[] = [];
     for (let d = 1; d <= opts.days; d++) {

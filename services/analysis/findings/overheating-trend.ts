@@ -18,7 +18,7 @@ const RECENT_DAYS = 5;
 /** Projected days to boiling at or below which the finding is critical. */
 const CRITICAL_DAYS_TO_BOIL = 14;
 
-type DayMetric = 'peakCoolantC' | 'warmP95CoolantC' | 'hotSeconds';
+type DayMetric = 'peakCoolantC' | 'warmP95CoolantC' | 'hotSeconds' | 'warmMedianCoolantC';
 /**
  * Daily quantities judged: the overall peak (standing or moving: fan, coolant) and the 95th
  * percentile while moving (radiator). The standing-only peak is too dependent on whether
@@ -26,8 +26,8 @@ type DayMetric = 'peakCoolantC' | 'warmP95CoolantC' | 'hotSeconds';
  */
 const DAY_METRICS: readonly DayMetric[] = ['peakCoolantC', 'warmP95CoolantC'];
 
-/** Where the daily time above the hot threshold turned up, and by how much (median since), s. */
-interface HotTimeShift { startMs: number; riseS: number }
+/** Where a daily quantity shifted up, and by how much (median since), in its own unit. */
+interface DayShift { startMs: number; rise: number }
 
 interface ScoredDay { day: DayAggregate; metric: DayMetric; z: number; value: number; expected: number }
 
@@ -38,29 +38,38 @@ function dayRow(d: DayAggregate, metric: DayMetric): ModelRow | null {
 }
 
 /**
- * Daily time above the hot threshold against what the baseline days predict for the day's
- * ambient (healthy engines: none or a minute on the hottest days): an upper CUSUM of its
- * robust z, with its own scale floor and smallest rise in seconds. It rises days before the
- * peaks do on a fouling radiator, whose fan can no longer pull the coolant back quickly.
+ * A daily quantity against what the baseline days predict for the day's ambient: an upper CUSUM
+ * of its robust z (with the quantity's own scale floor), reported when the median rise since
+ * the change reaches `minRise`. Days without the quantity are skipped.
  */
-function hotTimeShift(days: readonly DayAggregate[], base: readonly DayAggregate[], cfg: AnalysisConfig): HotTimeShift | null {
-  const model = fitBaseline(base.map((d) => dayRow(d, 'hotSeconds')!));
+function dayShift(
+  days: readonly DayAggregate[], base: readonly DayAggregate[], metric: DayMetric, floor: number, minRise: number, cfg: AnalysisConfig,
+): DayShift | null {
+  const model = fitBaseline(base.map((d) => dayRow(d, metric)).filter((r): r is ModelRow => r !== null));
   if (!model) return null;
-  const rows = days.map((d) => dayRow(d, 'hotSeconds')!);
-  const c = upperCusum(rows.map((r) => badZ(model, r, 1, cfg.hotTimeScaleFloorS, cfg.zCap)!), cfg.cusumK, cfg.dayCusumH);
+  const judged = days.filter((d) => d[metric] !== null);
+  const rows = judged.map((d) => dayRow(d, metric)!);
+  const c = upperCusum(rows.map((r) => badZ(model, r, 1, floor, cfg.zCap)!), cfg.cusumK, cfg.dayCusumH);
   if (c.alarmIndex < 0) return null;
-  const riseS = median(rows.slice(c.changeIndex).map((r) => r.y - expected(model, r)));
-  return riseS >= cfg.hotTimeMinRiseS ? { startMs: days[c.changeIndex]!.dayStartMs, riseS } : null;
+  const rise = median(rows.slice(c.changeIndex).map((r) => r.y - expected(model, r)));
+  return rise >= minRise ? { startMs: judged[c.changeIndex]!.dayStartMs, rise } : null;
 }
 
 /**
  * Overheating trend: daily peaks (overall, standing, moving 95th percentile) rising above
  * what the vehicle's own baseline days predict for the day's ambient temperature — by
- * CUSUM (a shift, e.g. a dead fan), by a CUSUM of the daily time above the hot threshold,
- * or by Mann–Kendall with Sen's slope on the ambient-corrected peaks (a creeping fault, e.g.
- * fouling or coolant loss) — once the engine
- * has overheated at least once within `trendHotWindowDays`. Projects the days until peaks
- * reach the boiling point at cap pressure.
+ * CUSUM (a shift, e.g. a dead fan), by a CUSUM of the daily time above the hot threshold
+ * (healthy engines: none or a minute on the hottest days; a fouling radiator's fan pulls the
+ * coolant back more slowly each day), by a CUSUM of the median coolant temperature while
+ * driving warm (a radiator losing capacity settles higher before its peaks rise), or by
+ * Mann–Kendall with Sen's slope on the ambient-corrected peaks (a creeping fault, e.g.
+ * fouling or coolant loss) — once the engine has overheated at least once within
+ * `trendHotWindowDays`. Projects the days until peaks reach the boiling point at cap pressure.
+ *
+ * The driving median follows the season, so it is judged against a baseline that grows with
+ * the vehicle's history: every day from the baseline start to `warmMedianBaselineLagDays`
+ * before now. Against the first `baselineDays` alone, a hot-depot vehicle's cooler autumn days
+ * fall outside the ambient range learned in the heat and are compared with its hottest days.
  */
 export function overheatingTrendFinding(
   allDays: readonly DayAggregate[], baselineStart: number, boilingPointC: number, now: number, cfg: AnalysisConfig,
@@ -100,12 +109,14 @@ export function overheatingTrendFinding(
   }
   const peaksShifted = cusum.alarmIndex >= 0
     && median(scored.slice(cusum.changeIndex).map((s) => s.value - s.expected)) >= cfg.trendMinRiseC;
-  const hot = hotTimeShift(days, base, cfg);
-  const shifted = peaksShifted || hot !== null;
+  const hot = dayShift(days, base, 'hotSeconds', cfg.hotTimeScaleFloorS, cfg.hotTimeMinRiseS, cfg);
+  const grownBase = days.filter((d) => d.dayStartMs < Math.max(baselineEnd, now - cfg.warmMedianBaselineLagDays * DAY_MS));
+  const warm = dayShift(days, grownBase, 'warmMedianCoolantC', cfg.warmMedianScaleFloorC, cfg.warmMedianMinRiseC, cfg);
+  const shifted = peaksShifted || hot !== null || warm !== null;
   if (!shifted && !trend) return null;
   // A rise within the band the thermostat and fan still hold is not yet overheating.
   if (!days.some((d) => d.dayStartMs > now - cfg.trendHotWindowDays * DAY_MS && d.overheatEpisodes > 0)) return null;
-  const shiftStartMs = Math.min(peaksShifted ? scored[cusum.changeIndex]!.day.dayStartMs : Infinity, hot?.startMs ?? Infinity);
+  const shiftStartMs = Math.min(peaksShifted ? scored[cusum.changeIndex]!.day.dayStartMs : Infinity, hot?.startMs ?? Infinity, warm?.startMs ?? Infinity);
   const onsetIdx = shifted ? Math.max(0, scored.findIndex((s) => s.day.dayStartMs >= shiftStartMs))
     : Math.max(0, scored.findIndex((s) => s.day.dayStartMs > now - cfg.trendWindowDays * DAY_MS && s.z >= 1));
   const after = scored.slice(onsetIdx);
@@ -137,7 +148,8 @@ export function overheatingTrendFinding(
     lastSeen,
     summary: `Since ${utcDay(firstSeen)} peak coolant temperatures run about ${round(riseC, 1)} °C above what the weather explains`
       + (daysToBoil !== null ? `, rising ${round(rawSlope, 2)} °C a day (boiling point ${round(boilingPointC, 0)} °C in about ${Math.round(daysToBoil)} days at this rate)` : '')
-      + (hot ? `, and the engine spends about ${Math.max(1, Math.round(hot.riseS / 60))} min a day longer above its hot threshold` : '')
+      + (warm ? `; while driving the coolant runs about ${round(warm.rise, 1)} °C warmer than on earlier days in similar weather` : '')
+      + (hot ? `${warm ? ',' : ''} and the engine spends about ${Math.max(1, Math.round(hot.rise / 60))} min a day longer above its hot threshold` : '')
       + '; likely a fouled radiator, a failing fan or coolant loss.',
     recommendedCheck: 'Check the coolant level and look for leaks with the engine cold, inspect the radiator core for blockage, '
       + 'check that the cooling fan engages when the engine is hot, and pressure-test the cap. ' + SAFETY_CAUTION,
@@ -146,7 +158,8 @@ export function overheatingTrendFinding(
       medianZ: round(medianZ), riseC: round(riseC), senSlopeCPerDay: round(slope, 3), rawSlopeCPerDay: round(rawSlope, 3),
       daysToBoil: daysToBoil === null ? -1 : round(daysToBoil, 1), boilingPointC: round(boilingPointC, 1),
       recentOverheatEpisodes: recentEpisodes, trendSignificant: trend ? 1 : 0, cusumAlarm: peaksShifted ? 1 : 0,
-      hotTimeAlarm: hot ? 1 : 0, hotTimeRiseS: hot ? round(hot.riseS, 0) : 0,
+      hotTimeAlarm: hot ? 1 : 0, hotTimeRiseS: hot ? round(hot.rise, 0) : 0,
+      warmMedianAlarm: warm ? 1 : 0, warmMedianRiseC: warm ? round(warm.rise, 1) : 0,
     },
     evidence,
   };

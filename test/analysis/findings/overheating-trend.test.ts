@@ -73,6 +73,41 @@ describe('overheating trend from the time spent above the hot threshold', () => 
   });
 });
 
+describe('overheating trend from the median coolant temperature while driving', () => {
+  // A hot-depot vehicle in autumn: 10 baseline days at 30–35 °C, then cooler weather. Its
+  // driving median follows the ambient (80 + 0.3 °C per °C here); from day 20 a radiator losing
+  // capacity adds 3 °C. Peaks stay flat and the time above the hot threshold stays short.
+  const ambientOf = (i: number) => (i < 10 ? 30 + (i % 6) : 22 + (i % 4));
+  const days = (faultFrom: number) => Array.from({ length: 26 }, (_, i) => {
+    const ambient = ambientOf(i);
+    const d = day(i, RATING_C + 8 + ((i * 7) % 3) - 1, i >= faultFrom ? 1 : 0);
+    return { ...d, ambientMaxC: ambient, ambientMeanC: ambient - 5, warmMedianCoolantC: 80 + 0.3 * ambient + (i >= faultFrom ? 3 : 0) };
+  });
+  const now = START + 26 * DAY_MS;
+
+  it('reports a rise against the days before, the cooler ones included', () => {
+    const f = overheatingTrendFinding(days(20), START, BOILING_C, now, CFG);
+    expect(f?.metrics.warmMedianAlarm).toBe(1);
+    expect(f?.metrics.warmMedianRiseC).toBeCloseTo(3, 1);
+    expect(f?.metrics.hotTimeAlarm).toBe(0);
+    expect(f?.firstSeen).toBe(START + 20 * DAY_MS);
+    expect(f?.summary).toContain('while driving the coolant runs about 3 °C warmer than on earlier days in similar weather');
+  });
+
+  it('misses it against the first baseline days alone, whose hotter weather it cannot reach', () => {
+    // The cooler days are expected at the 30 °C edge of the first ten days' ambient range:
+    // 2.4 °C too warm, which hides most of the 3 °C rise.
+    const fixed = { ...CFG, warmMedianBaselineLagDays: 1000 };
+    expect(overheatingTrendFinding(days(20), START, BOILING_C, now, fixed)).toBeNull();
+  });
+
+  it('stays quiet on the same weather without the fault', () => {
+    // The gate is open (an overheating episode on the last days) but nothing shifted.
+    const healthy = days(99).map((d, i) => (i >= 23 ? { ...d, overheatEpisodes: 1, hotSeconds: 60 } : d));
+    expect(overheatingTrendFinding(healthy, START, BOILING_C, now, CFG)).toBeNull();
+  });
+});
+
 describe('plateau feature', () => {
   const run = (idleFraction: number) => ({
     plateauC: 84, excludedForSensor: false, ambientMeanC: 2, idleFraction, meanSpeedKph: 30, thermostatOpenC: 88,
