@@ -16,6 +16,11 @@ export interface BaselineModel {
   /** Range of each predictor seen while fitting: predictions never extrapolate beyond it. */
   xMin: number[];
   xMax: number[];
+  /**
+   * True when there were too few rows for the regression and y is expected at its median
+   * whatever the conditions (the slopes are zero).
+   */
+  medianOnly: boolean;
 }
 
 /** Predictors are dropped (median model) unless there are this many rows per coefficient. */
@@ -36,11 +41,13 @@ export function fitBaseline(rows: readonly ModelRow[]): BaselineModel | null {
   const xMax = Array.from({ length: p - 1 }, (_, c) => Math.max(...usable.map((r) => r.x[c]!)));
   if (p > 1 && usable.length >= ROWS_PER_COEFFICIENT * p) {
     const fit = robustLinearFit(usable.map((r) => r.x), usable.map((r) => r.y));
-    if (fit && fit.coefficients.every(Number.isFinite)) return { coefficients: fit.coefficients, sigma: fit.residualSigma, n: usable.length, xMin, xMax };
+    if (fit && fit.coefficients.every(Number.isFinite)) {
+      return { coefficients: fit.coefficients, sigma: fit.residualSigma, n: usable.length, xMin, xMax, medianOnly: false };
+    }
   }
   const ys = usable.map((r) => r.y);
   const m = median(ys);
-  return { coefficients: [m, ...new Array<number>(p - 1).fill(0)], sigma: MAD_TO_SIGMA * mad(ys, m), n: usable.length, xMin, xMax };
+  return { coefficients: [m, ...new Array<number>(p - 1).fill(0)], sigma: MAD_TO_SIGMA * mad(ys, m), n: usable.length, xMin, xMax, medianOnly: p > 1 };
 }
 
 /**

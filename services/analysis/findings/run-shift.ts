@@ -27,8 +27,10 @@ const ABNORMAL_BASELINE_Z = 3;
 /**
  * Scores each run's feature against the vehicle's own baseline (runs in the first
  * `baselineDays` of the epoch, once that window has passed) when it has enough runs and looks
- * normal to its peers,
- * else against the family's peer model.
+ * normal to its peers, else against the family's peer model. An own baseline with too few runs
+ * for its regression (the median alone, blind to start temperature and weather) gives way to a
+ * peer model that has one: a bus with one cold start a day has 10 rows after 10 days, and its
+ * median warm-up scored every colder morning as slow.
  */
 export function scoreFeature(
   runs: readonly RunMetrics[], feature: RunFeature, epochStartMs: number,
@@ -49,6 +51,10 @@ export function scoreFeature(
       model = peerModel;
       source = 'peer';
     }
+  }
+  if (own?.medianOnly && peerModel && !peerModel.medianOnly) {
+    model = peerModel;
+    source = 'peer';
   }
   if (!model) return { scored: [], source: null };
   const scored: ScoredRun[] = [];

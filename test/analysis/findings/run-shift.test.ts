@@ -6,6 +6,7 @@ import { OVERSHOOT, PLATEAU, WARMUP_TIME } from '../../../services/analysis/find
 import { type ScoredRun, scoreFeature } from '../../../services/analysis/findings/run-shift.js';
 import { detectRunShift } from '../../../services/analysis/findings/run-shift-finding.js';
 import type { RunMetrics } from '../../../services/analysis/run-metrics.js';
+import { buildPeerBaseline } from '../../../services/analysis/peer-baseline.js';
 import { DEFAULT_VEHICLE_PROFILE as PROFILE } from '../../../services/analysis/vehicle-profile.js';
 import { concatSamples, syntheticDrive } from '../synthetic-drive.js';
 
@@ -77,5 +78,45 @@ describe('run shift', () => {
     expect(detectRunShift(scored, now, CFG, CFG.overshootCusumH, CFG.overshootRepeatZ)).toBeNull();
     const shift = detectRunShift(scored, now, CFG, CFG.overshootCusumH, CFG.overshootRepeatZ, CFG.overshootMinShiftMedianZ);
     expect(shift?.firstSeen).toBe(START + 10 * DAY_MS + 6 * 3_600_000);
+  });
+});
+
+describe('own baseline with too few runs for its regression', () => {
+  // One cold start a day (a bus): after the 10 baseline days the warm-up model, which explains
+  // the time by start deficit, ambient and idling, has 10 rows for 4 coefficients, so it falls
+  // back to the median and expects the same warm-up on every morning.
+  const ambientOn = (i: number) => -5 + ((i * 7) % 41);
+  const drive = (d: number, hour: number, ambientC: number) => syntheticDrive({
+    startMs: START + d * DAY_MS + hour * 3_600_000, ambientC, startCoolantC: ambientC, quantise: true,
+    tauS: 500, tInfC: 95, regulatedC: 90,
+  });
+  const now = START + 14 * DAY_MS;
+  // The bus: mornings between −5 and 35 °C; day 13 is the coldest.
+  const busRuns = analyseSamples({
+    ...concatSamples(Array.from({ length: 14 }, (_, d) => drive(d, 6, d === 13 ? -5 : ambientOn(d)))), nowMs: now,
+  }, PROFILE, CFG).runs;
+  // Its engine family's other vehicles: four cold starts a day in the same weather range.
+  const peerRuns = analyseSamples({
+    ...concatSamples(Array.from({ length: 14 * 4 }, (_, i) => drive(Math.floor(i / 4), 6 + 4 * (i % 4), ambientOn(i + 3)))), nowMs: now,
+  }, PROFILE, CFG).runs;
+  const peer = buildPeerBaseline(peerRuns, PROFILE.engineFamily, 3);
+  const coldZ = (s: ReturnType<typeof scoreFeature>) => s.scored.find((r) => r.run.startMs >= START + 13 * DAY_MS)!.z;
+
+  it('gives way to the peers\' regression, which expects a longer warm-up on a colder morning', () => {
+    expect(peer.models.warmupTime?.medianOnly).toBe(false);
+    const alone = scoreFeature(busRuns, WARMUP_TIME, START, null, now, CFG, CFG.warmupLogScaleFloor);
+    const withPeers = scoreFeature(busRuns, WARMUP_TIME, START, peer, now, CFG, CFG.warmupLogScaleFloor);
+    expect(alone.source).toBe('own');
+    expect(withPeers.source).toBe('peer');
+    // The same healthy warm-up: slow against the median, as expected against the peers' model.
+    expect(coldZ(alone)).toBeGreaterThan(0.6);
+    expect(Math.abs(coldZ(withPeers))).toBeLessThan(0.2);
+  });
+
+  it('keeps the own baseline once it has the runs for its regression', () => {
+    const busyRuns = analyseSamples({
+      ...concatSamples(Array.from({ length: 14 * 4 }, (_, i) => drive(Math.floor(i / 4), 6 + 4 * (i % 4), ambientOn(i)))), nowMs: now,
+    }, PROFILE, CFG).runs;
+    expect(scoreFeature(busyRuns, WARMUP_TIME, START, peer, now, CFG, CFG.warmupLogScaleFloor).source).toBe('own');
   });
 });
