@@ -17,8 +17,8 @@ export interface BaselineModel {
   xMin: number[];
   xMax: number[];
   /**
-   * True when there were too few rows for the regression and y is expected at its median
-   * whatever the conditions (the slopes are zero).
+   * True when y is expected at its median whatever the conditions (the slopes are zero): too
+   * few rows for the regression, or a slope of the wrong sign where `nonNegativeSlopes` asked.
    */
   medianOnly: boolean;
 }
@@ -30,10 +30,11 @@ const MIN_ROWS = 3;
 
 /**
  * Robust model of a feature over uncensored rows: Huber regression on the predictors when
- * there are enough rows, else the median. Null with fewer than 3 rows.
+ * there are enough rows (and, with `nonNegativeSlopes`, no slope comes out negative), else the
+ * median. Null with fewer than 3 rows.
  * @example fitBaseline(rows)?.sigma
  */
-export function fitBaseline(rows: readonly ModelRow[]): BaselineModel | null {
+export function fitBaseline(rows: readonly ModelRow[], options: { nonNegativeSlopes?: boolean } = {}): BaselineModel | null {
   const usable = rows.filter((r) => !r.censored);
   if (usable.length < MIN_ROWS) return null;
   const p = (usable[0]?.x.length ?? 0) + 1;
@@ -41,7 +42,7 @@ export function fitBaseline(rows: readonly ModelRow[]): BaselineModel | null {
   const xMax = Array.from({ length: p - 1 }, (_, c) => Math.max(...usable.map((r) => r.x[c]!)));
   if (p > 1 && usable.length >= ROWS_PER_COEFFICIENT * p) {
     const fit = robustLinearFit(usable.map((r) => r.x), usable.map((r) => r.y));
-    if (fit && fit.coefficients.every(Number.isFinite)) {
+    if (fit && fit.coefficients.every(Number.isFinite) && !(options.nonNegativeSlopes && fit.coefficients.slice(1).some((c) => c < 0))) {
       return { coefficients: fit.coefficients, sigma: fit.residualSigma, n: usable.length, xMin, xMax, medianOnly: false };
     }
   }

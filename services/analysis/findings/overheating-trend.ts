@@ -4,7 +4,7 @@ import { upperCusum } from '../stats/cusum.js';
 import { mannKendall, sensSlope } from '../stats/mann-kendall.js';
 import { normalCdf } from '../stats/normal-cdf.js';
 import { median } from '../stats/robust.js';
-import { badZ, expected, fitBaseline, type ModelRow } from './baseline-model.js';
+import { badZ, type BaselineModel, expected, fitBaseline, type ModelRow } from './baseline-model.js';
 import {
   clamp01, type EvidenceItem, type Finding, findingKey, MAX_EVIDENCE_ITEMS, round, SAFETY_CAUTION, type Severity,
 } from './finding.js';
@@ -29,12 +29,25 @@ const DAY_METRICS: readonly DayMetric[] = ['peakCoolantC', 'warmP95CoolantC'];
 /** Where a daily quantity shifted up, and by how much (median since), in its own unit. */
 interface DayShift { startMs: number; rise: number }
 
+/**
+ * A hotter day never cools the coolant: a daily model whose ambient slope comes out negative
+ * (noise in 6–10 baseline days) falls back to the median. Such a slope expected the cooler days
+ * after a hot baseline to run warmer and hid a rise on them (seed 13, EV-079: fouling found
+ * 11.9 → 8.9 d after its onset), and expected hot days to run cooler.
+ */
+const AMBIENT_NEVER_COOLS = { nonNegativeSlopes: true } as const;
+
 interface ScoredDay { day: DayAggregate; metric: DayMetric; z: number; value: number; expected: number }
 
 function dayRow(d: DayAggregate, metric: DayMetric): ModelRow | null {
   const y = d[metric];
   if (y === null) return null;
   return { x: [d.ambientMaxC ?? d.ambientMeanC ?? DEFAULT_AMBIENT_C], y, censored: false };
+}
+
+/** The model of a daily quantity over the baseline days, explained by the day's ambient. */
+function dayModel(base: readonly DayAggregate[], metric: DayMetric): BaselineModel | null {
+  return fitBaseline(base.map((d) => dayRow(d, metric)).filter((r): r is ModelRow => r !== null), AMBIENT_NEVER_COOLS);
 }
 
 /**
@@ -45,7 +58,7 @@ function dayRow(d: DayAggregate, metric: DayMetric): ModelRow | null {
 function dayShift(
   days: readonly DayAggregate[], base: readonly DayAggregate[], metric: DayMetric, floor: number, minRise: number, cfg: AnalysisConfig,
 ): DayShift | null {
-  const model = fitBaseline(base.map((d) => dayRow(d, metric)).filter((r): r is ModelRow => r !== null));
+  const model = dayModel(base, metric);
   if (!model) return null;
   const judged = days.filter((d) => d[metric] !== null);
   const rows = judged.map((d) => dayRow(d, metric)!);
@@ -81,7 +94,7 @@ export function overheatingTrendFinding(
   const perDay = new Map<number, ScoredDay>();
   let peakResiduals: { t: number; r: number }[] = [];
   for (const metric of DAY_METRICS) {
-    const model = fitBaseline(base.map((d) => dayRow(d, metric)).filter((r): r is ModelRow => r !== null));
+    const model = dayModel(base, metric);
     if (!model) continue;
     for (const d of days) {
       const row = dayRow(d, metric);

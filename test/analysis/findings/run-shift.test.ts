@@ -120,3 +120,25 @@ describe('own baseline with too few runs for its regression', () => {
     expect(scoreFeature(busyRuns, WARMUP_TIME, START, peer, now, CFG, CFG.warmupLogScaleFloor).source).toBe('own');
   });
 });
+
+describe('baseline model with non-negative slopes', () => {
+  // y = 90 − 0.4·x plus a little alternating noise: a regression finds the negative slope.
+  const rows: ModelRow[] = Array.from({ length: 12 }, (_, i) => ({ x: [25 + i], y: 90 - 0.4 * (25 + i) + (i % 2 ? 0.2 : -0.2), censored: false }));
+
+  it('falls back to the median when a slope comes out negative', () => {
+    expect(fitBaseline(rows)!.coefficients[1]).toBeCloseTo(-0.4, 1);
+    const m = fitBaseline(rows, { nonNegativeSlopes: true })!;
+    expect(m.medianOnly).toBe(true);
+    expect(m.coefficients[1]).toBe(0);
+    // The median of the 12 values (an even count: the mean of the middle two).
+    const ys = rows.map((r) => r.y).sort((a, b) => a - b);
+    expect(m.coefficients[0]).toBeCloseTo((ys[5]! + ys[6]!) / 2, 9);
+  });
+
+  it('keeps a regression whose slopes are all positive', () => {
+    const rising = rows.map((r) => ({ ...r, y: 180 - r.y }));
+    const m = fitBaseline(rising, { nonNegativeSlopes: true })!;
+    expect(m.medianOnly).toBe(false);
+    expect(m.coefficients[1]).toBeCloseTo(0.4, 1);
+  });
+});
