@@ -31,13 +31,20 @@ export interface AnalysisBenchResult {
     /** CPU seconds of this process (all its threads) and of this database's Postgres client backends during the run. */
     workerCpuS: number;
     postgresCpuS: number;
+    /**
+     * CPU seconds of PostgreSQL processes that exited during the run (reaped by the postmaster):
+     * parallel workers, which `postgresCpuS` cannot sample, but also autovacuum workers and other
+     * databases' sessions. Not in `readingsPerCoreS`; shown so that work PostgreSQL did for the
+     * worker outside its client backends cannot go unseen.
+     */
+    exitedPostgresCpuS: number;
     /** readings / (worker + Postgres CPU seconds): readings per CPU-second, i.e. per core fully used. */
     readingsPerCoreS: number;
     /**
      * The figures above are the first analysis in this process (JIT cold); these are the same run
      * over a second fleet of as many fresh readings right after, as a long-running worker sees it.
      */
-    warm: { seconds: number; readingsPerS: number; workerCpuS: number; postgresCpuS: number; readingsPerCoreS: number };
+    warm: { seconds: number; readingsPerS: number; workerCpuS: number; postgresCpuS: number; exitedPostgresCpuS: number; readingsPerCoreS: number };
     /** The phases alone, for diagnosis: reading windows (20 vehicles a statement, as the worker does), and analyseSamples on them. */
     readOnlyReadingsPerS: number;
     analyseOnlyReadingsPerS: number;
@@ -69,15 +76,26 @@ function log(msg: string): void {
   process.stderr.write(`[analysis] ${msg}\n`);
 }
 
-function cpuTicksOf(pid: number): number | undefined {
+/** Fields of /proc/<pid>/stat after the parenthesised command (state, field 3, is index 0); undefined once the process is gone. */
+function procStat(pid: number): string[] | undefined {
   try {
-    // Fields after the parenthesised command: state is field 3, utime 14, stime 15.
     const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
-    const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
-    return Number(fields[11]) + Number(fields[12]);
+    return stat.slice(stat.lastIndexOf(')') + 2).split(' ');
   } catch {
     return undefined;
   }
+}
+
+/** utime + stime (fields 14, 15). */
+function cpuTicksOf(pid: number): number | undefined {
+  const fields = procStat(pid);
+  return fields && Number(fields[11]) + Number(fields[12]);
+}
+
+/** cutime + cstime (fields 16, 17): CPU of the children the process has reaped. */
+function reapedTicksOf(pid: number): number {
+  const fields = procStat(pid);
+  return fields ? Number(fields[13]) + Number(fields[14]) : 0;
 }
 
 function percentile(sorted: number[], q: number): number {
@@ -92,7 +110,7 @@ async function migrated(serverUrl: string, name: string): Promise<{ h: DatabaseH
 }
 
 /** One analysis run over a seeded fleet, with this process's CPU and its Postgres backends' CPU. */
-async function measuredRun(h: DatabaseHandle, fleetId: string): Promise<{ readings: number; seconds: number; workerCpuS: number; postgresCpuS: number }> {
+async function measuredRun(h: DatabaseHandle, fleetId: string): Promise<{ readings: number; seconds: number; workerCpuS: number; postgresCpuS: number; exitedPostgresCpuS: number }> {
   // The client backends of this database (the pool's connections, which open lazily), sampled while
   // the run goes on; autovacuum workers cleaning up after the seeding's inserts are not the worker's.
   const first = new Map<number, number>();
@@ -108,6 +126,9 @@ async function measuredRun(h: DatabaseHandle, fleetId: string): Promise<{ readin
     }
   };
   await sample();
+  // The postmaster (a backend's parent) accumulates the CPU of the processes it reaps.
+  const postmaster = Number(procStat(first.keys().next().value!)?.[1]);
+  const reaped0 = reapedTicksOf(postmaster);
   const cpu0 = process.cpuUsage();
   const t0 = performance.now();
   const runs = new AnalysisRuns(h, { leaseMs: 600_000, batchSize: 20 });
@@ -128,7 +149,10 @@ async function measuredRun(h: DatabaseHandle, fleetId: string): Promise<{ readin
   let pgTicks = 0;
   for (const [pid, start] of first) pgTicks += (last.get(pid) ?? start) - start;
   if (run.status !== 'succeeded' || run.vehiclesFailed > 0) throw new Error(`analysis run failed: ${run.error ?? JSON.stringify(run.failures)}`);
-  return { readings: run.readingsAnalysed, seconds, workerCpuS: (cpu.user + cpu.system) / 1e6, postgresCpuS: pgTicks / CLOCK_TICKS_PER_S };
+  return {
+    readings: run.readingsAnalysed, seconds, workerCpuS: (cpu.user + cpu.system) / 1e6, postgresCpuS: pgTicks / CLOCK_TICKS_PER_S,
+    exitedPostgresCpuS: (reapedTicksOf(postmaster) - reaped0) / CLOCK_TICKS_PER_S,
+  };
 }
 
 async function measureThroughput(serverUrl: string): Promise<AnalysisBenchResult['throughput']> {
@@ -141,7 +165,7 @@ async function measureThroughput(serverUrl: string): Promise<AnalysisBenchResult
     await seedReadings(h, 'warm', THROUGHPUT.vehicles, THROUGHPUT.days);
     const warm = await measuredRun(h, 'warm');
     const perCore = (r: typeof cold) => r.readings / (r.workerCpuS + r.postgresCpuS);
-    log(`throughput, second fleet (JIT warm): ${Math.round(warm.readings / warm.seconds).toLocaleString('en-US')} readings/s wall, CPU worker ${warm.workerCpuS.toFixed(2)} s + PostgreSQL ${warm.postgresCpuS.toFixed(2)} s: ${Math.round(perCore(warm)).toLocaleString('en-US')} readings per CPU-second`);
+    log(`throughput, second fleet (JIT warm): ${Math.round(warm.readings / warm.seconds).toLocaleString('en-US')} readings/s wall, CPU worker ${warm.workerCpuS.toFixed(2)} s + PostgreSQL ${warm.postgresCpuS.toFixed(2)} s: ${Math.round(perCore(warm)).toLocaleString('en-US')} readings per CPU-second (exited PostgreSQL processes ${warm.exitedPostgresCpuS.toFixed(2)} s)`);
 
     // The phases alone, over the same windows, read in batches as the worker reads them.
     const ids = (await h.db.selectFrom('vehicles').select('vehicle_id').where('fleet_id', '=', 'tput').orderBy('vehicle_id').execute()).map((r) => r.vehicle_id);
@@ -159,8 +183,11 @@ async function measureThroughput(serverUrl: string): Promise<AnalysisBenchResult
     }
     return {
       vehicles: THROUGHPUT.vehicles, days: THROUGHPUT.days, readings: cold.readings, seconds: cold.seconds, readingsPerS: cold.readings / cold.seconds,
-      workerCpuS: cold.workerCpuS, postgresCpuS: cold.postgresCpuS, readingsPerCoreS: perCore(cold),
-      warm: { seconds: warm.seconds, readingsPerS: warm.readings / warm.seconds, workerCpuS: warm.workerCpuS, postgresCpuS: warm.postgresCpuS, readingsPerCoreS: perCore(warm) },
+      workerCpuS: cold.workerCpuS, postgresCpuS: cold.postgresCpuS, exitedPostgresCpuS: cold.exitedPostgresCpuS, readingsPerCoreS: perCore(cold),
+      warm: {
+        seconds: warm.seconds, readingsPerS: warm.readings / warm.seconds, workerCpuS: warm.workerCpuS, postgresCpuS: warm.postgresCpuS,
+        exitedPostgresCpuS: warm.exitedPostgresCpuS, readingsPerCoreS: perCore(warm),
+      },
       readOnlyReadingsPerS: readings / readS, analyseOnlyReadingsPerS: readings / analyseS,
     };
   } finally {

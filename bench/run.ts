@@ -52,6 +52,7 @@ if (want('worker')) {
     `analysis end to end on PostgreSQL (database → runs, days, findings, risk; first pass over ${t.days} days a vehicle)`,
     `  wall clock, one worker (JS on one core) + its Postgres backends: ${fmt(t.readingsPerS).padStart(10)} readings/s   (${fmt(t.readings)} readings of ${t.vehicles} vehicles in ${t.seconds.toFixed(1)} s)`,
     `  CPU: worker ${t.workerCpuS.toFixed(2)} s + PostgreSQL ${t.postgresCpuS.toFixed(2)} s = ${(t.workerCpuS + t.postgresCpuS).toFixed(2)} s`,
+    `  PostgreSQL processes that exited meanwhile (parallel workers; also autovacuum, other sessions; not counted above): ${t.exitedPostgresCpuS.toFixed(2)} s, second fleet ${t.warm.exitedPostgresCpuS.toFixed(2)} s`,
     `  per core (readings / CPU-second, both sides): ${fmt(t.readingsPerCoreS).padStart(10)} readings/s   ratio to the 1,000,000/s target ${(t.readingsPerCoreS / 1_000_000).toFixed(2)}`,
     `  the same over a second fleet in the same process (JIT warm, as in a long-running worker): ${fmt(t.warm.readingsPerS)} readings/s wall; CPU worker ${t.warm.workerCpuS.toFixed(2)} s + PostgreSQL ${t.warm.postgresCpuS.toFixed(2)} s: ${fmt(t.warm.readingsPerCoreS)} per CPU-second, ratio ${(t.warm.readingsPerCoreS / 1_000_000).toFixed(2)}`,
     `  phases alone, wall: reading windows ${fmt(t.readOnlyReadingsPerS)}/s, analyseSamples ${fmt(t.analyseOnlyReadingsPerS)}/s (bench data, JIT warm)`,
