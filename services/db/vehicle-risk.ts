@@ -23,20 +23,21 @@ export interface FindingBriefView {
 /** ISO 8601 in UTC with milliseconds, as Date.prototype.toISOString prints it. */
 const isoText = (column: string) => sql.raw(`to_char(f.${column} AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"')`);
 
-/**
- * Rebuilds `open_findings_brief` of the vehicle_analysis rows (alias `a`) matching `where` from
- * their open findings, in one statement.
- */
-export async function refreshOpenFindingsBrief(trx: Kysely<Database>, where: RawBuilder<unknown>): Promise<void> {
-  await sql`
-    update vehicle_analysis a set open_findings_brief = coalesce((
+/** The brief of the open findings of the vehicle_analysis row aliased `a`, most severe first. */
+const openFindingsBrief = sql`coalesce((
       select jsonb_agg(jsonb_build_object(
                'id', f.finding_id, 'kind', f.kind, 'severity', f.severity, 'confidence', f.confidence,
                'firstSeen', ${isoText('first_seen')}, 'lastSeen', ${isoText('last_seen')},
                'summary', f.summary, 'recommendedCheck', f.recommended_check, 'troubleCode', f.trouble_code)
                order by case f.severity when 'critical' then 0 when 'warning' then 1 else 2 end, f.confidence desc, f.finding_id)
-      from findings f where f.vehicle_id = a.vehicle_id and f.status = 'open'), '[]'::jsonb)
-    where ${where}`.execute(trx);
+      from findings f where f.vehicle_id = a.vehicle_id and f.status = 'open'), '[]'::jsonb)`;
+
+/**
+ * Rebuilds `open_findings_brief` of the vehicle_analysis rows (alias `a`) matching `where` from
+ * their open findings, in one statement.
+ */
+export async function refreshOpenFindingsBrief(trx: Kysely<Database>, where: RawBuilder<unknown>): Promise<void> {
+  await sql`update vehicle_analysis a set open_findings_brief = ${openFindingsBrief} where ${where}`.execute(trx);
 }
 
 /**
@@ -47,17 +48,24 @@ export async function refreshOpenFindingsBrief(trx: Kysely<Database>, where: Raw
  * worker after each pass and by the planner actions that change a finding's status.
  */
 export async function refreshVehicleRisk(trx: Kysely<Database>, vehicleId: string): Promise<number | undefined> {
-  const state = await trx.selectFrom('vehicle_analysis as a').innerJoin('vehicles as v', 'v.vehicle_id', 'a.vehicle_id')
-    .select(['a.last_reading_at', 'v.engine_family']).where('a.vehicle_id', '=', vehicleId).executeTakeFirst();
+  // Two statements, not four (the worker runs this once per vehicle): the state with its open
+  // findings (one row with null findings columns when there are none), then one update of the
+  // risk and the brief.
+  const rows = await sql<{ last_reading_at: Date | null; engine_family: string; severity: Severity | null; confidence: number | null; last_seen: Date | null }>`
+    select a.last_reading_at, v.engine_family, f.severity, f.confidence, f.last_seen
+    from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id
+    left join findings f on f.vehicle_id = a.vehicle_id and f.status = 'open'
+    where a.vehicle_id = ${vehicleId}
+    order by f.finding_id`.execute(trx);
+  const state = rows.rows[0];
   if (!state) return undefined;
-  const open = await trx.selectFrom('findings').select(['severity', 'confidence', 'last_seen'])
-    .where('vehicle_id', '=', vehicleId).where('status', '=', 'open').execute();
+  const open = rows.rows.flatMap((f) => (f.severity === null ? [] : [{ severity: f.severity, confidence: f.confidence!, lastSeen: f.last_seen!.getTime() }]));
   const asOf = state.last_reading_at?.getTime() ?? 0;
-  const risk = riskScore(open.map((f) => ({ severity: f.severity, confidence: f.confidence, lastSeen: f.last_seen.getTime() })), asOf,
-    resolveConfig(state.engine_family).riskHalfLifeDays);
+  const risk = riskScore(open, asOf, resolveConfig(state.engine_family).riskHalfLifeDays);
   let max: Severity | null = null;
   for (const f of open) if (max === null || SEVERITY_RANK[f.severity] > SEVERITY_RANK[max]) max = f.severity;
-  await sql`update vehicle_analysis set risk_score = ${risk}, open_findings = ${open.length}, max_severity = ${max} where vehicle_id = ${vehicleId}`.execute(trx);
-  await refreshOpenFindingsBrief(trx, sql`a.vehicle_id = ${vehicleId}`);
+  await sql`
+    update vehicle_analysis a set risk_score = ${risk}, open_findings = ${open.length}, max_severity = ${max}, open_findings_brief = ${openFindingsBrief}
+    where a.vehicle_id = ${vehicleId}`.execute(trx);
   return risk;
 }

@@ -83,19 +83,21 @@ export function createAnalysisStore(db: Kysely<Database>) {
 
     /** Runs, days and sensor events stored before `beforeMs`, and every service event. */
     async historyBefore(vehicleId: string, beforeMs: number): Promise<StoredHistory> {
-      // One statement for the three derived tables (each aggregated in order): the worker's
-      // per-vehicle statements cost about as much PostgreSQL CPU as reading its readings.
-      const r = await sql<{ runs: RunMetrics[]; days: DayAggregate[]; events: SensorEvent[] }>`
+      // One statement for the three derived tables and the service events (each aggregated in
+      // order): the worker's per-vehicle statements cost about as much PostgreSQL CPU as reading
+      // its readings. A service event's time travels as epoch ms, floored as a JS Date holds it.
+      const r = await sql<{ runs: RunMetrics[]; days: DayAggregate[]; events: SensorEvent[]; services: ServiceEvent[] }>`
         select (select coalesce(jsonb_agg(metrics order by start_ts), '[]') from engine_runs where vehicle_id = ${vehicleId} and start_ts < ${ts(beforeMs)}) as runs,
                (select coalesce(jsonb_agg(metrics order by day), '[]') from vehicle_days where vehicle_id = ${vehicleId} and day < ${utcDay(beforeMs)}::date) as days,
-               (select coalesce(jsonb_agg(event order by run_start, kind), '[]') from sensor_events where vehicle_id = ${vehicleId} and run_start < ${ts(beforeMs)}) as events`.execute(db);
-      const services = await db.selectFrom('service_events').select(['kind', 'at']).where('vehicle_id', '=', vehicleId).orderBy('at').orderBy('event_id').execute();
+               (select coalesce(jsonb_agg(event order by run_start, kind), '[]') from sensor_events where vehicle_id = ${vehicleId} and run_start < ${ts(beforeMs)}) as events,
+               (select coalesce(jsonb_agg(jsonb_build_object('kind', kind, 'at', floor(extract(epoch from at) * 1000)) order by at, event_id), '[]')
+                from service_events where vehicle_id = ${vehicleId}) as services`.execute(db);
       const row = r.rows[0];
       return {
         runs: row?.runs ?? [],
         days: row?.days ?? [],
         sensorEvents: row?.events ?? [],
-        serviceEvents: services.map((s) => ({ kind: s.kind as ServiceEvent['kind'], at: s.at.getTime() })),
+        serviceEvents: row?.services ?? [],
       };
     },
 
