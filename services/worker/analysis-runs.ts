@@ -2,6 +2,7 @@ import { randomUUID } from 'node:crypto';
 import { setTimeout as delay } from 'node:timers/promises';
 import { sql } from 'kysely';
 import type { DatabaseHandle } from '../db/database.js';
+import { WindowBuffers } from './copy-binary-window.js';
 import { processLeases, SILENT_LOGGER, type WorkerLogger } from './lease-processor.js';
 import { PeerBaselines } from './peer-baselines.js';
 import { createQueueRepository } from './queue-repository.js';
@@ -78,6 +79,7 @@ export class AnalysisRuns {
     const logger = this.options.logger ?? SILENT_LOGGER;
     const passes = new Map<string, number>();
     const fleet = run.fleetId ?? undefined;
+    const buffers = new WindowBuffers();
     try {
       const waitUntil = Date.now() + this.options.leaseMs;
       while (!this.closing) {
@@ -94,7 +96,7 @@ export class AnalysisRuns {
           continue;
         }
         const summary = await processLeases({
-          handle: this.handle, queue: this.queue, peers: this.peers, workerId, leaseMs: this.options.leaseMs, logger, stopRequested: () => this.closing,
+          handle: this.handle, queue: this.queue, peers: this.peers, workerId, leaseMs: this.options.leaseMs, logger, stopRequested: () => this.closing, buffers,
         }, leases);
         for (const l of leases) passes.set(l.vehicleId, (passes.get(l.vehicleId) ?? 0) + 1);
         for (const failed of summary.failed) passes.set(failed.vehicleId, MAX_PASSES_PER_VEHICLE);

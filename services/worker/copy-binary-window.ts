@@ -125,7 +125,7 @@ export const COLUMN_NAMES = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm'] as c
 
 function grown<T extends Float64Array | Uint16Array>(a: T, rows: number, make: (n: number) => T): T {
   if (a.length >= rows) return a;
-  const b = make(Math.max(rows, a.length * 2));
+  const b = make(Math.max(rows, a.length * 2, INITIAL_ROWS));
   b.set(a);
   return b;
 }
@@ -137,9 +137,10 @@ function grown<T extends Float64Array | Uint16Array>(a: T, rows: number, make: (
  * buffers are views into them, valid until the next read with the same buffers.
  */
 export class WindowBuffers {
-  owner = new Uint16Array(INITIAL_ROWS);
+  // Empty until the first read (a worker on PGlite never reads by COPY).
+  owner = new Uint16Array(0);
   /** Decoded rows, in arrival order: ts, coolant, ambient, speedKph, rpm. */
-  columns = Array.from({ length: COLUMNS }, () => new Float64Array(INITIAL_ROWS));
+  columns = Array.from({ length: COLUMNS }, () => new Float64Array(0));
   /** The same rows grouped by window. */
   out = Array.from({ length: COLUMNS }, () => new Float64Array(0));
 

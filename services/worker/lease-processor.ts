@@ -23,6 +23,12 @@ export interface ProcessContext {
   logger: WorkerLogger;
   /** Asked before each read round and each write: true finishes the vehicle in hand and releases the rest of the batch. */
   stopRequested: () => boolean;
+  /**
+   * Read buffers to reuse from batch to batch (one batch at a time): a batch of 20 vehicles grows
+   * them to about 40 MB, otherwise allocated and zeroed again for every batch (and counted by V8
+   * as external memory, which brings the next full garbage collection closer).
+   */
+  buffers?: WindowBuffers;
 }
 
 export interface BatchSummary {
@@ -104,7 +110,7 @@ export async function processLeases(ctx: ProcessContext, leases: readonly Lease[
   const groupSize = Math.max(1, Math.floor(BATCH_READ_VEHICLE_DAYS / sliceDays));
   let open: Pass[] = prepared.map((p) => ({ ...p, analysis: new WindowAnalysis(p.prepared, sliceDays * DAY_MS, nowMs) }));
   // Each round's arrays are analysed before the next round reads: one set of buffers serves them all.
-  const buffers = new WindowBuffers();
+  const buffers = ctx.buffers ?? new WindowBuffers();
 
   for (;;) {
     if (ctx.stopRequested() && open.length > 1) {

@@ -1,6 +1,7 @@
 import { hostname } from 'node:os';
 import { randomBytes } from 'node:crypto';
 import type { DatabaseHandle } from '../db/database.js';
+import { WindowBuffers } from './copy-binary-window.js';
 import { processLeases, SILENT_LOGGER, type WorkerLogger } from './lease-processor.js';
 import { PeerBaselines } from './peer-baselines.js';
 import { createQueueRepository, type QueueRepository } from './queue-repository.js';
@@ -39,6 +40,8 @@ export class Worker {
   private wakeIdle: (() => void) | undefined;
   private loopDone: Promise<void> | undefined;
   private lastSweepMs = 0;
+  /** Read buffers kept from batch to batch while there is work; dropped when the queue is empty. */
+  private buffers: WindowBuffers | undefined;
 
   constructor(private readonly options: WorkerOptions) {
     this.id = options.workerId ?? newWorkerId();
@@ -93,12 +96,14 @@ export class Worker {
         }
         const leases = await this.queue.lease(this.id, batchSize, leaseMs);
         if (leases.length === 0) {
+          this.buffers = undefined;
           await this.idle(pollMs);
           continue;
         }
+        this.buffers ??= new WindowBuffers();
         await processLeases({
           handle, queue: this.queue, peers: this.peers, workerId: this.id, leaseMs, logger: this.logger,
-          stopRequested: () => this.stopping,
+          stopRequested: () => this.stopping, buffers: this.buffers,
         }, leases);
       } catch (err) {
         // The database is down or a query failed outside a vehicle: wait a poll period and retry.
