@@ -2,6 +2,7 @@ import { mkdirSync } from 'node:fs';
 import { PGlite } from '@electric-sql/pglite';
 import { Kysely, PGliteDialect, PostgresDialect } from 'kysely';
 import pg from 'pg';
+import { pgSocket } from './reused-buffer-socket.js';
 import type { Database } from './schema.js';
 
 export type DatabaseKind = 'postgres' | 'pglite';
@@ -44,7 +45,7 @@ export function redactUrl(url: string): string {
  */
 export async function openDatabase(options: DatabaseOptions): Promise<DatabaseHandle> {
   if (options.databaseUrl) {
-    const pool = new pg.Pool({ connectionString: options.databaseUrl, max: options.poolSize ?? 10 });
+    const pool = new pg.Pool({ connectionString: options.databaseUrl, max: options.poolSize ?? 10, stream: pgSocket });
     // Without a listener an idle client's error would crash the process.
     pool.on('error', (err) => options.onPoolError?.(err));
     // pg-pool listens only on idle clients: a checked-out client whose connection dies between

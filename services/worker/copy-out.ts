@@ -1,4 +1,5 @@
 import type pg from 'pg';
+import { ReusedBufferSocket } from '../db/reused-buffer-socket.js';
 
 /** Backend message types of the COPY OUT sub-protocol (PostgreSQL frontend/backend protocol 3.0). */
 const COPY_DATA = 0x64; // 'd'
@@ -23,9 +24,11 @@ interface PgConnection {
  * `COPY … TO STDOUT` on a checked-out pg client, handing each CopyData payload to `sink` straight
  * from the socket's chunks. pg-copy-streams re-buffers every message (PostgreSQL sends one per
  * row) into its own Buffer and stream chunk: measured about 0.3 µs of worker CPU per row, as much
- * as decoding the row. Like pg-copy-streams, this takes the socket's 'data' events from pg's
- * parser while the copy runs and hands them back at CopyDone (or at an ErrorResponse, which pg
- * then parses and reports); pg completes the query on CommandComplete and ReadyForQuery.
+ * as decoding the row. Like pg-copy-streams, this takes the socket's data from pg's parser while
+ * the copy runs and hands it back at CopyDone (or at an ErrorResponse, which pg then parses and
+ * reports); pg completes the query on CommandComplete and ReadyForQuery. On a
+ * `ReusedBufferSocket` the chunks are views into the connection's one receive buffer: only a
+ * message split across two chunks is copied, and what follows the copy goes to pg as a copy.
  */
 export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink): Promise<void> {
   return new Promise<void>((resolve, reject) => {
@@ -33,9 +36,20 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
     const submittable = {
       submit(connection: PgConnection) {
         const stream = connection.stream;
+        const reused = stream instanceof ReusedBufferSocket ? stream : undefined;
         const pgHandler = stream.listeners('data')[0];
         if (!pgHandler) throw new Error('copyOut: the pg connection has no data listener to take over');
-        stream.removeListener('data', pgHandler);
+        /** Gives the connection's data back to pg, starting with `rest` (data after the copy's end). */
+        const handBack = (rest: Buffer) => {
+          if (reused) {
+            reused.sink = undefined;
+            reused.passOn(rest);
+          } else {
+            stream.removeListener('data', onData);
+            stream.on('data', pgHandler);
+            if (rest.length > 0) pgHandler(rest);
+          }
+        };
         let pending: Buffer | undefined;
         let finished = false;
         /** Walks the messages of `buf` from `p`; returns where an incomplete one begins (or the end). */
@@ -47,10 +61,7 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
             if (type === COPY_DONE || type === ERROR_RESPONSE) {
               // Hand the rest (CopyDone excluded; an error included) back to pg's parser.
               finished = true;
-              stream.removeListener('data', onData);
-              stream.on('data', pgHandler);
-              const rest = type === COPY_DONE ? buf.subarray(Math.min(end, buf.length)) : buf.subarray(p);
-              if (rest.length > 0) pgHandler(rest);
+              handBack(type === COPY_DONE ? buf.subarray(Math.min(end, buf.length)) : buf.subarray(p));
               return buf.length;
             }
             if (end > buf.length) break;
@@ -82,7 +93,9 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
             pending = undefined;
             walk(joined, 0);
             if (finished) {
-              if (missing < chunk.length) pgHandler(chunk.subarray(missing));
+              const rest = chunk.subarray(missing);
+              if (reused) reused.passOn(rest);
+              else if (rest.length > 0) pgHandler(rest);
               return;
             }
             from = missing;
@@ -90,7 +103,11 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
           const p = walk(chunk, from);
           if (!finished && p < chunk.length) pending = Buffer.from(chunk.subarray(p));
         };
-        stream.on('data', onData);
+        if (reused) reused.sink = onData;
+        else {
+          stream.removeListener('data', pgHandler);
+          stream.on('data', onData);
+        }
         connection.query(text);
       },
       handleCommandComplete() {},
