@@ -39,16 +39,19 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
         const reused = stream instanceof ReusedBufferSocket ? stream : undefined;
         const pgHandler = stream.listeners('data')[0];
         if (!pgHandler) throw new Error('copyOut: the pg connection has no data listener to take over');
-        /** Gives the connection's data back to pg, starting with `rest` (data after the copy's end). */
+        /** Hands data after the copy's end to pg's parser (a copy of it on a reused buffer). */
+        const toPg = (rest: Buffer) => {
+          if (reused) reused.passOn(rest);
+          else if (rest.length > 0) pgHandler(rest);
+        };
+        /** Gives the connection's data back to pg, starting with `rest`. */
         const handBack = (rest: Buffer) => {
-          if (reused) {
-            reused.sink = undefined;
-            reused.passOn(rest);
-          } else {
+          if (reused) reused.sink = undefined;
+          else {
             stream.removeListener('data', onData);
             stream.on('data', pgHandler);
-            if (rest.length > 0) pgHandler(rest);
           }
+          toPg(rest);
         };
         let pending: Buffer | undefined;
         let finished = false;
@@ -93,9 +96,7 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
             pending = undefined;
             walk(joined, 0);
             if (finished) {
-              const rest = chunk.subarray(missing);
-              if (reused) reused.passOn(rest);
-              else if (rest.length > 0) pgHandler(rest);
+              toPg(chunk.subarray(missing));
               return;
             }
             from = missing;
