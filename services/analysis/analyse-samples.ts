@@ -48,7 +48,11 @@ export function resumeFromMs(openRunStartMs: number): number {
  * Pure: no clock (pass `nowMs`), no I/O.
  * @example analyseSamples(arrays, DEFAULT_VEHICLE_PROFILE, resolveConfig()).runs[0]?.timeToTargetS
  */
-export function analyseSamples(input: AnalysisInput, profile: VehicleProfile, cfg: AnalysisConfig): SampleAnalysis {
+export function analyseSamples(raw: AnalysisInput, profile: VehicleProfile, cfg: AnalysisConfig): SampleAnalysis {
+  // One object shape for every caller: the hot loops below are compiled for the shape they see
+  // first, and an input built another way (spread, optional keys) would make V8 throw that code
+  // away and compile it again, several times over on a worker's first pass.
+  const input: SampleArrays = { ts: raw.ts, coolant: raw.coolant, ambient: raw.ambient, speedKph: raw.speedKph, rpm: raw.rpm };
   const n = input.ts.length;
   const hotC = profile.thermostatOpenC + cfg.hotMarginC;
   const boilingPointC = coolantBoilingPointC(profile.capPressureKpa, profile.glycolPercent, cfg.atmosphericPressureKpa);
@@ -65,14 +69,14 @@ export function analyseSamples(input: AnalysisInput, profile: VehicleProfile, cf
   for (let k = 0; k < bounds.length; k += 2) longest = Math.max(longest, bounds[k + 1]! - bounds[k]!);
   const scratch = new Float64Array(longest);
   const gapMs = cfg.runGapS * MS_PER_S;
-  const prev = input.previousRunEndMs;
+  const prev = raw.previousRunEndMs;
   let prevEndMs: number | null = prev ?? null;
   for (let k = 0; k < bounds.length; k += 2) {
     const a = bounds[k]!;
     const b = bounds[k + 1]!;
     const isLast = k + 2 >= bounds.length;
     const truncatedStart = a === 0 && prev !== undefined && input.ts[0]! - prev <= gapMs;
-    const open = isLast && !(input.nowMs !== undefined && input.nowMs - input.ts[b - 1]! > gapMs);
+    const open = isLast && !(raw.nowMs !== undefined && raw.nowMs - input.ts[b - 1]! > gapMs);
     runs.push(computeRunMetrics(input, flags, a, b, {
       profile, cfg, periodS: samplePeriodS, hotC, prevEndMs, truncatedStart, open, scratch, episodes,
     }));
