@@ -106,7 +106,7 @@ export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowR
   // Gather interleaves the rows, so every window needed the sort here. SET LOCAL lasts for the
   // implicit transaction of this one query string.
   const text = `set local max_parallel_workers_per_gather = 0; copy (select vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm from readings where ${where.join(' or ')}) to stdout (format binary)`;
-  const decoder = new WindowsDecoder(windows.map((w) => Buffer.from(w.vehicleId, 'utf8')), buffers);
+  const decoder = new WindowsDecoder(windows.map((w) => Buffer.from(w.vehicleId, 'utf8')), buffers, windows.map((w) => w.prefix));
   const client = await pool.connect();
   try {
     await copyOut(client, text, (bytes, view, start, end) => decoder.message(bytes, view, start, end));
@@ -115,56 +115,82 @@ export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowR
     throw err;
   }
   client.release();
-  return decoder.split(windows.map((w) => w.prefix));
+  return decoder.split();
 }
 
 const INITIAL_ROWS = 262_144;
+/** Room a window's columns start with (a worker's window is a vehicle's slice: ~20k rows a week). */
+const MIN_WINDOW_ROWS = 4096;
 const COLUMNS = 5;
 /** The SampleArrays columns in decode order. */
 export const COLUMN_NAMES = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm'] as const;
 
-function grown<T extends Float64Array | Uint16Array>(a: T, rows: number, make: (n: number) => T): T {
-  if (a.length >= rows) return a;
-  const b = make(Math.max(rows, a.length * 2, INITIAL_ROWS));
-  b.set(a);
-  return b;
-}
-
 /**
- * Memory that one reader (a worker's batch) reuses from read to read: the decode columns and the
- * arrays handed out. Allocating (and zeroing) them afresh for each read cost more garbage
- * collection and page faults than the decoding itself. The arrays a read returns with these
+ * Memory that one reader (a worker's batch) reuses from read to read: one set of columns per
+ * window, which rows are decoded straight into (a window's prefix copied in first), grown by
+ * doubling. Allocating (and zeroing) them afresh for each read cost more garbage collection and
+ * page faults than the decoding itself; decoding into shared columns and regrouping them by
+ * window afterwards cost a tenth of the worker's CPU. The arrays a read returns with these
  * buffers are views into them, valid until the next read with the same buffers.
  */
 export class WindowBuffers {
-  // Empty until the first read (a worker on PGlite never reads by COPY).
-  owner = new Uint16Array(0);
-  /** Decoded rows, in arrival order: ts, coolant, ambient, speedKph, rpm. */
-  columns = Array.from({ length: COLUMNS }, () => new Float64Array(0));
-  /** The same rows grouped by window. */
-  out = Array.from({ length: COLUMNS }, () => new Float64Array(0));
+  /** Per window of a read, by position: ts, coolant, ambient, speedKph, rpm (empty until the first read by COPY). */
+  windows: Float64Array[][] = [];
+  /** Most rows, prefixes included, that one read with these buffers has returned. */
+  private peakRows = 0;
 
-  /** Room for at least `rows` decoded rows, keeping those decoded so far. */
-  reserveDecoded(rows: number): void {
-    this.owner = grown(this.owner, rows, (n) => new Uint16Array(n));
-    this.columns = this.columns.map((c) => grown(c, rows, (n) => new Float64Array(n)));
+  /** Window `k`'s columns with room for at least `rows` rows, keeping their first `keep`. */
+  reserve(k: number, rows: number, keep: number): Float64Array[] {
+    const cols = this.windows[k];
+    if (cols && cols[0]!.length >= rows) return cols;
+    const n = Math.max(rows, (cols?.[0]!.length ?? 0) * 2, MIN_WINDOW_ROWS);
+    const grownCols = Array.from({ length: COLUMNS }, (_, c) => {
+      const b = new Float64Array(n);
+      if (cols && keep > 0) b.set(cols[c]!.subarray(0, keep));
+      return b;
+    });
+    this.windows[k] = grownCols;
+    return grownCols;
   }
 
-  /** Room for `rows` grouped rows (nothing kept). */
-  reserveOut(rows: number): Float64Array[] {
-    if (this.out[0]!.length < rows) this.out = this.out.map(() => new Float64Array(Math.max(rows, INITIAL_ROWS)));
-    return this.out;
+  /** Rows the buffers have room for, summed over windows. */
+  capacityRows(): number {
+    return this.windows.reduce((sum, cols) => sum + cols[0]!.length, 0);
+  }
+
+  /**
+   * After a read that returned `sizes[k]` rows for window k: keeps the room held at most twice
+   * the largest read's rows (or INITIAL_ROWS), which is no more than the shared decode and
+   * grouped columns held before, by letting go of the windows with the most room to spare
+   * (windows that a later read needs again grow anew).
+   */
+  trim(sizes: ArrayLike<number>): void {
+    let total = 0;
+    for (let k = 0; k < sizes.length; k++) total += sizes[k]!;
+    this.peakRows = Math.max(this.peakRows, total);
+    const budget = 2 * Math.max(this.peakRows, INITIAL_ROWS);
+    let held = this.capacityRows();
+    if (held <= budget) return;
+    const spare = this.windows.map((cols, k) => ({ k, spare: cols[0]!.length - (k < sizes.length ? sizes[k]! : 0) }));
+    spare.sort((a, b) => b.spare - a.spare);
+    const drop = new Set<number>();
+    for (const { k } of spare) {
+      if (held <= budget) break;
+      held -= this.windows[k]![0]!.length;
+      drop.add(k);
+    }
+    this.windows = this.windows.map((cols, k) => (drop.has(k) ? Array.from({ length: COLUMNS }, () => new Float64Array(0)) : cols));
   }
 }
 
 /**
- * Decodes binary COPY messages of (vehicle_id text, ts timestamptz, four nullable reals) into
- * shared columns plus each row's window, then splits them into one set of arrays per window.
- * PostgreSQL sends the file header, each tuple and the trailer as separate CopyData messages.
+ * Decodes binary COPY messages of (vehicle_id text, ts timestamptz, four nullable reals) straight
+ * into each row's window's columns, after the window's prefix, and hands out one set of arrays per
+ * window. PostgreSQL sends the file header, each tuple and the trailer as separate CopyData messages.
  */
 class WindowsDecoder {
-  private rows = 0;
-  private readonly counts: Uint32Array;
+  /** Rows per window so far, prefix included. */
+  private readonly sizes: Uint32Array;
   private headerSeen = false;
   private last = 0;
   /** Printed value of the last float4 seen per real column: telemetry repeats values row after row. */
@@ -172,9 +198,15 @@ class WindowsDecoder {
   private readonly lastOut = new Float64Array(COLUMNS).fill(NaN);
   private readonly printed = new Map<number, number>();
 
-  constructor(private readonly ids: readonly Buffer[], private readonly buffers: WindowBuffers) {
-    if (ids.length > 65_535) throw new Error('readWindowsByCopy: at most 65,535 windows in one read');
-    this.counts = new Uint32Array(ids.length);
+  constructor(private readonly ids: readonly Buffer[], private readonly buffers: WindowBuffers, prefixes: ReadonlyArray<SampleArrays | undefined>) {
+    this.sizes = new Uint32Array(ids.length);
+    for (let k = 0; k < ids.length; k++) {
+      const prefix = prefixes[k];
+      const n = prefix?.ts.length ?? 0;
+      const cols = buffers.reserve(k, n, 0);
+      if (prefix) for (let c = 0; c < COLUMNS; c++) cols[c]!.set(prefix[COLUMN_NAMES[c]!]);
+      this.sizes[k] = n;
+    }
   }
 
   message(bytes: Uint8Array, view: DataView, start: number, end: number): void {
@@ -191,12 +223,9 @@ class WindowsDecoder {
       const idLen = view.getInt32(p + 2);
       const k = this.windowOf(bytes, p + 6, idLen);
       p += 6 + idLen;
-      const buffers = this.buffers;
-      if (this.rows === buffers.owner.length) buffers.reserveDecoded(this.rows + 1);
-      const i = this.rows++;
-      buffers.owner[i] = k;
-      this.counts[k]!++;
-      const columns = buffers.columns;
+      const i = this.sizes[k]!++;
+      let columns = this.buffers.windows[k]!;
+      if (i === columns[0]!.length) columns = this.buffers.reserve(k, i + 1, i);
       const micros = view.getInt32(p + 4) * TWO_POW_32 + view.getUint32(p + 8);
       columns[0]![i] = Math.round(micros / 1000) + PG_EPOCH_MS;
       p += 12;
@@ -233,29 +262,15 @@ class WindowsDecoder {
     throw new Error(`binary COPY: a row of vehicle ${Buffer.from(bytes.subarray(p, p + len)).toString('utf8')}, which no window asked for`);
   }
 
-  /** One set of arrays per window (views into the buffers' `out`), each ascending in time. */
-  split(prefixes: ReadonlyArray<SampleArrays | undefined>): SampleArrays[] {
-    const { owner, columns } = this.buffers;
-    const sizes = Array.from(this.counts, (n, k) => n + (prefixes[k]?.ts.length ?? 0));
-    const out = this.buffers.reserveOut(sizes.reduce((a, b) => a + b, 0));
-    const starts = new Uint32Array(this.ids.length);
-    for (let k = 1; k < starts.length; k++) starts[k] = starts[k - 1]! + sizes[k - 1]!;
-    const at = new Uint32Array(starts.length);
-    for (let c = 0; c < COLUMNS; c++) {
-      const from = columns[c]!;
-      const to = out[c]!;
-      prefixes.forEach((prefix, k) => {
-        const rows = prefix?.[COLUMN_NAMES[c]!];
-        at[k] = starts[k]! + (rows?.length ?? 0);
-        if (rows) to.set(rows, starts[k]!);
-      });
-      for (let i = 0; i < this.rows; i++) to[at[owner[i]!]!++] = from[i]!;
-    }
-    return Array.from(starts, (start, k) => {
-      const [ts, coolant, ambient, speedKph, rpm] = out.map((column) => column.subarray(start, start + sizes[k]!)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
+  /** One set of arrays per window (views into the buffers), each ascending in time. */
+  split(): SampleArrays[] {
+    const out = Array.from(this.sizes, (n, k) => {
+      const [ts, coolant, ambient, speedKph, rpm] = this.buffers.windows[k]!.map((column) => column.subarray(0, n)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
       const a: SampleArrays = { ts, coolant, ambient, speedKph, rpm };
       return isAscending(a.ts) ? a : permute(a, ascendingOrder(a.ts));
     });
+    this.buffers.trim(this.sizes);
+    return out;
   }
 }
 

@@ -1,6 +1,7 @@
 import { sql } from 'kysely';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { monthIndexOf, PartitionKeeper } from '../../services/db/partitions.js';
+import { WindowBuffers } from '../../services/worker/copy-binary-window.js';
 import { readWindowAsText, readWindows } from '../../services/worker/readings-window.js';
 import { createTestDatabase, type TestDatabase } from '../helpers/test-database.js';
 
@@ -68,5 +69,48 @@ describe('readWindows', () => {
     ]);
     expect(joined).toEqual(await readWindowAsText(tdb.handle, 'RW-B', T0, T0 + 2 * HOUR_MS));
     expect(other).toEqual(await readWindowAsText(tdb.handle, 'RW-C', T0, T0 + HOUR_MS));
+  });
+
+  it('reads windows longer than their buffers\' first room into buffers reused from read to read, with a prefix and late rows', async () => {
+    // RW-D: 9,000 readings a second apart, its 6,000th to 7,000th arriving late in reverse.
+    const d0 = T0 + 3 * HOUR_MS;
+    const rows: Array<[string, number, number, number | null]> = [];
+    for (let i = 0; i < 9000; i++) if (i < 6000 || i >= 7000) rows.push(['RW-D', d0 + i * 1000, 60 + i / 9, 10 + (i % 11) / 3]);
+    await insert(rows);
+    const late: Array<[string, number, number, number | null]> = [];
+    for (let i = 6999; i >= 6000; i--) late.push(['RW-D', d0 + i * 1000, 70.1 + i / 13, null]);
+    await insert(late);
+    const mid = d0 + 5000 * 1000;
+    const end = d0 + 9000 * 1000;
+    const buffers = new WindowBuffers();
+    const [c, head] = await readWindows(tdb.handle, [
+      { vehicleId: 'RW-C', fromMs: T0, toMs: T0 + HOUR_MS },
+      { vehicleId: 'RW-D', fromMs: d0, toMs: mid },
+    ], buffers);
+    expect(c).toEqual(await readWindowAsText(tdb.handle, 'RW-C', T0, T0 + HOUR_MS));
+    expect(head).toEqual(await readWindowAsText(tdb.handle, 'RW-D', d0, mid));
+    const kept = { ts: head!.ts.slice(), coolant: head!.coolant.slice(), ambient: head!.ambient.slice(), speedKph: head!.speedKph.slice(), rpm: head!.rpm.slice() };
+    const [joined, b] = await readWindows(tdb.handle, [
+      { vehicleId: 'RW-D', fromMs: mid, toMs: end, prefix: kept },
+      { vehicleId: 'RW-B', fromMs: T0, toMs: T0 + 2 * HOUR_MS },
+    ], buffers);
+    const whole = await readWindowAsText(tdb.handle, 'RW-D', d0, end);
+    expect(whole.ts.length).toBe(9000);
+    expect(joined).toEqual(whole);
+    expect(b).toEqual(await readWindowAsText(tdb.handle, 'RW-B', T0, T0 + 2 * HOUR_MS));
+  });
+});
+
+describe('WindowBuffers', () => {
+  it('holds at most twice the largest read\'s rows when each read\'s rows fall in another window', () => {
+    const buffers = new WindowBuffers();
+    const windows = 8;
+    const rows = 200_000;
+    for (let k = 0; k < windows; k++) {
+      buffers.reserve(k, rows, 0);
+      buffers.trim(Array.from({ length: windows }, (_, j) => (j === k ? rows : 0)));
+      expect(buffers.windows[k]![0]!.length).toBeGreaterThanOrEqual(rows);
+    }
+    expect(buffers.capacityRows()).toBeLessThanOrEqual(2 * 262_144);
   });
 });
