@@ -1,7 +1,7 @@
 import type pg from 'pg';
 import type { SampleArrays } from '../analysis/sample-arrays.js';
 import { HEADER_BYTES, PG_EPOCH_MS, TWO_POW_32 } from '../db/readings-copy.js';
-import { copyOut } from './copy-out.js';
+import { COPY_DATA, copyOut, MESSAGE_HEADER_BYTES } from './copy-out.js';
 
 /** Printed values remembered per window read (telemetry repeats values a lot); bounded. */
 const PRINTED_CACHE_MAX = 65_536;
@@ -109,7 +109,7 @@ export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowR
   const decoder = new WindowsDecoder(windows.map((w) => Buffer.from(w.vehicleId, 'utf8')), buffers, windows.map((w) => w.prefix));
   const client = await pool.connect();
   try {
-    await copyOut(client, text, (bytes, view, start, end) => decoder.message(bytes, view, start, end));
+    await copyOut(client, text, (bytes, view, start, end) => decoder.messages(bytes, view, start, end));
   } catch (err) {
     client.release(err instanceof Error ? err : true);
     throw err;
@@ -186,7 +186,8 @@ export class WindowBuffers {
 /**
  * Decodes binary COPY messages of (vehicle_id text, ts timestamptz, four nullable reals) straight
  * into each row's window's columns, after the window's prefix, and hands out one set of arrays per
- * window. PostgreSQL sends the file header, each tuple and the trailer as separate CopyData messages.
+ * window. PostgreSQL sends one CopyData message per tuple (the first with the file header in
+ * front) and one for the trailer.
  */
 class WindowsDecoder {
   /** Rows per window so far, prefix included. */
@@ -209,28 +210,59 @@ class WindowsDecoder {
     }
   }
 
-  message(bytes: Uint8Array, view: DataView, start: number, end: number): void {
+  /**
+   * Decodes the whole CopyData messages from `start` on (a `CopyDataSink`): one tuple each, the
+   * first one after the file header, and the trailer. Returns where it stopped: a message of another type, or one
+   * that does not end by `end`. Rows mostly come in runs of one vehicle (a gateway's post), so the
+   * window and its columns are looked up again only when the vehicle changes.
+   */
+  messages(bytes: Uint8Array, view: DataView, start: number, end: number): number {
     let p = start;
-    if (!this.headerSeen) {
-      if (end - start < HEADER_BYTES) throw new Error('binary COPY: short header');
-      p += HEADER_BYTES + view.getInt32(p + 15);
-      this.headerSeen = true;
-    }
-    while (p + 2 <= end) {
-      const fields = view.getInt16(p);
-      if (fields < 0) return; // trailer
-      if (fields !== 6) throw new Error(`binary COPY: expected 6 fields, got ${fields}`);
-      const idLen = view.getInt32(p + 2);
-      const k = this.windowOf(bytes, p + 6, idLen);
-      p += 6 + idLen;
-      const i = this.sizes[k]!++;
-      let columns = this.buffers.windows[k]!;
-      if (i === columns[0]!.length) columns = this.buffers.reserve(k, i + 1, i);
-      const micros = view.getInt32(p + 4) * TWO_POW_32 + view.getUint32(p + 8);
+    const sizes = this.sizes;
+    let k = this.last;
+    let id = this.ids[k]!;
+    let columns = this.buffers.windows[k]!;
+    let capacity = columns[0]!.length;
+    while (p + MESSAGE_HEADER_BYTES <= end && bytes[p] === COPY_DATA) {
+      const next = p + 1 + view.getInt32(p + 1);
+      if (next > end) break;
+      let q = p + MESSAGE_HEADER_BYTES;
+      if (!this.headerSeen) {
+        // The file header comes in front of the first tuple (or the trailer), in the same message.
+        if (next - q < HEADER_BYTES) throw new Error('binary COPY: short header');
+        q += HEADER_BYTES + view.getInt32(q + 15);
+        this.headerSeen = true;
+      }
+      const fields = view.getInt16(q);
+      if (fields !== 6) {
+        if (fields < 0) {
+          p = next; // trailer
+          continue;
+        }
+        throw new Error(`binary COPY: expected 6 fields, got ${fields}`);
+      }
+      const idLen = view.getInt32(q + 2);
+      if (!sameBytes(id, bytes, q + 6, idLen)) {
+        k = this.windowOf(bytes, q + 6, idLen);
+        id = this.ids[k]!;
+        columns = this.buffers.windows[k]!;
+        capacity = columns[0]!.length;
+      }
+      q += 6 + idLen;
+      const i = sizes[k]!++;
+      if (i === capacity) {
+        columns = this.buffers.reserve(k, i + 1, i);
+        capacity = columns[0]!.length;
+      }
+      const micros = view.getInt32(q + 4) * TWO_POW_32 + view.getUint32(q + 8);
       columns[0]![i] = Math.round(micros / 1000) + PG_EPOCH_MS;
-      p += 12;
-      for (let c = 1; c < COLUMNS; c++) p = this.real(view, p, columns[c]!, i, c);
+      q += 12;
+      for (let c = 1; c < COLUMNS; c++) q = this.real(view, q, columns[c]!, i, c);
+      if (q !== next) throw new Error('binary COPY: a tuple is longer or shorter than its message');
+      p = next;
     }
+    this.last = k;
+    return p;
   }
 
   private real(view: DataView, p: number, target: Float64Array, i: number, column: number): number {
@@ -250,15 +282,9 @@ class WindowsDecoder {
     return p + 4 + len;
   }
 
-  /** Index of the window whose vehicle id is the `len` bytes at `p` (consecutive rows are often the same vehicle's). */
+  /** Index of the window whose vehicle id is the `len` bytes at `p` (the caller tries the previous row's first). */
   private windowOf(bytes: Uint8Array, p: number, len: number): number {
-    if (sameBytes(this.ids[this.last]!, bytes, p, len)) return this.last;
-    for (let k = 0; k < this.ids.length; k++) {
-      if (sameBytes(this.ids[k]!, bytes, p, len)) {
-        this.last = k;
-        return k;
-      }
-    }
+    for (let k = 0; k < this.ids.length; k++) if (sameBytes(this.ids[k]!, bytes, p, len)) return k;
     throw new Error(`binary COPY: a row of vehicle ${Buffer.from(bytes.subarray(p, p + len)).toString('utf8')}, which no window asked for`);
   }
 

@@ -2,17 +2,35 @@ import type pg from 'pg';
 import { ReusedBufferSocket } from '../db/reused-buffer-socket.js';
 
 /** Backend message types of the COPY OUT sub-protocol (PostgreSQL frontend/backend protocol 3.0). */
-const COPY_DATA = 0x64; // 'd'
+export const COPY_DATA = 0x64; // 'd'
 const COPY_DONE = 0x63; // 'c'
 const ERROR_RESPONSE = 0x45; // 'E'
 /** One byte of message type, then an int32 length that counts itself. */
-const MESSAGE_HEADER_BYTES = 5;
+export const MESSAGE_HEADER_BYTES = 5;
 
 /**
- * Receives the payload of each CopyData message as bytes [start, end) of a chunk, with a DataView
- * over the same chunk (made once per chunk, not per message); both are valid during the call only.
+ * Takes whole CopyData messages (type byte 'd', an int32 length that counts itself, the payload)
+ * from `bytes`, starting at `start` (where one begins), and returns the offset of the first
+ * message it did not take: one of another type, or one that does not end by `end`. `view` is a
+ * DataView over the same chunk (made once per chunk). Both are valid during the call only.
+ * Walking the messages itself, a sink that decodes rows pays no call per row (PostgreSQL sends one
+ * message per row). `eachCopyData` makes one from a function of a single payload.
  */
-export type CopyDataSink = (bytes: Uint8Array, view: DataView, start: number, end: number) => void;
+export type CopyDataSink = (bytes: Uint8Array, view: DataView, start: number, end: number) => number;
+
+/** A `CopyDataSink` that hands `payload` the bytes [start, end) of each CopyData message's payload. */
+export function eachCopyData(payload: (bytes: Uint8Array, view: DataView, start: number, end: number) => void): CopyDataSink {
+  return (bytes, view, start, end) => {
+    let p = start;
+    while (p + MESSAGE_HEADER_BYTES <= end && bytes[p] === COPY_DATA) {
+      const next = p + 1 + view.getInt32(p + 1);
+      if (next > end) break;
+      payload(bytes, view, p + MESSAGE_HEADER_BYTES, next);
+      p = next;
+    }
+    return p;
+  };
+}
 
 /** The parts of pg's Connection this reader uses (not in pg's public types). */
 interface PgConnection {
@@ -60,6 +78,19 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
           const view = new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
           while (p + MESSAGE_HEADER_BYTES <= buf.length) {
             const type = buf[p]!;
+            if (type === COPY_DATA && !failure) {
+              try {
+                const q = sink(buf, view, p, buf.length);
+                if (q !== p) {
+                  p = q;
+                  continue;
+                }
+              } catch (err) {
+                // Read on to the end of the copy so the connection stays usable; reported after.
+                // The messages the sink took before failing are walked again below, unread.
+                failure = err instanceof Error ? err : new Error(String(err));
+              }
+            }
             const end = p + 1 + view.getInt32(p + 1);
             if (type === COPY_DONE || type === ERROR_RESPONSE) {
               // Hand the rest (CopyDone excluded; an error included) back to pg's parser.
@@ -68,15 +99,8 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
               return buf.length;
             }
             if (end > buf.length) break;
-            if (type === COPY_DATA && !failure) {
-              try {
-                sink(buf, view, p + MESSAGE_HEADER_BYTES, end);
-              } catch (err) {
-                // Read on to the end of the copy so the connection stays usable; reported after.
-                failure = err instanceof Error ? err : new Error(String(err));
-              }
-            }
-            // CopyOutResponse, and NoticeResponse or ParameterStatus interleaved: nothing to do.
+            // CopyData after a failure, CopyOutResponse, and NoticeResponse or ParameterStatus
+            // interleaved: nothing to do.
             p = end;
           }
           return p;

@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ReusedBufferSocket } from '../../services/db/reused-buffer-socket.js';
-import { copyOut } from '../../services/worker/copy-out.js';
+import { copyOut, eachCopyData } from '../../services/worker/copy-out.js';
 import { createTestDatabase, testDatabaseKind, type TestDatabase } from '../helpers/test-database.js';
 
 // The pool's connections receive into one buffer each; pg must still see every byte exactly once,
@@ -36,14 +36,31 @@ describe.skipIf(testDatabaseKind() !== 'postgres')('pg over a socket that reuses
       for (let round = 0; round < 3; round++) {
         const seen: number[] = [];
         // Text COPY: one message per row, 200k rows, so messages straddle the 64 KiB reads.
-        await copyOut(client, 'copy (select i from generate_series(1, 200000) i) to stdout', (bytes, _view, start, end) => {
+        await copyOut(client, 'copy (select i from generate_series(1, 200000) i) to stdout', eachCopyData((bytes, _view, start, end) => {
           seen.push(Number(Buffer.from(bytes.subarray(start, end - 1)).toString('latin1')));
-        });
+        }));
         expect(seen).toHaveLength(200_000);
         expect(seen.every((v, k) => v === k + 1)).toBe(true);
         const after = await client.query<{ n: string }>('select 41 + $1::int as n', [round + 1]);
         expect(Number(after.rows[0]!.n)).toBe(42 + round);
       }
+    } finally {
+      client.release();
+    }
+  });
+
+  it('reports a sink that fails mid-copy once the copy is over, and the connection still answers', async () => {
+    const client = await tdb.handle.pool!.connect();
+    try {
+      let taken = 0;
+      const copy = copyOut(client, 'copy (select i from generate_series(1, 100000) i) to stdout', eachCopyData(() => {
+        if (++taken === 50_000) throw new Error('sink gave up at row 50,000');
+      }));
+      await expect(copy).rejects.toThrow('sink gave up at row 50,000');
+      // Nothing after the failure reached the sink; the rest of the copy was read and dropped.
+      expect(taken).toBe(50_000);
+      const after = await client.query<{ n: number }>('select 6 * 7 as n');
+      expect(after.rows[0]!.n).toBe(42);
     } finally {
       client.release();
     }
