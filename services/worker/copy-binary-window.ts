@@ -47,11 +47,6 @@ export interface WindowRequest {
   prefix?: SampleArrays;
 }
 
-function isAscending(ts: Float64Array): boolean {
-  for (let i = 1; i < ts.length; i++) if (ts[i]! < ts[i - 1]!) return false;
-  return true;
-}
-
 /** Row indices in ascending ts (ties in their read order). */
 function ascendingOrder(ts: Float64Array): Uint32Array {
   const n = ts.length;
@@ -106,7 +101,7 @@ export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowR
   // Gather interleaves the rows, so every window needed the sort here. SET LOCAL lasts for the
   // implicit transaction of this one query string.
   const text = `set local max_parallel_workers_per_gather = 0; copy (select vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm from readings where ${where.join(' or ')}) to stdout (format binary)`;
-  const decoder = new WindowsDecoder(windows.map((w) => Buffer.from(w.vehicleId, 'utf8')), buffers, windows.map((w) => w.prefix));
+  const decoder = new WindowsDecoder(windows.map((w) => idBytes(Buffer.from(w.vehicleId, 'utf8'))), buffers, windows.map((w) => w.prefix));
   const client = await pool.connect();
   try {
     await copyOut(client, text, (bytes, view, start, end) => decoder.messages(bytes, view, start, end));
@@ -192,6 +187,8 @@ export class WindowBuffers {
 class WindowsDecoder {
   /** Rows per window so far, prefix included. */
   private readonly sizes: Uint32Array;
+  /** 1 for a window whose rows came out of time order (late data): sorted before it is handed out. */
+  private readonly unordered: Uint8Array;
   private headerSeen = false;
   private last = 0;
   /** Printed value of the last float4 seen per real column: telemetry repeats values row after row. */
@@ -199,8 +196,9 @@ class WindowsDecoder {
   private readonly lastOut = new Float64Array(COLUMNS).fill(NaN);
   private readonly printed = new Map<number, number>();
 
-  constructor(private readonly ids: readonly Buffer[], private readonly buffers: WindowBuffers, prefixes: ReadonlyArray<SampleArrays | undefined>) {
+  constructor(private readonly ids: readonly IdBytes[], private readonly buffers: WindowBuffers, prefixes: ReadonlyArray<SampleArrays | undefined>) {
     this.sizes = new Uint32Array(ids.length);
+    this.unordered = new Uint8Array(ids.length);
     for (let k = 0; k < ids.length; k++) {
       const prefix = prefixes[k];
       const n = prefix?.ts.length ?? 0;
@@ -242,8 +240,8 @@ class WindowsDecoder {
         throw new Error(`binary COPY: expected 6 fields, got ${fields}`);
       }
       const idLen = view.getInt32(q + 2);
-      if (!sameBytes(id, bytes, q + 6, idLen)) {
-        k = this.windowOf(bytes, q + 6, idLen);
+      if (!sameBytes(id, bytes, view, q + 6, idLen)) {
+        k = this.windowOf(bytes, view, q + 6, idLen);
         id = this.ids[k]!;
         columns = this.buffers.windows[k]!;
         capacity = columns[0]!.length;
@@ -255,7 +253,11 @@ class WindowsDecoder {
         capacity = columns[0]!.length;
       }
       const micros = view.getInt32(q + 4) * TWO_POW_32 + view.getUint32(q + 8);
-      columns[0]![i] = Math.round(micros / 1000) + PG_EPOCH_MS;
+      const tsMs = Math.round(micros / 1000) + PG_EPOCH_MS;
+      const times = columns[0]!;
+      // A prefix is a slice of arrays handed out before, in order; the rows read follow it.
+      if (i > 0 && tsMs < times[i - 1]!) this.unordered[k] = 1;
+      times[i] = tsMs;
       q += 12;
       for (let c = 1; c < COLUMNS; c++) q = this.real(view, q, columns[c]!, i, c);
       if (q !== next) throw new Error('binary COPY: a tuple is longer or shorter than its message');
@@ -283,8 +285,8 @@ class WindowsDecoder {
   }
 
   /** Index of the window whose vehicle id is the `len` bytes at `p` (the caller tries the previous row's first). */
-  private windowOf(bytes: Uint8Array, p: number, len: number): number {
-    for (let k = 0; k < this.ids.length; k++) if (sameBytes(this.ids[k]!, bytes, p, len)) return k;
+  private windowOf(bytes: Uint8Array, view: DataView, p: number, len: number): number {
+    for (let k = 0; k < this.ids.length; k++) if (sameBytes(this.ids[k]!, bytes, view, p, len)) return k;
     throw new Error(`binary COPY: a row of vehicle ${Buffer.from(bytes.subarray(p, p + len)).toString('utf8')}, which no window asked for`);
   }
 
@@ -293,15 +295,30 @@ class WindowsDecoder {
     const out = Array.from(this.sizes, (n, k) => {
       const [ts, coolant, ambient, speedKph, rpm] = this.buffers.windows[k]!.map((column) => column.subarray(0, n)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
       const a: SampleArrays = { ts, coolant, ambient, speedKph, rpm };
-      return isAscending(a.ts) ? a : permute(a, ascendingOrder(a.ts));
+      return this.unordered[k] === 0 ? a : permute(a, ascendingOrder(a.ts));
     });
     this.buffers.trim(this.sizes);
     return out;
   }
 }
 
-function sameBytes(id: Buffer, bytes: Uint8Array, p: number, len: number): boolean {
-  if (id.length !== len) return false;
-  for (let j = len - 1; j >= 0; j--) if (id[j] !== bytes[p + j]) return false;
+/** A vehicle id as the decoder compares it: its bytes, and its first whole 4-byte words big-endian. */
+interface IdBytes {
+  bytes: Buffer;
+  words: Int32Array;
+}
+
+function idBytes(bytes: Buffer): IdBytes {
+  const words = new Int32Array(bytes.length >> 2);
+  for (let j = 0; j < words.length; j++) words[j] = bytes.readInt32BE(4 * j);
+  return { bytes, words };
+}
+
+/** Whether the `len` bytes at `p` are `id` (four at a time, then the rest). */
+function sameBytes(id: IdBytes, bytes: Uint8Array, view: DataView, p: number, len: number): boolean {
+  if (id.bytes.length !== len) return false;
+  const words = id.words;
+  for (let j = 0; j < words.length; j++) if (view.getInt32(p + 4 * j) !== words[j]) return false;
+  for (let j = words.length * 4; j < len; j++) if (id.bytes[j] !== bytes[p + j]) return false;
   return true;
 }
