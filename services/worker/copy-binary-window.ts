@@ -210,61 +210,77 @@ class WindowsDecoder {
 
   /**
    * Decodes the whole CopyData messages from `start` on (a `CopyDataSink`): one tuple each, the
-   * first one after the file header, and the trailer. Returns where it stopped: a message of another type, or one
-   * that does not end by `end`. Rows mostly come in runs of one vehicle (a gateway's post), so the
-   * window and its columns are looked up again only when the vehicle changes.
+   * first one after the file header, and the trailer. Returns where it stopped: a message of
+   * another type, or one that does not end by `end`. Rows mostly come in runs of one vehicle (a
+   * gateway's post): `run` decodes those, and every other message (header, trailer, another
+   * vehicle, a window out of room) goes through `one`, so the hot loop holds no rarely taken path
+   * that would make V8 throw its compiled code away when first taken.
    */
   messages(bytes: Uint8Array, view: DataView, start: number, end: number): number {
     let p = start;
-    const sizes = this.sizes;
-    let k = this.last;
-    let id = this.ids[k]!;
-    let columns = this.buffers.windows[k]!;
-    let capacity = columns[0]!.length;
-    while (p + MESSAGE_HEADER_BYTES <= end && bytes[p] === COPY_DATA) {
+    for (;;) {
+      p = this.run(bytes, view, p, end);
+      if (p + MESSAGE_HEADER_BYTES > end || bytes[p] !== COPY_DATA) return p;
       const next = p + 1 + view.getInt32(p + 1);
-      if (next > end) break;
-      let q = p + MESSAGE_HEADER_BYTES;
-      if (!this.headerSeen) {
-        // The file header comes in front of the first tuple (or the trailer), in the same message.
-        if (next - q < HEADER_BYTES) throw new Error('binary COPY: short header');
-        q += HEADER_BYTES + view.getInt32(q + 15);
-        this.headerSeen = true;
-      }
-      const fields = view.getInt16(q);
-      if (fields !== 6) {
-        if (fields < 0) {
-          p = next; // trailer
-          continue;
-        }
-        throw new Error(`binary COPY: expected 6 fields, got ${fields}`);
-      }
-      const idLen = view.getInt32(q + 2);
-      if (!sameBytes(id, bytes, view, q + 6, idLen)) {
-        k = this.windowOf(bytes, view, q + 6, idLen);
-        id = this.ids[k]!;
-        columns = this.buffers.windows[k]!;
-        capacity = columns[0]!.length;
-      }
-      q += 6 + idLen;
-      const i = sizes[k]!++;
-      if (i === capacity) {
-        columns = this.buffers.reserve(k, i + 1, i);
-        capacity = columns[0]!.length;
-      }
-      const micros = view.getInt32(q + 4) * TWO_POW_32 + view.getUint32(q + 8);
-      const tsMs = Math.round(micros / 1000) + PG_EPOCH_MS;
-      const times = columns[0]!;
-      // A prefix is a slice of arrays handed out before, in order; the rows read follow it.
-      if (i > 0 && tsMs < times[i - 1]!) this.unordered[k] = 1;
-      times[i] = tsMs;
-      q += 12;
-      for (let c = 1; c < COLUMNS; c++) q = this.real(view, q, columns[c]!, i, c);
-      if (q !== next) throw new Error('binary COPY: a tuple is longer or shorter than its message');
+      if (next > end) return p;
+      this.one(bytes, view, p + MESSAGE_HEADER_BYTES, next);
       p = next;
     }
-    this.last = k;
+  }
+
+  /** Decodes tuples of the current window while it has room; returns at the first other message. */
+  private run(bytes: Uint8Array, view: DataView, start: number, end: number): number {
+    const k = this.last;
+    const id = this.ids[k]!;
+    const columns = this.buffers.windows[k]!;
+    const capacity = columns[0]!.length;
+    const sizes = this.sizes;
+    let p = start;
+    while (p + MESSAGE_HEADER_BYTES <= end && bytes[p] === COPY_DATA) {
+      const next = p + 1 + view.getInt32(p + 1);
+      const q = p + MESSAGE_HEADER_BYTES;
+      if (next > end || view.getInt16(q) !== 6) break;
+      const idLen = view.getInt32(q + 2);
+      const i = sizes[k]!;
+      if (i === capacity || !sameBytes(id, bytes, view, q + 6, idLen)) break;
+      sizes[k] = i + 1;
+      this.tuple(view, q + 6 + idLen, next, k, columns, i);
+      p = next;
+    }
     return p;
+  }
+
+  /** One message's payload, [q, next): the header and its tuple, the trailer, or a tuple of any window. */
+  private one(bytes: Uint8Array, view: DataView, q: number, next: number): void {
+    if (!this.headerSeen) {
+      // The file header comes in front of the first tuple (or the trailer), in the same message.
+      if (next - q < HEADER_BYTES) throw new Error('binary COPY: short header');
+      q += HEADER_BYTES + view.getInt32(q + 15);
+      this.headerSeen = true;
+    }
+    const fields = view.getInt16(q);
+    if (fields < 0) return; // trailer
+    if (fields !== 6) throw new Error(`binary COPY: expected 6 fields, got ${fields}`);
+    const idLen = view.getInt32(q + 2);
+    const k = this.windowOf(bytes, view, q + 6, idLen);
+    this.last = k;
+    const i = this.sizes[k]!++;
+    let columns = this.buffers.windows[k]!;
+    if (i === columns[0]!.length) columns = this.buffers.reserve(k, i + 1, i);
+    this.tuple(view, q + 6 + idLen, next, k, columns, i);
+  }
+
+  /** The ts and the four reals of a tuple, from `q` (after its vehicle id) to its message's end, as row `i` of window `k`. */
+  private tuple(view: DataView, q: number, next: number, k: number, columns: Float64Array[], i: number): void {
+    const micros = view.getInt32(q + 4) * TWO_POW_32 + view.getUint32(q + 8);
+    const tsMs = Math.round(micros / 1000) + PG_EPOCH_MS;
+    const times = columns[0]!;
+    // A prefix is a slice of arrays handed out before, in order; the rows read follow it.
+    if (i > 0 && tsMs < times[i - 1]!) this.unordered[k] = 1;
+    times[i] = tsMs;
+    q += 12;
+    for (let c = 1; c < COLUMNS; c++) q = this.real(view, q, columns[c]!, i, c);
+    if (q !== next) throw new Error('binary COPY: a tuple is longer or shorter than its message');
   }
 
   private real(view: DataView, p: number, target: Float64Array, i: number, column: number): number {
@@ -284,7 +300,7 @@ class WindowsDecoder {
     return p + 4 + len;
   }
 
-  /** Index of the window whose vehicle id is the `len` bytes at `p` (the caller tries the previous row's first). */
+  /** Index of the window whose vehicle id is the `len` bytes at `p`. */
   private windowOf(bytes: Uint8Array, view: DataView, p: number, len: number): number {
     for (let k = 0; k < this.ids.length; k++) if (sameBytes(this.ids[k]!, bytes, view, p, len)) return k;
     throw new Error(`binary COPY: a row of vehicle ${Buffer.from(bytes.subarray(p, p + len)).toString('utf8')}, which no window asked for`);
