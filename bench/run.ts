@@ -54,6 +54,9 @@ if (want('worker')) {
     `  CPU: worker ${t.workerCpuS.toFixed(2)} s + PostgreSQL ${t.postgresCpuS.toFixed(2)} s = ${(t.workerCpuS + t.postgresCpuS).toFixed(2)} s`,
     `  PostgreSQL processes that exited meanwhile (parallel workers; also autovacuum, other sessions; not counted above): ${t.exitedPostgresCpuS.toFixed(2)} s, second fleet ${t.warm.exitedPostgresCpuS.toFixed(2)} s`,
     `  per core (readings / CPU-second, both sides): ${fmt(t.readingsPerCoreS).padStart(10)} readings/s   ratio to the 1,000,000/s target ${(t.readingsPerCoreS / 1_000_000).toFixed(2)}`,
+    want('analysis')
+      ? '    (the first fleet in this process, but after the analysis library section: its JIT is partly warm; `npx tsx bench/run.ts worker` alone measures a fresh process)'
+      : '    (the first fleet in a fresh process: JIT cold, V8 compiling the analysis and the decoder on its other threads, counted in the worker CPU)',
     `  the same over a second fleet in the same process (JIT warm, as in a long-running worker): ${fmt(t.warm.readingsPerS)} readings/s wall; CPU worker ${t.warm.workerCpuS.toFixed(2)} s + PostgreSQL ${t.warm.postgresCpuS.toFixed(2)} s: ${fmt(t.warm.readingsPerCoreS)} per CPU-second, ratio ${(t.warm.readingsPerCoreS / 1_000_000).toFixed(2)}`,
     `  phases alone, wall: reading windows ${fmt(t.readOnlyReadingsPerS)}/s, analyseSamples ${fmt(t.analyseOnlyReadingsPerS)}/s (bench data, JIT warm)`,
     `  worker peak RSS: ${r.memory.small.vehicles} vehicles ${r.memory.small.peakRssMb.toFixed(0)} MB, ${r.memory.large.vehicles} vehicles ${r.memory.large.peakRssMb.toFixed(0)} MB: ratio ${r.memory.ratio.toFixed(2)} (flat = about 1)`,
