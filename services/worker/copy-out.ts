@@ -99,6 +99,9 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
               return buf.length;
             }
             if (end > buf.length) break;
+            // A whole CopyData message the sink would not take is a sink's bug: fail rather than
+            // drop rows unseen.
+            if (type === COPY_DATA && !failure) failure = new Error('copyOut: the sink did not take a whole CopyData message');
             // CopyData after a failure, CopyOutResponse, and NoticeResponse or ParameterStatus
             // interleaved: nothing to do.
             p = end;

@@ -65,4 +65,16 @@ describe.skipIf(testDatabaseKind() !== 'postgres')('pg over a socket that reuses
       client.release();
     }
   });
+
+  it('fails rather than drop rows when a sink leaves a whole CopyData message untaken', async () => {
+    const client = await tdb.handle.pool!.connect();
+    try {
+      await expect(copyOut(client, 'copy (select i from generate_series(1, 10) i) to stdout', (_bytes, _view, start) => start))
+        .rejects.toThrow('the sink did not take a whole CopyData message');
+      const after = await client.query<{ n: number }>('select 6 * 7 as n');
+      expect(after.rows[0]!.n).toBe(42);
+    } finally {
+      client.release();
+    }
+  });
 });
