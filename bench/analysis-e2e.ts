@@ -77,7 +77,7 @@ function log(msg: string): void {
 }
 
 /** Fields of /proc/<pid>/stat after the parenthesised command (state, field 3, is index 0); undefined once the process is gone. */
-function procStat(pid: number): string[] | undefined {
+export function procStat(pid: number): string[] | undefined {
   try {
     const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
     return stat.slice(stat.lastIndexOf(')') + 2).split(' ');

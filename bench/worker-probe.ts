@@ -3,6 +3,7 @@ import { sql } from 'kysely';
 import { openDatabase, type DatabaseHandle } from '../services/db/database.js';
 import { migrateToLatest } from '../services/db/migrator.js';
 import { AnalysisRuns } from '../services/worker/analysis-runs.js';
+import { procStat } from './analysis-e2e.js';
 import { BENCH_START_MS, seedReadings } from './analysis-seed.js';
 import { DEFAULT_SERVER_URL, scratchDatabase } from './bench-server.js';
 
@@ -31,16 +32,17 @@ function postgresCpu(name: string): { user: number; system: number } {
   let system = 0;
   for (const pid of readdirSync('/proc')) {
     if (!/^\d+$/.test(pid)) continue;
+    let cmd: string;
     try {
-      const cmd = readFileSync(`/proc/${pid}/cmdline`, 'utf8');
-      if (!cmd.startsWith('postgres: ') || !cmd.split(' ').includes(name)) continue;
-      const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
-      const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
-      user += Number(fields[11]) / CLOCK_TICKS_PER_S;
-      system += Number(fields[12]) / CLOCK_TICKS_PER_S;
+      cmd = readFileSync(`/proc/${pid}/cmdline`, 'utf8');
     } catch {
-      // exited meanwhile
+      continue; // exited meanwhile
     }
+    if (!cmd.startsWith('postgres: ') || !cmd.split(' ').includes(name)) continue;
+    const fields = procStat(Number(pid));
+    if (!fields) continue;
+    user += Number(fields[11]) / CLOCK_TICKS_PER_S;
+    system += Number(fields[12]) / CLOCK_TICKS_PER_S;
   }
   return { user, system };
 }
