@@ -19,6 +19,10 @@ export interface Config {
   maxReadingsPerRequest: number;
   /** Requests per minute per API key. */
   rateLimitPerMinute: number;
+  /** Failed authentications per minute from one client address before it is answered 429. */
+  authFailuresPerMinute: number;
+  /** Readings older than this many days are rejected one by one (bounds the partitions a body can create). */
+  ingestMaxAgeDays: number;
   /** pg pool size. */
   dbPoolSize: number;
   /** Run the analysis worker inside the API process. */
@@ -81,6 +85,8 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     maxBodyBytes: int(env, 'MAX_BODY_BYTES', 512 * 1024 * 1024, 1024, 8 * 1024 * 1024 * 1024),
     maxReadingsPerRequest: int(env, 'MAX_READINGS_PER_REQUEST', 2_000_000, 1, 100_000_000),
     rateLimitPerMinute: int(env, 'RATE_LIMIT_PER_MINUTE', 1200, 1, 10_000_000),
+    authFailuresPerMinute: int(env, 'AUTH_FAILURES_PER_MINUTE', 30, 1, 10_000_000),
+    ingestMaxAgeDays: int(env, 'INGEST_MAX_AGE_DAYS', 730, 1, 36_500),
     dbPoolSize: int(env, 'DB_POOL_SIZE', 10, 1, 1000),
     inProcessWorker: bool(env, 'IN_PROCESS_WORKER', true),
     workerPollMs: int(env, 'WORKER_POLL_MS', 5000, 50, 3_600_000),

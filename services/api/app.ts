@@ -29,6 +29,9 @@ export interface AppOptions {
   logger?: FastifyBaseLogger;
 }
 
+/** Operations endpoints that probes and scrapers call often: never rate-limited, whatever the query. */
+const UNLIMITED_PATHS = new Set(['/healthz', '/readyz', '/metrics']);
+
 /** Rate-limit bucket: the API key's id (cheap, no database), else the client address. */
 function rateLimitKey(request: { headers: Record<string, unknown>; ip: string }): string {
   const header = request.headers.authorization;
@@ -62,19 +65,19 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(errorsPlugin);
   await app.register(metricsPlugin);
   await app.register(dbPlugin, { database: options.database, closeOnShutdown: options.closeDatabase ?? false });
-  await app.register(authPlugin);
+  await app.register(authPlugin, { authFailuresPerMinute: config.authFailuresPerMinute });
   await app.register(openapiPlugin);
   await app.register(rateLimit, {
     global: true,
     max: config.rateLimitPerMinute,
     timeWindow: 60_000,
     keyGenerator: rateLimitKey,
-    allowList: (request) => ['/healthz', '/readyz', '/metrics'].includes(request.url),
+    allowList: (request) => UNLIMITED_PATHS.has(request.url.split('?', 1)[0]!),
     errorResponseBuilder: (_request, context) => new AppError(429, 'rate_limited', `rate limit of ${context.max} requests per minute exceeded; retry after ${context.after}`),
   });
 
   await app.register(operationsRoutes);
-  await app.register(readingsRoutes, { maxBodyBytes: config.maxBodyBytes, maxReadingsPerRequest: config.maxReadingsPerRequest });
+  await app.register(readingsRoutes, { maxBodyBytes: config.maxBodyBytes, maxReadingsPerRequest: config.maxReadingsPerRequest, ingestMaxAgeDays: config.ingestMaxAgeDays });
   await app.register(vehiclesRoutes);
   await app.register(fleetRoutes);
   await app.register(findingsRoutes);

@@ -45,14 +45,34 @@ export class ConflictError extends AppError {
 }
 
 export class PayloadTooLargeError extends AppError {
-  constructor(message: string) {
-    super(413, 'payload_too_large', message);
+  constructor(message: string, code = 'payload_too_large') {
+    super(413, code, message);
+  }
+}
+
+/**
+ * The client went away before its body was complete: nothing is stored and nobody reads the
+ * answer. A client's fault, logged as such, not a database outage (the socket's ECONNRESET).
+ */
+export class ClientClosedRequestError extends AppError {
+  constructor() {
+    super(400, 'client_closed_request', 'the client closed the connection before the body was complete; nothing was stored');
   }
 }
 
 export class UnsupportedMediaTypeError extends AppError {
   constructor(message: string) {
     super(415, 'unsupported_media_type', message);
+  }
+}
+
+/** 429: too many requests; `retryAfterS` goes out as the Retry-After header. */
+export class RateLimitedError extends AppError {
+  constructor(
+    message: string,
+    readonly retryAfterS: number,
+  ) {
+    super(429, 'rate_limited', message);
   }
 }
 

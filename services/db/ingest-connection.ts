@@ -15,7 +15,10 @@ export interface IngestConnection {
   /** Runs a statement; a `name` makes it a prepared statement on a PostgreSQL server (parsed and planned once per connection). */
   run<R>(query: RawBuilder<R>, name?: string): Promise<R[]>;
   copyIn: ((data: Buffer) => Promise<void>) | undefined;
-  /** Where new partitions are attached (see `partitions.ensure`). */
+  /**
+   * Where new partitions are attached (see `partitions.ensure`): never the pool the transaction
+   * holds a client of (`DatabaseHandle.ddl`), or the transaction itself on PGlite.
+   */
   partitionTarget: Kysely<Database> | Transaction<Database>;
 }
 
@@ -28,7 +31,7 @@ function pgRunner(target: pg.Pool | pg.PoolClient, db: Kysely<Database>): Ingest
 }
 
 /** Runs `fn` in a transaction on one client checked out of the pool (COPY needs the client itself). */
-async function inPoolTransaction<T>(pool: pg.Pool, db: Kysely<Database>, fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
+async function inPoolTransaction<T>(pool: pg.Pool, db: Kysely<Database>, ddl: Kysely<Database>, fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
   const client = await pool.connect();
   let broken: Error | undefined;
   const conn: IngestConnection = {
@@ -37,7 +40,7 @@ async function inPoolTransaction<T>(pool: pg.Pool, db: Kysely<Database>, fn: (co
       const stream = client.query(copyFrom(`copy readings ${READINGS_COPY_COLUMNS} from stdin (format binary)`));
       await pipeline(Readable.from([data]), stream);
     },
-    partitionTarget: db,
+    partitionTarget: ddl,
   };
   try {
     await client.query('begin');
@@ -59,18 +62,18 @@ async function inPoolTransaction<T>(pool: pg.Pool, db: Kysely<Database>, fn: (co
 
 /** Single statements outside a transaction (each is atomic on its own). */
 export function autocommitConnection(handle: DatabaseHandle): IngestConnection {
-  const { db, pool } = handle;
+  const { db, pool, ddl } = handle;
   return {
     run: pool ? pgRunner(pool, db) : async <R>(query: RawBuilder<R>) => (await query.execute(db)).rows,
     copyIn: undefined,
-    partitionTarget: db,
+    partitionTarget: ddl,
   };
 }
 
 /** Runs `fn` in one transaction: on a pg client of its own (PostgreSQL), else a Kysely transaction (PGlite). */
 export function inTransaction<T>(handle: DatabaseHandle, fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
-  const { db, pool } = handle;
-  if (pool) return inPoolTransaction(pool, db, fn);
+  const { db, pool, ddl } = handle;
+  if (pool) return inPoolTransaction(pool, db, ddl, fn);
   return db.transaction().execute((trx) =>
     fn({ run: async <R>(query: RawBuilder<R>) => (await query.execute(trx)).rows, copyIn: undefined, partitionTarget: trx }));
 }

@@ -41,12 +41,25 @@ export async function migrateToLatest(db: Kysely<any>): Promise<string[]> {
   return applied;
 }
 
-/** True when the database answers a trivial query. */
-export async function ping(db: Kysely<any>): Promise<boolean> {
+/** Longest wait for the database's answer to a readiness check, ms. */
+export const READY_TIMEOUT_MS = 1000;
+
+/** True when the database answers `select 1` within `timeoutMs` (getting a pool client included). */
+export async function ping(db: Kysely<any>, timeoutMs = READY_TIMEOUT_MS): Promise<boolean> {
+  let timer: NodeJS.Timeout | undefined;
+  const timedOut = new Promise<false>((resolve) => {
+    timer = setTimeout(() => resolve(false), timeoutMs);
+  });
+  // A query that has to wait for a pool client counts as failed after timeoutMs: a pool whose
+  // every client is held (a stuck transaction) makes the service unready, not a readiness check
+  // that never answers. The late query still returns its client to the pool when it ends.
+  const answered = sql`select 1`.execute(db).then(
+    () => true,
+    () => false,
+  );
   try {
-    await sql`select 1`.execute(db);
-    return true;
-  } catch {
-    return false;
+    return await Promise.race([answered, timedOut]);
+  } finally {
+    clearTimeout(timer);
   }
 }

@@ -58,8 +58,13 @@ export class PartitionKeeper {
         }
       }
     };
-    if (db.isTransaction) await work(db);
-    else await db.transaction().execute(work);
+    if (db.isTransaction) {
+      // Inside a caller's transaction (PGlite's ingest) the partitions exist only if it commits:
+      // remember nothing, or a rolled-back body would leave a month "known" that is not there.
+      await work(db);
+      return created;
+    }
+    await db.transaction().execute(work);
     for (const m of missing) this.known.add(m);
     return created;
   }

@@ -1,4 +1,4 @@
-import { sql, type Kysely } from 'kysely';
+import { sql, type Kysely, type RawBuilder } from 'kysely';
 import type { Database } from '../db/schema.js';
 
 /** One leased vehicle: analyse readings from `windowFromMs` on, then `finish` or `fail`. */
@@ -37,6 +37,17 @@ export const BACKOFF_MAX_MS = 3_600_000;
 const backoff = sql`least(${BACKOFF_MAX_MS}::float8, ${BACKOFF_BASE_MS}::float8 * power(2, greatest(attempts - 1, 0))) * interval '1 millisecond'`;
 
 const ms = (d: Date) => d.getTime();
+
+/**
+ * The queue rows matching `where`, locked one after another in vehicle id order (byte order,
+ * "C", which is the order of the ingest's JavaScript sort of ASCII ids). Every statement that
+ * locks several queue rows goes through this, so two of them never wait for each other in a
+ * cycle: an ingest marking vehicles and a worker's heartbeat updating them in heap order used to
+ * deadlock (1 in 13,421 small batches in one probe).
+ */
+function lockedInIdOrder(where: RawBuilder<unknown>, skipLocked = false) {
+  return sql`select vehicle_id from analysis_queue where ${where} order by vehicle_id collate "C" for update${skipLocked ? sql` skip locked` : sql``}`;
+}
 
 /**
  * The analysis queue (table `analysis_queue`, one row per vehicle with unanalysed data), leased
@@ -86,8 +97,9 @@ export function createQueueRepository(db: Kysely<Database>) {
     async extend(workerId: string, vehicleIds: readonly string[], leaseMs: number, trx: Kysely<Database> = db): Promise<number> {
       if (vehicleIds.length === 0) return 0;
       const r = await sql`
-        update analysis_queue set locked_until = now() + ${leaseMs}::float8 * interval '1 millisecond'
-        where locked_by = ${workerId} and vehicle_id = any(${[...vehicleIds]}::text[])`.execute(trx);
+        update analysis_queue q set locked_until = now() + ${leaseMs}::float8 * interval '1 millisecond'
+        from (${lockedInIdOrder(sql`locked_by = ${workerId} and vehicle_id = any(${[...vehicleIds]}::text[])`)}) l
+        where q.vehicle_id = l.vehicle_id`.execute(trx);
       return Number(r.numAffectedRows ?? 0);
     },
 
@@ -116,21 +128,24 @@ export function createQueueRepository(db: Kysely<Database>) {
     async release(workerId: string, vehicleIds: readonly string[], trx: Kysely<Database> = db): Promise<number> {
       if (vehicleIds.length === 0) return 0;
       const r = await sql`
-        update analysis_queue
-        set locked_by = null, locked_until = null, dirty_from = least(dirty_from, leased_from), leased_from = null,
-            attempts = greatest(attempts - 1, 0), run_after = now()
-        where locked_by = ${workerId} and vehicle_id = any(${[...vehicleIds]}::text[])`.execute(trx);
+        update analysis_queue q
+        set locked_by = null, locked_until = null, dirty_from = least(q.dirty_from, q.leased_from), leased_from = null,
+            attempts = greatest(q.attempts - 1, 0), run_after = now()
+        from (${lockedInIdOrder(sql`locked_by = ${workerId} and vehicle_id = any(${[...vehicleIds]}::text[])`)}) l
+        where q.vehicle_id = l.vehicle_id`.execute(trx);
       return Number(r.numAffectedRows ?? 0);
     },
 
     /** Releases every expired lease (its worker died or stalled); returns the vehicles freed. */
     async sweepExpired(trx: Kysely<Database> = db): Promise<string[]> {
+      // SKIP LOCKED: a row an ingest is marking right now is swept next time, not waited for.
       const r = await sql<{ vehicle_id: string }>`
-        update analysis_queue
-        set last_error = 'lease of ' || locked_by || ' expired', locked_by = null, locked_until = null,
-            dirty_from = least(dirty_from, leased_from), leased_from = null, run_after = now() + ${backoff}
-        where locked_until < now()
-        returning vehicle_id`.execute(trx);
+        update analysis_queue q
+        set last_error = 'lease of ' || q.locked_by || ' expired', locked_by = null, locked_until = null,
+            dirty_from = least(q.dirty_from, q.leased_from), leased_from = null, run_after = now() + ${backoff}
+        from (${lockedInIdOrder(sql`locked_until < now()`, true)}) l
+        where q.vehicle_id = l.vehicle_id
+        returning q.vehicle_id`.execute(trx);
       return r.rows.map((x) => x.vehicle_id).sort();
     },
 

@@ -296,10 +296,25 @@ describe('side effects of an ingest', () => {
   });
 
   it('creates the partition of a back-filled old month and stores the reading in it', async () => {
-    const res = await post(json([{ vehicleId: 'B-1', ts: '2003-02-14T08:00:00Z', coolant: 20 }]));
+    // 20 months ago: inside the default INGEST_MAX_AGE_DAYS (730), older than any partition made ahead.
+    const old = new Date(Date.now());
+    old.setUTCMonth(old.getUTCMonth() - 20, 14);
+    const res = await post(json([{ vehicleId: 'B-1', ts: old.toISOString(), coolant: 20 }]));
     expect(res.json().accepted).toBe(1);
     const part = await sql<{ part: string }>`select tableoid::regclass::text as part from readings where vehicle_id = 'B-1'`.execute(t.tdb.handle.db);
-    expect(part.rows).toEqual([{ part: 'readings_y2003m02' }]);
+    expect(part.rows).toEqual([{ part: `readings_y${old.getUTCFullYear()}m${String(old.getUTCMonth() + 1).padStart(2, '0')}` }]);
+  });
+
+  it('rejects, one by one, readings older than INGEST_MAX_AGE_DAYS and creates no partition for them', async () => {
+    const partitionsBefore = await sql<{ n: number }>`select count(*)::int as n from pg_inherits where inhparent = 'readings'::regclass`.execute(t.tdb.handle.db);
+    const readings = Array.from({ length: 40 }, (_, i) => ({ vehicleId: 'B-2', ts: Date.UTC(2001 + Math.floor(i / 12), i % 12, 15), coolant: 20 }));
+    readings.push({ vehicleId: 'B-2', ts: BASE_MS, coolant: 20 });
+    const reply = (await post(json(readings))).json() as IngestReply;
+    expect(reply.accepted).toBe(1);
+    expect(reply.rejected).toHaveLength(40);
+    expect(reply.rejected[0]!.reason).toMatch(/more than 730 days old/);
+    const partitionsAfter = await sql<{ n: number }>`select count(*)::int as n from pg_inherits where inhparent = 'readings'::regclass`.execute(t.tdb.handle.db);
+    expect(partitionsAfter.rows[0]!.n).toBe(partitionsBefore.rows[0]!.n);
   });
 
   it('stores exactly the readings it accepted across many vehicles', async () => {

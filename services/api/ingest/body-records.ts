@@ -1,7 +1,7 @@
 import type { Readable } from 'node:stream';
 import { StringDecoder } from 'node:string_decoder';
-import { createGunzip } from 'node:zlib';
-import { BadRequestError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
+import { createGunzip, type Gunzip } from 'node:zlib';
+import { BadRequestError, ClientClosedRequestError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
 import { JsonBatchScanner } from './json-batch-scanner.js';
 import { MALFORMED, MALFORMED_CSV } from './malformed-record.js';
 import { UNITS, type TemperatureUnit } from './validate-reading.js';
@@ -23,23 +23,36 @@ export interface BodyStats {
 
 /**
  * Decompresses (gzip) and decodes a request body as it streams in, enforcing the size limit on
- * the decompressed bytes (so a small compressed bomb is refused too).
+ * the decompressed bytes (so a small compressed bomb is refused too). The one place where the
+ * body's streams are wired: every stream gets an error listener for its whole life, and leaving
+ * early (a bad body, a failed insert) unpipes and destroys the gunzip, so nothing it says later
+ * (a truncated body's Z_BUF_ERROR) can go unheard and crash the process. The request stream
+ * itself is left alone: the error handler drains it so the client reads the error reply.
  */
 async function* textChunks(raw: Readable, encoding: string | undefined, maxBytes: number, stats: BodyStats): AsyncGenerator<string> {
   const enc = (encoding ?? 'identity').trim().toLowerCase();
+  let clientGone = false;
+  const onRawError = () => {
+    clientGone = true;
+  };
+  raw.on('error', onRawError);
+  raw.once('aborted', onRawError);
+  let gunzip: Gunzip | undefined;
   let source: Readable = raw;
   if (enc === 'gzip' || enc === 'x-gzip') {
-    const gunzip = createGunzip();
-    raw.on('error', (err) => gunzip.destroy(err));
+    gunzip = createGunzip();
+    // Errors while we read reach the iterator below; this listener covers the time after.
+    gunzip.on('error', () => undefined);
+    const target = gunzip;
+    raw.once('error', (err) => target.destroy(err));
     source = raw.pipe(gunzip);
   } else if (enc !== 'identity' && enc !== '') {
     throw new UnsupportedMediaTypeError(`Content-Encoding '${encoding}' is not supported; send gzip or no encoding`);
   }
   const decoder = new StringDecoder('utf8');
   try {
-    // Leaving the loop early (a bad body, a failed insert) must not destroy the request stream:
-    // that would reset the connection before the client could read the error reply. The error
-    // handler answers with "Connection: close" instead.
+    // Leaving the loop early must not destroy the request stream: that would reset the connection
+    // before the client could read the error reply.
     for await (const buf of source.iterator({ destroyOnReturn: false }) as AsyncIterable<Buffer>) {
       stats.bytes += buf.length;
       if (stats.bytes > maxBytes) throw new PayloadTooLargeError(`the body is larger than ${maxBytes} bytes (after decompression); split it into smaller batches`);
@@ -47,23 +60,55 @@ async function* textChunks(raw: Readable, encoding: string | undefined, maxBytes
       if (text) yield text;
     }
   } catch (err) {
-    if ((err as { code?: string }).code === 'Z_DATA_ERROR' || (err as { code?: string }).code === 'Z_BUF_ERROR') {
+    if (clientGone) throw new ClientClosedRequestError();
+    const code = (err as { code?: string }).code;
+    if (code === 'Z_DATA_ERROR' || code === 'Z_BUF_ERROR' || code === 'Z_STREAM_ERROR') {
       throw new BadRequestError('the body is not valid gzip', 'malformed_body');
     }
     throw err;
+  } finally {
+    if (gunzip) {
+      raw.unpipe(gunzip);
+      gunzip.destroy();
+    }
   }
+  if (clientGone) throw new ClientClosedRequestError();
   const rest = decoder.end();
   if (rest) yield rest;
 }
 
-/** Splits text chunks into complete lines (without the newline), a batch per chunk. */
-async function* lineBatches(chunks: AsyncIterable<string>): AsyncGenerator<string[]> {
+/**
+ * Longest line of an NDJSON or CSV body, characters: a reading is about 100, so this leaves room
+ * for long ids and extra fields and stops a body of one endless line from being held in memory.
+ */
+export const MAX_LINE_CHARS = 64 * 1024;
+
+/**
+ * Splits text chunks into complete lines (without the newline), a batch per chunk, in time linear
+ * in the body: only the new chunk is searched for newlines, and the unfinished tail is carried
+ * over as it is (a line that spans many chunks used to be re-split with every chunk).
+ */
+export async function* lineBatches(chunks: AsyncIterable<string>, maxLineChars = MAX_LINE_CHARS): AsyncGenerator<string[]> {
   let carry = '';
+  let lineNumber = 1;
+  const tooLong = () =>
+    new PayloadTooLargeError(`line ${lineNumber} is longer than ${maxLineChars} characters: send one reading per line; nothing was stored`, 'line_too_long');
   for await (const chunk of chunks) {
-    const text = carry + chunk;
-    const lines = text.split('\n');
-    carry = lines.pop() ?? '';
-    if (lines.length > 0) yield lines;
+    const first = chunk.indexOf('\n');
+    if (first < 0) {
+      carry += chunk;
+      if (carry.length > maxLineChars) throw tooLong();
+      continue;
+    }
+    const lines = chunk.split('\n');
+    lines[0] = carry + lines[0]!;
+    carry = lines.pop()!;
+    for (const line of lines) {
+      if (line.length > maxLineChars) throw tooLong();
+      lineNumber++;
+    }
+    if (carry.length > maxLineChars) throw tooLong();
+    yield lines;
   }
   if (carry.length > 0) yield [carry];
 }

@@ -1,4 +1,4 @@
-import { BadRequestError } from '../errors.js';
+import { BadRequestError, PayloadTooLargeError } from '../errors.js';
 import { MALFORMED } from './malformed-record.js';
 
 /** What the scanner found: a top-level field other than `readings`, or one element of it. */
@@ -18,6 +18,13 @@ const enum State {
   Done,
 }
 
+/**
+ * Longest single value the scanner holds (a reading, a field or a field name), characters. As long
+ * as the largest body parsed whole, so the two ways of reading a body accept the same values; it
+ * keeps one endless value from being held in memory up to the body limit.
+ */
+export const MAX_VALUE_CHARS = 1 << 20;
+
 function isSpace(c: number): boolean {
   return c === 0x20 || c === 0x0a || c === 0x0d || c === 0x09;
 }
@@ -35,6 +42,8 @@ export class JsonBatchScanner {
   private depth = 0;
   private inString = false;
   private escaped = false;
+  /** Elements of `readings` completed so far. */
+  private readings = 0;
   /** True once the `readings` field has been met. */
   sawReadings = false;
 
@@ -78,7 +87,10 @@ export class JsonBatchScanner {
               break;
             }
           }
-          if (this.state === State.InKey) this.buf += chunk.slice(start, i);
+          if (this.state === State.InKey) {
+            this.buf += chunk.slice(start, i);
+            if (this.buf.length > MAX_VALUE_CHARS) this.tooLong();
+          }
           break;
         }
         case State.ExpectColon:
@@ -129,6 +141,7 @@ export class JsonBatchScanner {
             i++;
           }
           this.buf += chunk.slice(start, i);
+          if (this.buf.length > MAX_VALUE_CHARS) this.tooLong();
           if (ended) this.finishValue(events);
           break;
         }
@@ -186,6 +199,7 @@ export class JsonBatchScanner {
         value = MALFORMED;
       }
       events.push({ type: 'reading', value });
+      this.readings++;
       this.state = State.ArrayExpectCommaOrEnd;
     } else {
       let value: unknown;
@@ -205,6 +219,11 @@ export class JsonBatchScanner {
     } catch {
       this.fail(`a field name is not a valid JSON string (bad escape or control character): ${text.slice(0, 40)}`);
     }
+  }
+
+  private tooLong(): never {
+    const what = this.state === State.ArrayInElement ? `reading ${this.readings}` : this.state === State.InKey ? 'a field name' : `field "${this.key}"`;
+    throw new PayloadTooLargeError(`${what} is longer than ${MAX_VALUE_CHARS} characters; nothing was stored`, 'value_too_long');
   }
 
   private fail(message: string): never {

@@ -78,11 +78,14 @@ function optionalNumber(value: unknown): number | string {
   return 'not a number';
 }
 
+const DAY_MS = 86_400_000;
+
 /**
  * Checks one raw reading and converts it to °C. Returns the reading, or the reason it is
- * rejected (a short sentence naming the field).
+ * rejected (a short sentence naming the field). Readings more than `maxAgeDays` old are refused:
+ * that bounds the monthly partitions one body can make the service create.
  */
-export function validateReading(raw: unknown, defaultUnit: TemperatureUnit, nowMs: number): ValidReading | string {
+export function validateReading(raw: unknown, defaultUnit: TemperatureUnit, nowMs: number, maxAgeDays = Infinity): ValidReading | string {
   if (raw === MALFORMED) return 'not valid JSON';
   if (raw === MALFORMED_CSV) return 'the CSV row does not have the same number of fields as the header (or has an unclosed quote)';
   if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) return 'a reading must be a JSON object';
@@ -104,6 +107,7 @@ export function validateReading(raw: unknown, defaultUnit: TemperatureUnit, nowM
   const tsMs = parseTimestamp(r.ts);
   if (Number.isNaN(tsMs)) return 'ts is neither an RFC 3339 date-time with a time zone nor epoch milliseconds';
   if (tsMs < EARLIEST_TS_MS) return 'ts is before 2000-01-01 (gateway clock not set?)';
+  if (tsMs < nowMs - maxAgeDays * DAY_MS) return `ts is more than ${maxAgeDays} days old (the service's INGEST_MAX_AGE_DAYS)`;
   if (tsMs > nowMs + MAX_FUTURE_SKEW_MS) return 'ts is more than 5 minutes in the future (gateway clock ahead?)';
 
   if (r.coolant === undefined || r.coolant === null || r.coolant === '') return 'coolant is missing';

@@ -1,6 +1,13 @@
 import fp from 'fastify-plugin';
 import type { FastifyError } from 'fastify';
-import { AppError, isDatabaseUnavailable } from '../errors.js';
+import { drainRequestBody } from '../body-drain.js';
+import { isTransientConflict } from '../../db/transient-conflict.js';
+import { AppError, isDatabaseUnavailable, RateLimitedError } from '../errors.js';
+
+/** Retry-After on a 503 for an unreachable database, seconds: a restart takes a few. */
+const DATABASE_RETRY_AFTER_S = 5;
+/** Retry-After on a 503 for a conflict with concurrent requests, seconds: it is over at once. */
+const CONFLICT_RETRY_AFTER_S = 1;
 
 interface ErrorBody {
   error: { code: string; message: string };
@@ -28,9 +35,16 @@ export default fp(
       let body: ErrorBody;
       if (err instanceof AppError) {
         status = err.statusCode;
+        if (err instanceof RateLimitedError) reply.header('retry-after', String(err.retryAfterS));
         body = { error: { code: err.code, message: err.message } };
+      } else if (isTransientConflict(err)) {
+        // A deadlock or serialisation failure that recurred after the repository's bounded retries.
+        status = 503;
+        reply.header('retry-after', String(CONFLICT_RETRY_AFTER_S));
+        body = { error: { code: 'retry_later', message: 'the request collided with concurrent requests on the same vehicles; nothing was stored, retry shortly' } };
       } else if (isDatabaseUnavailable(err)) {
         status = 503;
+        reply.header('retry-after', String(DATABASE_RETRY_AFTER_S));
         body = { error: { code: 'database_unavailable', message: 'the database is unavailable; nothing was stored, retry later' } };
       } else if (err.validation) {
         status = 400;
@@ -46,9 +60,9 @@ export default fp(
       } else {
         body = { error: { code: 'internal', message: `internal error (request ${request.id})` } };
       }
-      // The body is still arriving (an ingest failed part-way): close the connection after this
-      // reply rather than read the rest of a body nobody will use.
-      if (request.raw.complete === false) reply.header('connection', 'close');
+      // The body is still arriving (no key, a bad body found part-way): read and discard the rest,
+      // within bounds, so the client gets to read this reply (see body-drain.ts).
+      if (request.raw.complete === false) drainRequestBody(request.raw);
       if (status >= 500) request.log.error({ err }, 'request failed');
       else request.log.info({ code: body.error.code, status }, body.error.message);
       return reply.status(status).send(body);

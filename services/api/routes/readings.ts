@@ -13,9 +13,15 @@ import { errorResponses, SECURITY } from '../schemas/common.js';
 /** Rows per bulk statement into the staging table (measured: 5,000 ≈ 10,000 > 1,000 in rows/s). */
 const INSERT_CHUNK_ROWS = 5000;
 
+/**
+ * Rejected readings listed one by one in a reply; beyond it only counted (`rejectedTotal`), so a
+ * few KB of gzip holding millions of bad lines cannot produce a reply of many megabytes.
+ */
+export const MAX_REJECTED_LISTED = 1000;
+
 const Reading = Type.Object({
   vehicleId: Type.String({ description: 'vehicle id, 1–64 of A–Z a–z 0–9 _ . : -' }),
-  ts: Type.Union([Type.String({ format: 'date-time' }), Type.Integer({ description: 'epoch milliseconds' })], { description: 'RFC 3339 date-time with time zone, or epoch ms; not before 2000, at most 5 minutes ahead' }),
+  ts: Type.Union([Type.String({ format: 'date-time' }), Type.Integer({ description: 'epoch milliseconds' })], { description: 'RFC 3339 date-time with time zone, or epoch ms; not before 2000 nor more than INGEST_MAX_AGE_DAYS (730) days old, at most 5 minutes ahead' }),
   coolant: Type.Number({ description: 'engine coolant temperature (SAE J1939 SPN 110 / OBD-II PID 0x05), valid −40 to 210 °C' }),
   ambient: Type.Optional(Type.Union([Type.Number(), Type.Null()], { description: 'ambient air temperature' })),
   speedKph: Type.Optional(Type.Union([Type.Number({ minimum: 0 }), Type.Null()])),
@@ -31,11 +37,14 @@ const JsonBatch = Type.Object({
 const IngestReply = Type.Object({
   accepted: Type.Integer({ description: 'readings stored by this request' }),
   duplicates: Type.Integer({ description: 'valid readings already stored (same vehicle and ts): a retry is harmless' }),
-  rejected: Type.Array(Type.Object({ index: Type.Integer({ description: 'position of the reading in the body, from 0 (blank lines and the CSV header do not count)' }), reason: Type.String() })),
+  rejected: Type.Array(Type.Object({ index: Type.Integer({ description: 'position of the reading in the body, from 0 (blank lines and the CSV header do not count)' }), reason: Type.String() }), {
+    description: `invalid readings, not stored; the first ${MAX_REJECTED_LISTED} are listed`,
+  }),
+  rejectedTotal: Type.Optional(Type.Integer({ description: `all rejected readings; present only when more than ${MAX_REJECTED_LISTED} were rejected and the list is cut` })),
 });
 
 /** POST /v1/readings: the gateways' ingest endpoint (JSON batch, NDJSON, CSV; gzip). */
-const readingsRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadingsPerRequest: number }> = async (app, opts) => {
+const readingsRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadingsPerRequest: number; ingestMaxAgeDays: number }> = async (app, opts) => {
   const repo = createReadingsRepository(app.database, app.partitions);
   const fleets = createFleetsRepository(app.database.db);
 
@@ -87,6 +96,7 @@ const readingsRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadi
 
       let unit: TemperatureUnit = request.query.unit ?? 'C';
       const rejected: Array<{ index: number; reason: string }> = [];
+      let rejectedTotal = 0;
       const stats: BodyStats = { bytes: 0 };
       const nowMs = Date.now();
       const maxReadings = opts.maxReadingsPerRequest;
@@ -100,9 +110,11 @@ const readingsRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadi
         for await (const batch of records) {
           if (index + batch.length > maxReadings) throw new PayloadTooLargeError(`more than ${maxReadings} readings in one request; split the batch`);
           for (const record of batch) {
-            const v = validateReading(record, unit, nowMs);
-            if (typeof v === 'string') rejected.push({ index, reason: v });
-            else {
+            const v = validateReading(record, unit, nowMs, opts.ingestMaxAgeDays);
+            if (typeof v === 'string') {
+              if (rejectedTotal < MAX_REJECTED_LISTED) rejected.push({ index, reason: v });
+              rejectedTotal++;
+            } else {
               builder.push(v);
               if (builder.full) yield builder.take();
             }
@@ -117,14 +129,14 @@ const readingsRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadi
           keyId: principal.keyId,
           contentType: format,
           bodyBytes: () => stats.bytes,
-          rejected: () => rejected.length,
+          rejected: () => rejectedTotal,
         });
         app.metrics.ingestReadings.inc({ result: 'accepted' }, result.accepted);
         app.metrics.ingestReadings.inc({ result: 'duplicate' }, result.duplicates);
-        app.metrics.ingestReadings.inc({ result: 'rejected' }, rejected.length);
+        app.metrics.ingestReadings.inc({ result: 'rejected' }, rejectedTotal);
         app.metrics.ingestBatches.inc({ format });
         if (result.accepted > 0) app.ingestNotifier.emit('readings', fleetId);
-        return reply.send({ accepted: result.accepted, duplicates: result.duplicates, rejected });
+        return reply.send({ accepted: result.accepted, duplicates: result.duplicates, rejected, ...(rejectedTotal > rejected.length ? { rejectedTotal } : {}) });
       } catch (err) {
         if (err instanceof ForeignVehiclesError) throw new ForbiddenError(`this API key's fleet may not post readings for ${err.vehicleIds.join(', ')}: registered to another fleet; nothing was stored`);
         throw err;

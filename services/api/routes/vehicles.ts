@@ -2,7 +2,7 @@ import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { createFleetsRepository } from '../../db/fleets-repository.js';
 import { createVehiclesRepository } from '../../db/vehicles-repository.js';
-import { BadRequestError, NotFoundError } from '../errors.js';
+import { BadRequestError, ForbiddenError, NotFoundError } from '../errors.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
 import { Vehicle, VehicleProfilePatchBody } from '../schemas/vehicle.js';
@@ -31,19 +31,23 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
     async (request, reply) => {
       const principal = principalOf(request);
       const { vehicleId } = request.params;
-      const owner = await vehicles.fleetOf(vehicleId);
+      if (principal.fleetId === null && !request.query.fleet) {
+        // An admin key edits any vehicle; a new one needs its fleet named.
+        const vehicle = await vehicles.update(vehicleId, request.body);
+        if (!vehicle) throw new BadRequestError('an admin key must name the fleet of a new vehicle: ?fleet=<fleetId>');
+        return reply.status(200).send(vehicle);
+      }
       let fleetId: string;
-      if (owner !== undefined) {
-        assertFleetAccess(principal, owner);
-        fleetId = owner;
-      } else if (principal.fleetId !== null) {
+      if (principal.fleetId !== null) {
+        if (request.query.fleet && request.query.fleet !== principal.fleetId) throw new ForbiddenError('this API key belongs to another fleet');
         fleetId = principal.fleetId;
       } else {
-        if (!request.query.fleet) throw new BadRequestError('an admin key must name the fleet of a new vehicle: ?fleet=<fleetId>');
-        if (!(await fleets.exists(request.query.fleet))) throw new NotFoundError(`unknown fleet '${request.query.fleet}'`);
-        fleetId = request.query.fleet;
+        fleetId = request.query.fleet!;
+        if (!(await fleets.exists(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
       }
-      const { vehicle, created } = await vehicles.upsert(vehicleId, fleetId, request.body);
+      const result = await vehicles.upsert(vehicleId, { fleetId, onlyIfFleet: principal.fleetId }, request.body);
+      if ('ownedByOtherFleet' in result) throw new ForbiddenError('this API key belongs to another fleet');
+      const { vehicle, created } = result;
       return reply.status(created ? 201 : 200).send(vehicle);
     },
   );
