@@ -3,7 +3,7 @@ import { TypeBoxValidatorCompiler, type FastifyPluginAsyncTypebox } from '@fasti
 import { Type } from 'typebox';
 import { createFleetsRepository } from '../../db/fleets-repository.js';
 import { createReadingsRepository, ForeignVehiclesError, type ReadingChunk } from '../../db/readings-repository.js';
-import { BadRequestError, ForbiddenError, NotFoundError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
+import { BadRequestError, ClientClosedRequestError, ForbiddenError, NotFoundError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
 import { bodyFormatOf, bodyRecords, type BodyStats } from '../ingest/body-records.js';
 import { ChunkBuilder } from '../ingest/chunk-builder.js';
 import { validateReading, type TemperatureUnit } from '../ingest/validate-reading.js';
@@ -138,6 +138,8 @@ const readingsRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadi
         if (result.accepted > 0) app.ingestNotifier.emit('readings', fleetId);
         return reply.send({ accepted: result.accepted, duplicates: result.duplicates, rejected, ...(rejectedTotal > rejected.length ? { rejectedTotal } : {}) });
       } catch (err) {
+        // Nobody reads the answer to an aborted body, so no response hook counts it: count it here.
+        if (err instanceof ClientClosedRequestError) app.metrics.ingestFailures.inc({ status: 'client_closed' });
         if (err instanceof ForeignVehiclesError) throw new ForbiddenError(`this API key's fleet may not post readings for ${err.vehicleIds.join(', ')}: registered to another fleet; nothing was stored`);
         throw err;
       }
