@@ -47,7 +47,8 @@ function encode(b: { text: string; encoding: string; cut: number; flip: number }
   if (b.encoding === 'gzip-truncated') return { bytes: gz.subarray(0, Math.floor(gz.length * b.cut)), header: 'gzip' };
   if (b.encoding === 'gzip-corrupt') {
     const copy = Buffer.from(gz);
-    copy[b.flip % copy.length] ^= 0x5a;
+    const at = b.flip % copy.length;
+    copy[at] = copy[at]! ^ 0x5a;
     return { bytes: copy, header: 'gzip' };
   }
   if (b.encoding === 'gzip-as-plain') return { bytes: gz, header: undefined };
