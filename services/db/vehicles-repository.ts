@@ -103,12 +103,6 @@ export function createVehiclesRepository(db: Kysely<Database>) {
         .executeTakeFirst();
       return row ? toVehicleProfile(row) : undefined;
     },
-
-    /** The fleet a vehicle is registered to, or undefined. */
-    async fleetOf(vehicleId: string): Promise<string | undefined> {
-      const row = await db.selectFrom('vehicles').select('fleet_id').where('vehicle_id', '=', vehicleId).executeTakeFirst();
-      return row?.fleet_id;
-    },
   };
 }
 

@@ -20,10 +20,10 @@ const ERROR_DESCRIPTIONS: Record<number, string> = {
   403: 'the key lacks the scope, or the vehicle belongs to another fleet',
   404: 'not found',
   409: 'conflict with the current state',
-  413: 'body or batch too large',
+  413: 'body or batch too large, a line over 64 KiB, a JSON value over 1 MiB, too many blank lines, or gzip that expands more than 100-fold',
   415: 'unsupported Content-Type or Content-Encoding',
-  429: 'rate limit of the API key exceeded',
-  503: 'database unavailable: nothing was stored',
+  429: 'rate limit of the API key, or of failed authentications from the address, exceeded; retry after Retry-After seconds',
+  503: 'database unavailable, or a collision with concurrent requests: nothing was stored; retry after Retry-After seconds',
 };
 
 /** Error responses for a route's schema, each with the uniform body. */
