@@ -1,4 +1,3 @@
-import { gzipSync } from 'node:zlib';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { MAX_REJECTED_LISTED } from '../../../services/api/routes/readings.js';
 import { useTestApp } from '../../helpers/test-app.js';
@@ -57,9 +56,9 @@ describe('an early error reply to a large body', () => {
 describe('a body of millions of invalid lines', () => {
   it(`lists the first ${MAX_REJECTED_LISTED} rejected readings and counts the rest`, async () => {
     const LINES = 200_000;
-    const body = gzipSync('{"vehicleId":"EE-2","ts":"yesterday","coolant":70}\n'.repeat(LINES));
-    expect(body.length).toBeLessThan(64 * 1024);
-    const res = await postReadings(base, key, 'application/x-ndjson', body, { 'content-encoding': 'gzip' });
+    // Sent plain: as gzip, this many identical lines expand more than 100-fold and are refused whole.
+    const body = '{"vehicleId":"EE-2","ts":"yesterday","coolant":70}\n'.repeat(LINES);
+    const res = await postReadings(base, key, 'application/x-ndjson', body);
     expect(res.status).toBe(200);
     const reply = res.json as { accepted: number; rejected: Array<{ index: number }>; rejectedTotal: number };
     expect(reply.accepted).toBe(0);
