@@ -23,6 +23,8 @@ export interface Config {
   authFailuresPerMinute: number;
   /** Readings older than this many days are rejected one by one (bounds the partitions a body can create). */
   ingestMaxAgeDays: number;
+  /** How long SIGTERM waits for requests in flight before the process exits anyway, ms. */
+  shutdownGraceMs: number;
   /** pg pool size. */
   dbPoolSize: number;
   /** Run the analysis worker inside the API process. */
@@ -87,6 +89,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     rateLimitPerMinute: int(env, 'RATE_LIMIT_PER_MINUTE', 1200, 1, 10_000_000),
     authFailuresPerMinute: int(env, 'AUTH_FAILURES_PER_MINUTE', 30, 1, 10_000_000),
     ingestMaxAgeDays: int(env, 'INGEST_MAX_AGE_DAYS', 730, 1, 36_500),
+    shutdownGraceMs: int(env, 'SHUTDOWN_GRACE_MS', 30_000, 100, 3_600_000),
     dbPoolSize: int(env, 'DB_POOL_SIZE', 10, 1, 1000),
     inProcessWorker: bool(env, 'IN_PROCESS_WORKER', true),
     workerPollMs: int(env, 'WORKER_POLL_MS', 5000, 50, 3_600_000),

@@ -15,9 +15,6 @@ Configuration comes from the environment: PORT, HOST, DATABASE_URL, PGLITE_DIR, 
 LOG_LEVEL (see README.md). Stops gracefully on SIGTERM or SIGINT.
 `;
 
-/** Longest graceful shutdown, ms: requests in flight get this long to finish after SIGTERM. */
-const SHUTDOWN_GRACE_MS = 30_000;
-
 export async function run(argv: string[]): Promise<number> {
   const { values } = parseArgs({ args: argv, options: { help: { type: 'boolean', short: 'h' } } });
   if (values.help) {
@@ -62,10 +59,10 @@ export async function run(argv: string[]): Promise<number> {
       // A request that never ends must not keep the process alive: after the grace period the
       // connections are cut and the process exits.
       setTimeout(() => {
-        app.log.error({ graceMs: SHUTDOWN_GRACE_MS }, 'shutdown did not finish within the grace period; exiting');
+        app.log.error({ graceMs: config.shutdownGraceMs }, 'shutdown did not finish within the grace period; exiting');
         app.server.closeAllConnections();
         process.exit(1);
-      }, SHUTDOWN_GRACE_MS).unref();
+      }, config.shutdownGraceMs).unref();
       // The worker stops first (its vehicle in hand finished, other leases released): app.close()
       // closes the database.
       Promise.all([worker?.stop(), reports?.stop()])
