@@ -1,3 +1,4 @@
+import type { AddressInfo } from 'node:net';
 import type { FastifyInstance } from 'fastify';
 import type { Kysely } from 'kysely';
 import { afterAll, beforeAll } from 'vitest';
@@ -86,4 +87,27 @@ export function useTestApp(overrides: Partial<Config> = {}): TestApp {
     await holder.close?.();
   });
   return holder;
+}
+
+/** A test app listening on loopback with an ingest key, for tests that need a real socket. */
+export interface ServedTestApp {
+  t: TestApp;
+  /** `http://127.0.0.1:<port>` */
+  base: string;
+  /** A plain ingest key of the fleet. */
+  key: string;
+}
+
+/**
+ * Like useTestApp, and the app listens on a free loopback port with an ingest key of `fleetId`;
+ * filled in before the first test runs.
+ */
+export function useServedTestApp(fleetId: string, overrides: Partial<Config> = {}): ServedTestApp {
+  const served = { t: useTestApp(overrides), base: '', key: '' };
+  beforeAll(async () => {
+    served.key = await served.t.createKey(fleetId, ['ingest']);
+    await served.t.app.listen({ port: 0, host: '127.0.0.1' });
+    served.base = `http://127.0.0.1:${(served.t.app.server.address() as AddressInfo).port}`;
+  });
+  return served;
 }

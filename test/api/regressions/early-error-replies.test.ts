@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { MAX_REJECTED_LISTED } from '../../../services/api/routes/readings.js';
-import { useTestApp } from '../../helpers/test-app.js';
-import { listenOnLoopback, postReadings } from '../../helpers/raw-http.js';
+import { useServedTestApp } from '../../helpers/test-app.js';
+import { postReadings } from '../../helpers/raw-http.js';
 import { ServeProcess } from '../../helpers/serve-process.js';
 
 // Regressions around replies that come before (or instead of) reading the body:
@@ -9,13 +9,8 @@ import { ServeProcess } from '../../helpers/serve-process.js';
 //   the body being read, and Node's fetch saw EPIPE instead of the JSON error in 13 of 18 tries;
 // - ~4 KB of gzip holding 2 M invalid lines produced an 87 MB reply (RSS 312 → 1,176 MB).
 
-const t = useTestApp();
-let base: string;
-let key: string;
-beforeAll(async () => {
-  key = await t.createKey('fleet-ee', ['ingest']);
-  base = await listenOnLoopback(t.app);
-});
+const served = useServedTestApp('fleet-ee');
+const t = served.t;
 
 const BIG = Buffer.alloc(50 * 1024 * 1024, '{"vehicleId":"EE-1","ts":1,"coolant":1}\n');
 
@@ -58,7 +53,7 @@ describe('a body of millions of invalid lines', () => {
     const LINES = 200_000;
     // Sent plain: as gzip, this many identical lines expand more than 100-fold and are refused whole.
     const body = '{"vehicleId":"EE-2","ts":"yesterday","coolant":70}\n'.repeat(LINES);
-    const res = await postReadings(base, key, 'application/x-ndjson', body);
+    const res = await postReadings(served.base, served.key, 'application/x-ndjson', body);
     expect(res.status).toBe(200);
     const reply = res.json as { accepted: number; rejected: Array<{ index: number }>; rejectedTotal: number };
     expect(reply.accepted).toBe(0);

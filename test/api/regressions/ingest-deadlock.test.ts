@@ -1,9 +1,9 @@
 import http from 'node:http';
 import { sql } from 'kysely';
-import { beforeAll, describe, expect, it } from 'vitest';
-import { useTestApp } from '../../helpers/test-app.js';
+import { describe, expect, it } from 'vitest';
+import { useServedTestApp } from '../../helpers/test-app.js';
 import { testDatabaseKind } from '../../helpers/test-database.js';
-import { listenOnLoopback, postReadings } from '../../helpers/raw-http.js';
+import { postReadings } from '../../helpers/raw-http.js';
 
 // Regression: concurrent bodies over the same readings in different orders deadlock on the
 // `readings` primary key; PostgreSQL aborts one, and that request was answered 500. Now the
@@ -11,13 +11,8 @@ import { listenOnLoopback, postReadings } from '../../helpers/raw-http.js';
 // holds what the other needs) the request fails with nothing stored and 503 + Retry-After, and
 // the gateway's retry then stores it. Needs two connections: PostgreSQL.
 
-const t = useTestApp();
-let base: string;
-let key: string;
-beforeAll(async () => {
-  key = await t.createKey('fleet-dl', ['ingest']);
-  base = await listenOnLoopback(t.app);
-});
+const served = useServedTestApp('fleet-dl');
+const t = served.t;
 
 const T0_MS = Date.now() - 2 * 86_400_000;
 const lines = (vehicleId: string, from: number, to: number) => {
@@ -33,7 +28,7 @@ interface Reply {
 }
 
 function streamingPost(): { req: http.ClientRequest; reply: Promise<Reply> } {
-  const req = http.request(`${base}/v1/readings`, { method: 'POST', headers: { authorization: `Bearer ${key}`, 'content-type': 'application/x-ndjson' } });
+  const req = http.request(`${served.base}/v1/readings`, { method: 'POST', headers: { authorization: `Bearer ${served.key}`, 'content-type': 'application/x-ndjson' } });
   const reply = new Promise<Reply>((resolve, reject) => {
     req.on('error', reject);
     req.on('response', (res) => {
@@ -74,7 +69,7 @@ describe.skipIf(testDatabaseKind() === 'pglite')('two streamed bodies that need 
 
     // The gateway retries after Retry-After: everything is stored once.
     const loserIsX = replies[0]!.status === 503;
-    const retry = await postReadings(base, key, 'application/x-ndjson', loserIsX ? lines('DL-1', 0, 10_000) + lines('DL-2', 0, 5_000) : lines('DL-2', 0, 10_000) + lines('DL-1', 0, 5_000));
+    const retry = await postReadings(served.base, served.key, 'application/x-ndjson', loserIsX ? lines('DL-1', 0, 10_000) + lines('DL-2', 0, 5_000) : lines('DL-2', 0, 10_000) + lines('DL-1', 0, 5_000));
     expect(retry.status).toBe(200);
     expect(retry.json).toMatchObject({ accepted: 5_000, duplicates: 10_000 });
     expect(await t.countReadings(['DL-1', 'DL-2'])).toBe(20_000);
@@ -95,7 +90,7 @@ describe.skipIf(testDatabaseKind() === 'pglite')('two streamed bodies that need 
     };
     let accepted = 0;
     for (let round = 0; round < 5; round++) {
-      const replies = await Promise.all(Array.from({ length: 6 }, () => postReadings(base, key, 'application/x-ndjson', shuffled())));
+      const replies = await Promise.all(Array.from({ length: 6 }, () => postReadings(served.base, served.key, 'application/x-ndjson', shuffled())));
       for (const r of replies) expect(r.status, r.text).toBe(200);
       accepted += replies.reduce((sum, r) => sum + (r.json as { accepted: number }).accepted, 0);
     }

@@ -1,21 +1,16 @@
 import { gzipSync } from 'node:zlib';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { lineBatches, MAX_LINE_CHARS } from '../../../services/api/ingest/body-records.js';
 import { MAX_VALUE_CHARS } from '../../../services/api/ingest/json-batch-scanner.js';
-import { useTestApp } from '../../helpers/test-app.js';
-import { listenOnLoopback, postReadings } from '../../helpers/raw-http.js';
+import { useServedTestApp } from '../../helpers/test-app.js';
+import { postReadings } from '../../helpers/raw-http.js';
 
 // Regression: a single NDJSON line of 5 / 10 / 20 / 40 MB took 1.2 / 3.4 / 11.6 / 46.6 s because
 // the unfinished line was split again with every chunk (quadratic), and it stalled the service.
 // Lines (and JSON values) now have a length limit, and splitting looks only at new text.
 
-const t = useTestApp();
-let key: string;
-let base: string;
-beforeAll(async () => {
-  key = await t.createKey('fleet-ll', ['ingest']);
-  base = await listenOnLoopback(t.app);
-});
+const served = useServedTestApp('fleet-ll');
+const t = served.t;
 
 const reading = (i: number) => `{"vehicleId":"LL-1","ts":${Date.now() - 3_600_000 + i * 1000},"coolant":70}`;
 
@@ -52,7 +47,7 @@ describe('a body with an endless line', () => {
     const head = contentType === 'text/csv' ? 'vehicleId,ts,coolant\nLL-1,2026-11-30T06:10:00Z,20\n' : `${reading(0)}\n`;
     const text = `${head}${'z'.repeat(10 * 1024 * 1024)}\n${reading(1)}\n`;
     const body = encoding === 'gzip' ? gzipSync(text) : Buffer.from(text);
-    const res = await postReadings(base, key, contentType, body, encoding === 'gzip' ? { 'content-encoding': 'gzip' } : {});
+    const res = await postReadings(served.base, served.key, contentType, body, encoding === 'gzip' ? { 'content-encoding': 'gzip' } : {});
     expect(res.status, res.text).toBe(413);
     expect(res.json).toEqual({ error: { code: 'line_too_long', message: expect.stringMatching(new RegExp(`^line ${contentType === 'text/csv' ? 3 : 2} is longer than ${MAX_LINE_CHARS}`)) } });
     expect(await t.countReadings(['LL-1'])).toBe(0);
@@ -60,7 +55,7 @@ describe('a body with an endless line', () => {
 
   it('as one huge JSON value is answered 413 naming the reading', async () => {
     const text = `{"readings":[${reading(0)},{"vehicleId":"LL-1","label":"${'q'.repeat(MAX_VALUE_CHARS + 10)}"}]}`;
-    const res = await postReadings(base, key, 'application/json', text);
+    const res = await postReadings(served.base, served.key, 'application/json', text);
     expect(res.status, res.text).toBe(413);
     expect(res.json).toEqual({ error: { code: 'value_too_long', message: expect.stringMatching(/^reading 1 is longer than/) } });
     expect(await t.countReadings(['LL-1'])).toBe(0);
