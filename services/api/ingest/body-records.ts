@@ -228,7 +228,7 @@ export async function* jsonRecords(chunks: AsyncIterable<string>, onUnit: (unit:
   if (!scanner.sawReadings) throw new BadRequestError('the JSON object has no "readings" array', 'malformed_body');
 }
 
-const CSV_COLUMNS = ['vehicleId', 'ts', 'coolant', 'ambient', 'speedKph', 'rpm', 'unit'] as const;
+const CSV_COLUMNS = ['vehicleId', 'ts', 'coolant', 'ambient', 'speedKph', 'rpm', 'unit', 'barometricKpa', 'coolantLevelPct', 'coolantPressureKpa'] as const;
 
 /** Splits one CSV line (RFC 4180 quoting; a quoted field may not span lines). */
 export function splitCsvLine(line: string): string[] | undefined {
