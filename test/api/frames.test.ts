@@ -51,6 +51,13 @@ describe('POST /v1/frames/j1939', () => {
     expect(await stored('F-1')).toEqual([0, 10_000, 20_000, 30_000, 40_000, 50_000].map((ms) => [ms + 200, 80 + Math.floor(ms / 20_000), 20, null, 1500, 100, 80, 100]));
   });
 
+  it("decimates to the vehicle's configured sample period", async () => {
+    const put = await t.app.inject({ method: 'PUT', url: '/v1/vehicles/F-30', headers: t.auth(key), payload: { samplePeriodS: 30 } });
+    expect(put.json()).toMatchObject({ samplePeriodS: 30 });
+    expect((await post('j1939', JSON.stringify({ frames: busMinute('F-30') }))).json()).toMatchObject({ accepted: 2 });
+    expect((await stored('F-30')).map((r) => r[0])).toEqual([200, 30_200]);
+  });
+
   it('answers a retried request with duplicates and stores nothing twice', async () => {
     const body = JSON.stringify({ frames: busMinute('F-2') });
     expect((await post('j1939', body)).json()).toMatchObject({ accepted: 6, duplicates: 0 });
