@@ -5,6 +5,13 @@ export const SERVICE_01_POSITIVE = 0x41;
 /** First byte of a negative response (ISO 14229 / ISO 15765-4 0x7F). */
 export const NEGATIVE_RESPONSE = 0x7f;
 
+/**
+ * Longest service 01 response accepted, bytes: a request names at most 6 PIDs (SAE J1979, from
+ * memory), each answered with at most 4 data bytes, after the 0x41: 1 + 6 · 5 = 31. Longer than a
+ * CAN frame: the gateway reassembles the ISO 15765-2 multi-frame response.
+ */
+export const MAX_OBD_RESPONSE_BYTES = 31;
+
 export const PID_COOLANT = 0x05;
 export const PID_RPM = 0x0c;
 export const PID_SPEED = 0x0d;

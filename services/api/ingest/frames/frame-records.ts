@@ -1,4 +1,5 @@
 import { FrameCollector } from '../../../bus-decoding/frame-collector.js';
+import { MAX_OBD_RESPONSE_BYTES } from '../../../bus-decoding/obd-service01.js';
 import { MAX_FRAME_BYTES, parseHexBytes, parseHexNumber } from '../../../bus-decoding/hex-bytes.js';
 import type { RecordShape } from '../body-records.js';
 import { MALFORMED, MALFORMED_CSV } from '../malformed-record.js';
@@ -13,8 +14,8 @@ export const FRAME_SHAPES: Record<BusProtocol, RecordShape> = {
 };
 
 const DAY_MS = 86_400_000;
-/** Longest hex text of a data field we look at, characters ("0x41 0x05 …" with separators). */
-const MAX_DATA_CHARS = 64;
+/** Longest hex text of a data field we look at, characters ("0x41 0x05 …": five a byte). */
+const MAX_DATA_CHARS = 5 * MAX_OBD_RESPONSE_BYTES;
 
 /**
  * Checks rows of a frame body and feeds the valid ones to a FrameCollector. A row is rejected
@@ -24,9 +25,12 @@ const MAX_DATA_CHARS = 64;
  */
 export class FrameRecords {
   readonly collector = new FrameCollector({ ambientMinC: AMBIENT_MIN_C, ambientMaxC: AMBIENT_MAX_C });
-  private readonly bytes = new Uint8Array(MAX_FRAME_BYTES);
+  private readonly bytes: Uint8Array;
 
-  constructor(readonly protocol: BusProtocol, private readonly nowMs: number, private readonly maxAgeDays: number) {}
+  constructor(readonly protocol: BusProtocol, private readonly nowMs: number, private readonly maxAgeDays: number) {
+    // One byte more than a J1939 frame may have, so the collector can say a data field is too long.
+    this.bytes = new Uint8Array(protocol === 'obd' ? MAX_OBD_RESPONSE_BYTES : MAX_FRAME_BYTES + 1);
+  }
 
   /**
    * One raw row; returns the reason it is rejected, or null.
@@ -53,7 +57,7 @@ export class FrameRecords {
     if (typeof data !== 'string' || data.trim() === '') return 'data is missing: the data bytes as hex, e.g. "7B FF FF FF FF FF FF FF"';
     const n = data.length > MAX_DATA_CHARS ? -2 : parseHexBytes(data, this.bytes);
     if (n === -1) return 'data is not hex bytes (two hex digits a byte, optionally separated by spaces)';
-    if (n === -2) return `data has more than ${MAX_FRAME_BYTES} bytes`;
+    if (n === -2) return `data has more than ${this.protocol === 'obd' ? MAX_OBD_RESPONSE_BYTES : MAX_FRAME_BYTES} bytes`;
 
     if (this.protocol === 'obd') return this.collector.obdResponse(vehicleId, tsMs, this.bytes, n);
     const canId = typeof r.canId === 'string' ? parseHexNumber(r.canId.trim()) : typeof r.canId === 'number' ? r.canId : NaN;
