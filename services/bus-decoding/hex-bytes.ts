@@ -41,13 +41,16 @@ export function parseHexBytes(text: string, out: Uint8Array): number {
 }
 
 /**
- * Parses a hex number ("18FEEE00", "0x18FEEE00") of at most 8 digits; NaN when it is not one.
+ * Parses a hex number ("18FEEE00", "0x18FEEE00", spaces around allowed) of at most 8 digits;
+ * NaN when it is not one.
  * @example parseHexNumber('0x18FEEE00') // 419360256
  */
 export function parseHexNumber(text: string): number {
   let i = 0;
-  const len = text.length;
-  if (len >= 2 && text.charCodeAt(0) === 48 && (text.charCodeAt(1) | 0x20) === 120) i = 2;
+  let len = text.length;
+  while (i < len && text.charCodeAt(i) === 32) i++;
+  while (len > i && text.charCodeAt(len - 1) === 32) len--;
+  if (len - i >= 2 && text.charCodeAt(i) === 48 && (text.charCodeAt(i + 1) | 0x20) === 120) i += 2;
   if (len - i < 1 || len - i > 8) return NaN;
   let v = 0;
   for (; i < len; i++) {

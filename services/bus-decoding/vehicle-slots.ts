@@ -23,6 +23,9 @@ export class VehicleSlots {
   /** Earliest and latest slot start touched by `merge` since `resetTouched`, ms. */
   touchedFromMs = Infinity;
   touchedToMs = -Infinity;
+  /** The slot `merge` touched last: frames come in time order mostly, many to a slot. */
+  private lastSlot = NaN;
+  private lastRec: Float64Array | undefined;
 
   constructor(readonly periodMs: number) {
     if (!(periodMs >= 1)) throw new RangeError(`sample period ${periodMs} ms must be ≥ 1`);
@@ -49,9 +52,15 @@ export class VehicleSlots {
    */
   merge(tsMs: number, channel: number, value: number): boolean {
     const slot = this.slotOf(tsMs);
-    if (slot < this.touchedFromMs) this.touchedFromMs = slot;
-    if (slot > this.touchedToMs) this.touchedToMs = slot;
-    return mergeInto(this.record(slot), channel, tsMs, value);
+    let rec = this.lastRec;
+    if (slot !== this.lastSlot || !rec) {
+      if (slot < this.touchedFromMs) this.touchedFromMs = slot;
+      if (slot > this.touchedToMs) this.touchedToMs = slot;
+      rec = this.record(slot);
+      this.lastSlot = slot;
+      this.lastRec = rec;
+    }
+    return mergeInto(rec, channel, tsMs, value);
   }
 
   /** Merges a whole record (e.g. one loaded from the database) into the slot. */

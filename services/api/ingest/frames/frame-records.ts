@@ -14,6 +14,10 @@ export const FRAME_SHAPES: Record<BusProtocol, RecordShape> = {
 };
 
 const DAY_MS = 86_400_000;
+// Module-local copies of imported functions called per row (tsx reads imported names through getters).
+const parseTs = parseTimestamp;
+const parseHex = parseHexBytes;
+const parseId = parseHexNumber;
 /** Longest hex text of a data field we look at, characters ("0x41 0x05 …": five a byte). */
 const MAX_DATA_CHARS = 5 * MAX_OBD_RESPONSE_BYTES;
 
@@ -26,10 +30,17 @@ const MAX_DATA_CHARS = 5 * MAX_OBD_RESPONSE_BYTES;
 export class FrameRecords {
   readonly collector = new FrameCollector({ ambientMinC: AMBIENT_MIN_C, ambientMaxC: AMBIENT_MAX_C });
   private readonly bytes: Uint8Array;
+  private lastVehicleId = '';
+  private readonly earliestMs: number;
+  private readonly oldestMs: number;
+  private readonly latestMs: number;
 
-  constructor(readonly protocol: BusProtocol, private readonly nowMs: number, private readonly maxAgeDays: number) {
+  constructor(readonly protocol: BusProtocol, nowMs: number, private readonly maxAgeDays: number) {
     // One byte more than a J1939 frame may have, so the collector can say a data field is too long.
     this.bytes = new Uint8Array(protocol === 'obd' ? MAX_OBD_RESPONSE_BYTES : MAX_FRAME_BYTES + 1);
+    this.earliestMs = EARLIEST_TS_MS;
+    this.oldestMs = nowMs - maxAgeDays * DAY_MS;
+    this.latestMs = nowMs + MAX_FUTURE_SKEW_MS;
   }
 
   /**
@@ -43,24 +54,29 @@ export class FrameRecords {
     const r = raw as Record<string, unknown>;
     const vehicleId = r.vehicleId;
     if (vehicleId === undefined || vehicleId === null || vehicleId === '') return 'vehicleId is missing';
-    if (typeof vehicleId !== 'string' || !VEHICLE_ID_PATTERN.test(vehicleId)) {
-      return 'vehicleId must be 1–64 letters, digits, "_", ".", ":" or "-", starting with a letter or digit';
+    // A bus dump is runs of one vehicle's frames: the pattern is tested once per run.
+    if (vehicleId !== this.lastVehicleId) {
+      if (typeof vehicleId !== 'string' || !VEHICLE_ID_PATTERN.test(vehicleId)) {
+        return 'vehicleId must be 1–64 letters, digits, "_", ".", ":" or "-", starting with a letter or digit';
+      }
+      this.lastVehicleId = vehicleId;
     }
     if (r.ts === undefined || r.ts === null || r.ts === '') return 'ts is missing';
-    const tsMs = parseTimestamp(r.ts);
+    const tsMs = parseTs(r.ts);
     if (Number.isNaN(tsMs)) return 'ts is neither an RFC 3339 date-time with a time zone nor epoch milliseconds';
-    if (tsMs < EARLIEST_TS_MS) return 'ts is before 2000-01-01 (gateway clock not set?)';
-    if (tsMs < this.nowMs - this.maxAgeDays * DAY_MS) return `ts is more than ${this.maxAgeDays} days old (the service's INGEST_MAX_AGE_DAYS)`;
-    if (tsMs > this.nowMs + MAX_FUTURE_SKEW_MS) return 'ts is more than 5 minutes in the future (gateway clock ahead?)';
+    if (tsMs < this.earliestMs) return 'ts is before 2000-01-01 (gateway clock not set?)';
+    if (tsMs < this.oldestMs) return `ts is more than ${this.maxAgeDays} days old (the service's INGEST_MAX_AGE_DAYS)`;
+    if (tsMs > this.latestMs) return 'ts is more than 5 minutes in the future (gateway clock ahead?)';
 
     const data = r.data;
-    if (typeof data !== 'string' || data.trim() === '') return 'data is missing: the data bytes as hex, e.g. "7B FF FF FF FF FF FF FF"';
-    const n = data.length > MAX_DATA_CHARS ? -2 : parseHexBytes(data, this.bytes);
+    if (typeof data !== 'string' || data.length === 0) return 'data is missing: the data bytes as hex, e.g. "7B FF FF FF FF FF FF FF"';
+    const n = data.length > MAX_DATA_CHARS ? -2 : parseHex(data, this.bytes);
+    if (n === 0) return 'data is missing: the data bytes as hex, e.g. "7B FF FF FF FF FF FF FF"';
     if (n === -1) return 'data is not hex bytes (two hex digits a byte, optionally separated by spaces)';
     if (n === -2) return `data has more than ${this.protocol === 'obd' ? MAX_OBD_RESPONSE_BYTES : MAX_FRAME_BYTES} bytes`;
 
     if (this.protocol === 'obd') return this.collector.obdResponse(vehicleId, tsMs, this.bytes, n);
-    const canId = typeof r.canId === 'string' ? parseHexNumber(r.canId.trim()) : typeof r.canId === 'number' ? r.canId : NaN;
+    const canId = typeof r.canId === 'string' ? parseId(r.canId) : typeof r.canId === 'number' ? r.canId : NaN;
     if (r.canId === undefined || r.canId === null || r.canId === '') return 'canId is missing: the 29-bit identifier as hex, e.g. "18FEEE00"';
     if (Number.isNaN(canId)) return 'canId is not hex (up to 8 digits, e.g. "18FEEE00" or "0x18FEEE00")';
     return this.collector.j1939(vehicleId, tsMs, canId, this.bytes, n);
