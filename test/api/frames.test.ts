@@ -1,4 +1,5 @@
 import { gzipSync } from 'node:zlib';
+import fc from 'fast-check';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { useTestApp } from '../helpers/test-app.js';
 
@@ -108,6 +109,19 @@ describe('POST /v1/frames/j1939', () => {
     expect(body.rejected[1].reason).toMatch(/PGN 65262 is sent as 8 data bytes, got 1/);
     const metrics = (await t.app.inject({ method: 'GET', url: '/metrics' })).body;
     expect(metrics).toMatch(/thermocline_bus_frames_total\{protocol="j1939",result="unknown-pgn"\} [1-9]/);
+  });
+
+  it('answers 200 with per-row reasons, never a 500, for rows of random identifiers and data', async () => {
+    const field = fc.oneof(fc.string({ maxLength: 40 }), fc.stringMatching(/^[0-9A-Fa-fx ]{0,24}$/), fc.integer(), fc.constant(null), fc.double());
+    const rows = fc.sample(fc.record({ vehicleId: fc.oneof(fc.constant('F-RND'), fc.string({ maxLength: 5 })), ts: fc.oneof(fc.constant(iso(0)), field), canId: field, data: field }), { seed: 18, numRuns: 400 });
+    for (const protocol of ['j1939', 'obd'] as const) {
+      const res = await post(protocol, JSON.stringify({ [protocol === 'j1939' ? 'frames' : 'responses']: rows }));
+      expect(res.statusCode, res.body).toBe(200);
+      const body = res.json();
+      expect(body.rejected.length + body.ignored + body.accepted + body.duplicates).toBeGreaterThan(0);
+    }
+    const ndjson = await post('j1939', '{"vehicleId":"F-RND"\n[1,2]\n"x"\n', 'application/x-ndjson');
+    expect(ndjson.json()).toMatchObject({ accepted: 0, rejected: [{ index: 0, reason: 'not valid JSON' }, { index: 1 }, { index: 2 }] });
   });
 
   it('refuses a body naming another fleet\'s vehicle with 403 and stores nothing', async () => {
