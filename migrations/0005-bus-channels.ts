@@ -8,7 +8,7 @@ import { sql, type Kysely } from 'kysely';
  * - `vehicles.sample_period_s`: the period bus frames are decimated to (default 10 s), a whole
  *   number of seconds.
  * - `bus_slots`: the frame ingest's alignment state, one row per vehicle and sample period
- *   ("slot") with the slot's earliest and latest sample of each channel as a float8 array
+ *   ("slot") with the slot's earliest and latest sample of each channel in a compact binary record (services/db/bus-slot-writes.ts: no number is formatted or parsed as text)
  *   (services/bus-decoding/vehicle-slots.ts gives its layout). The ingest merges into it under a
  *   per-vehicle lock, so frames of one vehicle may arrive in any requests in any order. Keyed by
  *   vehicle first (distributes by vehicle_id); the period is in the key so a changed period
@@ -26,7 +26,7 @@ export async function up(db: Kysely<any>): Promise<void> {
       vehicle_id  text NOT NULL,
       period_s    integer NOT NULL,
       slot_ms     double precision NOT NULL,
-      rec         double precision[] NOT NULL,
+      rec         bytea NOT NULL,
       updated_at  timestamptz NOT NULL DEFAULT now(),
       PRIMARY KEY (vehicle_id, period_s, slot_ms)
     )`.execute(db);

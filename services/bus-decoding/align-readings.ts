@@ -2,6 +2,9 @@ import { CH_AMBIENT, CH_BAROMETRIC, CH_COOLANT, CH_COOLANT_HIGH_RES, CH_COOLANT_
 import { EARLIEST_TS, EARLIEST_VALUE, LATEST_TS, LATEST_VALUE, type VehicleSlots } from './vehicle-slots.js';
 
 /** Readings derived from bus data, column-wise; absent channels NaN. */
+/** Module-local copy: read per reading and channel. */
+const STALE_MS = CHANNEL_STALE_MS;
+
 export interface DerivedReadings {
   length: number;
   tsMs: number[];
@@ -22,13 +25,13 @@ export function emptyDerivedReadings(): DerivedReadings {
  * The latest kept sample of `channel` at or before `t` and no older than its staleness, walking
  * back from slot index `k` of `slots` (ascending slot starts); NaN when there is none.
  */
-function lookBack(state: VehicleSlots, slots: readonly number[], k: number, channel: number, t: number): number {
-  const oldest = t - CHANNEL_STALE_MS[channel]!;
+function lookBack(periodMs: number, slots: readonly number[], recs: readonly Float64Array[], k: number, channel: number, t: number): number {
+  const oldest = t - STALE_MS[channel]!;
   const i = 4 * channel;
   for (let j = k; j >= 0; j--) {
     const start = slots[j]!;
-    if (start + state.periodMs <= oldest) return NaN;
-    const rec = state.records.get(start)!;
+    if (start + periodMs <= oldest) return NaN;
+    const rec = recs[j]!;
     let ts = rec[i + LATEST_TS]!;
     let value = rec[i + LATEST_VALUE]!;
     if (Number.isNaN(ts)) continue;
@@ -55,23 +58,25 @@ function lookBack(state: VehicleSlots, slots: readonly number[], k: number, chan
  * @example alignReadings(slots, 0, Infinity, emptyDerivedReadings()).length
  */
 export function alignReadings(state: VehicleSlots, fromMs: number, toMs: number, out: DerivedReadings, slots = state.sortedSlots()): DerivedReadings {
+  const recs = slots.map((s) => state.records.get(s)!);
+  const p = state.periodMs;
   for (let k = 0; k < slots.length; k++) {
     const start = slots[k]!;
     if (start < fromMs) continue;
     if (start > toMs) break;
-    const rec = state.records.get(start)!;
+    const rec = recs[k]!;
     const hr = !Number.isNaN(rec[4 * CH_COOLANT_HIGH_RES + EARLIEST_TS]!);
     const c = 4 * (hr ? CH_COOLANT_HIGH_RES : CH_COOLANT);
     const t = rec[c + EARLIEST_TS]!;
     if (Number.isNaN(t)) continue;
     out.tsMs.push(t);
     out.coolantC.push(rec[c + EARLIEST_VALUE]!);
-    out.ambientC.push(lookBack(state, slots, k, CH_AMBIENT, t));
-    out.speedKph.push(lookBack(state, slots, k, CH_SPEED, t));
-    out.rpm.push(lookBack(state, slots, k, CH_RPM, t));
-    out.barometricKpa.push(lookBack(state, slots, k, CH_BAROMETRIC, t));
-    out.coolantLevelPct.push(lookBack(state, slots, k, CH_COOLANT_LEVEL, t));
-    out.coolantPressureKpa.push(lookBack(state, slots, k, CH_COOLANT_PRESSURE, t));
+    out.ambientC.push(lookBack(p, slots, recs, k, CH_AMBIENT, t));
+    out.speedKph.push(lookBack(p, slots, recs, k, CH_SPEED, t));
+    out.rpm.push(lookBack(p, slots, recs, k, CH_RPM, t));
+    out.barometricKpa.push(lookBack(p, slots, recs, k, CH_BAROMETRIC, t));
+    out.coolantLevelPct.push(lookBack(p, slots, recs, k, CH_COOLANT_LEVEL, t));
+    out.coolantPressureKpa.push(lookBack(p, slots, recs, k, CH_COOLANT_PRESSURE, t));
     out.length++;
   }
   return out;

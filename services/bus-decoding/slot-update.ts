@@ -61,6 +61,8 @@ export function applyIncoming(stored: VehicleSlots, incoming: VehicleSlots): Slo
 export interface ReadingsDiff {
   /** Indexes into `after` of readings that are new or whose values changed. */
   upserts: number[];
+  /** Per reading of `after`: 1 when `before` had no reading at its time. */
+  isNew: Uint8Array;
   /** Timestamps of readings in `before` that `after` no longer has (the slot's coolant time moved earlier). */
   deletes: number[];
   /** Readings of `after` unchanged (a retried request's readings all are). */
@@ -81,11 +83,13 @@ export function diffReadings(before: DerivedReadings, after: DerivedReadings): R
   const old = new Map<number, number>();
   for (let i = 0; i < before.length; i++) old.set(before.tsMs[i]!, i);
   const upserts: number[] = [];
+  const isNew = new Uint8Array(after.length);
   let unchanged = 0;
   for (let i = 0; i < after.length; i++) {
     const t = after.tsMs[i]!;
     const j = old.get(t);
-    if (j !== undefined) {
+    if (j === undefined) isNew[i] = 1;
+    else {
       old.delete(t);
       if (VALUE_COLUMNS.every((c) => same(before[c][j]!, after[c][i]!))) {
         unchanged++;
@@ -94,5 +98,5 @@ export function diffReadings(before: DerivedReadings, after: DerivedReadings): R
     }
     upserts.push(i);
   }
-  return { upserts, deletes: [...old.keys()], unchanged };
+  return { upserts, isNew, deletes: [...old.keys()], unchanged };
 }

@@ -1,12 +1,13 @@
 import { sql } from 'kysely';
-import type { DerivedReadings } from '../bus-decoding/align-readings.js';
 import { DEFAULT_SAMPLE_PERIOD_S } from '../bus-decoding/bus-channels.js';
 import { applyIncoming, diffReadings, windowToLoad } from '../bus-decoding/slot-update.js';
-import { rollUp, SLOT_RECORD_LENGTH, VehicleSlots } from '../bus-decoding/vehicle-slots.js';
+import { rollUp, VehicleSlots } from '../bus-decoding/vehicle-slots.js';
+import { decodeSlotRecord, SlotWrites } from './bus-slot-writes.js';
 import type { DatabaseHandle } from './database.js';
 import { inTransaction, type IngestConnection } from './ingest-connection.js';
 import { monthIndexOf, type PartitionKeeper } from './partitions.js';
-import { ForeignVehiclesError, READINGS_INSERT_COLUMNS, type IngestAuditInput } from './readings-repository.js';
+import { encodeReadingsCopy } from './readings-copy.js';
+import { ForeignVehiclesError, READINGS_INSERT_COLUMNS, type IngestAuditInput, type ReadingChunk } from './readings-repository.js';
 import { withTransientRetry } from './transient-conflict.js';
 
 export interface FrameIngestResult {
@@ -18,6 +19,7 @@ export interface FrameIngestResult {
 }
 
 const MS_PER_S = 1000;
+const UNIQUE_VIOLATION = '23505';
 
 /** A text literal of a float8/real array, NaN as NULL (`nullNaN`) or as NaN. */
 function floatLiteral(values: ArrayLike<number>, nullNaN: boolean): string {
@@ -32,33 +34,6 @@ function floatLiteral(values: ArrayLike<number>, nullNaN: boolean): string {
 /** Vehicle ids are validated against VEHICLE_ID_PATTERN (no quotes, backslashes or commas). */
 function textLiteral(values: readonly string[]): string {
   return `{"${values.join('","')}"}`;
-}
-
-/** Rows to write, column-wise, over all vehicles of a request. */
-class Writes {
-  slotVehicles: string[] = [];
-  slotPeriods: number[] = [];
-  slotStarts: number[] = [];
-  slotRecs: string[] = [];
-  deleteVehicles: string[] = [];
-  deleteTs: number[] = [];
-  up = { vehicles: [] as string[], tsMs: [] as number[], cols: [[], [], [], [], [], [], []] as number[][] };
-  dirtyFrom = new Map<string, number>();
-  accepted = 0;
-  duplicates = 0;
-
-  dirty(vehicleId: string, tsMs: number): void {
-    const prev = this.dirtyFrom.get(vehicleId);
-    if (prev === undefined || tsMs < prev) this.dirtyFrom.set(vehicleId, tsMs);
-  }
-
-  upsert(vehicleId: string, r: DerivedReadings, i: number): void {
-    this.up.vehicles.push(vehicleId);
-    this.up.tsMs.push(r.tsMs[i]!);
-    const columns = [r.coolantC, r.ambientC, r.speedKph, r.rpm, r.barometricKpa, r.coolantLevelPct, r.coolantPressureKpa];
-    columns.forEach((c, k) => this.up.cols[k]!.push(c[i]!));
-    this.dirty(vehicleId, r.tsMs[i]!);
-  }
 }
 
 /**
@@ -85,25 +60,63 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
     const ids = [...incoming.keys()];
     const periods = ids.map((id) => incoming.get(id)!.periodMs / MS_PER_S);
     const windows = ids.map((id) => windowToLoad(incoming.get(id)!));
-    const rows = await conn.run(sql<{ vehicle_id: string; slot_ms: number; rec: number[] }>`
+    const rows = await conn.run(sql<{ vehicle_id: string; slot_ms: number; rec: Uint8Array }>`
       select s.vehicle_id, s.slot_ms, s.rec
       from unnest(${textLiteral(ids)}::text[], ${`{${periods.join(',')}}`}::int[], ${floatLiteral(windows.map((w) => w.fromMs), false)}::float8[],
                   ${floatLiteral(windows.map((w) => w.toMs), false)}::float8[]) as w(v, p, f, t)
       join bus_slots s on s.vehicle_id = w.v and s.period_s = w.p and s.slot_ms >= w.f and s.slot_ms <= w.t`);
     const stored = new Map(ids.map((id) => [id, new VehicleSlots(incoming.get(id)!.periodMs)]));
-    for (const r of rows) {
-      if (r.rec.length !== SLOT_RECORD_LENGTH) throw new Error(`bus_slots row of ${r.vehicle_id} at ${r.slot_ms} has ${r.rec.length} values, expected ${SLOT_RECORD_LENGTH}`);
-      stored.get(r.vehicle_id)!.records.set(r.slot_ms, Float64Array.from(r.rec));
-    }
+    for (const r of rows) decodeSlotRecord(r.rec, stored.get(r.vehicle_id)!.record(r.slot_ms));
     return stored;
   }
 
-  async function write(conn: IngestConnection, w: Writes): Promise<void> {
-    if (w.slotVehicles.length > 0) {
+  /** The readings as rows for INSERT … SELECT (column order of READINGS_INSERT_COLUMNS). */
+  function readingRows(c: ReadingChunk) {
+    const lit = (v: Float64Array | undefined) => floatLiteral(v ?? new Float64Array(c.length).fill(NaN), true);
+    return sql`
+      select v, to_timestamp(t / 1000.0), c, a, s, r, b, l, p
+      from unnest(${textLiteral(c.vehicleIds)}::text[], ${floatLiteral(c.tsMs, false)}::float8[], ${lit(c.coolantC)}::real[], ${lit(c.ambientC)}::real[],
+                  ${lit(c.speedKph)}::real[], ${lit(c.rpm)}::real[], ${lit(c.barometricKpa)}::real[], ${lit(c.coolantLevelPct)}::real[],
+                  ${lit(c.coolantPressureKpa)}::real[]) as u(v, t, c, a, s, r, b, l, p)`;
+  }
+
+  function upsertReadings(conn: IngestConnection, c: ReadingChunk): Promise<unknown> {
+    return conn.run(sql`
+      insert into readings ${READINGS_INSERT_COLUMNS} ${readingRows(c)}
+      on conflict (vehicle_id, ts) do update set
+        coolant_c = excluded.coolant_c, ambient_c = excluded.ambient_c, speed_kph = excluded.speed_kph, rpm = excluded.rpm,
+        barometric_kpa = excluded.barometric_kpa, coolant_level_pct = excluded.coolant_level_pct, coolant_pressure_kpa = excluded.coolant_pressure_kpa`);
+  }
+
+  /**
+   * Readings at new times go by the readings' binary COPY where there is one (a server): they are
+   * new rows unless /v1/readings stored a reading at the same time, in which case the COPY fails
+   * with 23505 and they are upserted instead, inside a savepoint.
+   */
+  async function insertFresh(conn: IngestConnection, c: ReadingChunk): Promise<void> {
+    if (!conn.copyIn) {
+      await upsertReadings(conn, c);
+      return;
+    }
+    await conn.run(sql`savepoint bus_fresh`);
+    try {
+      await conn.copyIn(encodeReadingsCopy(c));
+      await conn.run(sql`release savepoint bus_fresh`);
+    } catch (err) {
+      if ((err as { code?: unknown }).code !== UNIQUE_VIOLATION) throw err;
+      await conn.run(sql`rollback to savepoint bus_fresh`);
+      await upsertReadings(conn, c);
+    }
+  }
+
+  async function write(conn: IngestConnection, w: SlotWrites): Promise<void> {
+    const n = w.slotVehicles.length;
+    if (n > 0) {
       await conn.run(sql`
         insert into bus_slots (vehicle_id, period_s, slot_ms, rec)
-        select v, p, s, r::float8[] from unnest(${textLiteral(w.slotVehicles)}::text[], ${`{${w.slotPeriods.join(',')}}`}::int[],
-                                               ${floatLiteral(w.slotStarts, false)}::float8[], ${w.slotRecs}::text[]) as u(v, p, s, r)
+        select v, p, s, r
+        from unnest(${textLiteral(w.slotVehicles)}::text[], ${`{${w.slotPeriods.join(',')}}`}::int[], ${floatLiteral(w.slotStarts, false)}::float8[],
+                    ${w.slotRecordsLiteral()}::bytea[]) as u(v, p, s, r)
         on conflict (vehicle_id, period_s, slot_ms) do update set rec = excluded.rec, updated_at = now()`);
     }
     if (w.deleteVehicles.length > 0) {
@@ -111,23 +124,17 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
         delete from readings r using unnest(${textLiteral(w.deleteVehicles)}::text[], ${floatLiteral(w.deleteTs, false)}::float8[]) as d(v, t)
         where r.vehicle_id = d.v and r.ts = to_timestamp(d.t / 1000.0)`);
     }
-    if (w.up.vehicles.length > 0) {
-      const months = new Set(w.up.tsMs.map(monthIndexOf));
-      await partitions.ensure(conn.partitionTarget, months);
-      const [c, a, s, r, b, l, p] = w.up.cols.map((col) => floatLiteral(col, true));
-      await conn.run(sql`
-        insert into readings ${READINGS_INSERT_COLUMNS}
-        select v, to_timestamp(t / 1000.0), c, a, s, r, b, l, p
-        from unnest(${textLiteral(w.up.vehicles)}::text[], ${floatLiteral(w.up.tsMs, false)}::float8[], ${c}::real[], ${a}::real[], ${s}::real[],
-                    ${r}::real[], ${b}::real[], ${l}::real[], ${p}::real[]) as u(v, t, c, a, s, r, b, l, p)
-        on conflict (vehicle_id, ts) do update set
-          coolant_c = excluded.coolant_c, ambient_c = excluded.ambient_c, speed_kph = excluded.speed_kph, rpm = excluded.rpm,
-          barometric_kpa = excluded.barometric_kpa, coolant_level_pct = excluded.coolant_level_pct, coolant_pressure_kpa = excluded.coolant_pressure_kpa`);
-    }
+    const fresh = w.fresh.length > 0 ? w.fresh.chunk() : undefined;
+    const changed = w.changed.length > 0 ? w.changed.chunk() : undefined;
+    const months = new Set<number>();
+    for (const c of [fresh, changed]) if (c) for (let i = 0; i < c.length; i++) months.add(monthIndexOf(c.tsMs[i]!));
+    if (months.size > 0) await partitions.ensure(conn.partitionTarget, months);
+    if (changed) await upsertReadings(conn, changed);
+    if (fresh) await insertFresh(conn, fresh);
   }
 
   /** Registers unknown vehicles, marks changed ones for analysis, writes the audit row; refuses another fleet's vehicle registered meanwhile. */
-  async function finish(conn: IngestConnection, fleetId: string, ids: string[], w: Writes, audit: IngestAuditInput, started: number): Promise<void> {
+  async function finish(conn: IngestConnection, fleetId: string, ids: string[], w: SlotWrites, audit: IngestAuditInput, started: number): Promise<void> {
     const queued = [...w.dirtyFrom.keys()].sort();
     const firsts = queued.map((id) => w.dirtyFrom.get(id)!);
     await conn.run(sql`
@@ -149,7 +156,7 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
   async function ingestOnce(fleetId: string, pre: ReadonlyMap<string, VehicleSlots>, audit: IngestAuditInput, started: number): Promise<FrameIngestResult> {
     const ids = [...pre.keys()].sort();
     return inTransaction(handle, async (conn) => {
-      const w = new Writes();
+      const w = new SlotWrites();
       if (ids.length > 0) {
         const periods = await lockVehicles(conn, fleetId, ids);
         const incoming = new Map(ids.map((id) => [id, rollUp(pre.get(id)!, periods.get(id) ?? DEFAULT_SAMPLE_PERIOD_S * MS_PER_S)]));
@@ -157,19 +164,14 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
         for (const id of ids) {
           const mine = stored.get(id)!;
           const u = applyIncoming(mine, incoming.get(id)!);
-          for (const s of u.changedSlots) {
-            w.slotVehicles.push(id);
-            w.slotPeriods.push(mine.periodMs / MS_PER_S);
-            w.slotStarts.push(s);
-            w.slotRecs.push(floatLiteral(mine.records.get(s)!, false));
-          }
+          for (const s of u.changedSlots) w.slot(id, mine.periodMs / MS_PER_S, s, mine.records.get(s)!);
           const d = diffReadings(u.before, u.after);
           for (const t of d.deletes) {
             w.deleteVehicles.push(id);
             w.deleteTs.push(t);
             w.dirty(id, t);
           }
-          for (const i of d.upserts) w.upsert(id, u.after, i);
+          for (const i of d.upserts) w.reading(id, u.after, i, d.isNew[i] === 1);
           w.accepted += d.upserts.length;
           w.duplicates += d.unchanged;
         }

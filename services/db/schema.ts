@@ -40,7 +40,7 @@ export interface BusSlotsTable {
   vehicle_id: string;
   period_s: number;
   slot_ms: number;
-  rec: number[];
+  rec: Uint8Array;
   updated_at: Generated<Date>;
 }
 
