@@ -129,6 +129,7 @@ describe('POST /v1/frames/j1939', () => {
     const res = await post('j1939', JSON.stringify({ frames: [et1('F-9', 10_000, 124), et1('G-1', 0, 100)] }), 'application/json', {}, otherKey);
     expect(res.statusCode).toBe(403);
     expect(await t.countReadings(['F-9', 'G-1'])).toBe(1);
+    expect((await t.app.inject({ method: 'GET', url: '/metrics' })).body).toMatch(/thermocline_ingest_failures_total\{status="403"\} [1-9]/);
   });
 
   it('answers a body without a frames array with 400', async () => {

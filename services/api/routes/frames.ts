@@ -61,6 +61,10 @@ const framesRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReading
   const fleets = createFleetsRepository(app.database.db);
   const framesTotal = new Counter('thermocline_bus_frames_total', 'Rows of POST /v1/frames/j1939 and /v1/frames/obd, by protocol and result (decoded, unknown-pgn, not-available, rejected); OBD-II PIDs skipped: result="ignored-pid".');
   app.metrics.extra.push(framesTotal);
+  // Scoped to this plugin's routes: a frame request that stored nothing counts as an ingest failure, as /v1/readings does.
+  app.addHook('onResponse', async (_request, reply) => {
+    if (reply.statusCode >= 400) app.metrics.ingestFailures.inc({ status: String(reply.statusCode) });
+  });
 
   app.removeAllContentTypeParsers();
   app.addContentTypeParser(['application/json', 'application/x-ndjson', 'application/ndjson', 'application/jsonl', 'text/csv'], (_req, payload, done) => done(null, payload));
