@@ -11,7 +11,7 @@ export default defineConfig({
       {
         test: {
           name: 'pure',
-          include: ['test/analysis/**/*.test.ts', 'test/reference/**/*.test.ts', 'test/simulator/**/*.test.ts', 'test/config.test.ts'],
+          include: ['test/analysis/**/*.test.ts', 'test/bus-decoding/**/*.test.ts', 'test/reference/**/*.test.ts', 'test/simulator/**/*.test.ts', 'test/config.test.ts'],
           testTimeout: 120_000,
         },
       },

@@ -2,6 +2,7 @@ import { measureSimulatorThroughput } from '../services/simulator/simulate-comma
 import { cpus, loadavg } from 'node:os';
 import { benchAnalysisE2e } from './analysis-e2e.js';
 import { benchAnalysisLibrary } from './analysis-library.js';
+import { benchFrames } from './frames.js';
 import { benchIngest } from './ingest.js';
 import { DEFAULT_SERVER_URL } from './bench-server.js';
 
@@ -27,6 +28,15 @@ if (want('ingest')) {
     `  load: ${r.load.gateways} gateways × ${r.load.seconds} s: ${fmt(r.load.requests)} requests, ${r.load.errors} errors, ${fmt(r.load.accepted)} accepted, ${fmt(r.load.stored)} in the database (${r.load.accepted === r.load.stored && r.load.errors === 0 ? 'equal, no errors' : 'MISMATCH'})`,
   );
   if (r.load.errors > 0 || r.load.accepted !== r.load.stored) process.exitCode = 1;
+}
+if (want('frames')) {
+  const r = await benchFrames(serverUrl);
+  lines.push(
+    `vehicle-bus frames (SAE J1939; decoding + alignment in this process, HTTP into ${serverUrl.replace(/\/\/[^@]*@/, '//')})`,
+    `  decode + align, one core: ${fmt(r.decode.frames)} frames of ${r.decode.vehicles} vehicles → ${fmt(r.decode.readings)} readings: ${fmt(r.decode.framesPerS).padStart(10)} frames/s warm (first pass ${fmt(r.decode.firstPassPerS)}/s)   ratio to the 1,000,000/s target ${(r.decode.framesPerS / 1_000_000).toFixed(2)}`,
+    `  HTTP NDJSON, 2 clients: ${fmt(r.http.readings)} readings to /v1/readings ${fmt(r.http.readingsPerS).padStart(10)} readings/s`,
+    `  HTTP NDJSON, 2 clients: the same as ${fmt(r.http.frames)} frames to /v1/frames/j1939 ${fmt(r.http.framesReadingsPerS).padStart(10)} readings/s (${fmt(r.http.framesPerS)} frames/s)   ratio to /v1/readings ${(r.http.framesReadingsPerS / r.http.readingsPerS).toFixed(2)}`,
+  );
 }
 if (want('simulator')) {
   process.stderr.write('[simulator] warming up, then 24 vehicles × 42 days to NDJSON on one core\n');

@@ -1,3 +1,4 @@
+import { attachBusStats, busDayStats } from './bus-day-stats.js';
 import type { AnalysisConfig } from './config.js';
 import { aggregateDays, type DayAggregate } from './day-aggregates.js';
 import { coolantBoilingPointC } from './physics/boiling-point.js';
@@ -83,6 +84,7 @@ export function analyseSamples(raw: AnalysisInput, profile: VehicleProfile, cfg:
     prevEndMs = input.ts[b - 1]!;
   }
   const days = aggregateDays(input, flags, runs, episodes, samplePeriodS, hotC, cfg);
+  attachBusStats(days, busDayStats(raw, flags, profile.thermostatOpenC));
   const sensorEvents = runs.filter((r) => !r.truncatedStart).flatMap((r) => sensorEventsOfRun(r, cfg));
   const openRun = runs.find((r) => r.open);
   return {

@@ -207,6 +207,22 @@ export interface AnalysisConfig {
   /** Freeze-risk when the minimum ambient comes within this of the freezing point, °C. */
   freezeMarginC: number;
 
+  // --- vehicle-bus channels (coolant level SPN 111, coolant pressure SPN 109) ---
+  /** Days of daily mean coolant level the loss trend looks at. */
+  coolantLevelWindowDays: number;
+  /** Days with a level the trend needs. */
+  coolantLevelMinDays: number;
+  /** A fall of the level's trend (Sen's slope × the days spanned) of at least this raises coolant-loss, % of full. */
+  coolantLevelDropPct: number;
+  /** A recent daily mean level below this makes it critical, % of full. */
+  coolantLevelCriticalPct: number;
+  /** A hot, sealed system builds pressure; a day whose hot samples never reach this points at the cap or a leak, kPa gauge. Common practice (caps hold 50–110 kPa). */
+  hotPressureMinKpa: number;
+  /** Hot samples with a pressure a day needs to count (at 10 s, 30 = 5 minutes). */
+  hotPressureMinSamples: number;
+  /** Such days within the window raise the finding. */
+  hotPressureMinDays: number;
+
   // --- risk (step 8) ---
   /** Recency half-life of a finding's weight in the risk score, days. */
   riskHalfLifeDays: number;
@@ -291,6 +307,14 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   boilMarginWarnC: 10,
   boilMarginCriticalC: 4,
   freezeMarginC: 3,
+
+  coolantLevelWindowDays: 21,
+  coolantLevelMinDays: 5,
+  coolantLevelDropPct: 4,
+  coolantLevelCriticalPct: 70,
+  hotPressureMinKpa: 20,
+  hotPressureMinSamples: 30,
+  hotPressureMinDays: 2,
 
   riskHalfLifeDays: 14,
 });

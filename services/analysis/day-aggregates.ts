@@ -1,3 +1,4 @@
+import type { BusDayStats } from './bus-day-stats.js';
 import type { AnalysisConfig } from './config.js';
 import type { HotEpisode, RunMetrics } from './run-metrics.js';
 import { FLAG_ENGINE_ON, FLAG_IMPLAUSIBLE, FLAG_MOVING, FLAG_OUT_OF_RANGE, FLAG_RATE, FLAG_WARM } from './sample-flags.js';
@@ -49,6 +50,8 @@ export interface DayAggregate {
   missingS: number;
   /** Share of running time missing (transport gaps within runs), 0..1. */
   missingFraction: number;
+  /** Vehicle-bus channels of the day (barometric pressure, coolant level and pressure), only where sent. */
+  bus?: BusDayStats;
 }
 
 const HIST_MIN_C = -40;

@@ -1,5 +1,6 @@
 import { type AnalysisConfig, DEFAULT_ANALYSIS_CONFIG } from './config.js';
 import type { DayAggregate } from './day-aggregates.js';
+import { coolantLossFindings } from './findings/coolant-loss.js';
 import { boilMarginFinding, freezeRiskFinding } from './findings/coolant-margins.js';
 import type { Finding, Severity } from './findings/finding.js';
 import { overheatingTrendFinding } from './findings/overheating-trend.js';
@@ -58,19 +59,27 @@ export function deriveFindings(history: VehicleHistory, profile: VehicleProfile,
   const engineRuns = (from: number) => runs.filter((r) => r.startMs >= from && r.startMs < compromisedFrom && !r.excludedForSensor);
   const engineDays = (from: number) => days.filter((d) => d.dayStartMs >= from && d.dayStartMs < compromisedFrom);
   const boilingPointC = coolantBoilingPointC(profile.capPressureKpa, profile.glycolPercent, cfg.atmosphericPressureKpa);
+  // Where the vehicle bus measured the atmospheric pressure (SPN 108 / PID 0x33), the day's lowest one.
+  const boilingOn = (d: DayAggregate) => {
+    const kpa = d.bus?.barometricMinKpa;
+    return kpa === null || kpa === undefined ? boilingPointC : coolantBoilingPointC(profile.capPressureKpa, profile.glycolPercent, kpa);
+  };
 
   const slow = start('slow-warmup');
   const over = start('overshoot');
   const trend = start('overheating-trend');
   const boil = start('boil-margin');
   const freeze = start('freeze-risk');
+  const loss = start('coolant-loss');
   const candidates = [
     slowWarmupFinding(engineRuns(slow), slow, peer, now, cfg),
     overshootFinding(engineRuns(over), over, peer, now, cfg),
     overheatingTrendFinding(engineDays(trend), trend, boilingPointC, now, cfg),
-    boilMarginFinding(engineDays(boil), boil, boilingPointC, now, cfg),
+    boilMarginFinding(engineDays(boil), boil, boilingOn, now, cfg),
     freezeRiskFinding(days.filter((d) => d.dayStartMs >= freeze), freeze, profile.glycolPercent, now, cfg),
   ];
   for (const f of candidates) if (f) findings.push(f);
+  // Level and pressure are other sensors than the coolant temperature: a temperature-sensor fault does not hide them.
+  findings.push(...coolantLossFindings(days.filter((d) => d.dayStartMs >= loss), loss, now, cfg));
   return findings.sort((a, b) => SEVERITY_RANK[a.severity] - SEVERITY_RANK[b.severity] || b.confidence - a.confidence);
 }

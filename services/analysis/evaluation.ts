@@ -50,7 +50,7 @@ export const EXPECTED_FINDINGS: Readonly<Record<string, readonly string[]>> = Ob
   'thermostat-sticking': ['overshoot'],
   'radiator-fouling': ['overheating-trend', 'boil-margin'],
   'fan-failure': ['overheating-trend', 'boil-margin'],
-  'coolant-loss': ['overheating-trend', 'boil-margin'],
+  'coolant-loss': ['overheating-trend', 'boil-margin', 'coolant-loss'],
   'sensor-stuck': ['sensor-fault'],
   'sensor-spikes': ['sensor-fault'],
   'sensor-dropouts': ['sensor-fault'],

@@ -10,7 +10,14 @@ export interface SampleArrays {
   speedKph: Float64Array;
   /** Engine speed, rpm; NaN where absent. */
   rpm: Float64Array;
+  /** Vehicle-bus channels (SAE J1939 SPN 108 / 111 / 109), NaN where absent; the worker always reads them, other callers may leave them out. */
+  barometricKpa?: Float64Array;
+  coolantLevelPct?: Float64Array;
+  coolantPressureKpa?: Float64Array;
 }
+
+/** Sample arrays with every channel present, as the worker reads them. */
+export type AllSampleArrays = Required<SampleArrays>;
 
 export const MS_PER_S = 1000;
 export const MS_PER_DAY = 86_400_000;

@@ -12,6 +12,7 @@ import metricsPlugin from './plugins/metrics.js';
 import openapiPlugin from './plugins/openapi.js';
 import analysisRunsRoutes from './routes/analysis-runs.js';
 import findingsRoutes from './routes/findings.js';
+import framesRoutes from './routes/frames.js';
 import fleetRoutes from './routes/fleet.js';
 import operationsRoutes from './routes/operations.js';
 import readingsRoutes from './routes/readings.js';
@@ -78,6 +79,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
 
   await app.register(operationsRoutes);
   await app.register(readingsRoutes, { maxBodyBytes: config.maxBodyBytes, maxReadingsPerRequest: config.maxReadingsPerRequest, ingestMaxAgeDays: config.ingestMaxAgeDays });
+  await app.register(framesRoutes, { maxBodyBytes: config.maxBodyBytes, maxReadingsPerRequest: config.maxReadingsPerRequest, ingestMaxAgeDays: config.ingestMaxAgeDays });
   await app.register(vehiclesRoutes);
   await app.register(fleetRoutes);
   await app.register(findingsRoutes);

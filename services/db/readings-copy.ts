@@ -6,12 +6,12 @@ export const HEADER_BYTES = 19;
 /** timestamptz travels as int64 microseconds since 2000-01-01T00:00:00Z, here as two 32-bit halves. */
 export const PG_EPOCH_MS = 946_684_800_000;
 export const TWO_POW_32 = 4_294_967_296;
-const COLUMNS = 6;
-/** Per row: field count, then each field's length; ts is 8 bytes, the four channels 4 bytes each (float4). */
-const FIXED_ROW_BYTES = 2 + 4 + (4 + 8) + 4 * (4 + 4);
+const COLUMNS = 9;
+/** Per row: field count, then each field's length; ts is 8 bytes, the seven channels 4 bytes each (float4). */
+const FIXED_ROW_BYTES = 2 + 4 + (4 + 8) + 7 * (4 + 4);
 
 /** The column list the encoded data is for: `COPY readings ${READINGS_COPY_COLUMNS} FROM STDIN (FORMAT binary)`. */
-export const READINGS_COPY_COLUMNS = '(vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm)';
+export const READINGS_COPY_COLUMNS = '(vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa)';
 
 function writeFloat4OrNull(buf: Buffer, offset: number, value: number): number {
   if (Number.isNaN(value)) {
@@ -58,6 +58,9 @@ export function encodeReadingsCopy(chunk: ReadingChunk): Buffer {
     o = writeFloat4OrNull(buf, o, chunk.ambientC[i]!);
     o = writeFloat4OrNull(buf, o, chunk.speedKph[i]!);
     o = writeFloat4OrNull(buf, o, chunk.rpm[i]!);
+    o = writeFloat4OrNull(buf, o, chunk.barometricKpa ? chunk.barometricKpa[i]! : NaN);
+    o = writeFloat4OrNull(buf, o, chunk.coolantLevelPct ? chunk.coolantLevelPct[i]! : NaN);
+    o = writeFloat4OrNull(buf, o, chunk.coolantPressureKpa ? chunk.coolantPressureKpa[i]! : NaN);
   }
   buf.writeInt16BE(-1, o);
   return buf.subarray(0, o + 2);

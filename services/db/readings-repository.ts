@@ -15,7 +15,14 @@ export interface ReadingChunk {
   ambientC: Float64Array;
   speedKph: Float64Array;
   rpm: Float64Array;
+  /** Channels the vehicle bus adds (migration 0005); absent = all NULL. */
+  barometricKpa?: Float64Array;
+  coolantLevelPct?: Float64Array;
+  coolantPressureKpa?: Float64Array;
 }
+
+/** The readings columns every insert names, in the order of `unnestRows` and the binary COPY. */
+export const READINGS_INSERT_COLUMNS = sql.raw('(vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa)');
 
 export interface IngestAuditInput {
   keyId: string;
@@ -61,7 +68,8 @@ export class ForeignVehiclesError extends Error {
 
 // Arrays go to Postgres as one text literal per column: building the literal ourselves is several
 // times faster than letting the driver serialise a JS array element by element.
-function floatArrayLiteral(values: Float64Array, length: number): string {
+function floatArrayLiteral(values: Float64Array | undefined, length: number): string {
+  if (!values) return `{${new Array<string>(length).fill('NULL').join(',')}}`;
   const parts = new Array<string>(length);
   for (let i = 0; i < length; i++) {
     const v = values[i]!;
@@ -123,10 +131,12 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
     const offsets = new Float64Array(n);
     for (let i = 0; i < n; i++) offsets[i] = chunk.tsMs[i]! - base;
     return sql`
-      select v, to_timestamp((${base}::float8 + t) / 1000.0), c, a, s, r
+      select v, to_timestamp((${base}::float8 + t) / 1000.0), c, a, s, r, b, l, p
       from unnest(${textArrayLiteral(chunk.vehicleIds, n)}::text[], ${floatArrayLiteral(offsets, n)}::float8[],
                   ${floatArrayLiteral(chunk.coolantC, n)}::real[], ${floatArrayLiteral(chunk.ambientC, n)}::real[],
-                  ${floatArrayLiteral(chunk.speedKph, n)}::real[], ${floatArrayLiteral(chunk.rpm, n)}::real[]) as u(v, t, c, a, s, r)`;
+                  ${floatArrayLiteral(chunk.speedKph, n)}::real[], ${floatArrayLiteral(chunk.rpm, n)}::real[],
+                  ${floatArrayLiteral(chunk.barometricKpa, n)}::real[], ${floatArrayLiteral(chunk.coolantLevelPct, n)}::real[],
+                  ${floatArrayLiteral(chunk.coolantPressureKpa, n)}::real[]) as u(v, t, c, a, s, r, b, l, p)`;
   }
 
   /**
@@ -137,7 +147,7 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
    */
   async function insertAll(conn: IngestConnection, chunk: ReadingChunk): Promise<Inserted> {
     if (conn.copyIn) await conn.copyIn(encodeReadingsCopy(chunk));
-    else await conn.run(sql`insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) ${unnestRows(chunk)}`);
+    else await conn.run(sql`insert into readings ${READINGS_INSERT_COLUMNS} ${unnestRows(chunk)}`);
     return insertedFromChunk(chunk);
   }
 
@@ -145,7 +155,7 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
   function insertNew(conn: IngestConnection, chunk: ReadingChunk): Promise<Inserted> {
     return conn.run(sql<Inserted[number]>`
       with ins as (
-        insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) ${unnestRows(chunk)}
+        insert into readings ${READINGS_INSERT_COLUMNS} ${unnestRows(chunk)}
         on conflict do nothing
         returning vehicle_id, ts
       )
@@ -222,7 +232,7 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
                  ${audit.rejected()}, ${tally.vehicles.size}, ${Date.now() - started}
           where (select ok from verdict)
         )${alsoInsert ? sql`, stored as (
-          insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) ${unnestRows(alsoInsert)}
+          insert into readings ${READINGS_INSERT_COLUMNS} ${unnestRows(alsoInsert)}
           where (select ok from verdict)
         )` : sql``}
         select (select array_agg(vehicle_id order by vehicle_id) from (select vehicle_id from foreign_vehicles order by vehicle_id limit 10) f) as foreign_ids,

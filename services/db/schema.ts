@@ -15,6 +15,8 @@ export interface VehiclesTable {
   thermostat_open_c: Generated<number>;
   cap_pressure_kpa: Generated<number>;
   glycol_percent: Generated<number>;
+  /** Period bus frames are decimated to, s (migration 0005). */
+  sample_period_s: Generated<number>;
   label: string | null;
   created_at: Generated<Date>;
   updated_at: Generated<Date>;
@@ -27,6 +29,19 @@ export interface ReadingsTable {
   ambient_c: number | null;
   speed_kph: number | null;
   rpm: number | null;
+  /** Migration 0005: channels the vehicle bus adds. */
+  barometric_kpa: number | null;
+  coolant_level_pct: number | null;
+  coolant_pressure_kpa: number | null;
+}
+
+/** The frame ingest's alignment state (migration 0005); `rec` is a VehicleSlots record. */
+export interface BusSlotsTable {
+  vehicle_id: string;
+  period_s: number;
+  slot_ms: number;
+  rec: Uint8Array;
+  updated_at: Generated<Date>;
 }
 
 export interface ApiKeysTable {
@@ -178,6 +193,7 @@ export interface Database {
   fleets: FleetsTable;
   vehicles: VehiclesTable;
   readings: ReadingsTable;
+  bus_slots: BusSlotsTable;
   api_keys: ApiKeysTable;
   ingest_audit: IngestAuditTable;
   analysis_queue: AnalysisQueueTable;

@@ -9,6 +9,7 @@ export interface VehicleProfile {
   thermostatOpenC: number;
   capPressureKpa: number;
   glycolPercent: number;
+  samplePeriodS: number;
   label: string | null;
   createdAt: string;
   updatedAt: string;
@@ -19,6 +20,7 @@ export interface VehicleProfilePatch {
   thermostatOpenC?: number;
   capPressureKpa?: number;
   glycolPercent?: number;
+  samplePeriodS?: number;
   label?: string | null;
 }
 
@@ -30,6 +32,7 @@ export function toVehicleProfile(row: Selectable<VehiclesTable>): VehicleProfile
     thermostatOpenC: row.thermostat_open_c,
     capPressureKpa: row.cap_pressure_kpa,
     glycolPercent: row.glycol_percent,
+    samplePeriodS: row.sample_period_s,
     label: row.label,
     createdAt: row.created_at.toISOString(),
     updatedAt: row.updated_at.toISOString(),
@@ -42,6 +45,7 @@ function patchValues(patch: VehicleProfilePatch) {
     ...(patch.thermostatOpenC !== undefined ? { thermostat_open_c: patch.thermostatOpenC } : {}),
     ...(patch.capPressureKpa !== undefined ? { cap_pressure_kpa: patch.capPressureKpa } : {}),
     ...(patch.glycolPercent !== undefined ? { glycol_percent: patch.glycolPercent } : {}),
+    ...(patch.samplePeriodS !== undefined ? { sample_period_s: patch.samplePeriodS } : {}),
     ...(patch.label !== undefined ? { label: patch.label } : {}),
   };
 }

@@ -6,6 +6,7 @@ export const KIND_LABELS: Readonly<Record<string, string>> = {
   'sensor-fault': 'coolant sensor fault',
   'boil-margin': 'close to boiling',
   'freeze-risk': 'freeze risk',
+  'coolant-loss': 'coolant loss',
 };
 
 export const kindLabel = (kind: string): string => KIND_LABELS[kind] ?? kind;

@@ -9,6 +9,7 @@ import { mkdir, mkdtemp, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseArgs } from 'node:util';
+import { busLines, type GatewayEncoding } from './bus-lines.js';
 import { planFleet, type Scenario } from './fleet-plan.js';
 import { groundTruth } from './ground-truth.js';
 import { NdjsonEncoder } from './ndjson-lines.js';
@@ -22,6 +23,8 @@ export interface SimulateRequest {
   startMs: number;
   samplePeriodS?: number;
   scenario?: Scenario;
+  /** What the gateway posts: readings (default), J1939 frames or OBD-II responses. */
+  as?: GatewayEncoding;
 }
 
 export interface SimulateResult {
@@ -35,6 +38,8 @@ const HELP = `usage: thermocline simulate --out DIR [options]
 
 Simulates a fleet's cooling systems and writes DIR/readings.ndjson (ingest format),
 DIR/vehicles.json (vehicle profiles) and DIR/truth.json (injected faults, ground truth).
+With --as j1939 or --as obd the telemetry is written as the vehicle bus carries it instead:
+DIR/frames.ndjson for POST /v1/frames/j1939 or DIR/responses.ndjson for POST /v1/frames/obd.
 
 options:
   --vehicles N         number of vehicles (default 36)
@@ -44,6 +49,7 @@ options:
   --start DATE         first day, YYYY-MM-DD, UTC (default 2026-10-05)
   --sample-period S    gateway sample period in seconds (default 10)
   --scenario NAME      demo | evaluation (default demo)
+  --as FORMAT          readings | j1939 | obd (default readings)
   --help               show this help
 `;
 
@@ -72,9 +78,11 @@ export async function writeSimulation(
   await mkdir(outDir, { recursive: true });
   await writeFile(join(outDir, 'vehicles.json'), `${JSON.stringify(fleet.map(profileOf), null, 2)}\n`);
   await writeFile(join(outDir, 'truth.json'), `${JSON.stringify(groundTruth(fleet), null, 2)}\n`);
-  const out = createWriteStream(join(outDir, 'readings.ndjson'), { highWaterMark: STREAM_HIGH_WATER_BYTES });
+  const as = req.as ?? 'readings';
+  const fileName = as === 'j1939' ? 'frames.ndjson' : as === 'obd' ? 'responses.ndjson' : 'readings.ndjson';
+  const out = createWriteStream(join(outDir, fileName), { highWaterMark: STREAM_HIGH_WATER_BYTES });
   const failed = once(out, 'error').then(([err]: unknown[]) => {
-    throw new Error(`writing readings.ndjson failed`, { cause: err });
+    throw new Error(`writing ${fileName} failed`, { cause: err });
   });
   failed.catch(() => {}); // observed below; keeps an early error from being unhandled
   const t0 = performance.now();
@@ -84,7 +92,8 @@ export async function writeSimulation(
     const encoder = new NdjsonEncoder(v.vehicleId);
     for (const chunk of simulateVehicle(v, opts)) {
       readings += chunk.length;
-      if (!out.write(encoder.encode(chunk))) await Promise.race([once(out, 'drain'), failed]);
+      const data = as === 'readings' ? encoder.encode(chunk) : busLines(v.vehicleId, chunk, as);
+      if (!out.write(data)) await Promise.race([once(out, 'drain'), failed]);
     }
     const now = performance.now();
     if (now - lastProgress >= PROGRESS_EVERY_MS || i === fleet.length - 1) {
@@ -136,6 +145,7 @@ export async function run(argv: string[]): Promise<number> {
         start: { type: 'string' },
         'sample-period': { type: 'string' },
         scenario: { type: 'string' },
+        as: { type: 'string' },
         help: { type: 'boolean', short: 'h' },
       },
       strict: true,
@@ -155,7 +165,10 @@ export async function run(argv: string[]): Promise<number> {
     if (Number.isNaN(startMs)) throw new RangeError(`--start must be a date YYYY-MM-DD, got '${start}'`);
     const scenario = values.scenario ?? 'demo';
     if (scenario !== 'demo' && scenario !== 'evaluation') throw new RangeError(`--scenario must be demo or evaluation, got '${scenario}'`);
+    const as = values.as ?? 'readings';
+    if (as !== 'readings' && as !== 'j1939' && as !== 'obd') throw new RangeError(`--as must be readings, j1939 or obd, got '${as}'`);
     const req: SimulateRequest = {
+      as,
       vehicles: positiveNumber('vehicles', values.vehicles, 36, true),
       days: positiveNumber('days', values.days, 49, true),
       seed: positiveNumber('seed', values.seed, 1, true),

@@ -35,6 +35,12 @@ export interface SampleChunk {
   rpm: Float64Array;
   /** Extra (ground truth, not in the ingest format): true coolant temperature, °C. */
   coolantTrue: Float64Array;
+  /**
+   * Coolant level the engine reports, % of full in 0.4 % steps (SAE J1939 SPN 111): sent only
+   * on the vehicle bus (`simulate --as j1939`), not in readings.ndjson. Optional for chunks
+   * built by hand.
+   */
+  coolantLevelPct?: Float64Array;
 }
 
 export const DEFAULT_SAMPLE_PERIOD_S = 10;
@@ -54,6 +60,8 @@ const AMBIENT_HEAT_PICKUP_C = 2;
 const AMBIENT_RESOLUTION_C = 0.03125;
 /** Idle governor jitter, rpm (1 sd). */
 const RPM_JITTER_SD = 8;
+/** SPN 111 resolution, %/bit. */
+const COOLANT_LEVEL_RESOLUTION_PCT = 0.4;
 
 /**
  * Simulates one vehicle and streams its gateway samples in chunks; memory does not grow
@@ -140,6 +148,7 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
           buf.speedKph[n] = Math.round(speed * 3.6);
           buf.rpm[n] = Math.round(speed > 0 ? rpm : rpm + RPM_JITTER_SD * sensorRng.normal());
           buf.coolantTrue[n] = coolantC;
+          buf.coolantLevelPct![n] = Math.round((cs.coolantLevel * 100) / COOLANT_LEVEL_RESOLUTION_PCT) * COOLANT_LEVEL_RESOLUTION_PCT;
           if (++n === CHUNK_SAMPLES) {
             yield buf;
             buf = newChunk(CHUNK_SAMPLES);
@@ -176,6 +185,7 @@ function newChunk(size: number): SampleChunk {
     speedKph: new Float64Array(size),
     rpm: new Float64Array(size),
     coolantTrue: new Float64Array(size),
+    coolantLevelPct: new Float64Array(size),
   };
 }
 
@@ -188,5 +198,6 @@ function sliceChunk(c: SampleChunk, n: number): SampleChunk {
     speedKph: c.speedKph.subarray(0, n),
     rpm: c.rpm.subarray(0, n),
     coolantTrue: c.coolantTrue.subarray(0, n),
+    coolantLevelPct: c.coolantLevelPct!.subarray(0, n),
   };
 }

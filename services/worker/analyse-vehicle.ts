@@ -196,7 +196,10 @@ export class WindowAnalysis {
 /** A copy of the rows from `k` on (the caller's arrays may be views into buffers it reuses). */
 function sliceArrays(a: SampleArrays, k: number): SampleArrays {
   const out = {} as SampleArrays;
-  for (const c of COLUMN_NAMES) out[c] = a[c].slice(k);
+  for (const c of COLUMN_NAMES) {
+    const col = a[c];
+    if (col) out[c] = col.slice(k);
+  }
   return out;
 }
 

@@ -1,5 +1,5 @@
 import type pg from 'pg';
-import type { SampleArrays } from '../analysis/sample-arrays.js';
+import type { AllSampleArrays, SampleArrays } from '../analysis/sample-arrays.js';
 import { HEADER_BYTES, PG_EPOCH_MS, TWO_POW_32 } from '../db/readings-copy.js';
 import { COPY_DATA, copyOut, MESSAGE_HEADER_BYTES } from './copy-out.js';
 
@@ -69,13 +69,16 @@ function ascendingOrder(ts: Float64Array): Uint32Array {
   return order.sort((a, b) => ts[a]! - ts[b]! || a - b);
 }
 
-function permute(a: SampleArrays, order: Uint32Array): SampleArrays {
+function permute(a: AllSampleArrays, order: Uint32Array): AllSampleArrays {
   const pick = (col: Float64Array) => {
     const out = new Float64Array(order.length);
     for (let i = 0; i < order.length; i++) out[i] = col[order[i]!]!;
     return out;
   };
-  return { ts: pick(a.ts), coolant: pick(a.coolant), ambient: pick(a.ambient), speedKph: pick(a.speedKph), rpm: pick(a.rpm) };
+  return {
+    ts: pick(a.ts), coolant: pick(a.coolant), ambient: pick(a.ambient), speedKph: pick(a.speedKph), rpm: pick(a.rpm),
+    barometricKpa: pick(a.barometricKpa), coolantLevelPct: pick(a.coolantLevelPct), coolantPressureKpa: pick(a.coolantPressureKpa),
+  };
 }
 
 /**
@@ -90,7 +93,7 @@ function permute(a: SampleArrays, order: Uint32Array): SampleArrays {
  * values are inlined as quoted literals. With `buffers` (reused by the caller) the arrays are views
  * into them, valid until the next read with the same buffers.
  */
-export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowRequest[], buffers = new WindowBuffers()): Promise<SampleArrays[]> {
+export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowRequest[], buffers = new WindowBuffers()): Promise<AllSampleArrays[]> {
   if (windows.length === 0) return [];
   if (new Set(windows.map((w) => w.vehicleId)).size !== windows.length) throw new Error('readWindowsByCopy: one window per vehicle');
   const where = windows.map((w) =>
@@ -100,7 +103,7 @@ export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowR
   // scanning alone (a round of 20 vehicle-weeks: ~0.35 s against ~0.13 s, measured), and whose
   // Gather interleaves the rows, so every window needed the sort here. SET LOCAL lasts for the
   // implicit transaction of this one query string.
-  const text = `set local max_parallel_workers_per_gather = 0; copy (select vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm from readings where ${where.join(' or ')}) to stdout (format binary)`;
+  const text = `set local max_parallel_workers_per_gather = 0; copy (select vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa from readings where ${where.join(' or ')}) to stdout (format binary)`;
   const decoder = new WindowsDecoder(windows.map((w) => idBytes(Buffer.from(w.vehicleId, 'utf8'))), buffers, windows.map((w) => w.prefix));
   const client = await pool.connect();
   try {
@@ -116,9 +119,11 @@ export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowR
 const INITIAL_ROWS = 262_144;
 /** Room a window's columns start with (a worker's window is a vehicle's slice: ~20k rows a week). */
 const MIN_WINDOW_ROWS = 4096;
-const COLUMNS = 5;
-/** The SampleArrays columns in decode order. */
-export const COLUMN_NAMES = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm'] as const;
+const COLUMNS = 8;
+/** The SampleArrays columns in decode order (the last three: vehicle-bus channels, migration 0005). */
+export const COLUMN_NAMES = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm', 'barometricKpa', 'coolantLevelPct', 'coolantPressureKpa'] as const;
+/** Fields of a COPY tuple: the vehicle id and the columns. */
+const TUPLE_FIELDS = 1 + COLUMNS;
 
 /**
  * Memory that one reader (a worker's batch) reuses from read to read: one set of columns per
@@ -129,7 +134,7 @@ export const COLUMN_NAMES = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm'] as c
  * buffers are views into them, valid until the next read with the same buffers.
  */
 export class WindowBuffers {
-  /** Per window of a read, by position: ts, coolant, ambient, speedKph, rpm (empty until the first read by COPY). */
+  /** Per window of a read, by position: the COLUMN_NAMES columns (empty until the first read by COPY). */
   windows: Float64Array[][] = [];
   /** Most rows, prefixes included, that one read with these buffers has returned. */
   private peakRows = 0;
@@ -179,7 +184,7 @@ export class WindowBuffers {
 }
 
 /**
- * Decodes binary COPY messages of (vehicle_id text, ts timestamptz, four nullable reals) straight
+ * Decodes binary COPY messages of (vehicle_id text, ts timestamptz, seven nullable reals) straight
  * into each row's window's columns, after the window's prefix, and hands out one set of arrays per
  * window. PostgreSQL sends one CopyData message per tuple (the first with the file header in
  * front) and one for the trailer.
@@ -203,7 +208,13 @@ class WindowsDecoder {
       const prefix = prefixes[k];
       const n = prefix?.ts.length ?? 0;
       const cols = buffers.reserve(k, n, 0);
-      if (prefix) for (let c = 0; c < COLUMNS; c++) cols[c]!.set(prefix[COLUMN_NAMES[c]!]);
+      if (prefix) {
+        for (let c = 0; c < COLUMNS; c++) {
+          const col = prefix[COLUMN_NAMES[c]!];
+          if (col) cols[c]!.set(col);
+          else cols[c]!.fill(NaN, 0, n);
+        }
+      }
       this.sizes[k] = n;
     }
   }
@@ -239,7 +250,7 @@ class WindowsDecoder {
     while (p + MESSAGE_HEADER_BYTES <= end && bytes[p] === COPY_DATA) {
       const next = p + 1 + view.getInt32(p + 1);
       const q = p + MESSAGE_HEADER_BYTES;
-      if (next > end || view.getInt16(q) !== 6) break;
+      if (next > end || view.getInt16(q) !== TUPLE_FIELDS) break;
       const idLen = view.getInt32(q + 2);
       const i = sizes[k]!;
       if (i === capacity || !sameBytes(id, bytes, view, q + 6, idLen)) break;
@@ -260,7 +271,7 @@ class WindowsDecoder {
     }
     const fields = view.getInt16(q);
     if (fields < 0) return; // trailer
-    if (fields !== 6) throw new Error(`binary COPY: expected 6 fields, got ${fields}`);
+    if (fields !== TUPLE_FIELDS) throw new Error(`binary COPY: expected ${TUPLE_FIELDS} fields, got ${fields}`);
     const idLen = view.getInt32(q + 2);
     const k = this.windowOf(bytes, view, q + 6, idLen);
     this.last = k;
@@ -270,7 +281,7 @@ class WindowsDecoder {
     this.tuple(view, q + 6 + idLen, next, k, columns, i);
   }
 
-  /** The ts and the four reals of a tuple, from `q` (after its vehicle id) to its message's end, as row `i` of window `k`. */
+  /** The ts and the seven reals of a tuple, from `q` (after its vehicle id) to its message's end, as row `i` of window `k`. */
   private tuple(view: DataView, q: number, next: number, k: number, columns: Float64Array[], i: number): void {
     const micros = view.getInt32(q + 4) * TWO_POW_32 + view.getUint32(q + 8);
     const tsMs = Math.round(micros / 1000) + PG_EPOCH_MS;
@@ -307,10 +318,10 @@ class WindowsDecoder {
   }
 
   /** One set of arrays per window (views into the buffers), each ascending in time. */
-  split(): SampleArrays[] {
+  split(): AllSampleArrays[] {
     const out = Array.from(this.sizes, (n, k) => {
-      const [ts, coolant, ambient, speedKph, rpm] = this.buffers.windows[k]!.map((column) => column.subarray(0, n)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
-      const a: SampleArrays = { ts, coolant, ambient, speedKph, rpm };
+      const [ts, coolant, ambient, speedKph, rpm, barometricKpa, coolantLevelPct, coolantPressureKpa] = this.buffers.windows[k]!.map((column) => column.subarray(0, n)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
+      const a: AllSampleArrays = { ts, coolant, ambient, speedKph, rpm, barometricKpa, coolantLevelPct, coolantPressureKpa };
       return this.unordered[k] === 0 ? a : permute(a, ascendingOrder(a.ts));
     });
     this.buffers.trim(this.sizes);

@@ -1,5 +1,5 @@
 import { sql } from 'kysely';
-import type { SampleArrays } from '../analysis/sample-arrays.js';
+import type { AllSampleArrays, SampleArrays } from '../analysis/sample-arrays.js';
 import type { DatabaseHandle } from '../db/database.js';
 import { COLUMN_NAMES, readWindowsByCopy, type WindowBuffers, type WindowRequest } from './copy-binary-window.js';
 import { parseNumberList } from './number-list.js';
@@ -14,6 +14,9 @@ interface WindowText {
   ambient: string | null;
   speed: string | null;
   rpm: string | null;
+  baro: string | null;
+  level: string | null;
+  pressure: string | null;
 }
 
 /**
@@ -23,9 +26,9 @@ interface WindowText {
  * Postgres prints (see float4AsPrinted). With `buffers`, a server read returns views into them,
  * valid until the next read with the same buffers.
  */
-export async function readWindows(handle: DatabaseHandle, windows: readonly WindowRequest[], buffers?: WindowBuffers): Promise<SampleArrays[]> {
+export async function readWindows(handle: DatabaseHandle, windows: readonly WindowRequest[], buffers?: WindowBuffers): Promise<AllSampleArrays[]> {
   if (handle.pool) return readWindowsByCopy(handle.pool, windows, buffers);
-  const out: SampleArrays[] = [];
+  const out: AllSampleArrays[] = [];
   for (const w of windows) {
     const read = await readWindowAsText(handle, w.vehicleId, w.fromMs, w.toMs);
     out.push(w.prefix ? concatArrays(w.prefix, read) : read);
@@ -33,13 +36,17 @@ export async function readWindows(handle: DatabaseHandle, windows: readonly Wind
   return out;
 }
 
-/** The rows of `a`, then those of `b`. */
-function concatArrays(a: SampleArrays, b: SampleArrays): SampleArrays {
-  const out = {} as SampleArrays;
+/** The rows of `a` (a channel it lacks: NaN), then those of `b`. */
+function concatArrays(a: SampleArrays, b: AllSampleArrays): AllSampleArrays {
+  const out = {} as AllSampleArrays;
+  const n = a.ts.length;
   for (const c of COLUMN_NAMES) {
-    out[c] = new Float64Array(a[c].length + b[c].length);
-    out[c].set(a[c]);
-    out[c].set(b[c], a[c].length);
+    const col = new Float64Array(n + b[c].length);
+    const head = a[c];
+    if (head) col.set(head);
+    else col.fill(NaN, 0, n);
+    col.set(b[c], n);
+    out[c] = col;
   }
   return out;
 }
@@ -51,26 +58,31 @@ function concatArrays(a: SampleArrays, b: SampleArrays): SampleArrays {
  * Float64Array. The same query runs on pg and PGlite. Timestamps travel as epoch seconds
  * (`date_part`, a float8; `extract` would compute a slower numeric) and are rounded to ms.
  */
-export async function readWindowAsText(handle: DatabaseHandle, vehicleId: string, fromMs: number, toMs: number): Promise<SampleArrays> {
+export async function readWindowAsText(handle: DatabaseHandle, vehicleId: string, fromMs: number, toMs: number): Promise<AllSampleArrays> {
   const r = await sql<WindowText>`
     select count(*)::int as n,
            string_agg(date_part('epoch', ts)::text, ',') as ts,
            string_agg(coolant_c::text, ',') as coolant,
            string_agg(coalesce(ambient_c::text, ''), ',') as ambient,
            string_agg(coalesce(speed_kph::text, ''), ',') as speed,
-           string_agg(coalesce(rpm::text, ''), ',') as rpm
+           string_agg(coalesce(rpm::text, ''), ',') as rpm,
+           string_agg(coalesce(barometric_kpa::text, ''), ',') as baro,
+           string_agg(coalesce(coolant_level_pct::text, ''), ',') as level,
+           string_agg(coalesce(coolant_pressure_kpa::text, ''), ',') as pressure
     from (
-      select ts, coolant_c, ambient_c, speed_kph, rpm from readings
+      select ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa from readings
       where vehicle_id = ${vehicleId} and ts >= to_timestamp(${fromMs}::float8 / 1000) and ts < to_timestamp(${toMs}::float8 / 1000)
       order by ts
     ) w`.execute(handle.db);
   const row = r.rows[0];
   const n = row?.n ?? 0;
-  const out: SampleArrays = {
+  const out: AllSampleArrays = {
     ts: new Float64Array(n), coolant: new Float64Array(n), ambient: new Float64Array(n), speedKph: new Float64Array(n), rpm: new Float64Array(n),
+    barometricKpa: new Float64Array(n), coolantLevelPct: new Float64Array(n), coolantPressureKpa: new Float64Array(n),
   };
   if (!row || n === 0) return out;
-  const columns: Array<[string | null, Float64Array]> = [[row.ts, out.ts], [row.coolant, out.coolant], [row.ambient, out.ambient], [row.speed, out.speedKph], [row.rpm, out.rpm]];
+  const columns: Array<[string | null, Float64Array]> = [[row.ts, out.ts], [row.coolant, out.coolant], [row.ambient, out.ambient], [row.speed, out.speedKph], [row.rpm, out.rpm],
+    [row.baro, out.barometricKpa], [row.level, out.coolantLevelPct], [row.pressure, out.coolantPressureKpa]];
   for (const [text, target] of columns) {
     // One NULL value aggregates to '', which parses as no value at all.
     if (n === 1 && !text) target[0] = NaN;

@@ -40,7 +40,7 @@ export function syntheticDrive(spec: DriveSpec): SampleArrays {
 
 /** Concatenates sample arrays (in time order). */
 export function concatSamples(parts: SampleArrays[]): SampleArrays {
-  const cat = (key: keyof SampleArrays) => {
+  const cat = (key: 'ts' | 'coolant' | 'ambient' | 'speedKph' | 'rpm') => {
     const out = new Float64Array(parts.reduce((n, p) => n + p[key].length, 0));
     let o = 0;
     for (const p of parts) { out.set(p[key], o); o += p[key].length; }

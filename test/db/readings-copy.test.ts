@@ -24,7 +24,7 @@ const channel = fc.oneof({ weight: 9, arbitrary: fc.double({ min: -273, max: 20_
 /** 2000-01-01 to 2040, whole milliseconds or with microseconds. */
 const tsMs = fc.oneof(fc.integer({ min: 946_684_800_000, max: 2_208_988_800_000 }), fc.integer({ min: 946_684_800_000_000, max: 2_208_988_800_000_000 }).map((us) => us / 1000));
 const vehicleId = fc.stringMatching(/^[A-Za-z0-9][A-Za-z0-9_.:-]{0,63}$/);
-const chunk = fc.array(fc.record({ v: vehicleId, t: tsMs, c: channel, a: channel, s: channel, r: channel }), { minLength: 1, maxLength: 40 }).map((rows): ReadingChunk => ({
+const chunk = fc.array(fc.record({ v: vehicleId, t: tsMs, c: channel, a: channel, s: channel, r: channel, b: channel, l: channel, p: channel }), { minLength: 1, maxLength: 40 }).map((rows): ReadingChunk => ({
   length: rows.length,
   vehicleIds: rows.map((x) => x.v),
   tsMs: Float64Array.from(rows, (x) => x.t),
@@ -32,6 +32,9 @@ const chunk = fc.array(fc.record({ v: vehicleId, t: tsMs, c: channel, a: channel
   ambientC: Float64Array.from(rows, (x) => x.a),
   speedKph: Float64Array.from(rows, (x) => x.s),
   rpm: Float64Array.from(rows, (x) => x.r),
+  barometricKpa: Float64Array.from(rows, (x) => x.b),
+  coolantLevelPct: Float64Array.from(rows, (x) => x.l),
+  coolantPressureKpa: Float64Array.from(rows, (x) => x.p),
 }));
 
 /** The ISO form with microseconds, which timestamptz's text input reads exactly. */
@@ -51,15 +54,15 @@ describe.skipIf(testDatabaseKind() !== 'postgres')('binary COPY of readings', ()
   it('binary COPY stores what an INSERT of the text form stores', async () => {
     const client = await tdb.handle.pool!.connect();
     try {
-      await client.query(`create temp table via_copy (vehicle_id text, ts timestamptz, coolant_c real, ambient_c real, speed_kph real, rpm real)`);
+      await client.query(`create temp table via_copy (vehicle_id text, ts timestamptz, coolant_c real, ambient_c real, speed_kph real, rpm real, barometric_kpa real, coolant_level_pct real, coolant_pressure_kpa real)`);
       await client.query(`create temp table via_text (like via_copy)`);
       await fc.assert(
         fc.asyncProperty(chunk, async (c) => {
           await client.query('truncate via_copy, via_text');
           await pipeline(Readable.from([encodeReadingsCopy(c)]), client.query(copyFrom(`copy via_copy ${READINGS_COPY_COLUMNS} from stdin (format binary)`)));
           await client.query(
-            `insert into via_text select * from unnest($1::text[], $2::timestamptz[], $3::real[], $4::real[], $5::real[], $6::real[])`,
-            [`{"${c.vehicleIds.join('","')}"}`, tsText(c.tsMs), text(c.coolantC), text(c.ambientC), text(c.speedKph), text(c.rpm)],
+            `insert into via_text select * from unnest($1::text[], $2::timestamptz[], $3::real[], $4::real[], $5::real[], $6::real[], $7::real[], $8::real[], $9::real[])`,
+            [`{"${c.vehicleIds.join('","')}"}`, tsText(c.tsMs), text(c.coolantC), text(c.ambientC), text(c.speedKph), text(c.rpm), text(c.barometricKpa!), text(c.coolantLevelPct!), text(c.coolantPressureKpa!)],
           );
           const diff = await client.query(`select count(*)::int as n from ((table via_copy except all table via_text) union all (table via_text except all table via_copy)) d`);
           const stored = await client.query(`select count(*)::int as n from via_copy`);

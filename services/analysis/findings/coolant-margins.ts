@@ -11,24 +11,31 @@ const FREEZE_WINDOW_DAYS = 30;
 
 /**
  * Boil margin: the recent daily peak is within `boilMarginWarnC` (critical:
- * `boilMarginCriticalC`) of the coolant's boiling point at cap pressure.
+ * `boilMarginCriticalC`) of the coolant's boiling point at cap pressure. `boilingPointC` may
+ * depend on the day: with the atmospheric pressure measured that day (SAE J1939 SPN 108, at
+ * altitude lower than the sea-level default) the coolant boils earlier.
  */
-export function boilMarginFinding(days: readonly DayAggregate[], baselineStart: number, boilingPointC: number, now: number, cfg: AnalysisConfig): Finding | null {
+export function boilMarginFinding(days: readonly DayAggregate[], baselineStart: number, boilingPointC: number | ((day: DayAggregate) => number), now: number, cfg: AnalysisConfig): Finding | null {
+  const boilingOn = typeof boilingPointC === 'number' ? () => boilingPointC : boilingPointC;
   const recent = days.filter((d) => d.peakCoolantC !== null && d.dayStartMs > now - MARGIN_WINDOW_DAYS * DAY_MS && d.dayStartMs <= now);
-  const thin = recent.filter((d) => boilingPointC - d.peakCoolantC! < cfg.boilMarginWarnC);
+  const thin = recent.filter((d) => boilingOn(d) - d.peakCoolantC! < cfg.boilMarginWarnC);
   if (thin.length === 0) return null;
-  const worst = thin.reduce((a, b) => (b.peakCoolantC! > a.peakCoolantC! ? b : a));
-  const margin = boilingPointC - worst.peakCoolantC!;
+  const worst = thin.reduce((a, b) => (boilingOn(b) - b.peakCoolantC! < boilingOn(a) - a.peakCoolantC! ? b : a));
+  const worstBoilingC = boilingOn(worst);
+  const margin = worstBoilingC - worst.peakCoolantC!;
   const severity: Severity = margin <= cfg.boilMarginCriticalC ? 'critical' : 'warning';
   return {
     key: findingKey('boil-margin', null, baselineStart), kind: 'boil-margin', subKind: null, severity,
     confidence: round(Math.min(1, 0.6 + 0.1 * thin.length), 3),
     firstSeen: thin[0]!.dayStartMs, lastSeen: thin[thin.length - 1]!.dayStartMs,
-    summary: boilMarginSummary(worst.dayStartMs, worst.peakCoolantC!, margin, boilingPointC),
+    summary: boilMarginSummary(worst.dayStartMs, worst.peakCoolantC!, margin, worstBoilingC),
     recommendedCheck: 'Check the pressure cap, coolant level and mixture, radiator and fan before the next heavy duty. ' + SAFETY_CAUTION,
     troubleCode: 'P0217',
-    metrics: { boilingPointC: round(boilingPointC, 1), minMarginC: round(margin, 1), daysThin: thin.length },
-    evidence: thin.map((d) => ({ at: d.dayStartMs, scope: 'day' as const, metric: 'peakCoolantC', value: round(d.peakCoolantC!), expected: round(boilingPointC), z: null })),
+    metrics: {
+      boilingPointC: round(worstBoilingC, 1), minMarginC: round(margin, 1), daysThin: thin.length,
+      ...(worst.bus?.barometricMinKpa != null ? { measuredAtmosphericKpa: round(worst.bus.barometricMinKpa, 1) } : {}),
+    },
+    evidence: thin.map((d) => ({ at: d.dayStartMs, scope: 'day' as const, metric: 'peakCoolantC', value: round(d.peakCoolantC!), expected: round(boilingOn(d)), z: null })),
   };
 }
 

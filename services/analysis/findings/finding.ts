@@ -1,6 +1,6 @@
 /** What the analysis tells a planner: the types shared by every finding detector. */
 
-export type FindingKind = 'slow-warmup' | 'overshoot' | 'overheating-trend' | 'sensor-fault' | 'boil-margin' | 'freeze-risk';
+export type FindingKind = 'slow-warmup' | 'overshoot' | 'overheating-trend' | 'sensor-fault' | 'boil-margin' | 'freeze-risk' | 'coolant-loss';
 export type Severity = 'advisory' | 'warning' | 'critical';
 
 /** One number behind a finding, tied to the run (by start) or day it came from. */

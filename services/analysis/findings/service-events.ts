@@ -14,7 +14,7 @@ const RESOLVES: Readonly<Record<ServiceEventKind, readonly FindingKind[]>> = {
   'thermostat-replaced': ['slow-warmup', 'overshoot', 'overheating-trend'],
   'radiator-cleaned': ['overheating-trend', 'boil-margin'],
   'fan-repaired': ['overheating-trend', 'boil-margin'],
-  'coolant-refilled': ['overheating-trend', 'boil-margin', 'freeze-risk'],
+  'coolant-refilled': ['overheating-trend', 'boil-margin', 'freeze-risk', 'coolant-loss'],
   // A new sensor reads differently: every baseline learned from the old one starts again.
   'sensor-replaced': ['sensor-fault', 'slow-warmup', 'overshoot', 'overheating-trend', 'boil-margin'],
 };

@@ -162,10 +162,11 @@ function checkUnit(value: unknown, readingsBefore: number, onUnit: (unit: Temper
  * a repeated "readings" or "unit" key (JSON.parse keeps the last, the scanner sees each), or a
  * \u escape that could spell one.
  */
-function parseWholeBatch(text: string): { unitKey: 'before' | 'after' | 'none'; unit: unknown; readings: unknown[] } | undefined {
+function parseWholeBatch(text: string, arrayKey = 'readings'): { unitKey: 'before' | 'after' | 'none'; unit: unknown; readings: unknown[] } | undefined {
   if (text.includes('\\u')) return undefined;
-  const first = text.indexOf('"readings"');
-  if (first < 0 || text.indexOf('"readings"', first + 1) >= 0) return undefined;
+  const quotedKey = `"${arrayKey}"`;
+  const first = text.indexOf(quotedKey);
+  if (first < 0 || text.indexOf(quotedKey, first + 1) >= 0) return undefined;
   const unitAt = text.indexOf('"unit"');
   if (unitAt >= 0 && text.indexOf('"unit"', unitAt + 1) >= 0) return undefined;
   let parsed: unknown;
@@ -175,11 +176,12 @@ function parseWholeBatch(text: string): { unitKey: 'before' | 'after' | 'none'; 
     return undefined;
   }
   if (typeof parsed !== 'object' || parsed === null || Array.isArray(parsed)) return undefined;
-  const batch = parsed as { readings?: unknown; unit?: unknown };
-  if (!Array.isArray(batch.readings)) return undefined;
-  if (!('unit' in batch)) return { unitKey: 'none', unit: undefined, readings: batch.readings };
+  const batch = parsed as Record<string, unknown>;
+  const readings = batch[arrayKey];
+  if (!Array.isArray(readings)) return undefined;
+  if (!('unit' in batch)) return { unitKey: 'none', unit: undefined, readings };
   const keys = Object.keys(batch);
-  return { unitKey: keys.indexOf('unit') < keys.indexOf('readings') ? 'before' : 'after', unit: batch.unit, readings: batch.readings };
+  return { unitKey: keys.indexOf('unit') < keys.indexOf(arrayKey) ? 'before' : 'after', unit: batch.unit, readings };
 }
 
 /** Feeds text to the scanner and yields the readings it completes, handling "unit" as it comes. */
@@ -199,8 +201,8 @@ function* scannedRecords(scanner: JsonBatchScanner, text: string, counter: { rea
  * (fast), a large one is scanned as it streams in (bounded memory). `wholeMaxChars` 0 scans
  * every body (tests compare the two ways).
  */
-export async function* jsonRecords(chunks: AsyncIterable<string>, onUnit: (unit: TemperatureUnit) => void, wholeMaxChars = WHOLE_JSON_MAX_CHARS): AsyncGenerator<unknown[]> {
-  const scanner = new JsonBatchScanner();
+export async function* jsonRecords(chunks: AsyncIterable<string>, onUnit: (unit: TemperatureUnit) => void, wholeMaxChars = WHOLE_JSON_MAX_CHARS, arrayKey = 'readings'): AsyncGenerator<unknown[]> {
+  const scanner = new JsonBatchScanner(arrayKey);
   const counter = { readings: 0 };
   let held: string[] | undefined = [];
   let heldChars = 0;
@@ -216,7 +218,7 @@ export async function* jsonRecords(chunks: AsyncIterable<string>, onUnit: (unit:
   }
   if (held) {
     const text = held.join('');
-    const whole = parseWholeBatch(text);
+    const whole = parseWholeBatch(text, arrayKey);
     if (whole) {
       if (whole.unitKey !== 'none') checkUnit(whole.unit, whole.unitKey === 'after' ? whole.readings.length : 0, onUnit);
       if (whole.readings.length > 0) yield whole.readings;
@@ -225,10 +227,19 @@ export async function* jsonRecords(chunks: AsyncIterable<string>, onUnit: (unit:
     yield* scannedRecords(scanner, text, counter, onUnit);
   }
   scanner.end();
-  if (!scanner.sawReadings) throw new BadRequestError('the JSON object has no "readings" array', 'malformed_body');
+  if (!scanner.sawReadings) throw new BadRequestError(`the JSON object has no "${arrayKey}" array`, 'malformed_body');
 }
 
-const CSV_COLUMNS = ['vehicleId', 'ts', 'coolant', 'ambient', 'speedKph', 'rpm', 'unit'] as const;
+const CSV_COLUMNS = ['vehicleId', 'ts', 'coolant', 'ambient', 'speedKph', 'rpm', 'unit', 'barometricKpa', 'coolantLevelPct', 'coolantPressureKpa'] as const;
+
+/** What a body's records are called: the JSON array's key and the CSV columns (bus frames use others). */
+export interface RecordShape {
+  arrayKey: string;
+  csvColumns: readonly string[];
+  csvRequired: readonly string[];
+}
+
+export const READINGS_SHAPE: RecordShape = { arrayKey: 'readings', csvColumns: CSV_COLUMNS, csvRequired: ['vehicleId', 'ts', 'coolant'] };
 
 /** Splits one CSV line (RFC 4180 quoting; a quoted field may not span lines). */
 export function splitCsvLine(line: string): string[] | undefined {
@@ -276,6 +287,7 @@ export async function* bodyRecords(
   maxBytes: number,
   stats: BodyStats,
   onUnit: (unit: TemperatureUnit) => void,
+  shape: RecordShape = READINGS_SHAPE,
 ): AsyncGenerator<unknown[]> {
   const chunks = textChunks(raw, encoding, maxBytes, stats);
   let blankLines = 0;
@@ -283,7 +295,7 @@ export async function* bodyRecords(
     if (++blankLines > MAX_BLANK_LINES) throw new PayloadTooLargeError(`more than ${MAX_BLANK_LINES} blank lines in one body; nothing was stored`);
   };
   if (format === 'json') {
-    yield* jsonRecords(chunks, onUnit);
+    yield* jsonRecords(chunks, onUnit, WHOLE_JSON_MAX_CHARS, shape.arrayKey);
     return;
   }
 
@@ -315,9 +327,12 @@ export async function* bodyRecords(
       const fields = splitCsvLine(trimmed);
       if (!columns) {
         if (!fields) throw new BadRequestError('the CSV header row is malformed', 'malformed_body');
-        columns = fields.map((f) => CSV_COLUMNS.find((c) => c.toLowerCase() === f.trim().replace(/^\uFEFF/, '').toLowerCase()));
-        for (const required of ['vehicleId', 'ts', 'coolant']) {
-          if (!columns.includes(required)) throw new BadRequestError(`the CSV header must name the columns vehicleId, ts and coolant (optional: ambient, speedKph, rpm, unit); '${required}' is missing`, 'malformed_body');
+        columns = fields.map((f) => shape.csvColumns.find((c) => c.toLowerCase() === f.trim().replace(/^\uFEFF/, '').toLowerCase()));
+        for (const required of shape.csvRequired) {
+          if (!columns.includes(required)) {
+            const optional = shape.csvColumns.filter((c) => !shape.csvRequired.includes(c)).join(', ');
+            throw new BadRequestError(`the CSV header must name the columns ${shape.csvRequired.join(', ')} (optional: ${optional}); '${required}' is missing`, 'malformed_body');
+          }
         }
         continue;
       }
@@ -334,5 +349,5 @@ export async function* bodyRecords(
     }
     if (records.length > 0) yield records;
   }
-  if (!columns) throw new BadRequestError('the CSV body is empty: it needs a header row (vehicleId,ts,coolant,…)', 'malformed_body');
+  if (!columns) throw new BadRequestError(`the CSV body is empty: it needs a header row (${shape.csvRequired.join(',')},…)`, 'malformed_body');
 }

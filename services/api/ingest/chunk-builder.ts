@@ -19,6 +19,9 @@ export class ChunkBuilder {
       ambientC: new Float64Array(capacity),
       speedKph: new Float64Array(capacity),
       rpm: new Float64Array(capacity),
+      barometricKpa: new Float64Array(capacity),
+      coolantLevelPct: new Float64Array(capacity),
+      coolantPressureKpa: new Float64Array(capacity),
     };
   }
 
@@ -40,6 +43,9 @@ export class ChunkBuilder {
     c.ambientC[i] = r.ambientC;
     c.speedKph[i] = r.speedKph;
     c.rpm[i] = r.rpm;
+    c.barometricKpa![i] = r.barometricKpa;
+    c.coolantLevelPct![i] = r.coolantLevelPct;
+    c.coolantPressureKpa![i] = r.coolantPressureKpa;
   }
 
   /** Hands out the collected chunk and starts a new one. */
@@ -59,6 +65,9 @@ export class ChunkBuilder {
     next.ambientC.set(old.ambientC);
     next.speedKph.set(old.speedKph);
     next.rpm.set(old.rpm);
+    next.barometricKpa!.set(old.barometricKpa!);
+    next.coolantLevelPct!.set(old.coolantLevelPct!);
+    next.coolantPressureKpa!.set(old.coolantPressureKpa!);
     this.chunk = next;
   }
 }

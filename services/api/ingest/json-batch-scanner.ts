@@ -47,6 +47,9 @@ export class JsonBatchScanner {
   /** True once the `readings` field has been met. */
   sawReadings = false;
 
+  /** `arrayKey`: the field whose elements are handed out (`frames`, `responses` for bus data). */
+  constructor(private readonly arrayKey = 'readings') {}
+
   /** Feeds a chunk of text; returns the events completed by it. */
   push(chunk: string): JsonBatchEvent[] {
     const events: JsonBatchEvent[] = [];
@@ -57,7 +60,7 @@ export class JsonBatchScanner {
       switch (this.state) {
         case State.BeforeRoot:
           if (c === 0x7b /* { */) this.state = State.ExpectKeyOrEnd;
-          else if (!isSpace(c) && c !== 0xfeff) this.fail('the body must be a JSON object with a "readings" array');
+          else if (!isSpace(c) && c !== 0xfeff) this.fail(`the body must be a JSON object with a "${this.arrayKey}" array`);
           i++;
           break;
         case State.ExpectKeyOrEnd:
@@ -101,8 +104,8 @@ export class JsonBatchScanner {
         case State.ExpectValue:
           if (isSpace(c)) {
             i++;
-          } else if (this.key === 'readings') {
-            if (c !== 0x5b /* [ */) this.fail('"readings" must be an array');
+          } else if (this.key === this.arrayKey) {
+            if (c !== 0x5b /* [ */) this.fail(`"${this.arrayKey}" must be an array`);
             this.sawReadings = true;
             this.state = State.ArrayExpectElementOrEnd;
             i++;

@@ -17,6 +17,10 @@ export const AMBIENT_MIN_C = -90;
 export const AMBIENT_MAX_C = 90;
 export const SPEED_MAX_KPH = 251;
 export const RPM_MAX = 8032;
+/** SAE J1939-71 ranges of the bus channels (migration 0005): SPN 108 0–125 kPa, SPN 111 0–100 %, SPN 109 0–500 kPa. */
+export const BAROMETRIC_MAX_KPA = 125;
+export const COOLANT_LEVEL_MAX_PCT = 100;
+export const COOLANT_PRESSURE_MAX_KPA = 500;
 /** Readings stamped further ahead than this are rejected: the gateway's clock is wrong. */
 export const MAX_FUTURE_SKEW_MS = 5 * 60_000;
 /** Readings before 2000-01-01 are rejected: a gateway that lost its clock reports 1970. */
@@ -31,6 +35,12 @@ export interface ValidReading {
   ambientC: number;
   speedKph: number;
   rpm: number;
+  /** Atmospheric pressure, kPa absolute (SPN 108 / PID 0x33). */
+  barometricKpa: number;
+  /** Coolant level, % of full (SPN 111). */
+  coolantLevelPct: number;
+  /** Coolant pressure, kPa gauge (SPN 109). */
+  coolantPressureKpa: number;
 }
 
 // RFC 3339 date-time: a time zone (Z or ±hh:mm) is required, fractional seconds optional.
@@ -133,5 +143,20 @@ export function validateReading(raw: unknown, defaultUnit: TemperatureUnit, nowM
   if (typeof rpm === 'string') return `rpm is ${rpm}`;
   if (!Number.isNaN(rpm) && !(rpm >= 0 && rpm <= RPM_MAX)) return `rpm ${rpm} is outside 0 to ${RPM_MAX} (SAE J1939 SPN 190)`;
 
-  return { vehicleId, tsMs, coolantC: stored(coolantC), ambientC: stored(ambientC), speedKph: stored(speedKph), rpm: stored(rpm) };
+  const barometricKpa = optionalNumber(r.barometricKpa);
+  if (typeof barometricKpa === 'string') return `barometricKpa is ${barometricKpa}`;
+  if (!Number.isNaN(barometricKpa) && !(barometricKpa >= 0 && barometricKpa <= BAROMETRIC_MAX_KPA)) return `barometricKpa ${barometricKpa} is outside 0 to ${BAROMETRIC_MAX_KPA} (SAE J1939 SPN 108)`;
+
+  const coolantLevelPct = optionalNumber(r.coolantLevelPct);
+  if (typeof coolantLevelPct === 'string') return `coolantLevelPct is ${coolantLevelPct}`;
+  if (!Number.isNaN(coolantLevelPct) && !(coolantLevelPct >= 0 && coolantLevelPct <= COOLANT_LEVEL_MAX_PCT)) return `coolantLevelPct ${coolantLevelPct} is outside 0 to ${COOLANT_LEVEL_MAX_PCT} (SAE J1939 SPN 111)`;
+
+  const coolantPressureKpa = optionalNumber(r.coolantPressureKpa);
+  if (typeof coolantPressureKpa === 'string') return `coolantPressureKpa is ${coolantPressureKpa}`;
+  if (!Number.isNaN(coolantPressureKpa) && !(coolantPressureKpa >= 0 && coolantPressureKpa <= COOLANT_PRESSURE_MAX_KPA)) return `coolantPressureKpa ${coolantPressureKpa} is outside 0 to ${COOLANT_PRESSURE_MAX_KPA} (SAE J1939 SPN 109)`;
+
+  return {
+    vehicleId, tsMs, coolantC: stored(coolantC), ambientC: stored(ambientC), speedKph: stored(speedKph), rpm: stored(rpm),
+    barometricKpa: stored(barometricKpa), coolantLevelPct: stored(coolantLevelPct), coolantPressureKpa: stored(coolantPressureKpa),
+  };
 }

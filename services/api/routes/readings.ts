@@ -26,6 +26,9 @@ const Reading = Type.Object({
   ambient: Type.Optional(Type.Union([Type.Number(), Type.Null()], { description: 'ambient air temperature' })),
   speedKph: Type.Optional(Type.Union([Type.Number({ minimum: 0 }), Type.Null()])),
   rpm: Type.Optional(Type.Union([Type.Number({ minimum: 0 }), Type.Null()])),
+  barometricKpa: Type.Optional(Type.Union([Type.Number({ minimum: 0, maximum: 125 }), Type.Null()], { description: 'atmospheric pressure, kPa absolute (SAE J1939 SPN 108 / OBD-II PID 0x33)' })),
+  coolantLevelPct: Type.Optional(Type.Union([Type.Number({ minimum: 0, maximum: 100 }), Type.Null()], { description: 'coolant level, % of full (SAE J1939 SPN 111)' })),
+  coolantPressureKpa: Type.Optional(Type.Union([Type.Number({ minimum: 0, maximum: 500 }), Type.Null()], { description: 'coolant pressure, kPa gauge (SAE J1939 SPN 109)' })),
   unit: Type.Optional(Type.Union([Type.Literal('C'), Type.Literal('F'), Type.Literal('K')], { description: 'NDJSON only: unit of this line' })),
 });
 
@@ -63,7 +66,7 @@ const readingsRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadi
         tags: ['readings'],
         summary: 'Post coolant readings',
         description:
-          'Stores a batch of readings: a JSON object, NDJSON (one reading per line) or CSV with a header row (vehicleId,ts,coolant[,ambient,speedKph,rpm,unit]). ' +
+          'Stores a batch of readings: a JSON object, NDJSON (one reading per line) or CSV with a header row (vehicleId,ts,coolant[,ambient,speedKph,rpm,unit,barometricKpa,coolantLevelPct,coolantPressureKpa]). ' +
           'Send `Content-Encoding: gzip` to compress. Each invalid reading is rejected with its index and the rest are stored; a reading already stored (same vehicle and ts) ' +
           'counts as a duplicate. The reply comes after the commit. Unknown vehicles are registered to the key\'s fleet with default profiles.',
         security: SECURITY,

@@ -3,7 +3,7 @@ import { Type } from 'typebox';
 export const SeveritySchema = Type.Union([Type.Literal('advisory'), Type.Literal('warning'), Type.Literal('critical')], { description: 'advisory < warning < critical' });
 export const FindingStatusSchema = Type.Union([Type.Literal('open'), Type.Literal('acknowledged'), Type.Literal('resolved')]);
 export const FindingKindSchema = Type.Union(
-  ['slow-warmup', 'overshoot', 'overheating-trend', 'sensor-fault', 'boil-margin', 'freeze-risk'].map((k) => Type.Literal(k)),
+  ['slow-warmup', 'overshoot', 'overheating-trend', 'sensor-fault', 'boil-margin', 'freeze-risk', 'coolant-loss'].map((k) => Type.Literal(k)),
   { description: 'what the analysis found' },
 );
 

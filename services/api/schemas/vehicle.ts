@@ -5,6 +5,8 @@ export const THERMOSTAT_MIN_C = 60;
 export const THERMOSTAT_MAX_C = 110;
 export const CAP_MAX_KPA = 250;
 export const GLYCOL_MAX_PERCENT = 70;
+/** Bus frames are decimated to this period (whole seconds, migration 0005). */
+export const SAMPLE_PERIOD_MAX_S = 3600;
 
 export const VehicleProfilePatchBody = Type.Object(
   {
@@ -13,6 +15,7 @@ export const VehicleProfilePatchBody = Type.Object(
     capPressureKpa: Type.Optional(Type.Number({ minimum: 0, maximum: CAP_MAX_KPA, description: 'radiator/pressure cap rating, kPa gauge (default 100)' })),
     glycolPercent: Type.Optional(Type.Number({ minimum: 0, maximum: GLYCOL_MAX_PERCENT, description: 'ethylene glycol share of the coolant, % (default 50)' })),
     label: Type.Optional(Type.Union([Type.String({ maxLength: 200 }), Type.Null()], { description: 'free text, e.g. registration plate' })),
+    samplePeriodS: Type.Optional(Type.Integer({ minimum: 1, maximum: SAMPLE_PERIOD_MAX_S, description: 'period J1939 frames / OBD-II responses are decimated to, whole seconds (default 10); set it before the first frames' })),
   },
   { additionalProperties: false },
 );
@@ -24,6 +27,7 @@ export const Vehicle = Type.Object({
   thermostatOpenC: Type.Number(),
   capPressureKpa: Type.Number(),
   glycolPercent: Type.Number(),
+  samplePeriodS: Type.Integer({ description: 'period bus frames are decimated to, s' }),
   label: Type.Union([Type.String(), Type.Null()]),
   createdAt: Type.String({ format: 'date-time' }),
   updatedAt: Type.String({ format: 'date-time' }),
