@@ -69,7 +69,13 @@ export function processServiceFactory(databaseUrl: string | undefined): ServiceF
       stdio: ['ignore', 'pipe', 'pipe'],
     });
     const log: string[] = [];
-    const exited = new Promise<number | null>((resolve) => child.once('exit', (code) => resolve(code)));
+    let stopping = false;
+    let stoppedByUs = false;
+    const exited = new Promise<number | null>((resolve) => child.once('exit', (code, signal) => {
+      stoppedByUs = stopping;
+      if (!stopping) process.stderr.write(`service: exited unasked with code ${code} (signal ${signal}); last lines:\n${log.join('\n')}\n`);
+      resolve(code);
+    }));
     const baseUrl = await new Promise<string>((resolve, reject) => {
       const timer = setTimeout(() => reject(new Error(`the service did not start within ${START_TIMEOUT_MS} ms:\n${log.join('\n')}`)), START_TIMEOUT_MS);
       let pending = '';
@@ -78,6 +84,8 @@ export function processServiceFactory(databaseUrl: string | undefined): ServiceF
         const lines = pending.split('\n');
         pending = lines.pop() ?? '';
         for (const line of lines) {
+          // The service's warnings and errors go to stderr as they happen (pino levels 40 and up).
+          if (/"level":(4|5|6)0/.test(line) || !line.startsWith('{')) process.stderr.write(`service: ${line}\n`);
           log.push(line);
           if (log.length > KEPT_LOG_LINES) log.shift();
           const m = /Server listening at (http:\/\/[^"\s]+)/.exec(line);
@@ -98,9 +106,11 @@ export function processServiceFactory(databaseUrl: string | undefined): ServiceF
       baseUrl,
       ...keys,
       async stop() {
+        stopping = true;
         child.kill('SIGTERM');
         const code = await exited;
         await database.drop();
+        if (!stoppedByUs) throw new Error(`the service stopped before it was asked to (code ${code}): was it signalled from outside?\n${log.join('\n')}`);
         if (code !== 0) throw new Error(`the service exited with ${code}:\n${log.join('\n')}`);
       },
     };

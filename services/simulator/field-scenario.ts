@@ -14,7 +14,8 @@ import type { Climate } from './weather.js';
  */
 
 const CLIMATE_ORDER: readonly Climate[] = ['cold', 'temperate', 'hot'];
-const DUTY_ORDER: readonly Duty[] = ['urban-delivery', 'long-haul', 'bus', 'service-van'];
+/** Long haul first: the third healthy vehicle (hot, long haul) is already in the hot heavy-duty cohort. */
+const DUTY_ORDER: readonly Duty[] = ['long-haul', 'urban-delivery', 'bus', 'service-van'];
 /** Share of vehicles that are healthy. */
 const HEALTHY_SHARE = 0.5;
 /** Share of faults that grow gradually, and over how many days (3–21). */

@@ -72,7 +72,7 @@ export const ALL_VARIATION: Readonly<VariationSwitches> = Object.freeze({ soak: 
 
 /** Sample periods a gateway is configured with, s, and how common each is. */
 const SAMPLE_PERIODS_S = [1, 2, 5, 10, 15, 30, 60] as const;
-const SAMPLE_PERIOD_WEIGHTS = [0.02, 0.04, 0.14, 0.35, 0.2, 0.15, 0.1] as const;
+const SAMPLE_PERIOD_WEIGHTS = [0.02, 0.03, 0.15, 0.35, 0.2, 0.15, 0.1] as const;
 /** Share of vehicles registered with no profile, and with the wrong engine family. */
 const NO_PROFILE_SHARE = 0.1;
 const WRONG_FAMILY_SHARE = 0.08;
