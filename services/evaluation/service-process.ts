@@ -11,6 +11,8 @@ import { createFleetKeys, type EvaluationService, type ServiceFactory } from './
 const ENTRY = fileURLToPath(new URL('../../bin/thermocline.js', import.meta.url));
 /** How long the service may take to start listening, ms. */
 const START_TIMEOUT_MS = 120_000;
+/** Fleets are dated in 2025 (seed-ranges.ts): lift the ingest's age limit so they stay loadable. */
+const MAX_AGE_DAYS = 36_500;
 /** Lines of the service's log kept for an error message. */
 const KEPT_LOG_LINES = 20;
 
@@ -47,8 +49,9 @@ async function freshDatabase(databaseUrl: string | undefined): Promise<{ env: Re
 /**
  * Starts `thermocline serve` as `npm start` does, in a child process on a fresh database
  * (embedded PGlite in a temporary directory, or a new database on `databaseUrl`), and waits
- * until it listens. The rate limit is lifted (one client posts for a whole fleet) and the
- * weekly report schedule, which follows the wall clock and not the data, is off.
+ * until it listens. The rate limit and the ingest's age limit are lifted (one client posts for a
+ * whole fleet, dated in 2025) and the weekly report schedule, which follows the wall clock and
+ * not the data, is off.
  */
 export function processServiceFactory(databaseUrl: string | undefined): ServiceFactory {
   return async ({ fleetId, worker }) => {
@@ -64,7 +67,7 @@ export function processServiceFactory(databaseUrl: string | undefined): ServiceF
     const child = spawn(process.execPath, [ENTRY, 'serve'], {
       env: {
         ...process.env, ...database.env, PORT: '0', HOST: '127.0.0.1', LOG_LEVEL: 'info', IN_PROCESS_WORKER: String(worker),
-        RATE_LIMIT_PER_MINUTE: '10000000', REPORT_SCHEDULE: 'false',
+        RATE_LIMIT_PER_MINUTE: '10000000', REPORT_SCHEDULE: 'false', INGEST_MAX_AGE_DAYS: String(MAX_AGE_DAYS),
       },
       stdio: ['ignore', 'pipe', 'pipe'],
     });

@@ -69,15 +69,16 @@ export function planFieldFleet(opts: FieldFleetOptions): SimVehicle[] {
     const id = `${prefix}-${String(i + 1).padStart(3, '0')}`;
     const k = i - healthy;
     // Healthy vehicles: climates rotate fastest, duties more slowly, so every duty meets every
-    // climate. Faulty ones: each round through the fault kinds shifts the climate by one (and the
-    // seed shifts the start), so every kind meets every climate.
-    const round = Math.floor(k / FAULT_KINDS.length);
-    const shift = opts.seed % CLIMATE_ORDER.length;
-    const climate = CLIMATE_ORDER[(k < 0 ? i : k + round + shift) % CLIMATE_ORDER.length] as Climate;
-    const duty = DUTY_ORDER[Math.floor((k < 0 ? i : k + shift) / CLIMATE_ORDER.length) % DUTY_ORDER.length] as Duty;
+    // climate. Faulty ones take up the rotation where the previous seed's fleet of the same size
+    // left it (position g), so small fleets still cover every kind over consecutive seeds; each
+    // round through the kinds shifts the climate by one, so every kind meets every climate.
+    const g = opts.seed * Math.max(0, opts.vehicles - healthy) + k;
+    const round = Math.floor(g / FAULT_KINDS.length);
+    const climate = CLIMATE_ORDER[(k < 0 ? i : g + round) % CLIMATE_ORDER.length] as Climate;
+    const duty = DUTY_ORDER[Math.floor((k < 0 ? i : g) / CLIMATE_ORDER.length) % DUTY_ORDER.length] as Duty;
     const faults: FaultSpec[] = [];
     if (k >= 0) {
-      const kind = FAULT_KINDS[k % FAULT_KINDS.length] as FaultKind;
+      const kind = FAULT_KINDS[g % FAULT_KINDS.length] as FaultKind;
       const onsetMs = opts.startMs + Math.round(onsetDay(opts.days, rng) * 24) * (DAY_MS / 24);
       const severity = Math.round(rng.uniform(0.5, 1) * 100) / 100;
       const ramp = rng.uniform(RAMP_DAYS[0], RAMP_DAYS[1]);

@@ -12,7 +12,7 @@ import { createTestDatabase } from './test-database.js';
 export function testServiceFactory(): ServiceFactory {
   return async ({ fleetId, worker }) => {
     const tdb = await createTestDatabase();
-    const config = testConfig({ rateLimitPerMinute: 10_000_000 });
+    const config = testConfig({ rateLimitPerMinute: 10_000_000, ingestMaxAgeDays: 36_500 });
     const app = await buildApp({ config, database: tdb.handle });
     const baseUrl = await app.listen({ port: 0, host: '127.0.0.1' });
     const keys = await createFleetKeys(tdb.handle.db, fleetId);

@@ -41,6 +41,18 @@ describe('field scenario (randomised fleets)', () => {
     expect(faulty.some((v) => v.faults[0]!.rampDays === undefined)).toBe(true);
   });
 
+  it('covers every fault kind over eight consecutive seeds of small fleets', () => {
+    // Regression: with 5 faulty vehicles a fleet, every fleet once started at the first kind, so
+    // sensor faults never appeared in an 8-fleet run of 10 vehicles.
+    const kinds = [5000, 5001, 5002, 5003, 5004, 5005, 5006, 5007]
+      .flatMap((seed) => planFieldFleet({ startMs: START_MS, days: 28, seed, vehicles: 10 }))
+      .flatMap((v) => v.faults.map((f) => f.kind));
+    const counts = new Map<string, number>();
+    for (const k of kinds) counts.set(k, (counts.get(k) ?? 0) + 1);
+    expect(counts.size).toBe(9);
+    expect(Math.min(...counts.values())).toBeGreaterThanOrEqual(4);
+  });
+
   it('is deterministic for the seed and reports on the gateway\'s own clock and sample period', () => {
     const [v] = planFieldFleet({ startMs: START_MS, days: DAYS, seed: 11, vehicles: 3 });
     const a = firstChunk(v!, 11);
