@@ -14,7 +14,7 @@ could have seen, then posts the same data again and analyses it once. Prints bot
 on-board-monitor style baseline (two-trip thermostat monitor, over-temperature, sensor circuit).
 
 options:
-  --fleets N          fleets to run (default 3; the full run is --fleets 8)
+  --fleets N          fleets to run (default 2; the full run is --fleets 8)
   --vehicles N        vehicles per fleet (default 10)
   --days D            days per fleet (default 28)
   --seeds RANGE       reporting (held out, default) or tuning (${SEED_RANGES.tuning.first}–${SEED_RANGES.tuning.last})
@@ -36,7 +36,7 @@ export async function run(argv: string[]): Promise<number> {
   const { values } = parseArgs({
     args: argv,
     options: {
-      fleets: { type: 'string', default: '3' },
+      fleets: { type: 'string', default: '2' },
       vehicles: { type: 'string', default: '10' },
       days: { type: 'string', default: '28' },
       seeds: { type: 'string', default: 'reporting' },
