@@ -14,6 +14,7 @@ const COMMANDS: Record<string, { summary: string; load: () => Promise<CommandMod
   simulate: { summary: 'simulate a fleet and write readings.ndjson, vehicles.json, truth.json', load: () => import('./simulator/simulate-command.js') },
   demo: { summary: 'simulate a demo fleet, ingest it over HTTP, analyse it, report', load: () => import('./demo/demo-command.js') },
   report: { summary: 'build the weekly maintenance report', load: () => import('./report/report-command.js') },
+  evaluate: { summary: 'score detection on randomised fleets streamed through the API, beside a baseline', load: () => import('./evaluation/evaluate-command.js') },
 };
 
 function usage(): string {

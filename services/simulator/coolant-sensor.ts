@@ -1,4 +1,4 @@
-import type { FaultSpec } from './faults.js';
+import { faultRamp, type FaultSpec } from './faults.js';
 import type { Rng } from './prng.js';
 
 /**
@@ -36,8 +36,12 @@ export class CoolantSensor {
   private stuckValue = Number.NaN;
   private burstLeft = 0;
 
-  constructor(faults: readonly FaultSpec[], rng: Rng) {
+  private readonly resolutionC: number;
+
+  /** `resolutionC`: the channel's step, °C (1 for SPN 110, 0.03125 for the high-resolution SPN 1637). */
+  constructor(faults: readonly FaultSpec[], rng: Rng, resolutionC = 1) {
     this.rng = rng;
+    this.resolutionC = resolutionC;
     this.stuck = faults.find((f) => f.kind === 'sensor-stuck');
     this.spikes = faults.find((f) => f.kind === 'sensor-spikes');
     this.dropouts = faults.find((f) => f.kind === 'sensor-dropouts');
@@ -49,7 +53,7 @@ export class CoolantSensor {
   /** Call at every engine start. */
   startRun(tMs: number): void {
     const s = this.stuck;
-    this.stuckThisRun = s !== undefined && tMs >= s.onsetMs && this.rng.chance(0.3 + 0.7 * s.severity);
+    this.stuckThisRun = s !== undefined && tMs >= s.onsetMs && this.rng.chance((0.3 + 0.7 * s.severity) * faultRamp(s, tMs));
     this.stuckValue = Number.NaN;
   }
 
@@ -59,10 +63,10 @@ export class CoolantSensor {
     let v = trueC + SENSOR_NOISE_SD_C * rng.normal();
     const b = this.bias;
     if (b !== undefined && tMs >= b.onsetMs) {
-      v += this.biasSign * (4 + 10 * b.severity) * Math.min(1, (tMs - b.onsetMs) / BIAS_RAMP_MS);
+      v += this.biasSign * (4 + 10 * b.severity) * Math.min(1, (tMs - b.onsetMs) / Math.max(BIAS_RAMP_MS, (b.rampDays ?? 0) * 86_400_000));
     }
     const sp = this.spikes;
-    if (sp !== undefined && tMs >= sp.onsetMs && rng.chance(0.005 + 0.03 * sp.severity)) {
+    if (sp !== undefined && tMs >= sp.onsetMs && rng.chance((0.005 + 0.03 * sp.severity) * faultRamp(sp, tMs))) {
       const up = rng.chance(0.5);
       v = rng.chance(0.2) ? (up ? SPN110_MAX_C : SPN110_MIN_C) : v + (up ? 1 : -1) * rng.uniform(25, 80);
     }
@@ -72,14 +76,14 @@ export class CoolantSensor {
     }
     const d = this.dropouts;
     if (d !== undefined && tMs >= d.onsetMs) {
-      if (this.burstLeft === 0 && rng.chance(0.003 + 0.02 * d.severity)) this.burstLeft = rng.int(2, 12);
+      if (this.burstLeft === 0 && rng.chance((0.003 + 0.02 * d.severity) * faultRamp(d, tMs))) this.burstLeft = rng.int(2, 12);
       if (this.burstLeft > 0) {
         this.burstLeft--;
         if (rng.chance(0.6)) return Number.NaN;
         v = SPN110_MIN_C;
       }
     }
-    v = Math.round(v);
+    v = this.resolutionC === 1 ? Math.round(v) : Math.round(v / this.resolutionC) * this.resolutionC;
     return v < SPN110_MIN_C ? SPN110_MIN_C : v > SPN110_MAX_C ? SPN110_MAX_C : v;
   }
 }

@@ -56,6 +56,8 @@ export class DriveCycle {
   speedMps = 0;
   accelMps2 = 0;
   grade = 0;
+  /** Spread of road grades × the profile's (a hilly route on some days); 1 = usual. */
+  gradeScale = 1;
   /** True once the leg's driving time is over and the vehicle has stopped. */
   done = true;
   private elapsedS = 0;
@@ -175,7 +177,7 @@ export class DriveCycle {
 
   private newGrade(): void {
     const rng = this.rng;
-    const g = this.profile.roads[this.kind].gradeSd * rng.normal();
+    const g = this.profile.roads[this.kind].gradeSd * this.gradeScale * rng.normal();
     this.grade = g > MAX_GRADE ? MAX_GRADE : g < -MAX_GRADE ? -MAX_GRADE : g;
     this.gradeLeftM = rng.uniform(GRADE_STRETCH_M[0], GRADE_STRETCH_M[1]);
   }

@@ -15,6 +15,8 @@ export interface Leg {
   idleS: number;
   /** Driving time, s. */
   driveS: number;
+  /** Power-take-off load while idling, W (a crane, pump or tipper); absent = none. */
+  ptoW?: number;
 }
 export interface EngineRun {
   /** Engine start, s after local midnight. */

@@ -32,6 +32,8 @@ export interface FaultSpec {
   onsetMs: number;
   /** Severity, 0..1. */
   severity: number;
+  /** Days over which the fault grows to full size from onset (gradual onset); 0 or absent = abrupt. */
+  rampDays?: number;
 }
 
 /** Every fault kind, physical first. */
@@ -53,6 +55,13 @@ export function isSensorFault(kind: FaultKind): boolean {
 }
 
 const WEEK_MS = 7 * 86_400_000;
+const DAY_MS = 86_400_000;
+
+/** How far a fault has grown at tMs (epoch ms, at or after onset): 0..1, 1 for an abrupt fault. */
+export function faultRamp(f: FaultSpec, tMs: number): number {
+  if (!f.rampDays || f.rampDays <= 0) return 1;
+  return Math.min(1, Math.max(0, (tMs - f.onsetMs) / (f.rampDays * DAY_MS)));
+}
 /** Smallest opening of a stuck-open thermostat at severity 0 and its growth with severity. */
 export const STUCK_OPEN_BASE = 0.04;
 export const STUCK_OPEN_PER_SEVERITY = 0.1;
@@ -75,23 +84,27 @@ export const COOLANT_LOSS_PER_WEEK = 0.16;
 export const COOLANT_LOSS_MAX = 0.5;
 
 
-/** Sets the cooling system's fault multipliers for time tMs (epoch ms). */
-export function applyPhysicalFaults(cs: CoolingSystem, faults: readonly FaultSpec[], tMs: number): void {
+/**
+ * Sets the cooling system's fault multipliers for time tMs (epoch ms); `healthyAirFactor` is the
+ * radiator air side of the vehicle without faults (1 = as designed).
+ */
+export function applyPhysicalFaults(cs: CoolingSystem, faults: readonly FaultSpec[], tMs: number, healthyAirFactor = 1): void {
   let stuckOpen = 0;
   let late = 0;
-  let air = 1;
+  let air = healthyAirFactor;
   let fan = 1;
   let level = 1;
   for (const f of faults) {
     if (tMs < f.onsetMs) continue;
-    const s = f.severity;
+    const r = faultRamp(f, tMs);
+    const s = f.severity * r;
     const weeks = (tMs - f.onsetMs) / WEEK_MS;
     switch (f.kind) {
       case 'thermostat-stuck-open':
-        stuckOpen = Math.max(stuckOpen, STUCK_OPEN_BASE + STUCK_OPEN_PER_SEVERITY * s);
+        stuckOpen = Math.max(stuckOpen, (STUCK_OPEN_BASE + STUCK_OPEN_PER_SEVERITY * f.severity) * r);
         break;
       case 'thermostat-sticking':
-        late = Math.max(late, STICKING_LATE_BASE_C + STICKING_LATE_PER_SEVERITY_C * s);
+        late = Math.max(late, (STICKING_LATE_BASE_C + STICKING_LATE_PER_SEVERITY_C * f.severity) * r);
         break;
       case 'radiator-fouling':
         air *= 1 - FOULING_MAX_LOSS * s * Math.min(1, weeks / FOULING_RAMP_WEEKS);

@@ -17,19 +17,22 @@ export const GAP_MAX_S = 900;
 export class LinkDropouts {
   private readonly rng: Rng;
   private gapUntilMs = -Infinity;
+  private readonly gapPerS: number;
 
-  constructor(rng: Rng) {
+  /** `gapScale` multiplies the rate of coverage gaps (bursts of dropped samples). */
+  constructor(rng: Rng, gapScale = 1) {
     this.rng = rng;
+    this.gapPerS = GAP_START_PER_S * gapScale;
   }
 
   /** True when the sample taken at tMs, periodS after the previous one, is lost. */
   lost(tMs: number, periodS: number): boolean {
     if (tMs < this.gapUntilMs) return true;
     const r = this.rng.next();
-    if (r < GAP_START_PER_S * periodS) {
+    if (r < this.gapPerS * periodS) {
       this.gapUntilMs = tMs + this.rng.uniform(GAP_MIN_S, GAP_MAX_S) * 1000;
       return true;
     }
-    return r < (GAP_START_PER_S + SINGLE_DROP_PER_S) * periodS;
+    return r < (this.gapPerS + SINGLE_DROP_PER_S) * periodS;
   }
 }

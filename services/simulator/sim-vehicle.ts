@@ -1,6 +1,7 @@
 import type { Duty } from './duty-cycles.js';
 import { BRENMARK_H13, HALVERN_M7, VANTOR_L22, VANTOR_L30, type EngineFamily } from './engine-families.js';
 import type { FaultSpec } from './faults.js';
+import type { FieldVariation } from './field-variation.js';
 import type { Rng } from './prng.js';
 import type { Climate } from './weather.js';
 
@@ -22,6 +23,8 @@ export interface SimVehicle {
   faults: FaultSpec[];
   /** Depot's offset from UTC, h (local working hours, daily temperature cycle). Default 0. */
   utcOffsetHours?: number;
+  /** Real-world variation (field scenario); absent = the plain simulator. */
+  variation?: FieldVariation;
 }
 
 /** A depot: vehicles based there share its climate and weather. */

@@ -4,11 +4,13 @@ import { DriveCycle } from './drive-cycle.js';
 import { DRIVE_PROFILES, planDay, usualShiftStartS, worksOn } from './duty-cycles.js';
 import { engineFamily } from './engine-families.js';
 import { applyPhysicalFaults } from './faults.js';
+import { FieldConditions, localHour } from './field-conditions.js';
 import type { SimVehicle } from './sim-vehicle.js';
 import { LinkDropouts } from './link-dropouts.js';
 import { LoadModel, ratedCoolantHeatW } from './load-model.js';
 import { hashSeed, Rng } from './prng.js';
 import { AmbientModel } from './weather.js';
+import { drawWeatherEvents } from './weather-events.js';
 
 export interface SimOptions {
   /** First instant simulated, epoch ms (vehicles start cold-soaked). */
@@ -76,16 +78,28 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
   const sensorRng = new Rng(hashSeed(opts.seed, `sensor:${key}`));
   const linkRng = new Rng(hashSeed(opts.seed, `link:${key}`));
   const offsetMs = (v.utcOffsetHours ?? 0) * HOUR_MS;
-  const weather = new AmbientModel(v.climate, v.utcOffsetHours ?? 0, hashSeed(opts.seed, `weather:${v.depot}`));
+  const fv = v.variation;
+  const anomalies = fv?.weatherEvents ? drawWeatherEvents(v.climate, opts.startMs, opts.days, new Rng(hashSeed(opts.seed, `weather-events:${v.depot}`))) : [];
+  const weather = new AmbientModel(v.climate, v.utcOffsetHours ?? 0, hashSeed(opts.seed, `weather:${v.depot}`), anomalies);
   const load = new LoadModel(family, family.vehicleMassKg);
-  const cs = new CoolingSystem(thermalParamsFor(family, ratedCoolantHeatW(family), v.thermostatOpenC), weather.at(opts.startMs));
+  const params = thermalParamsFor(family, ratedCoolantHeatW(family), v.thermostatOpenC);
+  if (fv) {
+    // The valve opens off its rating; the fan setpoints and the radiator stay as designed.
+    params.thermostatOpenC += fv.thermostatOffsetC;
+    if (fv.soakTimeConstantH !== null) params.soakLossWPerK = (params.metalHeatCapacityJPerK + params.coolantHeatCapacityJPerK) / (fv.soakTimeConstantH * 3600);
+  }
+  const cs = new CoolingSystem(params, weather.at(opts.startMs));
   const drive = new DriveCycle(DRIVE_PROFILES[v.duty], driveRng);
-  const sensor = new CoolantSensor(v.faults, sensorRng);
-  const link = new LinkDropouts(linkRng);
+  const sensor = new CoolantSensor(v.faults, sensorRng, fv?.coolantResolutionC ?? 1);
+  const link = new LinkDropouts(linkRng, fv?.dropoutScale ?? 1);
   const ambientBiasC = sensorRng.uniform(-0.5, 0.5);
   const shiftStartS = usualShiftStartS(v.duty, scheduleRng);
+  const field = fv
+    ? new FieldConditions(fv, new Rng(hashSeed(opts.seed, `field-day:${key}`)), new Rng(hashSeed(opts.seed, `clock:${key}`)), family.ratedPowerW)
+    : undefined;
+  const healthyAirFactor = fv?.radiatorAirFactor ?? 1;
 
-  const periodS = opts.samplePeriodS ?? DEFAULT_SAMPLE_PERIOD_S;
+  const periodS = fv?.samplePeriodS ?? opts.samplePeriodS ?? DEFAULT_SAMPLE_PERIOD_S;
   if (!(periodS > 0)) throw new RangeError(`samplePeriodS must be positive, got ${periodS}`);
   const stepsPerSample = Math.max(1, Math.ceil(periodS - 1e-9));
   const dtS = periodS / stepsPerSample;
@@ -102,13 +116,26 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
   const firstMidnightMs = Math.floor((opts.startMs + offsetMs) / DAY_MS) * DAY_MS - offsetMs;
   for (let midnight = firstMidnightMs; midnight < endMs; midnight += DAY_MS) {
     const dayOfWeek = new Date(midnight + offsetMs).getUTCDay();
+    const today = field?.day();
     if (!worksOn(v.duty, dayOfWeek, scheduleRng)) continue;
-    load.massKg = family.vehicleMassKg + family.payloadMaxKg * scheduleRng.uniform(0.2, 1);
-    for (const run of planDay(v.duty, shiftStartS, scheduleRng)) {
+    load.massKg = family.vehicleMassKg + family.payloadMaxKg * (fv?.payloadFullRange ? scheduleRng.uniform(0, 1) : scheduleRng.uniform(0.2, 1));
+    drive.gradeScale = today?.gradeScale ?? 1;
+    const runs = planDay(v.duty, shiftStartS, scheduleRng);
+    const spell = today?.idleSpell;
+    const middle = runs[runs.length >> 1];
+    if (spell && middle?.legs[0]) middle.legs[0] = { ...middle.legs[0], idleS: middle.legs[0].idleS + spell.idleS, ptoW: spell.ptoW };
+    let firstOfDay = true;
+    for (const run of runs) {
       const startMs = Math.round((midnight + run.startS * 1000) / 1000) * 1000;
       if (startMs < tMs) continue;
       if (startMs >= endMs) break;
-      tMs = soakUntil(cs, weather, tMs, startMs);
+      const overnight = firstOfDay;
+      firstOfDay = false;
+      tMs = soakUntil(cs, weather, tMs, startMs, field && overnight ? (air) => field.soakSinkC(air, true) : undefined);
+      if (field) {
+        const outside = weather.at(tMs);
+        field.keyOn(cs, field.soakSinkC(outside, overnight), outside, overnight);
+      }
       sensor.startRun(tMs);
       stepIndex = 0;
       nextSlowMs = tMs;
@@ -129,22 +156,25 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
           if (tMs >= nextSlowMs) {
             nextSlowMs = tMs + SLOW_UPDATE_MS;
             ambientC = weather.at(tMs);
-            applyPhysicalFaults(cs, v.faults, tMs);
+            applyPhysicalFaults(cs, v.faults, tMs, healthyAirFactor);
           }
           const speed = driving ? drive.speedMps : 0;
           const acOn = ambientC > AC_ON_ABOVE_C;
           const rpm = load.rpm(speed);
-          const shaft = driving ? load.shaftPowerW(speed, drive.accelMps2, drive.grade, acOn) : load.shaftPowerW(0, 0, 0, acOn);
+          const shaft = driving ? load.shaftPowerW(speed, drive.accelMps2, drive.grade, acOn) : load.shaftPowerW(0, 0, 0, acOn) + (leg.ptoW ?? 0);
           const coolantC = cs.run(dtS, load.heatToCoolantW(rpm, shaft), speed, rpm, ambientC, acOn);
           tMs += dtMs;
           if (++stepIndex % stepsPerSample !== 0) continue;
           if (link.lost(tMs, periodS)) continue;
+          const pickup = speed < 8 ? AMBIENT_HEAT_PICKUP_C * (1 - speed / 8) * clamp01((coolantC - ambientC) / 60) : 0;
+          // Drawn before the sensor may drop the sample, so the clock stream does not depend on faults.
+          const airC = field ? field.ambientSensorC(ambientC, pickup, speed, localHour(tMs, v.utcOffsetHours ?? 0), periodS) + ambientBiasC : ambientC + ambientBiasC + pickup;
+          const ts = field ? field.timestamp(tMs, periodS) : tMs;
           const reported = sensor.read(coolantC, tMs);
           if (reported !== reported) continue; // NaN: the ECU flagged the value, no sample
-          const pickup = speed < 8 ? AMBIENT_HEAT_PICKUP_C * (1 - speed / 8) * clamp01((coolantC - ambientC) / 60) : 0;
-          buf.ts[n] = tMs;
+          buf.ts[n] = ts;
           buf.coolant[n] = reported;
-          buf.ambient[n] = Math.round((ambientC + ambientBiasC + pickup) / AMBIENT_RESOLUTION_C) * AMBIENT_RESOLUTION_C;
+          buf.ambient[n] = Math.round(airC / AMBIENT_RESOLUTION_C) * AMBIENT_RESOLUTION_C;
           buf.speedKph[n] = Math.round(speed * 3.6);
           buf.rpm[n] = Math.round(speed > 0 ? rpm : rpm + RPM_JITTER_SD * sensorRng.normal());
           buf.coolantTrue[n] = coolantC;
@@ -161,12 +191,13 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
   if (n > 0) yield sliceChunk(buf, n);
 }
 
-/** Parks the engine from fromMs to toMs (epoch ms); returns toMs. */
-function soakUntil(cs: CoolingSystem, weather: AmbientModel, fromMs: number, toMs: number): number {
+/** Parks the engine from fromMs to toMs (epoch ms), soaking towards `sink(air)` (default the air); returns toMs. */
+function soakUntil(cs: CoolingSystem, weather: AmbientModel, fromMs: number, toMs: number, sink?: (airC: number) => number): number {
   let t = fromMs;
   while (t < toMs) {
     const stepS = Math.min(SOAK_STEP_S, (toMs - t) / 1000);
-    cs.soak(stepS, weather.at(t + stepS * 500));
+    const air = weather.at(t + stepS * 500);
+    cs.soak(stepS, sink ? sink(air) : air);
     t += stepS * 1000;
   }
   return t;

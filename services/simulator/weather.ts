@@ -1,4 +1,5 @@
 import { Rng } from './prng.js';
+import { anomalyAt, type WeatherAnomaly } from './weather-events.js';
 
 /**
  * Ambient air temperature at a depot, °C:
@@ -46,9 +47,15 @@ export class AmbientModel {
   private w0 = 0;
   private w1 = 0;
 
-  /** utcOffsetHours shifts the daily cycle to local time; the seed fixes the weather. */
-  constructor(climate: Climate, utcOffsetHours: number, seed: number) {
+  private readonly anomalies: readonly WeatherAnomaly[];
+
+  /**
+   * utcOffsetHours shifts the daily cycle to local time; the seed fixes the weather; anomalies
+   * (heat waves, cold snaps) are added on top.
+   */
+  constructor(climate: Climate, utcOffsetHours: number, seed: number, anomalies: readonly WeatherAnomaly[] = []) {
     this.spec = CLIMATES[climate];
+    this.anomalies = anomalies;
     this.offsetMs = utcOffsetHours * HOUR_MS;
     this.rng = new Rng(seed);
   }
@@ -67,7 +74,8 @@ export class AmbientModel {
       s.meanC +
       s.seasonalAmplitudeC * Math.cos((2 * Math.PI * (dayOfYear - SEASON_PEAK_DAY)) / 365.25) +
       s.dailyAmplitudeC * Math.cos((2 * Math.PI * (hourOfDay - DAY_PEAK_HOUR)) / 24) +
-      noise
+      noise +
+      (this.anomalies.length > 0 ? anomalyAt(this.anomalies, tMs) : 0)
     );
   }
 
