@@ -123,7 +123,7 @@ export interface FindingsTable {
   confidence: number;
   first_seen: Date;
   last_seen: Date;
-  status: Generated<'open' | 'acknowledged' | 'resolved'>;
+  status: Generated<'open' | 'acknowledged' | 'deferred' | 'resolved'>;
   summary: string;
   recommended_check: string;
   trouble_code: string | null;
@@ -137,6 +137,10 @@ export interface FindingsTable {
   resolved_reason: string | null;
   /** Analysis time of the pass that first raised it (migrations/0003). */
   raised_at: Date | null;
+  /** Deferral (migrations/0006): the work is postponed until this time, for this reason, by this key. */
+  deferred_until: Date | null;
+  deferred_reason: string | null;
+  deferred_by: string | null;
 }
 
 export interface ServiceEventsTable {
@@ -163,6 +167,20 @@ export interface VehicleAnalysisTable {
   analysed_at: Generated<Date>;
   /** The open findings as the at-risk list shows them (migration 0004, kept by refreshVehicleRisk). */
   open_findings_brief: Generated<Json<unknown[]>>;
+}
+
+/** The audit of planner actions on findings and service events (migrations/0006). */
+export interface PlannerActionsTable {
+  vehicle_id: string;
+  action_id: string;
+  fleet_id: string;
+  subject: 'finding' | 'service-event';
+  subject_id: string;
+  action: string;
+  key_id: string;
+  at: Generated<Date>;
+  before: ColumnType<Record<string, unknown> | null, string | null, string | null>;
+  after: ColumnType<Record<string, unknown> | null, string | null, string | null>;
 }
 
 export interface PeerBaselinesTable {
@@ -197,6 +215,7 @@ export interface Database {
   api_keys: ApiKeysTable;
   ingest_audit: IngestAuditTable;
   analysis_queue: AnalysisQueueTable;
+  planner_actions: PlannerActionsTable;
 }
 
 /**

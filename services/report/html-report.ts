@@ -25,13 +25,20 @@ ${box(`${f.new} / ${f.ongoing} / ${f.resolved}`, 'findings new / ongoing / resol
 </section>`;
 }
 
+/** How a planner's decision on the finding shows beside it. */
+function statusNote(w: WorkItem): string {
+  if (w.status === 'acknowledged') return ' <span class="note">(acknowledged)</span>';
+  if (w.status === 'deferred') return ` <span class="note">(deferred until ${e(w.deferredUntil ?? '?')}${w.deferredReason ? `: ${e(w.deferredReason)}` : ''})</span>`;
+  return '';
+}
+
 function workListRow(w: WorkItem): string {
   const label = w.label ? `<br><span class="note">${e(w.label)}</span>` : '';
   const code = w.troubleCode ? ` <span class="note">(${e(w.troubleCode)})</span>` : '';
   return `<tr data-finding-id="${e(w.findingId)}" data-vehicle-id="${e(w.vehicleId)}">
 <td class="num">${w.rank}</td><td>${badge(w.priority)}</td>
 <td class="nowrap"><a href="#vehicle-${e(w.vehicleId)}"><b>${e(w.vehicleId)}</b></a>${label}</td><td class="num">${w.riskScore}</td>
-<td><b>${e(kindLabel(w.kind))}</b>${code}${w.status === 'acknowledged' ? ' <span class="note">(acknowledged)</span>' : ''}<br>${e(w.why)}</td>
+<td><b>${e(kindLabel(w.kind))}</b>${code}${statusNote(w)}<br>${e(w.why)}</td>
 <td class="check">${e(w.check)}</td><td class="nowrap">${e(w.since)}</td><td class="num">${pct(w.confidence)}</td></tr>`;
 }
 

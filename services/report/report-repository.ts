@@ -16,9 +16,10 @@ export interface StoredDay { vehicleId: string; metrics: DayAggregate }
 export interface StoredRun { vehicleId: string; metrics: RunMetrics }
 export interface StoredFinding {
   findingId: string; vehicleId: string; kind: string; severity: 'advisory' | 'warning' | 'critical'; confidence: number;
-  firstSeenMs: number; lastSeenMs: number; createdMs: number; status: 'open' | 'acknowledged' | 'resolved';
+  firstSeenMs: number; lastSeenMs: number; createdMs: number; status: 'open' | 'acknowledged' | 'deferred' | 'resolved';
   summary: string; recommendedCheck: string; troubleCode: string | null;
   resolvedMs: number | null; resolvedReason: string | null;
+  deferredUntilMs: number | null; deferredReason: string | null;
 }
 export interface StoredSensorEvent { vehicleId: string; kind: string }
 export interface ReadingSeries { tsMs: number[]; coolantC: number[] }
@@ -119,6 +120,7 @@ export function createReportRepository(db: Kysely<Database>) {
         firstSeenMs: ms(r.first_seen), lastSeenMs: ms(r.last_seen), createdMs: ms(r.created_at), status: r.status,
         summary: r.summary, recommendedCheck: r.recommended_check, troubleCode: r.trouble_code,
         resolvedMs: r.resolved_at ? ms(r.resolved_at) : null, resolvedReason: r.resolved_reason,
+        deferredUntilMs: r.deferred_until ? ms(r.deferred_until) : null, deferredReason: r.deferred_reason,
       }));
     },
 
