@@ -121,9 +121,11 @@ export function createFindingsRepository(db: Kysely<Database>) {
      * Resolves the vehicle's unresolved findings of the kinds a repair addresses that
      * began on or before the repair; returns their ids.
      */
-    async resolveByRepair(trx: Kysely<Database>, vehicleId: string, kind: ServiceEventKind, atMs: number): Promise<string[]> {
+    async resolveByRepair(trx: Kysely<Database>, vehicleId: string, kind: ServiceEventKind, atMs: number, eventId: string): Promise<string[]> {
+      if (resolvedKinds(kind).length === 0) return [];
       const rows = await sql<{ finding_id: string }>`
-        update findings set status = 'resolved', resolved_reason = ${`service-event:${kind}`}, resolved_at = to_timestamp(${atMs}::float8 / 1000), updated_at = now()
+        update findings set status = 'resolved', resolved_reason = ${`service-event:${kind}`}, resolved_at = to_timestamp(${atMs}::float8 / 1000),
+                            resolved_by_event = ${eventId}, updated_at = now()
         where vehicle_id = ${vehicleId} and status <> 'resolved' and kind = any(${[...resolvedKinds(kind)]}::text[])
           and first_seen <= to_timestamp(${atMs}::float8 / 1000)
         returning finding_id`.execute(trx);

@@ -141,6 +141,8 @@ export interface FindingsTable {
   deferred_until: Date | null;
   deferred_reason: string | null;
   deferred_by: string | null;
+  /** The service event that resolved it (migrations/0007). */
+  resolved_by_event: string | null;
 }
 
 export interface ServiceEventsTable {
@@ -152,6 +154,12 @@ export interface ServiceEventsTable {
   notes: string | null;
   recorded_by: string | null;
   created_at: Generated<Date>;
+  /** migrations/0007: findings resolved by the event, findings an inspection looked at (ids), correction and soft deletion. */
+  resolved_findings: ColumnType<string[], string | undefined, string>;
+  finding_ids: ColumnType<string[], string | undefined, string>;
+  updated_at: Date | null;
+  deleted_at: Date | null;
+  deleted_by: string | null;
 }
 
 export interface VehicleAnalysisTable {

@@ -105,7 +105,7 @@ export function createReportRepository(db: Kysely<Database>) {
     async lastServiceEvents(vehicleIds: readonly string[], beforeMs: number): Promise<Map<string, number>> {
       if (vehicleIds.length === 0) return new Map();
       const rows = await db.selectFrom('service_events').select(['vehicle_id', (eb) => eb.fn.max('at').as('at')])
-        .where('vehicle_id', 'in', vehicleIds).where('at', '<', new Date(beforeMs)).groupBy('vehicle_id').execute();
+        .where('vehicle_id', 'in', vehicleIds).where('at', '<', new Date(beforeMs)).where('deleted_at', 'is', null).groupBy('vehicle_id').execute();
       return new Map(rows.map((r) => [r.vehicle_id, ms(r.at as Date)]));
     },
 

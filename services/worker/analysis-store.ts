@@ -91,7 +91,7 @@ export function createAnalysisStore(db: Kysely<Database>) {
                (select coalesce(jsonb_agg(metrics order by day), '[]') from vehicle_days where vehicle_id = ${vehicleId} and day < ${utcDay(beforeMs)}::date) as days,
                (select coalesce(jsonb_agg(event order by run_start, kind), '[]') from sensor_events where vehicle_id = ${vehicleId} and run_start < ${ts(beforeMs)}) as events,
                (select coalesce(jsonb_agg(jsonb_build_object('kind', kind, 'at', floor(extract(epoch from at) * 1000)) order by at, event_id), '[]')
-                from service_events where vehicle_id = ${vehicleId}) as services`.execute(db);
+                from service_events where vehicle_id = ${vehicleId} and deleted_at is null) as services`.execute(db);
       const row = r.rows[0];
       return {
         runs: row?.runs ?? [],
