@@ -11,7 +11,7 @@ import { PEAK_CHART_DAYS, peakChart } from './peak-chart-data.js';
 import { createReportRepository, type ReportRepository, type ReportVehicle, type StoredFinding } from './report-repository.js';
 import { baselineBand, drawableColdStarts, WARMUP_CHART_MIN, warmupCurve } from './warmup-chart-data.js';
 import type { VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
-import { buildWorkList, unresolvedAt, vehiclePriority } from './work-list.js';
+import { buildWorkList, unresolvedAt } from './work-list.js';
 
 /** Vehicles (highest risk first) that get chart sections; the rest are on the work list only. */
 export const MAX_CHARTED_VEHICLES = 10;
@@ -64,7 +64,7 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
   const findings = await repo.findings(fleet.fleetId, win.startMs, win.endMs);
   const unresolved = unresolvedAt(findings, asOf);
   const workList = buildWorkList(unresolved, byId);
-  const toBook = [...new Set(workList.map((w) => w.vehicleId))];
+  const toBook = workList.map((w) => w.vehicleId);
   const lastReadings = await repo.lastReadings(fleet.fleetId, asOf, SILENT_LOOKBACK_DAYS * DAY_MS);
   const sensorEvents = await repo.sensorEvents(fleet.fleetId, win.startMs, win.endMs);
   const priorFirst = dayBefore(win.dates[0]!, HISTORY_DAYS);
@@ -122,12 +122,12 @@ async function vehicleSections(
       const curve = warmupCurve(run, readings);
       if (curve) curves.push(curve);
     }
-    const items = workList.filter((w) => w.vehicleId === id);
+    const row = workList.find((w) => w.vehicleId === id)!;
     const boilingPointC = coolantBoilingPointC(v.capPressureKpa, v.glycolPercent, cfg.atmosphericPressureKpa);
     sections.push({
-      vehicleId: id, label: v.label, engineFamily: v.engineFamily, riskScore: v.riskScore, priority: vehiclePriority(items),
+      vehicleId: id, label: v.label, engineFamily: v.engineFamily, riskScore: v.riskScore, priority: row.priority,
       capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent,
-      findingIds: items.map((w) => w.findingId), headline: items[0]!.why,
+      findingIds: row.findings.map((f) => f.findingId), headline: row.why,
       warmup: {
         warmupTargetC: Math.round((v.thermostatOpenC - cfg.obdWarmupMarginC) * 10) / 10,
         thermostatOpenC: v.thermostatOpenC,

@@ -2,7 +2,7 @@ import { kindLabel } from './finding-labels.js';
 import { escapeHtml as e } from './html-escape.js';
 import { badge, vehicleSectionHtml } from './html-vehicle-section.js';
 import { REPORT_CSS } from './report-css.js';
-import type { WeeklyReport, WorkItem } from './weekly-report-schema.js';
+import type { WeeklyReport, WorkFinding, WorkItem } from './weekly-report-schema.js';
 
 const pct = (v: number) => `${Math.round(v * 100)} %`;
 const fmt = (v: number, digits = 0) => v.toLocaleString('en-GB', { maximumFractionDigits: digits, minimumFractionDigits: digits });
@@ -10,8 +10,8 @@ const longDate = (day: string) => new Date(`${day}T12:00:00Z`).toLocaleDateStrin
 
 function kpis(r: WeeklyReport): string {
   const s = r.summary;
-  const now = new Set(r.workList.filter((w) => w.priority === 'book now').map((w) => w.vehicleId)).size;
-  const week = new Set(r.workList.filter((w) => w.priority === 'book this week').map((w) => w.vehicleId)).size;
+  const now = r.workList.filter((w) => w.priority === 'book now').length;
+  const week = r.workList.filter((w) => w.priority === 'book this week').length;
   const f = r.findings.totals;
   const unusual = s.silentGateways.filter((g) => g.unusual).length;
   const box = (value: string, label: string, alert = false) => `<div class="kpi${alert ? ' alert' : ''}"><b>${value}</b>${label}</div>`;
@@ -26,26 +26,33 @@ ${box(`${f.new} / ${f.ongoing} / ${f.resolved}`, 'findings new / ongoing / resol
 }
 
 /** How a planner's decision on the finding shows beside it. */
-function statusNote(w: WorkItem): string {
-  if (w.status === 'acknowledged') return ' <span class="note">(acknowledged)</span>';
-  if (w.status === 'deferred') return ` <span class="note">(deferred until ${e(w.deferredUntil ?? '?')}${w.deferredReason ? `: ${e(w.deferredReason)}` : ''})</span>`;
+function statusNote(f: WorkFinding): string {
+  if (f.status === 'acknowledged') return ' <span class="note">(acknowledged, not yet repaired)</span>';
+  if (f.status === 'deferred') return ` <span class="note">(deferred until ${e(f.deferredUntil ?? '?')}${f.deferredReason ? `: ${e(f.deferredReason)}` : ''})</span>`;
   return '';
 }
 
+function findingLine(f: WorkFinding): string {
+  const code = f.troubleCode ? ` <span class="note">(${e(f.troubleCode)})</span>` : '';
+  return `<li data-finding-id="${e(f.findingId)}"><b>${e(kindLabel(f.kind))}</b> <span class="note">${e(f.severity)}</span>${code}${statusNote(f)}<br>${e(f.why)}</li>`;
+}
+
+/** One row per vehicle: every finding, one combined list of checks, and the cautions beyond the general one. */
 function workListRow(w: WorkItem): string {
   const label = w.label ? `<br><span class="note">${e(w.label)}</span>` : '';
-  const code = w.troubleCode ? ` <span class="note">(${e(w.troubleCode)})</span>` : '';
+  const extra = w.cautions.slice(1);
   return `<tr data-finding-id="${e(w.findingId)}" data-vehicle-id="${e(w.vehicleId)}">
 <td class="num">${w.rank}</td><td>${badge(w.priority)}</td>
 <td class="nowrap"><a href="#vehicle-${e(w.vehicleId)}"><b>${e(w.vehicleId)}</b></a>${label}</td><td class="num">${w.riskScore}</td>
-<td><b>${e(kindLabel(w.kind))}</b>${code}${statusNote(w)}<br>${e(w.why)}</td>
-<td class="check">${e(w.check)}</td><td class="nowrap">${e(w.since)}</td><td class="num">${pct(w.confidence)}</td></tr>`;
+<td><ul class="findings">${w.findings.map(findingLine).join(' ')}</ul></td>
+<td class="check"><ol class="checks">${w.checks.map((c) => `<li>${e(c)}</li>`).join(' ')}</ol>${extra.length ? `<p class="caution-line">${extra.map(e).join(' ')}</p>` : ''}</td>
+<td class="nowrap">${e(w.since)}</td><td class="num">${pct(w.confidence)}</td></tr>`;
 }
 
 function workList(r: WeeklyReport): string {
-  if (r.workList.length === 0) return '<p class="empty">Nothing to book: no open findings at the end of the week.</p>';
+  if (r.workList.length === 0) return '<p class="empty">Nothing to book: no unresolved findings at the end of the week.</p>';
   return `<div class="caution" role="note">${e(r.caution)}</div>
-<table id="work-list-table"><thead><tr><th class="num">#</th><th>priority</th><th>vehicle</th><th class="num">risk</th><th>why</th><th>what to check</th><th>since</th><th class="num">confidence</th></tr></thead>
+<table id="work-list-table"><thead><tr><th class="num">#</th><th>priority</th><th>vehicle</th><th class="num">risk</th><th>findings</th><th>what to check (one visit)</th><th>since</th><th class="num">confidence</th></tr></thead>
 <tbody>${r.workList.map(workListRow).join('\n')}</tbody></table>`;
 }
 
@@ -83,7 +90,7 @@ function dataQuality(r: WeeklyReport): string {
 export function renderReportHtml(r: WeeklyReport): string {
   const title = `Cooling-system maintenance report — ${r.fleet.name}, ${r.week.isoWeek}`;
   const charted = r.vehicles.length;
-  const rest = new Set(r.workList.map((w) => w.vehicleId)).size - charted;
+  const rest = r.workList.length - charted;
   return `<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1">
 <title>${e(title)}</title><style>${REPORT_CSS}</style></head>
