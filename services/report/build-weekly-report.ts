@@ -4,6 +4,7 @@ import { SAFETY_CAUTION } from '../analysis/findings/finding.js';
 import { coolantBoilingPointC } from '../analysis/physics/boiling-point.js';
 import type { Database } from '../db/schema.js';
 import { summariseDataQuality } from './data-quality.js';
+import { reportCoverage } from './report-coverage.js';
 import { summariseFindings } from './findings-summary.js';
 import { SILENT_LOOKBACK_DAYS, summariseFleet } from './fleet-summary.js';
 import { lastCompleteIsoWeek, parseIsoWeek, weekWindow, type WeekWindow } from './iso-week.js';
@@ -72,6 +73,7 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
   // The breaks end on the week's first day, so a break running into the week counts as usual only up to it.
   const usualBreaks = await repo.longestBreaks(fleet.fleetId, priorFirst, win.dates[0]!);
   const usualGaps = await repo.gapTotals(fleet.fleetId, priorFirst, priorLast);
+  const weekData = await repo.weekData(fleet.fleetId, win.dates[0]!, win.dates[6]!, win.endMs);
 
   return {
     formatVersion: 1,
@@ -82,6 +84,7 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
     },
     generatedAt: new Date(now).toISOString(),
     asOf: new Date(asOf).toISOString(),
+    coverage: reportCoverage(weekData, vehicles.length, now >= win.endMs),
     summary: summariseFleet(vehicles, weekDays, lastReadings, usualBreaks, asOf, toBook.length),
     findings: summariseFindings(findings, win.startMs, win.endMs),
     workList,

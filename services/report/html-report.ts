@@ -96,7 +96,8 @@ export function renderReportHtml(r: WeeklyReport): string {
 <title>${e(title)}</title><style>${REPORT_CSS}</style></head>
 <body>
 <header><h1>${e(title)}</h1>
-<p class="sub">Week ${e(r.week.isoWeek)}: ${e(longDate(r.week.firstDay))} – ${e(longDate(r.week.lastDay))} (${e(r.fleet.timeZone)}) · data as of ${e(r.asOf.slice(0, 16).replace('T', ' '))} UTC · generated ${e(r.generatedAt.slice(0, 16).replace('T', ' '))} UTC</p></header>
+<p class="sub">Week ${e(r.week.isoWeek)}: ${e(longDate(r.week.firstDay))} – ${e(longDate(r.week.lastDay))} (${e(r.fleet.timeZone)}) · data as of ${e(r.asOf.slice(0, 16).replace('T', ' '))} UTC · generated ${e(r.generatedAt.slice(0, 16).replace('T', ' '))} UTC</p>
+<p class="sub" id="coverage">${e(r.coverage.statement)}</p></header>
 ${kpis(r)}
 <section id="work-list"><h2>Work list for the shop</h2>
 <p class="note">Vehicles in order of risk; book the red ones before their next duty. Each row says what the data shows and what to check.</p>

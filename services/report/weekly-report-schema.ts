@@ -166,6 +166,18 @@ export const GapRow = Type.Object({
   usualMissingFraction: Nullable(Type.Number({ description: 'the same share over the four weeks before; null: no history' })),
 });
 
+export const ReportCoverage = Type.Object({
+  vehiclesWithData: Type.Integer({ description: 'vehicles with analysed readings in the week' }),
+  vehicleDays: Type.Integer(),
+  readings: Type.Integer({ description: 'analysed readings of the week' }),
+  firstReadingAt: Nullable(Type.String({ format: 'date-time' })),
+  lastReadingAt: Nullable(Type.String({ format: 'date-time' })),
+  pendingVehicles: Type.Integer({ description: 'vehicles whose readings of the week still wait for analysis' }),
+  complete: Type.Boolean({ description: 'the week has ended and its analysis has caught up' }),
+  stamp: Type.String({ description: 'fingerprint of the data the report was built from; an archived report whose data changed is rebuilt' }),
+  statement: Type.String({ description: 'what the report covers, in words' }),
+}, { description: 'what data the report covers' });
+
 export const WeeklyReportSchema = Type.Object({
   formatVersion: Type.Literal(1),
   fleet: Type.Object({ fleetId: Type.String(), name: Type.String(), timeZone: Type.String() }),
@@ -177,6 +189,7 @@ export const WeeklyReportSchema = Type.Object({
   }),
   generatedAt: Type.String(),
   asOf: Type.String({ description: 'the earlier of the week end and the generation time' }),
+  coverage: ReportCoverage,
   summary: FleetSummary,
   findings: FindingsSummary,
   workList: Type.Array(WorkItem),
