@@ -3,6 +3,7 @@ import { resolveConfig } from '../analysis/config.js';
 import { SAFETY_CAUTION } from '../analysis/findings/finding.js';
 import { coolantBoilingPointC } from '../analysis/physics/boiling-point.js';
 import type { Database } from '../db/schema.js';
+import { findingsAsOf } from './as-of-findings.js';
 import { summariseDataQuality } from './data-quality.js';
 import { reportCoverage } from './report-coverage.js';
 import { summariseFindings } from './findings-summary.js';
@@ -11,7 +12,7 @@ import { lastCompleteIsoWeek, parseIsoWeek, weekWindow, type WeekWindow } from '
 import { PEAK_CHART_DAYS, peakChart } from './peak-chart-data.js';
 import { createReportRepository, type ReportRepository, type ReportVehicle, type StoredFinding } from './report-repository.js';
 import { baselineBand, drawableColdStarts, WARMUP_CHART_MIN, warmupCurve } from './warmup-chart-data.js';
-import type { VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
+import type { PeakChart, VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
 import { buildWorkList, unresolvedAt } from './work-list.js';
 
 /** Vehicles (highest risk first) that get chart sections; the rest are on the work list only. */
@@ -59,11 +60,23 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
   const win = weekWindow(week, fleet.timeZone);
   const asOf = Math.min(win.endMs, now);
 
-  const vehicles = await repo.vehicles(fleet.fleetId);
-  const byId = new Map(vehicles.map((v) => [v.vehicleId, v]));
+  const pastWeek = now >= win.endMs;
+  const stored = await repo.vehicles(fleet.fleetId);
   const weekDays = await repo.days(fleet.fleetId, win.dates[0]!, win.dates[6]!);
   const findings = await repo.findings(fleet.fleetId, win.startMs, win.endMs);
-  const unresolved = unresolvedAt(findings, asOf);
+  let unresolved = unresolvedAt(findings, asOf);
+  let vehicles = stored;
+  // A past week is told as of its end throughout: the findings, texts and risk of every vehicle
+  // analysed beyond the week are re-derived from what was stored by then. For the others the
+  // stored findings already are the state at the week's end.
+  const later = new Set(stored.filter((v) => pastWeek && (v.lastReadingMs ?? -Infinity) > asOf).map((v) => v.vehicleId));
+  if (later.size > 0) {
+    const rederive = [...new Set(unresolved.filter((f) => later.has(f.vehicleId)).map((f) => f.vehicleId))];
+    const asOfFindings = await findingsAsOf(db, rederive, new Map(stored.map((v) => [v.vehicleId, v])), findings, asOf);
+    unresolved = [...unresolved.filter((f) => !later.has(f.vehicleId)), ...asOfFindings.unresolved];
+    vehicles = stored.map((v) => (later.has(v.vehicleId) ? { ...v, riskScore: asOfFindings.risk.get(v.vehicleId) ?? 0 } : v));
+  }
+  const byId = new Map(vehicles.map((v) => [v.vehicleId, v]));
   const workList = buildWorkList(unresolved, byId);
   const toBook = workList.map((w) => w.vehicleId);
   const lastReadings = await repo.lastReadings(fleet.fleetId, asOf, SILENT_LOOKBACK_DAYS * DAY_MS);
@@ -138,8 +151,31 @@ async function vehicleSections(
         ...baselineBand(own.filter((r) => r.startMs >= bandFrom && r.startMs < onset)),
         curves,
       },
-      peaks: peakChart(days.filter((d) => d.vehicleId === id).map((d) => d.metrics), cfg.trendWindowDays, boilingPointC, v.thermostatOpenC + cfg.hotMarginC),
+      peaks: withFindingTrend(
+        peakChart(days.filter((d) => d.vehicleId === id).map((d) => d.metrics), cfg.trendWindowDays, boilingPointC, v.thermostatOpenC + cfg.hotMarginC),
+        unresolved.find((f) => f.vehicleId === id && f.kind === 'overheating-trend'),
+      ),
     });
   }
   return sections;
+}
+
+/**
+ * The chart's trend numbers taken from the vehicle's overheating-trend finding when it has one,
+ * so the work-list sentence and the chart caption quote one computation (slope, level, days to
+ * boiling, boiling point); the line is drawn from the chart's last day with data.
+ */
+function withFindingTrend(chart: PeakChart, finding: StoredFinding | undefined): PeakChart {
+  const m = finding?.metrics;
+  if (!chart.trend || !m || m.rawSlopeCPerDay === undefined || m.levelC === undefined || m.daysToBoil === undefined) return chart;
+  const daysToBoil = m.daysToBoil < 0 ? null : m.daysToBoil;
+  const anchorMs = Date.parse(chart.trend.anchorDay);
+  return {
+    ...chart,
+    boilingPointC: m.boilingPointC ?? chart.boilingPointC,
+    trend: {
+      ...chart.trend, senSlopeCPerDay: m.rawSlopeCPerDay, levelC: m.levelC, daysToBoil,
+      projectedBoilDate: daysToBoil === null ? null : new Date(anchorMs + Math.ceil(daysToBoil) * DAY_MS).toISOString().slice(0, 10),
+    },
+  };
 }

@@ -1,3 +1,4 @@
+import { round } from '../analysis/findings/finding.js';
 import { escapeHtml as e } from './html-escape.js';
 import { peakChartSvg, PROJECTION_DRAWN_DAYS } from './peak-chart.js';
 import { warmupChartSvg } from './warmup-chart.js';
@@ -26,8 +27,11 @@ export function peakCaption(v: VehicleSection): string {
   if (t) {
     if (t.daysToBoil === null) trend = `Peaks are not rising towards the boiling point (${t.senSlopeCPerDay.toFixed(2)} °C/day).`;
     else {
-      trend = `At ${t.senSlopeCPerDay.toFixed(2)} °C/day from a level of ${t.levelC} °C, the daily peak reaches the boiling point (${p.boilingPointC} °C) `
-        + `around <b>${e(t.projectedBoilDate!)}</b>, in about ${Math.round(t.daysToBoil)} days.`;
+      const days = Math.round(t.daysToBoil);
+      trend = days < 1
+        ? `At ${round(t.senSlopeCPerDay, 2)} °C/day from a level of ${t.levelC} °C, the daily peaks already reach the boiling point (${p.boilingPointC} °C).`
+        : `At ${round(t.senSlopeCPerDay, 2)} °C/day from a level of ${t.levelC} °C, the daily peak reaches the boiling point (${p.boilingPointC} °C) `
+          + `around <b>${e(t.projectedBoilDate!)}</b>, in about ${days} day${days === 1 ? '' : 's'}.`;
       if (t.daysToBoil > PROJECTION_DRAWN_DAYS) trend += ` (The dashed projection is drawn for the first ${PROJECTION_DRAWN_DAYS} days.)`;
     }
   }

@@ -11,6 +11,8 @@ export interface FleetRow { fleetId: string; name: string; timeZone: string }
 export interface ReportVehicle {
   vehicleId: string; label: string | null; engineFamily: string;
   thermostatOpenC: number; capPressureKpa: number; glycolPercent: number; riskScore: number;
+  /** The vehicle's latest analysed reading, ms (null: never analysed). */
+  lastReadingMs?: number | null;
 }
 export interface StoredDay { vehicleId: string; metrics: DayAggregate }
 export interface StoredRun { vehicleId: string; metrics: RunMetrics }
@@ -20,6 +22,7 @@ export interface StoredFinding {
   summary: string; recommendedCheck: string; troubleCode: string | null;
   resolvedMs: number | null; resolvedReason: string | null;
   deferredUntilMs: number | null; deferredReason: string | null;
+  key: string; metrics: Record<string, number>; acknowledgedMs: number | null;
 }
 export interface StoredSensorEvent { vehicleId: string; kind: string }
 export interface ReadingSeries { tsMs: number[]; coolantC: number[] }
@@ -54,11 +57,12 @@ export function createReportRepository(db: Kysely<Database>) {
     async vehicles(fleetId: string): Promise<ReportVehicle[]> {
       const rows = await db.selectFrom('vehicles as v')
         .leftJoin('vehicle_analysis as a', 'a.vehicle_id', 'v.vehicle_id')
-        .select(['v.vehicle_id', 'v.label', 'v.engine_family', 'v.thermostat_open_c', 'v.cap_pressure_kpa', 'v.glycol_percent', 'a.risk_score'])
+        .select(['v.vehicle_id', 'v.label', 'v.engine_family', 'v.thermostat_open_c', 'v.cap_pressure_kpa', 'v.glycol_percent', 'a.risk_score', 'a.last_reading_at'])
         .where('v.fleet_id', '=', fleetId).orderBy('v.vehicle_id').execute();
       return rows.map((r) => ({
         vehicleId: r.vehicle_id, label: r.label, engineFamily: r.engine_family, thermostatOpenC: r.thermostat_open_c,
         capPressureKpa: r.cap_pressure_kpa, glycolPercent: r.glycol_percent, riskScore: r.risk_score ?? 0,
+        lastReadingMs: r.last_reading_at ? ms(r.last_reading_at) : null,
       }));
     },
 
@@ -128,6 +132,7 @@ export function createReportRepository(db: Kysely<Database>) {
         summary: r.summary, recommendedCheck: r.recommended_check, troubleCode: r.trouble_code,
         resolvedMs: r.resolved_at ? ms(r.resolved_at) : null, resolvedReason: r.resolved_reason,
         deferredUntilMs: r.deferred_until ? ms(r.deferred_until) : null, deferredReason: r.deferred_reason,
+        key: r.finding_key, metrics: r.metrics, acknowledgedMs: r.acknowledged_at ? ms(r.acknowledged_at) : null,
       }));
     },
 

@@ -11,7 +11,7 @@ function stored(over: Partial<StoredFinding>): StoredFinding {
   return {
     findingId: 'f', vehicleId: 'V', kind: 'slow-warmup', severity: 'advisory', confidence: 0.5, firstSeenMs: T - 10 * DAY_MS, lastSeenMs: T,
     createdMs: T, status: 'open', summary: 'summary', recommendedCheck: `Check the thermostat. ${SAFETY_CAUTION}`, troubleCode: null,
-    resolvedMs: null, resolvedReason: null, deferredUntilMs: null, deferredReason: null, ...over,
+    resolvedMs: null, resolvedReason: null, deferredUntilMs: null, deferredReason: null, key: 'k', metrics: {}, acknowledgedMs: null, ...over,
   };
 }
 
