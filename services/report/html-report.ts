@@ -1,4 +1,6 @@
-import { kindLabel } from './finding-labels.js';
+import {
+  kindLabel, PRIORITY_LEGEND, relatedCodeLabel, resolvedReasonLabel, RISK_LEGEND, sensorEventLabel, SEVERITY_LEGEND, STATUS_LEGEND,
+} from './finding-labels.js';
 import { escapeHtml as e } from './html-escape.js';
 import { badge, vehicleSectionHtml } from './html-vehicle-section.js';
 import { REPORT_CSS } from './report-css.js';
@@ -33,7 +35,7 @@ function statusNote(f: WorkFinding): string {
 }
 
 function findingLine(f: WorkFinding): string {
-  const code = f.troubleCode ? ` <span class="note">(${e(f.troubleCode)})</span>` : '';
+  const code = f.troubleCode ? ` <span class="note">(${e(relatedCodeLabel(f.troubleCode))})</span>` : '';
   return `<li data-finding-id="${e(f.findingId)}"><b>${e(kindLabel(f.kind))}</b> <span class="note">${e(f.severity)}</span>${code}${statusNote(f)}<br>${e(f.why)}</li>`;
 }
 
@@ -56,11 +58,20 @@ function workList(r: WeeklyReport): string {
 <tbody>${r.workList.map(workListRow).join('\n')}</tbody></table>`;
 }
 
+/** What the booking words, severities, risk and statuses mean. */
+function legend(): string {
+  const rows = Object.entries(PRIORITY_LEGEND).map(([p, text]) => `<dt>${badge(p)}</dt><dd>${e(text)}</dd>`).join('');
+  const severities = Object.entries(SEVERITY_LEGEND).map(([s, text]) => `<b>${e(s)}</b>: ${e(text)}`).join('; ');
+  return `<aside id="legend" aria-label="legend"><h3>Legend</h3><dl class="legend">${rows}</dl>
+<p class="note"><b>Severity</b> — ${severities}. <b>Risk</b> — ${e(RISK_LEGEND)} ${e(STATUS_LEGEND)} `
+    + 'A related code is the standard trouble code that matches the finding, given as context: the vehicle did not necessarily report it.</p></aside>';
+}
+
 function findingsTable(r: WeeklyReport): string {
   const rows = r.findings.byKindSeverity;
   if (rows.length === 0) return '<p class="empty">No findings this week.</p>';
   const resolved = r.findings.resolvedThisWeek.map((x) =>
-    `<li>${e(x.vehicleId)}: ${e(kindLabel(x.kind))} (${e(x.severity)}) resolved ${e(x.resolvedAt.slice(0, 10))}${x.reason ? ` — ${e(x.reason)}` : ''}</li>`).join('');
+    `<li>${e(x.vehicleId)}: ${e(kindLabel(x.kind))} (${e(x.severity)}) resolved ${e(x.resolvedAt.slice(0, 10))}${x.reason ? ` — ${e(resolvedReasonLabel(x.reason) ?? '')}` : ''}</li>`).join('');
   return `<table id="findings-table"><thead><tr><th>finding</th><th>severity</th><th class="num">new</th><th class="num">ongoing</th><th class="num">resolved</th></tr></thead><tbody>
 ${rows.map((x) => `<tr><td>${e(kindLabel(x.kind))}</td><td>${e(x.severity)}</td><td class="num">${x.new}</td><td class="num">${x.ongoing}</td><td class="num">${x.resolved}</td></tr>`).join('\n')}
 </tbody></table>${resolved ? `<p>Resolved this week:</p><ul>${resolved}</ul>` : ''}`;
@@ -76,7 +87,7 @@ function dataQuality(r: WeeklyReport): string {
   const dq = r.dataQuality;
   const sensors = dq.sensorFaults.length === 0 ? '<p class="empty">No implausible coolant readings this week.</p>'
     : `<table id="sensor-table"><thead><tr><th>vehicle</th><th>runs with implausible readings, by kind</th><th>open sensor finding</th></tr></thead><tbody>${dq.sensorFaults.map((x) =>
-      `<tr><td>${e(x.vehicleId)}</td><td>${e(Object.entries(x.events).map(([k, n]) => `${k} ${n}`).join(', ') || '—')}</td><td>${x.openFinding ? e(x.openFinding) : '—'}</td></tr>`).join('')}</tbody></table>`;
+      `<tr><td>${e(x.vehicleId)}</td><td>${e(Object.entries(x.events).map(([k, n]) => `${sensorEventLabel(k)}: ${n}`).join(', ') || '—')}</td><td>${x.openFinding ? e(x.openFinding) : '—'}</td></tr>`).join('')}</tbody></table>`;
   const gaps = dq.gaps.length === 0 ? '<p class="empty">No vehicle lost clearly more of its running time to gaps than in the four weeks before.</p>'
     : `<table id="gaps-table"><thead><tr><th>vehicle</th><th class="num">days with data</th><th class="num">dropouts</th><th class="num">missing</th><th class="num">share of running time</th><th class="num">usual share</th></tr></thead><tbody>${dq.gaps.map((g) =>
       `<tr><td>${e(g.vehicleId)}</td><td class="num">${g.daysWithData}</td><td class="num">${g.dropouts}</td><td class="num">${fmt(g.missingHours, 1)} h</td><td class="num">${pct(g.missingFraction)}</td><td class="num">${g.usualMissingFraction === null ? '—' : pct(g.usualMissingFraction)}</td></tr>`).join('')}</tbody></table>`;
@@ -101,7 +112,8 @@ export function renderReportHtml(r: WeeklyReport): string {
 ${kpis(r)}
 <section id="work-list"><h2>Work list for the shop</h2>
 <p class="note">Vehicles in order of risk; book the red ones before their next duty. Each row says what the data shows and what to check.</p>
-${workList(r)}</section>
+${workList(r)}
+${legend()}</section>
 <section id="vehicles"><h2>The evidence, vehicle by vehicle</h2>
 ${charted === 0 ? '<p class="empty">No vehicle at risk.</p>' : r.vehicles.map((v) => vehicleSectionHtml(v, r.fleet.timeZone)).join('\n')}
 ${rest > 0 ? `<p class="note">${rest} more vehicle${rest > 1 ? 's' : ''} on the work list without charts here.</p>` : ''}</section>

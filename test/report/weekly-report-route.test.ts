@@ -52,6 +52,9 @@ describe('GET /v1/reports/weekly', () => {
     const html = res.body;
     expect(html).toContain('Route &amp; &quot;Test&quot; &lt;Fleet&gt;');
     expect(html).toContain('Warm-ups take &lt;twice&gt; as long.');
+    expect(html).toContain('id="legend"');
+    expect(html).toContain('related code P0128 (OBD-II) / SPN 110 FMI 18 (J1939)');
+    expect(html).toContain('id="coverage"');
     expect(html.match(/<svg class="chart"/g)).toHaveLength(2);
     expect(html).not.toMatch(/https?:\/\//i);
     expect(html).not.toMatch(/\bsrc\s*=|@import|url\((?!#)/i);

@@ -173,7 +173,7 @@ export function overheatingTrendFinding(
     summary: `Since ${utcDay(firstSeen)} peak coolant temperatures run about ${round(riseC, 1)} °C above what the weather explains`
       + (daysToBoil !== null ? `, rising ${round(round(rawSlope, 3), 2)} °C a day (${boilWords(round(daysToBoil, 1), boilingPointC)})` : '')
       + (warm ? `; while driving the coolant runs about ${round(warm.rise, 1)} °C warmer than on earlier days in similar weather` : '')
-      + (hot ? `${warm ? ',' : ''} and the engine spends about ${Math.max(1, Math.round(hot.rise / 60))} min a day longer above its hot threshold` : '')
+      + (hot ? `${warm ? ',' : ''} and the engine spends about ${Math.max(1, Math.round(hot.rise / 60))} min a day longer above its hot threshold (${cfg.hotMarginC} °C over its thermostat rating)` : '')
       + '; likely a fouled radiator, a failing fan or coolant loss.',
     recommendedCheck: 'Check the coolant level and look for leaks with the engine cold, inspect the radiator core for blockage, '
       + 'check that the cooling fan engages when the engine is hot, and pressure-test the cap. ' + SAFETY_CAUTION,
