@@ -20,6 +20,12 @@ export interface VehiclesTable {
   label: string | null;
   created_at: Generated<Date>;
   updated_at: Generated<Date>;
+  /** migrations/0008: site, how the glycol share was given, when a profile was set (null: defaults). */
+  depot: Generated<string | null>;
+  site_altitude_m: Generated<number | null>;
+  atmospheric_pressure_kpa: Generated<number | null>;
+  glycol_basis: Generated<'mass' | 'volume' | null>;
+  profile_set_at: Generated<Date | null>;
 }
 
 export interface ReadingsTable {

@@ -38,7 +38,10 @@ export async function findingsAsOf(
     const history = await store.historyBefore(vehicleId, asOfMs);
     const runs = history.runs.filter((r) => !r.open && r.endMs < asOfMs);
     const openStarts = new Set(history.runs.filter((r) => r.open).map((r) => r.startMs));
-    const profile = { engineFamily: v.engineFamily, thermostatOpenC: v.thermostatOpenC, capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent };
+    const profile = {
+      engineFamily: v.engineFamily, thermostatOpenC: v.thermostatOpenC, capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent,
+      ...(v.atmosphericPressureKpa != null ? { atmosphericPressureKpa: v.atmosphericPressureKpa } : {}),
+    };
     const peer = await peers.forAnalysis(v.engineFamily, asOfMs);
     const derived = deriveFindings(
       { runs, days: history.days, sensorEvents: history.sensorEvents.filter((e) => !openStarts.has(e.runStartMs)) }, profile,

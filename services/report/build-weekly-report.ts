@@ -139,10 +139,11 @@ async function vehicleSections(
       if (curve) curves.push(curve);
     }
     const row = workList.find((w) => w.vehicleId === id)!;
-    const boilingPointC = coolantBoilingPointC(v.capPressureKpa, v.glycolPercent, cfg.atmosphericPressureKpa);
+    const atmosphericPressureKpa = v.atmosphericPressureKpa ?? cfg.atmosphericPressureKpa;
+    const boilingPointC = coolantBoilingPointC(v.capPressureKpa, v.glycolPercent, atmosphericPressureKpa);
     sections.push({
       vehicleId: id, label: v.label, engineFamily: v.engineFamily, riskScore: v.riskScore, priority: row.priority,
-      capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent,
+      capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent, atmosphericPressureKpa, defaultProfile: v.defaultProfile ?? false,
       findingIds: row.findings.map((f) => f.findingId), headline: row.why,
       warmup: {
         warmupTargetC: Math.round((v.thermostatOpenC - cfg.obdWarmupMarginC) * 10) / 10,

@@ -41,7 +41,8 @@ function findingLine(f: WorkFinding): string {
 
 /** One row per vehicle: every finding, one combined list of checks, and the cautions beyond the general one. */
 function workListRow(w: WorkItem): string {
-  const label = w.label ? `<br><span class="note">${e(w.label)}</span>` : '';
+  const label = (w.label ? `<br><span class="note">${e(w.label)}</span>` : '')
+    + (w.defaultProfile ? '<br><span class="note">default profile: cap, glycol and thermostat assumed</span>' : '');
   const extra = w.cautions.slice(1);
   return `<tr data-finding-id="${e(w.findingId)}" data-vehicle-id="${e(w.vehicleId)}">
 <td class="num">${w.rank}</td><td>${badge(w.priority)}</td>

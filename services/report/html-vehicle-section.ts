@@ -35,7 +35,9 @@ export function peakCaption(v: VehicleSection): string {
       if (t.daysToBoil > PROJECTION_DRAWN_DAYS) trend += ` (The dashed projection is drawn for the first ${PROJECTION_DRAWN_DAYS} days.)`;
     }
   }
-  return `${trend} Boiling point for a ${v.capPressureKpa} kPa cap and ${v.glycolPercent} % glycol. Peaks climbing while ambient does not point to the cooling system, not the weather.`;
+  const site = v.atmosphericPressureKpa !== undefined ? ` at ${round(v.atmosphericPressureKpa, 1)} kPa atmospheric pressure` : '';
+  const assumed = v.defaultProfile ? ' These are the default profile values, not the vehicle\'s own: set its profile for a true figure.' : '';
+  return `${trend} Boiling point for a ${v.capPressureKpa} kPa cap and ${v.glycolPercent} % glycol by mass${site}.${assumed} Peaks climbing while ambient does not point to the cooling system, not the weather.`;
 }
 
 /** One at-risk vehicle: heading, the top finding, and its two charts. */

@@ -13,6 +13,10 @@ export interface ReportVehicle {
   thermostatOpenC: number; capPressureKpa: number; glycolPercent: number; riskScore: number;
   /** The vehicle's latest analysed reading, ms (null: never analysed). */
   lastReadingMs?: number | null;
+  /** The site's atmospheric pressure, kPa (null: the config's sea level). */
+  atmosphericPressureKpa?: number | null;
+  /** No profile set: thermostat, cap and glycol are defaults. */
+  defaultProfile?: boolean;
 }
 export interface StoredDay { vehicleId: string; metrics: DayAggregate }
 export interface StoredRun { vehicleId: string; metrics: RunMetrics }
@@ -57,12 +61,13 @@ export function createReportRepository(db: Kysely<Database>) {
     async vehicles(fleetId: string): Promise<ReportVehicle[]> {
       const rows = await db.selectFrom('vehicles as v')
         .leftJoin('vehicle_analysis as a', 'a.vehicle_id', 'v.vehicle_id')
-        .select(['v.vehicle_id', 'v.label', 'v.engine_family', 'v.thermostat_open_c', 'v.cap_pressure_kpa', 'v.glycol_percent', 'a.risk_score', 'a.last_reading_at'])
+        .select(['v.vehicle_id', 'v.label', 'v.engine_family', 'v.thermostat_open_c', 'v.cap_pressure_kpa', 'v.glycol_percent', 'a.risk_score', 'a.last_reading_at', 'v.atmospheric_pressure_kpa', 'v.profile_set_at'])
         .where('v.fleet_id', '=', fleetId).orderBy('v.vehicle_id').execute();
       return rows.map((r) => ({
         vehicleId: r.vehicle_id, label: r.label, engineFamily: r.engine_family, thermostatOpenC: r.thermostat_open_c,
         capPressureKpa: r.cap_pressure_kpa, glycolPercent: r.glycol_percent, riskScore: r.risk_score ?? 0,
         lastReadingMs: r.last_reading_at ? ms(r.last_reading_at) : null,
+        atmosphericPressureKpa: r.atmospheric_pressure_kpa, defaultProfile: r.profile_set_at === null,
       }));
     },
 

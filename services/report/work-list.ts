@@ -53,6 +53,7 @@ export function buildWorkList(unresolved: readonly StoredFinding[], vehicles: Re
       vehicleId,
       label: vehicles.get(vehicleId)?.label ?? null,
       riskScore: risk(vehicleId),
+      defaultProfile: vehicles.get(vehicleId)?.defaultProfile ?? false,
       priority: worst.priority,
       findingId: worst.findingId,
       kind: worst.kind,
