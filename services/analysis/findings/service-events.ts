@@ -24,8 +24,9 @@ const RESOLVES: Readonly<Record<ServiceEventKind, readonly FindingKind[]>> = {
   // A new sensor reads differently: every baseline learned from the old one starts again.
   'sensor-replaced': ['sensor-fault', 'slow-warmup', 'overshoot', 'overheating-trend', 'boil-margin'],
   // A weak cap lets coolant boil and escape at a lower temperature: the boil margin and the trend start again.
-  'pressure-cap-replaced': ['overheating-trend', 'boil-margin'],
-  'water-pump-replaced': ['overheating-trend', 'boil-margin'],
+  // A cap that no longer holds pressure when hot is one cause of coolant loss; so is a leaking pump seal.
+  'pressure-cap-replaced': ['overheating-trend', 'boil-margin', 'coolant-loss'],
+  'water-pump-replaced': ['overheating-trend', 'boil-margin', 'coolant-loss'],
   // A corrected glycol mix changes both the freezing and the boiling point.
   'coolant-mix-corrected': ['boil-margin', 'freeze-risk'],
   // Nothing on the vehicle changed: nothing is resolved and no baseline restarts, so a fault
