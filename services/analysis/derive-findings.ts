@@ -58,7 +58,8 @@ export function deriveFindings(history: VehicleHistory, profile: VehicleProfile,
   const compromisedFrom = Math.min(Infinity, ...findings.filter((f) => COMPROMISING_SENSOR_FAULTS.has(f.subKind ?? '')).map((f) => f.firstSeen));
   const engineRuns = (from: number) => runs.filter((r) => r.startMs >= from && r.startMs < compromisedFrom && !r.excludedForSensor);
   const engineDays = (from: number) => days.filter((d) => d.dayStartMs >= from && d.dayStartMs < compromisedFrom);
-  const boilingPointC = coolantBoilingPointC(profile.capPressureKpa, profile.glycolPercent, cfg.atmosphericPressureKpa);
+  // The site's atmospheric pressure from the profile (altitude), else the config's sea level.
+  const boilingPointC = coolantBoilingPointC(profile.capPressureKpa, profile.glycolPercent, profile.atmosphericPressureKpa ?? cfg.atmosphericPressureKpa);
   // Where the vehicle bus measured the atmospheric pressure (SPN 108 / PID 0x33), the day's lowest one.
   const boilingOn = (d: DayAggregate) => {
     const kpa = d.bus?.barometricMinKpa;

@@ -7,10 +7,10 @@ export const SEVERITY_WEIGHT: Readonly<Record<Severity, number>> = Object.freeze
 const DAY_MS = 86_400_000;
 
 /**
- * Risk 0–100 of a vehicle from its open findings: each contributes
+ * Risk 0–100 of a vehicle from its unresolved findings: each contributes
  * weight(severity) · confidence · 0.5^(age of lastSeen / half-life), combined as
  * independent chances (100·(1 − Π(1 − cᵢ))), so more findings raise risk without passing 100.
- * Findings with a `status` other than 'open' are ignored.
+ * Resolved findings (`status: 'resolved'`) are ignored; open, acknowledged and deferred ones count.
  * @example riskScore([{ severity: 'critical', confidence: 1, lastSeen: now }], now) // 95
  */
 export function riskScore(
@@ -19,7 +19,7 @@ export function riskScore(
 ): number {
   let calm = 1;
   for (const f of findings) {
-    if (f.status !== undefined && f.status !== 'open') continue;
+    if (f.status === 'resolved') continue;
     const ageDays = Math.max(0, now - f.lastSeen) / DAY_MS;
     const c = SEVERITY_WEIGHT[f.severity] * Math.min(Math.max(f.confidence, 0), 1) * 0.5 ** (ageDays / halfLifeDays);
     calm *= 1 - c;

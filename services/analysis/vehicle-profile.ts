@@ -8,6 +8,8 @@ export interface VehicleProfile {
   capPressureKpa: number;
   /** Ethylene glycol share of the coolant, % by mass. */
   glycolPercent: number;
+  /** The site's atmospheric pressure, kPa; absent: the config's (sea level). */
+  atmosphericPressureKpa?: number;
 }
 
 /** Profile used for vehicles nobody has described yet (the agreed defaults). */

@@ -3,7 +3,15 @@ import type { Severity } from '../analysis/findings/finding.js';
 import { resolvedKinds, type ServiceEventKind } from '../analysis/findings/service-events.js';
 import type { Database, FindingsTable } from './schema.js';
 
-export type FindingStatus = 'open' | 'acknowledged' | 'resolved';
+/**
+ * open → acknowledged (seen) → resolved; `deferred` (postponed until a date, with a reason) sits
+ * beside acknowledged. Every status but `resolved` is unresolved: it counts for risk and keeps
+ * the vehicle in the at-risk list.
+ */
+export type FindingStatus = 'open' | 'acknowledged' | 'deferred' | 'resolved';
+
+/** The statuses of findings that still need work. */
+export const UNRESOLVED_STATUSES: readonly FindingStatus[] = ['open', 'acknowledged', 'deferred'];
 
 /** A finding as the planner API shows it (times ISO 8601). */
 export interface FindingView {
@@ -28,6 +36,9 @@ export interface FindingView {
   acknowledgedBy: string | null;
   resolvedAt: string | null;
   resolvedReason: string | null;
+  deferredUntil: string | null;
+  deferredReason: string | null;
+  deferredBy: string | null;
   updatedAt: string;
 }
 
@@ -47,8 +58,19 @@ export function toFindingView(row: Selectable<FindingsTable>): FindingView {
     severity: row.severity, confidence: row.confidence, status: row.status, firstSeen: row.first_seen.toISOString(),
     lastSeen: row.last_seen.toISOString(), raisedAt: iso(row.raised_at), summary: row.summary, recommendedCheck: row.recommended_check,
     troubleCode: row.trouble_code, metrics: row.metrics, evidence, acknowledgedAt: iso(row.acknowledged_at), acknowledgedBy: row.acknowledged_by,
-    resolvedAt: iso(row.resolved_at), resolvedReason: row.resolved_reason, updatedAt: row.updated_at.toISOString(),
+    resolvedAt: iso(row.resolved_at), resolvedReason: row.resolved_reason,
+    deferredUntil: iso(row.deferred_until), deferredReason: row.deferred_reason, deferredBy: row.deferred_by, updatedAt: row.updated_at.toISOString(),
   };
+}
+
+/** The columns a planner action changes. */
+export interface PlannerState {
+  status: Exclude<FindingStatus, 'resolved'>;
+  acknowledgedAt: Date | null;
+  acknowledgedBy: string | null;
+  deferredUntil: Date | null;
+  deferredReason: string | null;
+  deferredBy: string | null;
 }
 
 /** Severity order for listings: critical first. */
@@ -65,7 +87,7 @@ export function createFindingsRepository(db: Kysely<Database>) {
     /** Every finding of a vehicle (all statuses), open ones first, then newest. */
     async ofVehicle(vehicleId: string): Promise<FindingView[]> {
       const rows = await db.selectFrom('findings').selectAll().where('vehicle_id', '=', vehicleId)
-        .orderBy(sql`case status when 'open' then 0 when 'acknowledged' then 1 else 2 end`).orderBy('last_seen', 'desc').orderBy('finding_id').execute();
+        .orderBy(sql`case status when 'open' then 0 when 'acknowledged' then 1 when 'deferred' then 2 else 3 end`).orderBy('last_seen', 'desc').orderBy('finding_id').execute();
       return rows.map(toFindingView);
     },
 
@@ -79,26 +101,32 @@ export function createFindingsRepository(db: Kysely<Database>) {
       return rows.map(toFindingView);
     },
 
-    /** open → acknowledged (idempotent); returns the row, or 'resolved' when it is already resolved. */
-    async acknowledge(trx: Kysely<Database>, findingId: string, keyId: string): Promise<FindingView | 'resolved' | undefined> {
-      const row = await trx.selectFrom('findings').selectAll().where('finding_id', '=', findingId).forUpdate().executeTakeFirst();
-      if (!row) return undefined;
-      if (row.status === 'resolved') return 'resolved';
-      if (row.status === 'acknowledged') return toFindingView(row);
+    /** The finding locked for a status change, or undefined. */
+    async lockRow(trx: Kysely<Database>, findingId: string): Promise<Selectable<FindingsTable> | undefined> {
+      return trx.selectFrom('findings').selectAll().where('finding_id', '=', findingId).forUpdate().executeTakeFirst();
+    },
+
+    /** Sets the planner-facing state of a locked finding; returns the updated view. */
+    async setState(trx: Kysely<Database>, row: Selectable<FindingsTable>, state: PlannerState): Promise<FindingView> {
       const updated = await trx.updateTable('findings')
-        .set({ status: 'acknowledged', acknowledged_at: new Date(), acknowledged_by: keyId, updated_at: new Date() })
-        .where('vehicle_id', '=', row.vehicle_id).where('finding_id', '=', findingId).returningAll().executeTakeFirstOrThrow();
+        .set({
+          status: state.status, acknowledged_at: state.acknowledgedAt, acknowledged_by: state.acknowledgedBy,
+          deferred_until: state.deferredUntil, deferred_reason: state.deferredReason, deferred_by: state.deferredBy, updated_at: new Date(),
+        })
+        .where('vehicle_id', '=', row.vehicle_id).where('finding_id', '=', row.finding_id).returningAll().executeTakeFirstOrThrow();
       return toFindingView(updated);
     },
 
     /**
-     * Resolves the vehicle's open or acknowledged findings of the kinds a repair addresses that
+     * Resolves the vehicle's unresolved findings of the kinds a repair addresses that
      * began on or before the repair; returns their ids.
      */
-    async resolveByRepair(trx: Kysely<Database>, vehicleId: string, kind: ServiceEventKind, atMs: number): Promise<string[]> {
+    async resolveByRepair(trx: Kysely<Database>, vehicleId: string, kind: ServiceEventKind, atMs: number, eventId: string): Promise<string[]> {
+      if (resolvedKinds(kind).length === 0) return [];
       const rows = await sql<{ finding_id: string }>`
-        update findings set status = 'resolved', resolved_reason = ${`service-event:${kind}`}, resolved_at = to_timestamp(${atMs}::float8 / 1000), updated_at = now()
-        where vehicle_id = ${vehicleId} and status in ('open', 'acknowledged') and kind = any(${[...resolvedKinds(kind)]}::text[])
+        update findings set status = 'resolved', resolved_reason = ${`service-event:${kind}`}, resolved_at = to_timestamp(${atMs}::float8 / 1000),
+                            resolved_by_event = ${eventId}, updated_at = now()
+        where vehicle_id = ${vehicleId} and status <> 'resolved' and kind = any(${[...resolvedKinds(kind)]}::text[])
           and first_seen <= to_timestamp(${atMs}::float8 / 1000)
         returning finding_id`.execute(trx);
       return rows.rows.map((r) => r.finding_id).sort();

@@ -20,6 +20,12 @@ export interface VehiclesTable {
   label: string | null;
   created_at: Generated<Date>;
   updated_at: Generated<Date>;
+  /** migrations/0008: site, how the glycol share was given, when a profile was set (null: defaults). */
+  depot: Generated<string | null>;
+  site_altitude_m: Generated<number | null>;
+  atmospheric_pressure_kpa: Generated<number | null>;
+  glycol_basis: Generated<'mass' | 'volume' | null>;
+  profile_set_at: Generated<Date | null>;
 }
 
 export interface ReadingsTable {
@@ -123,7 +129,7 @@ export interface FindingsTable {
   confidence: number;
   first_seen: Date;
   last_seen: Date;
-  status: Generated<'open' | 'acknowledged' | 'resolved'>;
+  status: Generated<'open' | 'acknowledged' | 'deferred' | 'resolved'>;
   summary: string;
   recommended_check: string;
   trouble_code: string | null;
@@ -137,6 +143,12 @@ export interface FindingsTable {
   resolved_reason: string | null;
   /** Analysis time of the pass that first raised it (migrations/0003). */
   raised_at: Date | null;
+  /** Deferral (migrations/0006): the work is postponed until this time, for this reason, by this key. */
+  deferred_until: Date | null;
+  deferred_reason: string | null;
+  deferred_by: string | null;
+  /** The service event that resolved it (migrations/0007). */
+  resolved_by_event: string | null;
 }
 
 export interface ServiceEventsTable {
@@ -148,6 +160,12 @@ export interface ServiceEventsTable {
   notes: string | null;
   recorded_by: string | null;
   created_at: Generated<Date>;
+  /** migrations/0007: findings resolved by the event, findings an inspection looked at (ids), correction and soft deletion. */
+  resolved_findings: ColumnType<string[], string | undefined, string>;
+  finding_ids: ColumnType<string[], string | undefined, string>;
+  updated_at: Date | null;
+  deleted_at: Date | null;
+  deleted_by: string | null;
 }
 
 export interface VehicleAnalysisTable {
@@ -163,6 +181,20 @@ export interface VehicleAnalysisTable {
   analysed_at: Generated<Date>;
   /** The open findings as the at-risk list shows them (migration 0004, kept by refreshVehicleRisk). */
   open_findings_brief: Generated<Json<unknown[]>>;
+}
+
+/** The audit of planner actions on findings and service events (migrations/0006). */
+export interface PlannerActionsTable {
+  vehicle_id: string;
+  action_id: string;
+  fleet_id: string;
+  subject: 'finding' | 'service-event';
+  subject_id: string;
+  action: string;
+  key_id: string;
+  at: Generated<Date>;
+  before: ColumnType<Record<string, unknown> | null, string | null, string | null>;
+  after: ColumnType<Record<string, unknown> | null, string | null, string | null>;
 }
 
 export interface PeerBaselinesTable {
@@ -197,6 +229,7 @@ export interface Database {
   api_keys: ApiKeysTable;
   ingest_audit: IngestAuditTable;
   analysis_queue: AnalysisQueueTable;
+  planner_actions: PlannerActionsTable;
 }
 
 /**

@@ -18,32 +18,37 @@ export interface FindingBriefView {
   summary: string;
   recommendedCheck: string;
   troubleCode: string | null;
+  /** open, acknowledged or deferred (migrations/0006; older briefs lack it until refreshed). */
+  status?: 'open' | 'acknowledged' | 'deferred';
+  deferredUntil?: string | null;
 }
 
 /** ISO 8601 in UTC with milliseconds, as Date.prototype.toISOString prints it. */
 const isoText = (column: string) => sql.raw(`to_char(f.${column} AT TIME ZONE 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"')`);
 
-/** The brief of the open findings of the vehicle_analysis row aliased `a`, most severe first. */
+/** The brief of the unresolved findings of the vehicle_analysis row aliased `a`, most severe first. */
 const openFindingsBrief = sql`coalesce((
       select jsonb_agg(jsonb_build_object(
                'id', f.finding_id, 'kind', f.kind, 'severity', f.severity, 'confidence', f.confidence,
                'firstSeen', ${isoText('first_seen')}, 'lastSeen', ${isoText('last_seen')},
-               'summary', f.summary, 'recommendedCheck', f.recommended_check, 'troubleCode', f.trouble_code)
+               'summary', f.summary, 'recommendedCheck', f.recommended_check, 'troubleCode', f.trouble_code,
+               'status', f.status, 'deferredUntil', case when f.deferred_until is null then null else ${isoText('deferred_until')} end)
                order by case f.severity when 'critical' then 0 when 'warning' then 1 else 2 end, f.confidence desc, f.finding_id)
-      from findings f where f.vehicle_id = a.vehicle_id and f.status = 'open'), '[]'::jsonb)`;
+      from findings f where f.vehicle_id = a.vehicle_id and f.status <> 'resolved'), '[]'::jsonb)`;
 
 /**
  * Rebuilds `open_findings_brief` of the vehicle_analysis rows (alias `a`) matching `where` from
- * their open findings, in one statement.
+ * their unresolved findings, in one statement.
  */
 export async function refreshOpenFindingsBrief(trx: Kysely<Database>, where: RawBuilder<unknown>): Promise<void> {
   await sql`update vehicle_analysis a set open_findings_brief = ${openFindingsBrief} where ${where}`.execute(trx);
 }
 
 /**
- * Recomputes a vehicle's risk, open-finding count, highest open severity and the brief of its
- * open findings from its stored `open` findings (acknowledged and resolved ones do not count, as
- * in `riskScore`), at the vehicle's analysis time (its latest reading), and stores them in
+ * Recomputes a vehicle's risk, unresolved-finding count, highest unresolved severity and the
+ * brief of its unresolved findings from its stored findings that are open, acknowledged or
+ * deferred (a planner having seen or postponed a finding repairs nothing; resolved ones do not
+ * count, as in `riskScore`), at the vehicle's analysis time (its latest reading), and stores them in
  * vehicle_analysis, where the at-risk list reads them without touching findings. Called by the
  * worker after each pass and by the planner actions that change a finding's status.
  */
@@ -54,7 +59,7 @@ export async function refreshVehicleRisk(trx: Kysely<Database>, vehicleId: strin
   const rows = await sql<{ last_reading_at: Date | null; engine_family: string; severity: Severity | null; confidence: number | null; last_seen: Date | null }>`
     select a.last_reading_at, v.engine_family, f.severity, f.confidence, f.last_seen
     from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id
-    left join findings f on f.vehicle_id = a.vehicle_id and f.status = 'open'
+    left join findings f on f.vehicle_id = a.vehicle_id and f.status <> 'resolved'
     where a.vehicle_id = ${vehicleId}
     order by f.finding_id`.execute(trx);
   const state = rows.rows[0];

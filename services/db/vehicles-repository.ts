@@ -1,4 +1,6 @@
 import { sql, type Kysely, type Selectable } from 'kysely';
+import { SEA_LEVEL_PRESSURE_KPA } from '../analysis/physics/atmosphere.js';
+import { glycolMassToVolumePercent } from '../analysis/physics/units.js';
 import type { Database, VehiclesTable } from './schema.js';
 
 /** A vehicle's cooling-system profile as the API shows it. */
@@ -13,15 +15,29 @@ export interface VehicleProfile {
   label: string | null;
   createdAt: string;
   updatedAt: string;
+  depot: string | null;
+  siteAltitudeM: number | null;
+  /** The site's atmospheric pressure used for the boiling point, kPa (sea level when not given). */
+  atmosphericPressureKpa: number;
+  glycolPercentByVolume: number;
+  /** How the glycol share was given; glycolPercent is always by mass. */
+  glycolBasis: 'mass' | 'volume' | null;
+  /** True while no cooling-system profile has been set: thermostat, cap and glycol are the defaults. */
+  defaultProfile: boolean;
 }
 
 export interface VehicleProfilePatch {
   engineFamily?: string;
   thermostatOpenC?: number;
   capPressureKpa?: number;
+  /** By mass. */
   glycolPercent?: number;
   samplePeriodS?: number;
   label?: string | null;
+  depot?: string | null;
+  siteAltitudeM?: number | null;
+  atmosphericPressureKpa?: number | null;
+  glycolBasis?: 'mass' | 'volume';
 }
 
 export function toVehicleProfile(row: Selectable<VehiclesTable>): VehicleProfile {
@@ -36,6 +52,12 @@ export function toVehicleProfile(row: Selectable<VehiclesTable>): VehicleProfile
     label: row.label,
     createdAt: row.created_at.toISOString(),
     updatedAt: row.updated_at.toISOString(),
+    depot: row.depot,
+    siteAltitudeM: row.site_altitude_m,
+    atmosphericPressureKpa: row.atmospheric_pressure_kpa ?? SEA_LEVEL_PRESSURE_KPA,
+    glycolBasis: row.glycol_basis,
+    glycolPercentByVolume: Math.round(glycolMassToVolumePercent(row.glycol_percent) * 100) / 100,
+    defaultProfile: row.profile_set_at === null,
   };
 }
 
@@ -47,8 +69,16 @@ function patchValues(patch: VehicleProfilePatch) {
     ...(patch.glycolPercent !== undefined ? { glycol_percent: patch.glycolPercent } : {}),
     ...(patch.samplePeriodS !== undefined ? { sample_period_s: patch.samplePeriodS } : {}),
     ...(patch.label !== undefined ? { label: patch.label } : {}),
+    ...(patch.depot !== undefined ? { depot: patch.depot } : {}),
+    ...(patch.siteAltitudeM !== undefined ? { site_altitude_m: patch.siteAltitudeM } : {}),
+    ...(patch.atmosphericPressureKpa !== undefined ? { atmospheric_pressure_kpa: patch.atmosphericPressureKpa } : {}),
+    ...(patch.glycolBasis !== undefined ? { glycol_basis: patch.glycolBasis } : {}),
+    ...(PROFILE_FIELDS.some((k) => patch[k] !== undefined) ? { profile_set_at: sql<Date>`now()` } : {}),
   };
 }
+
+/** The cooling-system facts: setting any of them ends the default profile. */
+const PROFILE_FIELDS = ['engineFamily', 'thermostatOpenC', 'capPressureKpa', 'glycolPercent'] as const;
 
 export function createVehiclesRepository(db: Kysely<Database>) {
   return {

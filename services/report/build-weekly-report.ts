@@ -3,15 +3,17 @@ import { resolveConfig } from '../analysis/config.js';
 import { SAFETY_CAUTION } from '../analysis/findings/finding.js';
 import { coolantBoilingPointC } from '../analysis/physics/boiling-point.js';
 import type { Database } from '../db/schema.js';
+import { findingsAsOf } from './as-of-findings.js';
 import { summariseDataQuality } from './data-quality.js';
+import { reportCoverage } from './report-coverage.js';
 import { summariseFindings } from './findings-summary.js';
 import { SILENT_LOOKBACK_DAYS, summariseFleet } from './fleet-summary.js';
 import { lastCompleteIsoWeek, parseIsoWeek, weekWindow, type WeekWindow } from './iso-week.js';
 import { PEAK_CHART_DAYS, peakChart } from './peak-chart-data.js';
 import { createReportRepository, type ReportRepository, type ReportVehicle, type StoredFinding } from './report-repository.js';
 import { baselineBand, drawableColdStarts, WARMUP_CHART_MIN, warmupCurve } from './warmup-chart-data.js';
-import type { VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
-import { buildWorkList, unresolvedAt, vehiclePriority } from './work-list.js';
+import type { PeakChart, VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
+import { buildWorkList, unresolvedAt } from './work-list.js';
 
 /** Vehicles (highest risk first) that get chart sections; the rest are on the work list only. */
 export const MAX_CHARTED_VEHICLES = 10;
@@ -58,13 +60,25 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
   const win = weekWindow(week, fleet.timeZone);
   const asOf = Math.min(win.endMs, now);
 
-  const vehicles = await repo.vehicles(fleet.fleetId);
-  const byId = new Map(vehicles.map((v) => [v.vehicleId, v]));
+  const pastWeek = now >= win.endMs;
+  const stored = await repo.vehicles(fleet.fleetId);
   const weekDays = await repo.days(fleet.fleetId, win.dates[0]!, win.dates[6]!);
   const findings = await repo.findings(fleet.fleetId, win.startMs, win.endMs);
-  const unresolved = unresolvedAt(findings, asOf);
+  let unresolved = unresolvedAt(findings, asOf);
+  let vehicles = stored;
+  // A past week is told as of its end throughout: the findings, texts and risk of every vehicle
+  // analysed beyond the week are re-derived from what was stored by then. For the others the
+  // stored findings already are the state at the week's end.
+  const later = new Set(stored.filter((v) => pastWeek && (v.lastReadingMs ?? -Infinity) > asOf).map((v) => v.vehicleId));
+  if (later.size > 0) {
+    const rederive = [...new Set(unresolved.filter((f) => later.has(f.vehicleId)).map((f) => f.vehicleId))];
+    const asOfFindings = await findingsAsOf(db, rederive, new Map(stored.map((v) => [v.vehicleId, v])), findings, asOf);
+    unresolved = [...unresolved.filter((f) => !later.has(f.vehicleId)), ...asOfFindings.unresolved];
+    vehicles = stored.map((v) => (later.has(v.vehicleId) ? { ...v, riskScore: asOfFindings.risk.get(v.vehicleId) ?? 0 } : v));
+  }
+  const byId = new Map(vehicles.map((v) => [v.vehicleId, v]));
   const workList = buildWorkList(unresolved, byId);
-  const toBook = [...new Set(workList.map((w) => w.vehicleId))];
+  const toBook = workList.map((w) => w.vehicleId);
   const lastReadings = await repo.lastReadings(fleet.fleetId, asOf, SILENT_LOOKBACK_DAYS * DAY_MS);
   const sensorEvents = await repo.sensorEvents(fleet.fleetId, win.startMs, win.endMs);
   const priorFirst = dayBefore(win.dates[0]!, HISTORY_DAYS);
@@ -72,6 +86,7 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
   // The breaks end on the week's first day, so a break running into the week counts as usual only up to it.
   const usualBreaks = await repo.longestBreaks(fleet.fleetId, priorFirst, win.dates[0]!);
   const usualGaps = await repo.gapTotals(fleet.fleetId, priorFirst, priorLast);
+  const weekData = await repo.weekData(fleet.fleetId, win.dates[0]!, win.dates[6]!, win.endMs);
 
   return {
     formatVersion: 1,
@@ -82,6 +97,7 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
     },
     generatedAt: new Date(now).toISOString(),
     asOf: new Date(asOf).toISOString(),
+    coverage: reportCoverage(weekData, vehicles.length, now >= win.endMs),
     summary: summariseFleet(vehicles, weekDays, lastReadings, usualBreaks, asOf, toBook.length),
     findings: summariseFindings(findings, win.startMs, win.endMs),
     workList,
@@ -122,12 +138,13 @@ async function vehicleSections(
       const curve = warmupCurve(run, readings);
       if (curve) curves.push(curve);
     }
-    const items = workList.filter((w) => w.vehicleId === id);
-    const boilingPointC = coolantBoilingPointC(v.capPressureKpa, v.glycolPercent, cfg.atmosphericPressureKpa);
+    const row = workList.find((w) => w.vehicleId === id)!;
+    const atmosphericPressureKpa = v.atmosphericPressureKpa ?? cfg.atmosphericPressureKpa;
+    const boilingPointC = coolantBoilingPointC(v.capPressureKpa, v.glycolPercent, atmosphericPressureKpa);
     sections.push({
-      vehicleId: id, label: v.label, engineFamily: v.engineFamily, riskScore: v.riskScore, priority: vehiclePriority(items),
-      capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent,
-      findingIds: items.map((w) => w.findingId), headline: items[0]!.why,
+      vehicleId: id, label: v.label, engineFamily: v.engineFamily, riskScore: v.riskScore, priority: row.priority,
+      capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent, atmosphericPressureKpa, defaultProfile: v.defaultProfile ?? false,
+      findingIds: row.findings.map((f) => f.findingId), headline: row.why,
       warmup: {
         warmupTargetC: Math.round((v.thermostatOpenC - cfg.obdWarmupMarginC) * 10) / 10,
         thermostatOpenC: v.thermostatOpenC,
@@ -135,8 +152,31 @@ async function vehicleSections(
         ...baselineBand(own.filter((r) => r.startMs >= bandFrom && r.startMs < onset)),
         curves,
       },
-      peaks: peakChart(days.filter((d) => d.vehicleId === id).map((d) => d.metrics), cfg.trendWindowDays, boilingPointC, v.thermostatOpenC + cfg.hotMarginC),
+      peaks: withFindingTrend(
+        peakChart(days.filter((d) => d.vehicleId === id).map((d) => d.metrics), cfg.trendWindowDays, boilingPointC, v.thermostatOpenC + cfg.hotMarginC),
+        unresolved.find((f) => f.vehicleId === id && f.kind === 'overheating-trend'),
+      ),
     });
   }
   return sections;
+}
+
+/**
+ * The chart's trend numbers taken from the vehicle's overheating-trend finding when it has one,
+ * so the work-list sentence and the chart caption quote one computation (slope, level, days to
+ * boiling, boiling point); the line is drawn from the chart's last day with data.
+ */
+function withFindingTrend(chart: PeakChart, finding: StoredFinding | undefined): PeakChart {
+  const m = finding?.metrics;
+  if (!chart.trend || !m || m.rawSlopeCPerDay === undefined || m.levelC === undefined || m.daysToBoil === undefined) return chart;
+  const daysToBoil = m.daysToBoil < 0 ? null : m.daysToBoil;
+  const anchorMs = Date.parse(chart.trend.anchorDay);
+  return {
+    ...chart,
+    boilingPointC: m.boilingPointC ?? chart.boilingPointC,
+    trend: {
+      ...chart.trend, senSlopeCPerDay: m.rawSlopeCPerDay, levelC: m.levelC, daysToBoil,
+      projectedBoilDate: daysToBoil === null ? null : new Date(anchorMs + Math.ceil(daysToBoil) * DAY_MS).toISOString().slice(0, 10),
+    },
+  };
 }

@@ -1,10 +1,19 @@
 import type { WorkItem } from './weekly-report-schema.js';
 
-/** The CSV columns, named as the JSON work-list fields. */
+/** The CSV columns, named as the JSON work-list fields (one row per vehicle, as the JSON). */
 export const WORK_LIST_COLUMNS = [
   'rank', 'vehicleId', 'label', 'riskScore', 'priority', 'severity', 'kind', 'status', 'since', 'lastSeen',
-  'confidence', 'troubleCode', 'why', 'check', 'caution', 'findingId',
-] as const satisfies readonly (keyof WorkItem)[];
+  'confidence', 'troubleCode', 'why', 'check', 'caution', 'findingId', 'findingIds', 'findingCount',
+] as const;
+
+type Column = (typeof WORK_LIST_COLUMNS)[number];
+
+/** One cell: a scalar field as it is, the vehicle's findings as their ids (space-separated) and their count. */
+function cell(w: WorkItem, c: Column): string | number | null {
+  if (c === 'findingIds') return w.findings.map((f) => f.findingId).join(' ');
+  if (c === 'findingCount') return w.findings.length;
+  return w[c];
+}
 
 // Spreadsheets run a cell that starts with one of these as a formula (OWASP "CSV injection").
 const FORMULA_START = /^[=+\-@\t\r]/;
@@ -23,6 +32,6 @@ export function csvField(value: string | number | null): string {
 /** The work list as CSV: a header row, CRLF line ends (RFC 4180), UTF-8. */
 export function renderWorkListCsv(items: readonly WorkItem[]): string {
   const lines = [WORK_LIST_COLUMNS.join(',')];
-  for (const w of items) lines.push(WORK_LIST_COLUMNS.map((c) => csvField(w[c])).join(','));
+  for (const w of items) lines.push(WORK_LIST_COLUMNS.map((c) => csvField(cell(w, c))).join(','));
   return `${lines.join('\r\n')}\r\n`;
 }

@@ -1,8 +1,10 @@
-import { kindLabel } from './finding-labels.js';
+import {
+  kindLabel, PRIORITY_LEGEND, relatedCodeLabel, resolvedReasonLabel, RISK_LEGEND, sensorEventLabel, SEVERITY_LEGEND, STATUS_LEGEND,
+} from './finding-labels.js';
 import { escapeHtml as e } from './html-escape.js';
 import { badge, vehicleSectionHtml } from './html-vehicle-section.js';
 import { REPORT_CSS } from './report-css.js';
-import type { WeeklyReport, WorkItem } from './weekly-report-schema.js';
+import type { WeeklyReport, WorkFinding, WorkItem } from './weekly-report-schema.js';
 
 const pct = (v: number) => `${Math.round(v * 100)} %`;
 const fmt = (v: number, digits = 0) => v.toLocaleString('en-GB', { maximumFractionDigits: digits, minimumFractionDigits: digits });
@@ -10,8 +12,8 @@ const longDate = (day: string) => new Date(`${day}T12:00:00Z`).toLocaleDateStrin
 
 function kpis(r: WeeklyReport): string {
   const s = r.summary;
-  const now = new Set(r.workList.filter((w) => w.priority === 'book now').map((w) => w.vehicleId)).size;
-  const week = new Set(r.workList.filter((w) => w.priority === 'book this week').map((w) => w.vehicleId)).size;
+  const now = r.workList.filter((w) => w.priority === 'book now').length;
+  const week = r.workList.filter((w) => w.priority === 'book this week').length;
   const f = r.findings.totals;
   const unusual = s.silentGateways.filter((g) => g.unusual).length;
   const box = (value: string, label: string, alert = false) => `<div class="kpi${alert ? ' alert' : ''}"><b>${value}</b>${label}</div>`;
@@ -25,28 +27,52 @@ ${box(`${f.new} / ${f.ongoing} / ${f.resolved}`, 'findings new / ongoing / resol
 </section>`;
 }
 
+/** How a planner's decision on the finding shows beside it. */
+function statusNote(f: WorkFinding): string {
+  if (f.status === 'acknowledged') return ' <span class="note">(acknowledged, not yet repaired)</span>';
+  if (f.status === 'deferred') return ` <span class="note">(deferred until ${e(f.deferredUntil ?? '?')}${f.deferredReason ? `: ${e(f.deferredReason)}` : ''})</span>`;
+  return '';
+}
+
+function findingLine(f: WorkFinding): string {
+  const code = f.troubleCode ? ` <span class="note">(${e(relatedCodeLabel(f.troubleCode))})</span>` : '';
+  return `<li data-finding-id="${e(f.findingId)}"><b>${e(kindLabel(f.kind))}</b> <span class="note">${e(f.severity)}</span>${code}${statusNote(f)}<br>${e(f.why)}</li>`;
+}
+
+/** One row per vehicle: every finding, one combined list of checks, and the cautions beyond the general one. */
 function workListRow(w: WorkItem): string {
-  const label = w.label ? `<br><span class="note">${e(w.label)}</span>` : '';
-  const code = w.troubleCode ? ` <span class="note">(${e(w.troubleCode)})</span>` : '';
+  const label = (w.label ? `<br><span class="note">${e(w.label)}</span>` : '')
+    + (w.defaultProfile ? '<br><span class="note">default profile: cap, glycol and thermostat assumed</span>' : '');
+  const extra = w.cautions.slice(1);
   return `<tr data-finding-id="${e(w.findingId)}" data-vehicle-id="${e(w.vehicleId)}">
 <td class="num">${w.rank}</td><td>${badge(w.priority)}</td>
 <td class="nowrap"><a href="#vehicle-${e(w.vehicleId)}"><b>${e(w.vehicleId)}</b></a>${label}</td><td class="num">${w.riskScore}</td>
-<td><b>${e(kindLabel(w.kind))}</b>${code}${w.status === 'acknowledged' ? ' <span class="note">(acknowledged)</span>' : ''}<br>${e(w.why)}</td>
-<td class="check">${e(w.check)}</td><td class="nowrap">${e(w.since)}</td><td class="num">${pct(w.confidence)}</td></tr>`;
+<td><ul class="findings">${w.findings.map(findingLine).join(' ')}</ul></td>
+<td class="check"><ol class="checks">${w.checks.map((c) => `<li>${e(c)}</li>`).join(' ')}</ol>${extra.length ? `<p class="caution-line">${extra.map(e).join(' ')}</p>` : ''}</td>
+<td class="nowrap">${e(w.since)}</td><td class="num">${pct(w.confidence)}</td></tr>`;
 }
 
 function workList(r: WeeklyReport): string {
-  if (r.workList.length === 0) return '<p class="empty">Nothing to book: no open findings at the end of the week.</p>';
+  if (r.workList.length === 0) return '<p class="empty">Nothing to book: no unresolved findings at the end of the week.</p>';
   return `<div class="caution" role="note">${e(r.caution)}</div>
-<table id="work-list-table"><thead><tr><th class="num">#</th><th>priority</th><th>vehicle</th><th class="num">risk</th><th>why</th><th>what to check</th><th>since</th><th class="num">confidence</th></tr></thead>
+<table id="work-list-table"><thead><tr><th class="num">#</th><th>priority</th><th>vehicle</th><th class="num">risk</th><th>findings</th><th>what to check (one visit)</th><th>since</th><th class="num">confidence</th></tr></thead>
 <tbody>${r.workList.map(workListRow).join('\n')}</tbody></table>`;
+}
+
+/** What the booking words, severities, risk and statuses mean. */
+function legend(): string {
+  const rows = Object.entries(PRIORITY_LEGEND).map(([p, text]) => `<dt>${badge(p)}</dt><dd>${e(text)}</dd>`).join('');
+  const severities = Object.entries(SEVERITY_LEGEND).map(([s, text]) => `<b>${e(s)}</b>: ${e(text)}`).join('; ');
+  return `<aside id="legend" aria-label="legend"><h3>Legend</h3><dl class="legend">${rows}</dl>
+<p class="note"><b>Severity</b> — ${severities}. <b>Risk</b> — ${e(RISK_LEGEND)} ${e(STATUS_LEGEND)} `
+    + 'A related code is the standard trouble code that matches the finding, given as context: the vehicle did not necessarily report it.</p></aside>';
 }
 
 function findingsTable(r: WeeklyReport): string {
   const rows = r.findings.byKindSeverity;
   if (rows.length === 0) return '<p class="empty">No findings this week.</p>';
   const resolved = r.findings.resolvedThisWeek.map((x) =>
-    `<li>${e(x.vehicleId)}: ${e(kindLabel(x.kind))} (${e(x.severity)}) resolved ${e(x.resolvedAt.slice(0, 10))}${x.reason ? ` — ${e(x.reason)}` : ''}</li>`).join('');
+    `<li>${e(x.vehicleId)}: ${e(kindLabel(x.kind))} (${e(x.severity)}) resolved ${e(x.resolvedAt.slice(0, 10))}${x.reason ? ` — ${e(resolvedReasonLabel(x.reason) ?? '')}` : ''}</li>`).join('');
   return `<table id="findings-table"><thead><tr><th>finding</th><th>severity</th><th class="num">new</th><th class="num">ongoing</th><th class="num">resolved</th></tr></thead><tbody>
 ${rows.map((x) => `<tr><td>${e(kindLabel(x.kind))}</td><td>${e(x.severity)}</td><td class="num">${x.new}</td><td class="num">${x.ongoing}</td><td class="num">${x.resolved}</td></tr>`).join('\n')}
 </tbody></table>${resolved ? `<p>Resolved this week:</p><ul>${resolved}</ul>` : ''}`;
@@ -62,7 +88,7 @@ function dataQuality(r: WeeklyReport): string {
   const dq = r.dataQuality;
   const sensors = dq.sensorFaults.length === 0 ? '<p class="empty">No implausible coolant readings this week.</p>'
     : `<table id="sensor-table"><thead><tr><th>vehicle</th><th>runs with implausible readings, by kind</th><th>open sensor finding</th></tr></thead><tbody>${dq.sensorFaults.map((x) =>
-      `<tr><td>${e(x.vehicleId)}</td><td>${e(Object.entries(x.events).map(([k, n]) => `${k} ${n}`).join(', ') || '—')}</td><td>${x.openFinding ? e(x.openFinding) : '—'}</td></tr>`).join('')}</tbody></table>`;
+      `<tr><td>${e(x.vehicleId)}</td><td>${e(Object.entries(x.events).map(([k, n]) => `${sensorEventLabel(k)}: ${n}`).join(', ') || '—')}</td><td>${x.openFinding ? e(x.openFinding) : '—'}</td></tr>`).join('')}</tbody></table>`;
   const gaps = dq.gaps.length === 0 ? '<p class="empty">No vehicle lost clearly more of its running time to gaps than in the four weeks before.</p>'
     : `<table id="gaps-table"><thead><tr><th>vehicle</th><th class="num">days with data</th><th class="num">dropouts</th><th class="num">missing</th><th class="num">share of running time</th><th class="num">usual share</th></tr></thead><tbody>${dq.gaps.map((g) =>
       `<tr><td>${e(g.vehicleId)}</td><td class="num">${g.daysWithData}</td><td class="num">${g.dropouts}</td><td class="num">${fmt(g.missingHours, 1)} h</td><td class="num">${pct(g.missingFraction)}</td><td class="num">${g.usualMissingFraction === null ? '—' : pct(g.usualMissingFraction)}</td></tr>`).join('')}</tbody></table>`;
@@ -76,17 +102,19 @@ function dataQuality(r: WeeklyReport): string {
 export function renderReportHtml(r: WeeklyReport): string {
   const title = `Cooling-system maintenance report — ${r.fleet.name}, ${r.week.isoWeek}`;
   const charted = r.vehicles.length;
-  const rest = new Set(r.workList.map((w) => w.vehicleId)).size - charted;
+  const rest = r.workList.length - charted;
   return `<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1">
 <title>${e(title)}</title><style>${REPORT_CSS}</style></head>
 <body>
 <header><h1>${e(title)}</h1>
-<p class="sub">Week ${e(r.week.isoWeek)}: ${e(longDate(r.week.firstDay))} – ${e(longDate(r.week.lastDay))} (${e(r.fleet.timeZone)}) · data as of ${e(r.asOf.slice(0, 16).replace('T', ' '))} UTC · generated ${e(r.generatedAt.slice(0, 16).replace('T', ' '))} UTC</p></header>
+<p class="sub">Week ${e(r.week.isoWeek)}: ${e(longDate(r.week.firstDay))} – ${e(longDate(r.week.lastDay))} (${e(r.fleet.timeZone)}) · data as of ${e(r.asOf.slice(0, 16).replace('T', ' '))} UTC · generated ${e(r.generatedAt.slice(0, 16).replace('T', ' '))} UTC</p>
+<p class="sub" id="coverage">${e(r.coverage.statement)}</p></header>
 ${kpis(r)}
 <section id="work-list"><h2>Work list for the shop</h2>
 <p class="note">Vehicles in order of risk; book the red ones before their next duty. Each row says what the data shows and what to check.</p>
-${workList(r)}</section>
+${workList(r)}
+${legend()}</section>
 <section id="vehicles"><h2>The evidence, vehicle by vehicle</h2>
 ${charted === 0 ? '<p class="empty">No vehicle at risk.</p>' : r.vehicles.map((v) => vehicleSectionHtml(v, r.fleet.timeZone)).join('\n')}
 ${rest > 0 ? `<p class="note">${rest} more vehicle${rest > 1 ? 's' : ''} on the work list without charts here.</p>` : ''}</section>

@@ -1,3 +1,4 @@
+import { round } from '../analysis/findings/finding.js';
 import { escapeHtml as e } from './html-escape.js';
 import { peakChartSvg, PROJECTION_DRAWN_DAYS } from './peak-chart.js';
 import { warmupChartSvg } from './warmup-chart.js';
@@ -26,12 +27,17 @@ export function peakCaption(v: VehicleSection): string {
   if (t) {
     if (t.daysToBoil === null) trend = `Peaks are not rising towards the boiling point (${t.senSlopeCPerDay.toFixed(2)} °C/day).`;
     else {
-      trend = `At ${t.senSlopeCPerDay.toFixed(2)} °C/day from a level of ${t.levelC} °C, the daily peak reaches the boiling point (${p.boilingPointC} °C) `
-        + `around <b>${e(t.projectedBoilDate!)}</b>, in about ${Math.round(t.daysToBoil)} days.`;
+      const days = Math.round(t.daysToBoil);
+      trend = days < 1
+        ? `At ${round(t.senSlopeCPerDay, 2)} °C/day from a level of ${t.levelC} °C, the daily peaks already reach the boiling point (${p.boilingPointC} °C).`
+        : `At ${round(t.senSlopeCPerDay, 2)} °C/day from a level of ${t.levelC} °C, the daily peak reaches the boiling point (${p.boilingPointC} °C) `
+          + `around <b>${e(t.projectedBoilDate!)}</b>, in about ${days} day${days === 1 ? '' : 's'}.`;
       if (t.daysToBoil > PROJECTION_DRAWN_DAYS) trend += ` (The dashed projection is drawn for the first ${PROJECTION_DRAWN_DAYS} days.)`;
     }
   }
-  return `${trend} Boiling point for a ${v.capPressureKpa} kPa cap and ${v.glycolPercent} % glycol. Peaks climbing while ambient does not point to the cooling system, not the weather.`;
+  const site = v.atmosphericPressureKpa !== undefined ? ` at ${round(v.atmosphericPressureKpa, 1)} kPa atmospheric pressure` : '';
+  const assumed = v.defaultProfile ? ' These are the default profile values, not the vehicle\'s own: set its profile for a true figure.' : '';
+  return `${trend} Boiling point for a ${v.capPressureKpa} kPa cap and ${v.glycolPercent} % glycol by mass${site}.${assumed} Peaks climbing while ambient does not point to the cooling system, not the weather.`;
 }
 
 /** One at-risk vehicle: heading, the top finding, and its two charts. */

@@ -22,6 +22,11 @@ td.nowrap { white-space: nowrap; }
 .badge.book-now { background: var(--now); }
 .badge.book-this-week { background: var(--week); }
 .badge.at-next-service { background: var(--later); }
+dl.legend { display: grid; grid-template-columns: max-content 1fr; gap: 4px 10px; margin: 6px 0; }
+dl.legend dd { margin: 0; }
+.caution-line { font-size: 0.9em; font-weight: 600; margin: 6px 0 0; }
+ul.findings, ol.checks { margin: 0; padding-left: 1.2em; }
+ul.findings li + li, ol.checks li + li { margin-top: 4px; }
 .caution { border: 2px solid var(--now); border-left-width: 8px; padding: 8px 12px; margin: 8px 0 12px; font-weight: 600; }
 .vehicle { border-top: 1px solid var(--rule); padding: 14px 0 4px; break-inside: avoid; page-break-inside: avoid; }
 .vehicle .headline { margin: 2px 0 8px; }

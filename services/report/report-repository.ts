@@ -11,17 +11,32 @@ export interface FleetRow { fleetId: string; name: string; timeZone: string }
 export interface ReportVehicle {
   vehicleId: string; label: string | null; engineFamily: string;
   thermostatOpenC: number; capPressureKpa: number; glycolPercent: number; riskScore: number;
+  /** The vehicle's latest analysed reading, ms (null: never analysed). */
+  lastReadingMs?: number | null;
+  /** The site's atmospheric pressure, kPa (null: the config's sea level). */
+  atmosphericPressureKpa?: number | null;
+  /** No profile set: thermostat, cap and glycol are defaults. */
+  defaultProfile?: boolean;
 }
 export interface StoredDay { vehicleId: string; metrics: DayAggregate }
 export interface StoredRun { vehicleId: string; metrics: RunMetrics }
 export interface StoredFinding {
   findingId: string; vehicleId: string; kind: string; severity: 'advisory' | 'warning' | 'critical'; confidence: number;
-  firstSeenMs: number; lastSeenMs: number; createdMs: number; status: 'open' | 'acknowledged' | 'resolved';
+  firstSeenMs: number; lastSeenMs: number; createdMs: number; status: 'open' | 'acknowledged' | 'deferred' | 'resolved';
   summary: string; recommendedCheck: string; troubleCode: string | null;
   resolvedMs: number | null; resolvedReason: string | null;
+  deferredUntilMs: number | null; deferredReason: string | null;
+  key: string; metrics: Record<string, number>; acknowledgedMs: number | null;
 }
 export interface StoredSensorEvent { vehicleId: string; kind: string }
 export interface ReadingSeries { tsMs: number[]; coolantC: number[] }
+/** What the analysis tables hold for a fleet's week (the report's coverage), and what is still to be analysed. */
+export interface WeekData {
+  vehiclesWithData: number; vehicleDays: number; readings: number; firstReadingMs: number | null; lastReadingMs: number | null;
+  findings: number; findingsChangedMs: number | null; serviceEvents: number; serviceEventsChangedMs: number | null;
+  /** Vehicles of the fleet with readings queued for analysis that reach back before the week's end. */
+  pendingVehicles: number;
+}
 export interface ArchivedReport { fleetId: string; isoWeek: string; generatedAt: Date; json: unknown; html: string; csv: string }
 
 function fleetRow(r: { fleet_id: string; name: string; time_zone: string }): FleetRow {
@@ -46,11 +61,13 @@ export function createReportRepository(db: Kysely<Database>) {
     async vehicles(fleetId: string): Promise<ReportVehicle[]> {
       const rows = await db.selectFrom('vehicles as v')
         .leftJoin('vehicle_analysis as a', 'a.vehicle_id', 'v.vehicle_id')
-        .select(['v.vehicle_id', 'v.label', 'v.engine_family', 'v.thermostat_open_c', 'v.cap_pressure_kpa', 'v.glycol_percent', 'a.risk_score'])
+        .select(['v.vehicle_id', 'v.label', 'v.engine_family', 'v.thermostat_open_c', 'v.cap_pressure_kpa', 'v.glycol_percent', 'a.risk_score', 'a.last_reading_at', 'v.atmospheric_pressure_kpa', 'v.profile_set_at'])
         .where('v.fleet_id', '=', fleetId).orderBy('v.vehicle_id').execute();
       return rows.map((r) => ({
         vehicleId: r.vehicle_id, label: r.label, engineFamily: r.engine_family, thermostatOpenC: r.thermostat_open_c,
         capPressureKpa: r.cap_pressure_kpa, glycolPercent: r.glycol_percent, riskScore: r.risk_score ?? 0,
+        lastReadingMs: r.last_reading_at ? ms(r.last_reading_at) : null,
+        atmosphericPressureKpa: r.atmospheric_pressure_kpa, defaultProfile: r.profile_set_at === null,
       }));
     },
 
@@ -104,7 +121,7 @@ export function createReportRepository(db: Kysely<Database>) {
     async lastServiceEvents(vehicleIds: readonly string[], beforeMs: number): Promise<Map<string, number>> {
       if (vehicleIds.length === 0) return new Map();
       const rows = await db.selectFrom('service_events').select(['vehicle_id', (eb) => eb.fn.max('at').as('at')])
-        .where('vehicle_id', 'in', vehicleIds).where('at', '<', new Date(beforeMs)).groupBy('vehicle_id').execute();
+        .where('vehicle_id', 'in', vehicleIds).where('at', '<', new Date(beforeMs)).where('deleted_at', 'is', null).groupBy('vehicle_id').execute();
       return new Map(rows.map((r) => [r.vehicle_id, ms(r.at as Date)]));
     },
 
@@ -119,6 +136,8 @@ export function createReportRepository(db: Kysely<Database>) {
         firstSeenMs: ms(r.first_seen), lastSeenMs: ms(r.last_seen), createdMs: ms(r.created_at), status: r.status,
         summary: r.summary, recommendedCheck: r.recommended_check, troubleCode: r.trouble_code,
         resolvedMs: r.resolved_at ? ms(r.resolved_at) : null, resolvedReason: r.resolved_reason,
+        deferredUntilMs: r.deferred_until ? ms(r.deferred_until) : null, deferredReason: r.deferred_reason,
+        key: r.finding_key, metrics: r.metrics, acknowledgedMs: r.acknowledged_at ? ms(r.acknowledged_at) : null,
       }));
     },
 
@@ -160,6 +179,48 @@ export function createReportRepository(db: Kysely<Database>) {
           generated_at: generatedAt, report_json: row.report_json, report_html: html, worklist_csv: csv,
         }))
         .execute();
+    },
+
+    /**
+     * The fleet's week as the analysis tables hold it now: the vehicle-days of its dates, the
+     * findings and service events that can appear in it, and the vehicles whose queued readings
+     * reach back before its end (analysis not caught up). Any change of these changes the report.
+     */
+    async weekData(fleetId: string, first: string, last: string, endMs: number): Promise<WeekData> {
+      const end = new Date(endMs);
+      const r = await sql<Record<string, number | string | null>>`
+        select
+          (select count(distinct d.vehicle_id) from vehicle_days d join vehicles v on v.vehicle_id = d.vehicle_id
+            where v.fleet_id = ${fleetId} and d.day >= ${first}::date and d.day <= ${last}::date and (d.metrics->>'sampleCount')::float8 > 0) as vehicles_with_data,
+          (select count(*) from vehicle_days d join vehicles v on v.vehicle_id = d.vehicle_id
+            where v.fleet_id = ${fleetId} and d.day >= ${first}::date and d.day <= ${last}::date) as vehicle_days,
+          (select coalesce(sum((d.metrics->>'sampleCount')::float8), 0) from vehicle_days d join vehicles v on v.vehicle_id = d.vehicle_id
+            where v.fleet_id = ${fleetId} and d.day >= ${first}::date and d.day <= ${last}::date) as readings,
+          (select min((d.metrics->>'firstSampleMs')::float8) from vehicle_days d join vehicles v on v.vehicle_id = d.vehicle_id
+            where v.fleet_id = ${fleetId} and d.day >= ${first}::date and d.day <= ${last}::date and (d.metrics->>'sampleCount')::float8 > 0) as first_reading_ms,
+          (select max((d.metrics->>'lastSampleMs')::float8) from vehicle_days d join vehicles v on v.vehicle_id = d.vehicle_id
+            where v.fleet_id = ${fleetId} and d.day >= ${first}::date and d.day <= ${last}::date and (d.metrics->>'sampleCount')::float8 > 0) as last_reading_ms,
+          (select count(*) from findings f where f.fleet_id = ${fleetId} and f.first_seen < ${end}) as findings,
+          (select floor(extract(epoch from max(f.updated_at)) * 1000) from findings f where f.fleet_id = ${fleetId} and f.first_seen < ${end}) as findings_changed_ms,
+          (select count(*) from service_events e where e.fleet_id = ${fleetId} and e.at < ${end} and e.deleted_at is null) as service_events,
+          (select floor(extract(epoch from max(greatest(e.created_at, e.updated_at, e.deleted_at))) * 1000) from service_events e
+            where e.fleet_id = ${fleetId} and e.at < ${end}) as service_events_changed_ms,
+          (select count(*) from analysis_queue q where q.fleet_id = ${fleetId} and least(q.dirty_from, coalesce(q.leased_from, 'infinity'::timestamptz)) < ${end}) as pending_vehicles`.execute(db);
+      const row = r.rows[0] ?? {};
+      const num = (k: string) => Number(row[k] ?? 0);
+      const opt = (k: string) => (row[k] === null || row[k] === undefined ? null : Number(row[k]));
+      return {
+        vehiclesWithData: num('vehicles_with_data'), vehicleDays: num('vehicle_days'), readings: num('readings'),
+        firstReadingMs: opt('first_reading_ms'), lastReadingMs: opt('last_reading_ms'), findings: num('findings'), findingsChangedMs: opt('findings_changed_ms'),
+        serviceEvents: num('service_events'), serviceEventsChangedMs: opt('service_events_changed_ms'), pendingVehicles: num('pending_vehicles'),
+      };
+    },
+
+    /** ISO weeks of the fleet's archived reports generated after `sinceMs`, newest first. */
+    async archivedWeeks(fleetId: string, sinceMs: number): Promise<string[]> {
+      const rows = await db.selectFrom('weekly_reports').select('iso_week').where('fleet_id', '=', fleetId)
+        .where('generated_at', '>=', new Date(sinceMs)).orderBy('iso_week', 'desc').execute();
+      return rows.map((r) => r.iso_week);
     },
 
     async archived(fleetId: string, isoWeek: string): Promise<ArchivedReport | undefined> {

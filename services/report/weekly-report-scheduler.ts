@@ -1,8 +1,9 @@
 import type { Kysely } from 'kysely';
 import type { Database } from '../db/schema.js';
-import { formatIsoWeek, isoWeekAt, isoWeekDate, lastCompleteIsoWeek, weekWindow } from './iso-week.js';
+import { formatIsoWeek, isoWeekAt, isoWeekDate, lastCompleteIsoWeek } from './iso-week.js';
 import { createReportRepository } from './report-repository.js';
 import { generateWeeklyReport, writeWeeklyReport } from './weekly-report-files.js';
+import { archiveState } from './weekly-report-service.js';
 import { zonedTimeToUtcMs } from './zoned-time.js';
 
 export interface WeeklyReportSchedulerOptions {
@@ -21,11 +22,20 @@ export interface WeeklyReportSchedulerOptions {
 export const DEFAULT_REPORT_WEEKDAY = 1;
 export const DEFAULT_REPORT_HOUR = 6;
 export const DEFAULT_SCHEDULER_INTERVAL_MS = 15 * 60_000;
+/** The due report waits at most this long after it is due for the fleet's analysis to catch up, then is built anyway (saying so), ms. */
+export const MAX_ANALYSIS_WAIT_MS = 24 * 3_600_000;
+/** Archived reports generated within this many weeks are checked for staleness and rebuilt, weeks. */
+export const REBUILD_LOOKBACK_WEEKS = 8;
+const WEEK_MS = 7 * 86_400_000;
 
 /**
  * Builds each fleet's report for the last complete ISO week once the configured weekday and
- * hour have come in the fleet's time zone (`fleets.time_zone`). A week already archived after
- * it ended is not built again, so ticks are idempotent and a restart catches up.
+ * hour have come in the fleet's time zone (`fleets.time_zone`) and the fleet's analysis has
+ * caught up with the week (no vehicle's queued readings reach back before its end; after
+ * MAX_ANALYSIS_WAIT_MS it is built anyway and its coverage says what is missing). Archived
+ * reports of recent weeks whose data changed since (a back-fill) are built again once their
+ * analysis has caught up. A fresh archive is not built again, so ticks are idempotent and a
+ * restart catches up.
  * `tick(now)` does one check (testable without timers); `start()` runs it on an interval.
  */
 export class WeeklyReportScheduler {
@@ -65,19 +75,26 @@ export class WeeklyReportScheduler {
     const built: string[] = [];
     for (const fleet of await repo.fleets()) {
       const { timeZone } = fleet;
-      if (now < this.dueAt(now, timeZone)) continue;
-      const week = lastCompleteIsoWeek(now, timeZone);
-      const isoWeek = formatIsoWeek(week);
-      const archived = await repo.archived(fleet.fleetId, isoWeek);
-      if (archived && archived.generatedAt.getTime() >= weekWindow(week, timeZone).endMs) continue;
-      try {
-        const options = { fleetId: fleet.fleetId, week: isoWeek, now };
-        if (this.options.outDir) await writeWeeklyReport(this.options.db, { ...options, outDir: this.options.outDir });
-        else await generateWeeklyReport(this.options.db, options);
-        built.push(`${fleet.fleetId}/${isoWeek}`);
-        this.log(`weekly report ${fleet.fleetId} ${isoWeek} built`);
-      } catch (err) {
-        this.log(`weekly report ${fleet.fleetId} ${isoWeek} failed: ${err instanceof Error ? err.message : String(err)}`);
+      const due = this.dueAt(now, timeZone);
+      if (now < due) continue;
+      const dueWeek = formatIsoWeek(lastCompleteIsoWeek(now, timeZone));
+      const weeks = new Set([dueWeek, ...await repo.archivedWeeks(fleet.fleetId, now - REBUILD_LOOKBACK_WEEKS * WEEK_MS)]);
+      for (const isoWeek of weeks) {
+        const state = await archiveState(this.options.db, fleet.fleetId, isoWeek, timeZone);
+        if (state.fresh) continue;
+        if (state.data.pendingVehicles > 0 && (state.archived !== undefined || now < due + MAX_ANALYSIS_WAIT_MS)) {
+          this.log(`weekly report ${fleet.fleetId} ${isoWeek} waits for the analysis of ${state.data.pendingVehicles} vehicle(s)`);
+          continue;
+        }
+        try {
+          const options = { fleetId: fleet.fleetId, week: isoWeek, now };
+          if (this.options.outDir) await writeWeeklyReport(this.options.db, { ...options, outDir: this.options.outDir });
+          else await generateWeeklyReport(this.options.db, options);
+          built.push(`${fleet.fleetId}/${isoWeek}`);
+          this.log(`weekly report ${fleet.fleetId} ${isoWeek} ${state.archived ? 'rebuilt: its data changed since it was archived' : 'built'}`);
+        } catch (err) {
+          this.log(`weekly report ${fleet.fleetId} ${isoWeek} failed: ${err instanceof Error ? err.message : String(err)}`);
+        }
       }
     }
     return built;

@@ -49,23 +49,54 @@ export const FindingsSummary = Type.Object({
   })),
 });
 
-export const WorkItem = Type.Object({
-  rank: Type.Integer({ minimum: 1, description: 'order on the work list (vehicles by risk, then their findings by severity)' }),
-  vehicleId: Type.String(),
-  label: Nullable(Type.String()),
-  riskScore: Type.Number({ minimum: 0, maximum: 100 }),
-  priority: PriorityT,
+const WorkStatusT = Type.Union([Type.Literal('open'), Type.Literal('acknowledged'), Type.Literal('deferred')], {
+  description: 'acknowledged: seen by a planner, not repaired; deferred: postponed until deferredUntil',
+});
+
+/** One unresolved finding in a vehicle's work-list row. */
+export const WorkFinding = Type.Object({
   findingId: Type.String(),
   kind: Type.String(),
   severity: SeverityT,
-  status: Type.Union([Type.Literal('open'), Type.Literal('acknowledged')]),
+  status: WorkStatusT,
+  priority: PriorityT,
   why: Type.String({ description: "the finding's one-sentence summary" }),
-  check: Type.String({ description: 'what to check (without the safety caution, which is in `caution`)' }),
+  check: Type.String({ description: 'what to check for this finding (without the cautions)' }),
   since: Type.String({ description: 'date of the first evidence (YYYY-MM-DD)' }),
   lastSeen: Type.String({ description: 'date of the latest evidence (YYYY-MM-DD)' }),
   confidence: Type.Number({ minimum: 0, maximum: 1 }),
   troubleCode: Nullable(Type.String()),
-  caution: Type.String(),
+  deferredUntil: Nullable(Type.String({ description: 'deferred: the date the work waits for (YYYY-MM-DD)' })),
+  deferredReason: Nullable(Type.String()),
+});
+
+/**
+ * One row per vehicle. The finding fields (findingId, kind, severity, status, why, confidence,
+ * troubleCode) are those of the vehicle's most severe finding; `findings` lists every one.
+ */
+export const WorkItem = Type.Object({
+  rank: Type.Integer({ minimum: 1, description: 'order on the work list: vehicles by risk, as the at-risk list' }),
+  vehicleId: Type.String(),
+  label: Nullable(Type.String()),
+  riskScore: Type.Number({ minimum: 0, maximum: 100 }),
+  defaultProfile: Type.Optional(Type.Boolean({ description: 'no profile set: boiling and freezing figures assume the default cap, glycol and thermostat' })),
+  priority: PriorityT,
+  findingId: Type.String({ description: 'the most severe finding' }),
+  kind: Type.String(),
+  severity: SeverityT,
+  status: WorkStatusT,
+  deferredUntil: Nullable(Type.String()),
+  deferredReason: Nullable(Type.String()),
+  why: Type.String({ description: "the most severe finding's summary" }),
+  check: Type.String({ description: 'every check of the vehicle in one text (the list is in `checks`)' }),
+  since: Type.String({ description: 'date of the earliest first evidence (YYYY-MM-DD)' }),
+  lastSeen: Type.String({ description: 'date of the latest evidence (YYYY-MM-DD)' }),
+  confidence: Type.Number({ minimum: 0, maximum: 1 }),
+  troubleCode: Nullable(Type.String()),
+  caution: Type.String({ description: 'every caution in one text (the list is in `cautions`)' }),
+  findings: Type.Array(WorkFinding, { description: 'every unresolved finding of the vehicle, most severe first' }),
+  checks: Type.Array(Type.String(), { description: 'one combined list of checks for one shop visit, without repeats' }),
+  cautions: Type.Array(Type.String(), { description: 'the general safety caution, then those the checks call for (engine running, coolant disposal)' }),
 });
 
 export const CurvePoint = Type.Tuple([Type.Number({ description: 'minutes since engine start' }), Type.Number({ description: 'coolant °C' })]);
@@ -115,6 +146,8 @@ export const VehicleSection = Type.Object({
   priority: PriorityT,
   capPressureKpa: Type.Number(),
   glycolPercent: Type.Number(),
+  atmosphericPressureKpa: Type.Optional(Type.Number({ description: 'the site pressure the boiling point uses, kPa' })),
+  defaultProfile: Type.Optional(Type.Boolean({ description: 'no profile set: cap, glycol and thermostat are defaults, so boiling and freezing figures are assumptions' })),
   findingIds: Type.Array(Type.String()),
   headline: Type.String({ description: "the top finding's summary" }),
   warmup: WarmupChart,
@@ -136,6 +169,18 @@ export const GapRow = Type.Object({
   usualMissingFraction: Nullable(Type.Number({ description: 'the same share over the four weeks before; null: no history' })),
 });
 
+export const ReportCoverage = Type.Object({
+  vehiclesWithData: Type.Integer({ description: 'vehicles with analysed readings in the week' }),
+  vehicleDays: Type.Integer(),
+  readings: Type.Integer({ description: 'analysed readings of the week' }),
+  firstReadingAt: Nullable(Type.String({ format: 'date-time' })),
+  lastReadingAt: Nullable(Type.String({ format: 'date-time' })),
+  pendingVehicles: Type.Integer({ description: 'vehicles whose readings of the week still wait for analysis' }),
+  complete: Type.Boolean({ description: 'the week has ended and its analysis has caught up' }),
+  stamp: Type.String({ description: 'fingerprint of the data the report was built from; an archived report whose data changed is rebuilt' }),
+  statement: Type.String({ description: 'what the report covers, in words' }),
+}, { description: 'what data the report covers' });
+
 export const WeeklyReportSchema = Type.Object({
   formatVersion: Type.Literal(1),
   fleet: Type.Object({ fleetId: Type.String(), name: Type.String(), timeZone: Type.String() }),
@@ -147,6 +192,7 @@ export const WeeklyReportSchema = Type.Object({
   }),
   generatedAt: Type.String(),
   asOf: Type.String({ description: 'the earlier of the week end and the generation time' }),
+  coverage: ReportCoverage,
   summary: FleetSummary,
   findings: FindingsSummary,
   workList: Type.Array(WorkItem),
@@ -157,6 +203,7 @@ export const WeeklyReportSchema = Type.Object({
 
 export type WeeklyReport = Static<typeof WeeklyReportSchema>;
 export type WorkItem = Static<typeof WorkItem>;
+export type WorkFinding = Static<typeof WorkFinding>;
 export type VehicleSection = Static<typeof VehicleSection>;
 export type WarmupChart = Static<typeof WarmupChart>;
 export type PeakChart = Static<typeof PeakChart>;

@@ -1,12 +1,13 @@
+import { cautionsFor } from '../analysis/findings/cautions.js';
 import { round, SAFETY_CAUTION, type Severity } from '../analysis/findings/finding.js';
 import { utcDay } from '../analysis/sample-arrays.js';
 import type { ReportVehicle, StoredFinding } from './report-repository.js';
-import type { Priority, WorkItem } from './weekly-report-schema.js';
+import type { Priority, WorkFinding, WorkItem } from './weekly-report-schema.js';
 
 const SEVERITY_RANK: Readonly<Record<Severity, number>> = { critical: 0, warning: 1, advisory: 2 };
 export const PRIORITY_OF: Readonly<Record<Severity, Priority>> = { critical: 'book now', warning: 'book this week', advisory: 'at next service' };
 
-/** The check without the safety caution the analysis appends (the report states it once per item, in `caution`). */
+/** The check without the safety caution the analysis appends (the report states the cautions once per vehicle). */
 export function checkWithoutCaution(check: string): string {
   return check.endsWith(SAFETY_CAUTION) ? check.slice(0, -SAFETY_CAUTION.length).trim() : check.trim();
 }
@@ -16,37 +17,66 @@ export function unresolvedAt(findings: readonly StoredFinding[], asOfMs: number)
   return findings.filter((f) => f.firstSeenMs < asOfMs && (f.resolvedMs === null || f.resolvedMs >= asOfMs));
 }
 
+const statusOf = (f: StoredFinding): WorkFinding['status'] => (f.status === 'acknowledged' || f.status === 'deferred' ? f.status : 'open');
+
+function workFinding(f: StoredFinding): WorkFinding {
+  const deferred = f.status === 'deferred';
+  return {
+    findingId: f.findingId, kind: f.kind, severity: f.severity, status: statusOf(f), priority: PRIORITY_OF[f.severity],
+    why: f.summary, check: checkWithoutCaution(f.recommendedCheck), since: utcDay(f.firstSeenMs), lastSeen: utcDay(f.lastSeenMs),
+    confidence: round(f.confidence, 3), troubleCode: f.troubleCode,
+    deferredUntil: deferred && f.deferredUntilMs !== null ? utcDay(f.deferredUntilMs) : null, deferredReason: deferred ? f.deferredReason : null,
+  };
+}
+
 /**
- * The shop's work list: every unresolved finding, vehicles in order of risk (as the at-risk
- * list), each vehicle's findings by severity then confidence.
+ * The shop's work list: one row per vehicle (a shop visit covers all of a vehicle's checks),
+ * vehicles in order of risk (as the at-risk list). Each row carries the worst priority, every
+ * unresolved finding (most severe first), one combined list of checks without repeats, and the
+ * cautions those checks call for. The row's finding fields (findingId, kind, why, …) are those of
+ * its most severe finding, so clients that read one finding per row still get the first thing to do.
  */
 export function buildWorkList(unresolved: readonly StoredFinding[], vehicles: ReadonlyMap<string, ReportVehicle>): WorkItem[] {
   const risk = (id: string) => vehicles.get(id)?.riskScore ?? 0;
-  const sorted = [...unresolved].sort((a, b) =>
-    risk(b.vehicleId) - risk(a.vehicleId) || a.vehicleId.localeCompare(b.vehicleId)
-    || SEVERITY_RANK[a.severity] - SEVERITY_RANK[b.severity] || b.confidence - a.confidence || a.findingId.localeCompare(b.findingId));
-  return sorted.map((f, i) => ({
-    rank: i + 1,
-    vehicleId: f.vehicleId,
-    label: vehicles.get(f.vehicleId)?.label ?? null,
-    riskScore: risk(f.vehicleId),
-    priority: PRIORITY_OF[f.severity],
-    findingId: f.findingId,
-    kind: f.kind,
-    severity: f.severity,
-    status: f.status === 'acknowledged' ? 'acknowledged' : 'open',
-    why: f.summary,
-    check: checkWithoutCaution(f.recommendedCheck),
-    since: utcDay(f.firstSeenMs),
-    lastSeen: utcDay(f.lastSeenMs),
-    confidence: round(f.confidence, 3),
-    troubleCode: f.troubleCode,
-    caution: SAFETY_CAUTION,
-  }));
+  const byVehicle = new Map<string, StoredFinding[]>();
+  for (const f of unresolved) byVehicle.set(f.vehicleId, [...(byVehicle.get(f.vehicleId) ?? []), f]);
+  const ids = [...byVehicle.keys()].sort((a, b) => risk(b) - risk(a) || a.localeCompare(b));
+  return ids.map((vehicleId, i) => {
+    const own = byVehicle.get(vehicleId)!.sort((a, b) =>
+      SEVERITY_RANK[a.severity] - SEVERITY_RANK[b.severity] || b.confidence - a.confidence || a.findingId.localeCompare(b.findingId));
+    const findings = own.map(workFinding);
+    const worst = findings[0]!;
+    const checks = [...new Set(findings.map((f) => f.check))];
+    const cautions = cautionsFor(findings.map((f) => f.kind));
+    return {
+      rank: i + 1,
+      vehicleId,
+      label: vehicles.get(vehicleId)?.label ?? null,
+      riskScore: risk(vehicleId),
+      defaultProfile: vehicles.get(vehicleId)?.defaultProfile ?? false,
+      priority: worst.priority,
+      findingId: worst.findingId,
+      kind: worst.kind,
+      severity: worst.severity,
+      status: worst.status,
+      deferredUntil: worst.deferredUntil,
+      deferredReason: worst.deferredReason,
+      why: worst.why,
+      check: checks.join(' '),
+      since: findings.reduce((s, f) => (f.since < s ? f.since : s), worst.since),
+      lastSeen: findings.reduce((s, f) => (f.lastSeen > s ? f.lastSeen : s), worst.lastSeen),
+      confidence: worst.confidence,
+      troubleCode: worst.troubleCode,
+      caution: cautions.join(' '),
+      findings,
+      checks,
+      cautions,
+    };
+  });
 }
 
-/** The most urgent priority among a vehicle's items. */
-export function vehiclePriority(items: readonly WorkItem[]): Priority {
+/** The most urgent priority among a vehicle's findings. */
+export function vehiclePriority(items: ReadonlyArray<{ severity: Severity }>): Priority {
   const worst = items.reduce<Severity>((w, item) => (SEVERITY_RANK[item.severity] < SEVERITY_RANK[w] ? item.severity : w), 'advisory');
   return PRIORITY_OF[worst];
 }

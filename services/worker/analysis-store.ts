@@ -38,15 +38,18 @@ export function createAnalysisStore(db: Kysely<Database>) {
   return {
     /** What the worker knows about each vehicle before analysing it, in the order asked (one statement for a batch). */
     async vehicleStates(vehicleIds: readonly string[]): Promise<VehicleState[]> {
-      const r = await sql<{ engine_family: string | null; thermostat_open_c: number; cap_pressure_kpa: number; glycol_percent: number; resume_from: Date | null; last_reading_at: Date | null }>`
-        select v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent, a.resume_from, a.last_reading_at
+      const r = await sql<{ engine_family: string | null; thermostat_open_c: number; cap_pressure_kpa: number; glycol_percent: number; atmospheric_pressure_kpa: number | null; resume_from: Date | null; last_reading_at: Date | null }>`
+        select v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent, v.atmospheric_pressure_kpa, a.resume_from, a.last_reading_at
         from unnest(${[...vehicleIds]}::text[]) with ordinality as l(vehicle_id, o)
         left join vehicles v on v.vehicle_id = l.vehicle_id
         left join vehicle_analysis a on a.vehicle_id = l.vehicle_id
         order by l.o`.execute(db);
       return r.rows.map((x) => ({
         profile: x.engine_family !== null
-          ? { engineFamily: x.engine_family, thermostatOpenC: x.thermostat_open_c, capPressureKpa: x.cap_pressure_kpa, glycolPercent: x.glycol_percent }
+          ? {
+            engineFamily: x.engine_family, thermostatOpenC: x.thermostat_open_c, capPressureKpa: x.cap_pressure_kpa, glycolPercent: x.glycol_percent,
+            ...(x.atmospheric_pressure_kpa !== null ? { atmosphericPressureKpa: x.atmospheric_pressure_kpa } : {}),
+          }
           : { ...DEFAULT_VEHICLE_PROFILE },
         resumeFromMs: x.resume_from?.getTime() ?? null,
         lastReadingMs: x.last_reading_at?.getTime() ?? null,
@@ -91,7 +94,7 @@ export function createAnalysisStore(db: Kysely<Database>) {
                (select coalesce(jsonb_agg(metrics order by day), '[]') from vehicle_days where vehicle_id = ${vehicleId} and day < ${utcDay(beforeMs)}::date) as days,
                (select coalesce(jsonb_agg(event order by run_start, kind), '[]') from sensor_events where vehicle_id = ${vehicleId} and run_start < ${ts(beforeMs)}) as events,
                (select coalesce(jsonb_agg(jsonb_build_object('kind', kind, 'at', floor(extract(epoch from at) * 1000)) order by at, event_id), '[]')
-                from service_events where vehicle_id = ${vehicleId}) as services`.execute(db);
+                from service_events where vehicle_id = ${vehicleId} and deleted_at is null) as services`.execute(db);
       const row = r.rows[0];
       return {
         runs: row?.runs ?? [],

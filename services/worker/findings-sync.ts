@@ -17,11 +17,12 @@ export interface SyncInput {
 
 /**
  * Brings the stored findings of a vehicle in line with a pass's derived findings:
+ * - ends deferrals whose date has passed;
  * - upserts each by (vehicle_id, finding_key), keeping id, status and acknowledgement; a
  *   finding that resolved itself comes back `open` if derived again (a finding resolved by a
  *   service event stays resolved); rows whose content is unchanged are not touched, so a
  *   re-run writes nothing;
- * - resolves (`evidence-stopped`, at the analysis time) open or acknowledged findings that were
+ * - resolves (`evidence-stopped`, at the analysis time) unresolved findings that were
  *   not derived and whose last evidence is older than the quiet period. One not derived but
  *   with recent evidence stays as it is: a change-point that wavers does not flap the status.
  */
@@ -30,6 +31,12 @@ export async function syncFindings(trx: Kysely<Database>, input: SyncInput): Pro
   const asOf = sql`to_timestamp(${asOfMs}::float8 / 1000)`;
   const reopen = sql`(findings.status = 'resolved' and findings.resolved_reason = ${EVIDENCE_STOPPED})`;
   const keys = input.derived.map((f) => f.key);
+  // A deferral ends on its date (wall clock: the planner's calendar, not the readings' time):
+  // the finding goes back to acknowledged if it had been, else open.
+  await sql`
+    update findings set status = case when acknowledged_at is not null then 'acknowledged' else 'open' end,
+                        deferred_until = null, deferred_reason = null, deferred_by = null, updated_at = now()
+    where vehicle_id = ${vehicleId} and status = 'deferred' and deferred_until <= now()`.execute(trx);
   // One statement: the upsert as a data-modifying CTE (it runs though nothing reads it) and the
   // resolving update touch disjoint rows (derived keys vs. keys not derived).
   await sql`
@@ -56,7 +63,7 @@ export async function syncFindings(trx: Kysely<Database>, input: SyncInput): Pro
              excluded.recommended_check, excluded.trouble_code, excluded.metrics, excluded.evidence)
     )
     update findings set status = 'resolved', resolved_reason = ${EVIDENCE_STOPPED}, resolved_at = ${asOf}, updated_at = now()
-    where vehicle_id = ${vehicleId} and status in ('open', 'acknowledged')
+    where vehicle_id = ${vehicleId} and status in ('open', 'acknowledged', 'deferred')
       and not (finding_key = any(${keys}::text[]))
       and last_seen < to_timestamp(${asOfMs - input.quietPeriodMs}::float8 / 1000)`.execute(trx);
 }

@@ -53,7 +53,7 @@ describe('GET /v1/fleet/at-risk', () => {
     const risks = vehicles.map((v) => v.riskScore);
     expect([...risks].sort((a, b) => b - a)).toEqual(risks);
     expect(vehicles[0]!.findings.map((f) => f.severity)).toEqual(['critical', 'advisory']);
-    expect(Object.keys(vehicles[0]!.findings[0]!).sort()).toEqual(['confidence', 'firstSeen', 'id', 'kind', 'lastSeen', 'recommendedCheck', 'severity', 'summary', 'troubleCode']);
+    expect(Object.keys(vehicles[0]!.findings[0]!).sort()).toEqual(['confidence', 'deferredUntil', 'firstSeen', 'id', 'kind', 'lastSeen', 'recommendedCheck', 'severity', 'status', 'summary', 'troubleCode']);
   });
 
   it('keeps only vehicles and findings at or above minSeverity, and honours limit', async () => {
@@ -83,7 +83,7 @@ describe('findings', () => {
     expect((await get('/v1/findings?status=resolved')).json().findings).toEqual([]);
   });
 
-  it('acknowledges an open finding once, for the key that did it, and takes it out of the risk', async () => {
+  it('acknowledges an open finding once, for the key that did it, and keeps the vehicle at risk', async () => {
     const [mid] = (await get('/v1/vehicles/A-MID/findings')).json().findings as Array<{ id: string; status: string; troubleCode: string | null }>;
     expect(mid).toMatchObject({ status: 'open', troubleCode: 'P0128' });
     const ack = await t.app.inject({ method: 'POST', url: `/v1/findings/${mid!.id}/acknowledge`, headers: t.auth(keyA) });
@@ -91,7 +91,7 @@ describe('findings', () => {
     expect(ack.json()).toMatchObject({ id: mid!.id, status: 'acknowledged', acknowledgedBy: expect.any(String) });
     const again = await t.app.inject({ method: 'POST', url: `/v1/findings/${mid!.id}/acknowledge`, headers: t.auth(keyA) });
     expect(again.json().acknowledgedAt).toBe(ack.json().acknowledgedAt);
-    expect((await get('/v1/fleet/at-risk')).json().vehicles.map((v: { vehicleId: string }) => v.vehicleId)).toEqual(['A-HIGH', 'A-LOW']);
+    expect((await get('/v1/fleet/at-risk')).json().vehicles.map((v: { vehicleId: string }) => v.vehicleId)).toEqual(['A-HIGH', 'A-MID', 'A-LOW']);
     expect((await get('/v1/findings?status=acknowledged')).json().findings).toHaveLength(1);
   });
 

@@ -24,8 +24,10 @@ function parseRfc4180(text: string): string[][] {
 
 const item = (over: Partial<WorkItem>): WorkItem => ({
   rank: 1, vehicleId: 'V-1', label: null, riskScore: 80.5, priority: 'book now', findingId: 'f-1', kind: 'overheating-trend',
-  severity: 'critical', status: 'open', why: 'Peaks rise.', check: 'Check the fan.', since: '2026-11-02', lastSeen: '2026-11-27',
-  confidence: 0.92, troubleCode: 'P0217', caution: SAFETY_CAUTION, ...over,
+  severity: 'critical', status: 'open', deferredUntil: null, deferredReason: null, why: 'Peaks rise.', check: 'Check the fan.', since: '2026-11-02', lastSeen: '2026-11-27',
+  confidence: 0.92, troubleCode: 'P0217', caution: SAFETY_CAUTION, checks: ['Check the fan.'], cautions: [SAFETY_CAUTION],
+  findings: [{ findingId: 'f-1', kind: 'overheating-trend', severity: 'critical', status: 'open', priority: 'book now', why: 'Peaks rise.', check: 'Check the fan.',
+    since: '2026-11-02', lastSeen: '2026-11-27', confidence: 0.92, troubleCode: 'P0217', deferredUntil: null, deferredReason: null }], ...over,
 });
 
 describe('the CSV work list (RFC 4180)', () => {
@@ -54,7 +56,7 @@ describe('the CSV work list (RFC 4180)', () => {
     expect(rows).toHaveLength(3);
     for (const [k, w] of items.entries()) {
       const row = Object.fromEntries(WORK_LIST_COLUMNS.map((c, i) => [c, rows[k + 1]![i]]));
-      expect(row).toMatchObject({ rank: String(w.rank), vehicleId: w.vehicleId, label: w.label ?? '', riskScore: String(w.riskScore), why: w.why, troubleCode: w.troubleCode ?? '', caution: SAFETY_CAUTION });
+      expect(row).toMatchObject({ rank: String(w.rank), vehicleId: w.vehicleId, label: w.label ?? '', riskScore: String(w.riskScore), why: w.why, troubleCode: w.troubleCode ?? '', caution: SAFETY_CAUTION, findingIds: 'f-1', findingCount: '1' });
     }
   });
 });

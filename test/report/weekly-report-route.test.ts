@@ -38,8 +38,10 @@ describe('GET /v1/reports/weekly', () => {
     const r = res.json();
     expect(r.week).toMatchObject({ isoWeek: WEEK, firstDay: '2026-11-23', lastDay: '2026-11-29', start: '2026-11-22T15:00:00.000Z' });
     expect(r.workList).toEqual([expect.objectContaining({
-      rank: 1, vehicleId: 'RT-1', priority: 'book this week', since: '2026-11-10', check: 'Check the thermostat.', caution: SAFETY_CAUTION, troubleCode: 'P0128',
+      rank: 1, vehicleId: 'RT-1', priority: 'book this week', since: '2026-11-10', check: 'Check the thermostat.', troubleCode: 'P0128',
+      checks: ['Check the thermostat.'], findings: [expect.objectContaining({ findingId: 'finding-rt-1', status: 'open' })],
     })]);
+    expect(r.workList[0].cautions[0]).toBe(SAFETY_CAUTION);
     expect(r.findings.totals).toEqual({ new: 0, ongoing: 1, resolved: 0 });
   });
 
@@ -50,6 +52,9 @@ describe('GET /v1/reports/weekly', () => {
     const html = res.body;
     expect(html).toContain('Route &amp; &quot;Test&quot; &lt;Fleet&gt;');
     expect(html).toContain('Warm-ups take &lt;twice&gt; as long.');
+    expect(html).toContain('id="legend"');
+    expect(html).toContain('related code P0128 (OBD-II) / SPN 110 FMI 18 (J1939)');
+    expect(html).toContain('id="coverage"');
     expect(html.match(/<svg class="chart"/g)).toHaveLength(2);
     expect(html).not.toMatch(/https?:\/\//i);
     expect(html).not.toMatch(/\bsrc\s*=|@import|url\((?!#)/i);

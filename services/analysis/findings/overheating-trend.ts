@@ -69,6 +69,17 @@ function dayShift(
 }
 
 /**
+ * The projection in words, from the same rounded numbers the report's chart caption prints
+ * (days to boiling to 0.1 day), so sentence and chart never disagree.
+ * @example boilWords(12.4, 121) // 'boiling point 121 °C in about 12 days at this rate'
+ */
+export function boilWords(daysToBoil: number, boilingPointC: number): string {
+  const days = Math.round(daysToBoil);
+  if (days < 1) return `peaks already reach the boiling point of ${round(boilingPointC, 0)} °C at cap pressure`;
+  return `boiling point ${round(boilingPointC, 0)} °C in about ${days} day${days === 1 ? '' : 's'} at this rate`;
+}
+
+/**
  * Overheating trend: daily peaks (overall, standing, moving 95th percentile) rising above
  * what the vehicle's own baseline days predict for the day's ambient temperature — by
  * CUSUM (a shift, e.g. a dead fan), by a CUSUM of the daily time above the hot threshold
@@ -160,15 +171,15 @@ export function overheatingTrendFinding(
     firstSeen,
     lastSeen,
     summary: `Since ${utcDay(firstSeen)} peak coolant temperatures run about ${round(riseC, 1)} °C above what the weather explains`
-      + (daysToBoil !== null ? `, rising ${round(rawSlope, 2)} °C a day (boiling point ${round(boilingPointC, 0)} °C in about ${Math.round(daysToBoil)} days at this rate)` : '')
+      + (daysToBoil !== null ? `, rising ${round(round(rawSlope, 3), 2)} °C a day (${boilWords(round(daysToBoil, 1), boilingPointC)})` : '')
       + (warm ? `; while driving the coolant runs about ${round(warm.rise, 1)} °C warmer than on earlier days in similar weather` : '')
-      + (hot ? `${warm ? ',' : ''} and the engine spends about ${Math.max(1, Math.round(hot.rise / 60))} min a day longer above its hot threshold` : '')
+      + (hot ? `${warm ? ',' : ''} and the engine spends about ${Math.max(1, Math.round(hot.rise / 60))} min a day longer above its hot threshold (${cfg.hotMarginC} °C over its thermostat rating)` : '')
       + '; likely a fouled radiator, a failing fan or coolant loss.',
     recommendedCheck: 'Check the coolant level and look for leaks with the engine cold, inspect the radiator core for blockage, '
       + 'check that the cooling fan engages when the engine is hot, and pressure-test the cap. ' + SAFETY_CAUTION,
     troubleCode: recentEpisodes > 0 ? 'P0217' : null,
     metrics: {
-      medianZ: round(medianZ), riseC: round(riseC), senSlopeCPerDay: round(slope, 3), rawSlopeCPerDay: round(rawSlope, 3),
+      medianZ: round(medianZ), riseC: round(riseC), senSlopeCPerDay: round(slope, 3), rawSlopeCPerDay: round(rawSlope, 3), levelC: round(level, 1),
       daysToBoil: daysToBoil === null ? -1 : round(daysToBoil, 1), boilingPointC: round(boilingPointC, 1),
       recentOverheatEpisodes: recentEpisodes, trendSignificant: trend ? 1 : 0, cusumAlarm: peaksShifted ? 1 : 0,
       hotTimeAlarm: hot ? 1 : 0, hotTimeRiseS: hot ? round(hot.rise, 0) : 0,

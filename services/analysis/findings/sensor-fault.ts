@@ -44,7 +44,7 @@ function sensorFinding(sub: SensorSubKind, baselineStart: number, firstSeen: num
   return {
     key: findingKey('sensor-fault', sub, baselineStart), kind: 'sensor-fault', subKind: sub,
     severity: warning ? 'warning' : 'advisory', confidence: round(clamp01(confidence), 3), firstSeen, lastSeen,
-    summary: `Since ${utcDay(firstSeen)} the coolant temperature reading ${w.what}; engine judgements from it are held back.`,
+    summary: `Since ${utcDay(firstSeen)} the coolant temperature reading ${w.what}; until it is fixed, warm-up and overheating findings are not raised from its readings.`,
     recommendedCheck: `${w.check} ${SAFETY_CAUTION}`, troubleCode: w.code, metrics, evidence: evidence.slice(-MAX_EVIDENCE_ITEMS),
   };
 }

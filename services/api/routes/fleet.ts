@@ -18,10 +18,11 @@ const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
       onRequest: app.requireScope('read'),
       schema: {
         tags: ['fleet'],
-        summary: 'Vehicles at risk, highest risk first, each with its open findings',
+        summary: 'Vehicles at risk, highest risk first, each with its unresolved findings',
         description:
-          'Risk 0–100 comes from the open findings (severity, confidence, recency at the vehicle\'s latest reading). ' +
-          'Acknowledged findings no longer add to it. `minSeverity` keeps vehicles with an open finding at least that severe, and only those findings.',
+          'Risk 0–100 comes from the unresolved findings (severity, confidence, recency at the vehicle\'s latest reading). ' +
+          'Acknowledged and deferred findings still count and are listed with their `status` (a planner having seen a finding repairs nothing); ' +
+          'only a repair or quiet evidence resolves them. `minSeverity` keeps vehicles with an unresolved finding at least that severe, and only those findings.',
         security: SECURITY,
         querystring: Type.Object({
           limit: Type.Integer({ minimum: 1, maximum: 1000, default: 50 }),

@@ -3,8 +3,9 @@ import { Type } from 'typebox';
 import { UnknownFleetError } from '../../report/build-weekly-report.js';
 import { formatIsoWeek, lastCompleteIsoWeek, parseIsoWeek, weekWindow } from '../../report/iso-week.js';
 import { createReportRepository } from '../../report/report-repository.js';
-import { generateWeeklyReport, reportBaseName } from '../../report/weekly-report-files.js';
-import { type WeeklyReport, WeeklyReportSchema } from '../../report/weekly-report-schema.js';
+import { reportBaseName } from '../../report/weekly-report-files.js';
+import { WeeklyReportSchema } from '../../report/weekly-report-schema.js';
+import { currentWeeklyReport } from '../../report/weekly-report-service.js';
 import { BadRequestError, NotFoundError } from '../errors.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
@@ -22,8 +23,11 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['reports'],
         summary: 'The weekly maintenance report (JSON, HTML or the CSV work list)',
-        description: 'A week that has ended is served from the archive once built after its end; the current week, a week archived '
-          + 'before it ended, or `refresh=true` rebuild it (and replace the archived copy). HTML is one self-contained page with inline SVG charts.',
+        description: 'A week that has ended is served from the archive while the archive is fresh: built after the week ended, from the data '
+          + 'the analysis tables still hold (`coverage.stamp`). The current week, a week archived before it ended, a week whose readings '
+          + 'arrived or were re-analysed after it was archived (a back-fill), or `refresh=true` rebuild it and replace the archived copy. '
+          + '`coverage` says what data the report covers and whether analysis had caught up. The `x-report-source` header says archive or built. '
+          + 'HTML is one self-contained page with inline SVG charts.',
         security: SECURITY,
         querystring: Type.Object({
           week: Type.Optional(Type.String({ pattern: '^\\d{4}-W\\d{2}$', description: 'ISO week, e.g. 2026-W48; default: the last complete week in the fleet time zone' })),
@@ -62,20 +66,15 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const name = formatIsoWeek(isoWeek);
       const window = weekWindow(isoWeek, timeZone);
       if (window.startMs > Date.now()) throw new BadRequestError(`week ${name} has not started yet`, 'validation_failed');
-      const archived = refresh ? undefined : await reports.archived(fleetId, name);
-      let out: { json: WeeklyReport; html: string; csv: string };
-      if (archived && archived.generatedAt.getTime() >= window.endMs) {
-        out = { json: archived.json as WeeklyReport, html: archived.html, csv: archived.csv };
-      } else {
-        try {
-          const rendered = await generateWeeklyReport(app.database.db, { fleetId, week: name });
-          out = { json: rendered.report, html: rendered.html, csv: rendered.csv };
-        } catch (err) {
-          if (err instanceof UnknownFleetError) throw new NotFoundError(err.message);
-          throw err;
-        }
+      let out;
+      try {
+        out = await currentWeeklyReport(app.database.db, { fleetId, isoWeek: name, timeZone, refresh });
+      } catch (err) {
+        if (err instanceof UnknownFleetError) throw new NotFoundError(err.message);
+        throw err;
       }
       reply.type(FORMATS[format]);
+      reply.header('x-report-source', out.source);
       if (format === 'json') return reply.send(out.json);
       if (format === 'csv') reply.header('content-disposition', `attachment; filename="${reportBaseName(fleetId, name)}.csv"`);
       return reply.send(format === 'html' ? out.html : out.csv);

@@ -1,57 +1,70 @@
 import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
-import { randomUUID } from 'node:crypto';
 import { Type } from 'typebox';
-import { createFindingsRepository } from '../../db/findings-repository.js';
-import { refreshVehicleRisk } from '../../db/vehicle-risk.js';
+import { SERVICE_EVENT_KINDS } from '../../analysis/findings/service-events.js';
+import { createPlannerActionsRepository } from '../../db/planner-actions-repository.js';
+import { createServiceEventsRepository, toServiceEventView } from '../../db/service-events-repository.js';
 import { createVehiclesRepository } from '../../db/vehicles-repository.js';
-import { createQueueRepository } from '../../worker/queue-repository.js';
+import { NotFoundError } from '../errors.js';
+import { createServiceEventActions } from '../planner/service-event-actions.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
+import { decodeCursor, NextCursor, page, pageQuery } from '../schemas/paging.js';
 import { parseTimeParam } from '../schemas/time-range.js';
 import { requireVehicle } from '../vehicle-access.js';
 
-const ServiceEventKindSchema = Type.Union(
-  ['thermostat-replaced', 'radiator-cleaned', 'fan-repaired', 'coolant-refilled', 'sensor-replaced'].map((k) => Type.Literal(k)),
-);
+const ServiceEventKindSchema = Type.Union(SERVICE_EVENT_KINDS.map((k) => Type.Literal(k)), {
+  description: 'the work done. inspected-no-fault-found resolves nothing and restarts no baseline: a fault the inspection missed keeps showing',
+});
 
 const ServiceEventSchema = Type.Object({
   id: Type.String(),
   vehicleId: Type.String(),
   kind: Type.String(),
-  at: Type.String({ format: 'date-time' }),
+  at: Type.String({ format: 'date-time', description: 'when the work was done' }),
   notes: Type.Union([Type.String(), Type.Null()]),
-  recordedBy: Type.Union([Type.String(), Type.Null()]),
+  recordedBy: Type.Union([Type.String({ description: 'id of the API key that recorded it' }), Type.Null()]),
   createdAt: Type.String({ format: 'date-time' }),
+  updatedAt: Type.Union([Type.String({ format: 'date-time', description: 'last correction' }), Type.Null()]),
+  resolvedFindings: Type.Array(Type.String(), { description: 'ids of the findings this event resolved' }),
+  inspectedFindings: Type.Array(Type.String(), { description: 'ids of the findings an inspection looked at (not resolved by it)' }),
 });
 
-type ServiceEventKind = 'thermostat-replaced' | 'radiator-cleaned' | 'fan-repaired' | 'coolant-refilled' | 'sensor-replaced';
+const AuditEntry = Type.Object({
+  id: Type.String(), action: Type.String({ description: 'correct or delete' }), keyId: Type.String(), at: Type.String({ format: 'date-time' }),
+  before: Type.Union([Type.Record(Type.String(), Type.Unknown()), Type.Null()]), after: Type.Union([Type.Record(Type.String(), Type.Unknown()), Type.Null()]),
+});
+
+const EventParams = Type.Intersect([VehicleIdParams, Type.Object({ eventId: Type.String({ minLength: 1, maxLength: 64 }) })]);
+const AT_DESCRIPTION = 'when the work was done: RFC 3339 or epoch ms';
+const AtField = Type.String({ minLength: 1, maxLength: 40, description: AT_DESCRIPTION });
+const NotesField = Type.String({ maxLength: 2000 });
 
 /**
- * Repairs recorded by planners. A repair resolves the vehicle's findings of the kinds it addresses
- * (thermostat → warm-up, overshoot, overheating; radiator, fan → overheating, boil margin;
- * coolant → overheating, boil margin, freeze risk; sensor → all sensor and engine findings) and
- * starts their baselines again from its date: the vehicle is queued for re-analysis. Recording a
- * repair is a planner action and needs only the `read` scope.
+ * A vehicle's repair history: record, list, correct and delete service events. Recording a repair
+ * resolves the related findings and starts their baselines again (rules in
+ * planner/service-event-actions.ts). These are planner actions and need only the `read` scope.
  */
 const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
   const db = app.database.db;
   const vehicles = createVehiclesRepository(db);
-  const findings = createFindingsRepository(db);
-  const queue = createQueueRepository(db);
+  const events = createServiceEventsRepository(db);
+  const audit = createPlannerActionsRepository(db);
+  const actions = createServiceEventActions(db);
 
   app.post(
     '/v1/vehicles/:vehicleId/service-events',
     {
       onRequest: app.requireScope('read'),
       schema: {
-        tags: ['vehicles', 'findings'],
-        summary: 'Record a repair: resolves the related findings and starts a new baseline',
+        tags: ['service events'],
+        summary: 'Record a repair or an inspection: resolves the related findings and starts a new baseline',
         security: SECURITY,
         params: VehicleIdParams,
         body: Type.Object({
           kind: ServiceEventKindSchema,
-          at: Type.Optional(Type.String({ minLength: 1, maxLength: 40, description: 'when the work was done: RFC 3339 or epoch ms (default now)' })),
-          notes: Type.Optional(Type.String({ maxLength: 2000 })),
+          at: Type.Optional(Type.String({ minLength: 1, maxLength: 40, description: `${AT_DESCRIPTION} (default now)` })),
+          notes: Type.Optional(NotesField),
+          findingIds: Type.Optional(Type.Array(Type.String({ minLength: 1, maxLength: 64 }), { maxItems: 50, description: 'findings an inspection looked at' })),
         }, { additionalProperties: false }),
         response: {
           201: Type.Object({ event: ServiceEventSchema, resolvedFindings: Type.Array(Type.String({ description: 'ids of the findings resolved' })) }),
@@ -61,28 +74,106 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
     },
     async (request, reply) => {
       const principal = principalOf(request);
-      const { vehicleId } = request.params;
-      const vehicle = await requireVehicle(vehicles, principal, vehicleId);
-      const atMs = parseTimeParam('at', request.body.at) ?? Date.now();
-      const kind = request.body.kind as ServiceEventKind;
-      const result = await db.transaction().execute(async (trx) => {
-        const row = await trx.insertInto('service_events').values({
-          vehicle_id: vehicleId, event_id: randomUUID(), fleet_id: vehicle.fleetId, kind, at: new Date(atMs),
-          notes: request.body.notes ?? null, recorded_by: principal.keyId,
-        }).returningAll().executeTakeFirstOrThrow();
-        const resolved = await findings.resolveByRepair(trx, vehicleId, kind, atMs);
-        await refreshVehicleRisk(trx, vehicleId);
-        // Re-derive from the stored history with the new baseline start (no readings need re-reading).
-        const state = await trx.selectFrom('vehicle_analysis').select('last_reading_at').where('vehicle_id', '=', vehicleId).executeTakeFirst();
-        if (state?.last_reading_at) await queue.enqueue(vehicleId, vehicle.fleetId, state.last_reading_at.getTime(), trx);
-        return { row, resolved };
+      const vehicle = await requireVehicle(vehicles, principal, request.params.vehicleId);
+      const event = await actions.record(principal, vehicle, {
+        kind: request.body.kind, atMs: parseTimeParam('at', request.body.at) ?? Date.now(), notes: request.body.notes ?? null, findingIds: request.body.findingIds ?? [],
       });
       app.ingestNotifier.emit('analysis-needed', vehicle.fleetId);
-      const e = result.row;
-      return reply.status(201).send({
-        event: { id: e.event_id, vehicleId, kind: e.kind, at: e.at.toISOString(), notes: e.notes, recordedBy: e.recorded_by, createdAt: e.created_at.toISOString() },
-        resolvedFindings: result.resolved,
+      return reply.status(201).send({ event, resolvedFindings: event.resolvedFindings });
+    },
+  );
+
+  app.get(
+    '/v1/vehicles/:vehicleId/service-events',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['service events'],
+        summary: "The vehicle's repair history, newest first, each event with the findings it resolved",
+        security: SECURITY,
+        params: VehicleIdParams,
+        querystring: Type.Object(pageQuery(50, 500)),
+        response: { 200: Type.Object({ events: Type.Array(ServiceEventSchema), nextCursor: NextCursor }), ...errorResponses(400, 401, 403, 404) },
+      },
+    },
+    async (request) => {
+      await requireVehicle(vehicles, principalOf(request), request.params.vehicleId);
+      const key = decodeCursor(request.query.cursor, 2);
+      const after = key ? { atMs: Number(key[0]), eventId: String(key[1]) } : undefined;
+      const rows = await events.list(request.params.vehicleId, request.query.limit + 1, after);
+      const { items, nextCursor } = page(rows, request.query.limit, (r) => [r.at.getTime(), r.event_id]);
+      return { events: items.map(toServiceEventView), nextCursor };
+    },
+  );
+
+  app.get(
+    '/v1/vehicles/:vehicleId/service-events/:eventId',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['service events'],
+        summary: 'One service event with its audit trail of corrections',
+        security: SECURITY,
+        params: EventParams,
+        response: { 200: Type.Intersect([ServiceEventSchema, Type.Object({ history: Type.Array(AuditEntry) })]), ...errorResponses(401, 403, 404) },
+      },
+    },
+    async (request) => {
+      const { vehicleId, eventId } = request.params;
+      await requireVehicle(vehicles, principalOf(request), vehicleId);
+      const row = await events.get(vehicleId, eventId);
+      if (!row) throw new NotFoundError(`no service event '${eventId}' on vehicle '${vehicleId}'`);
+      return { ...toServiceEventView(row), history: await audit.ofSubject(vehicleId, eventId) };
+    },
+  );
+
+  app.patch(
+    '/v1/vehicles/:vehicleId/service-events/:eventId',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['service events'],
+        summary: 'Correct a service event (kind, time, notes): the findings it resolved are reopened and the corrected event applied',
+        description: 'Audited: the event\'s history keeps the entry before and after. The vehicle is re-analysed with the corrected baseline start.',
+        security: SECURITY,
+        params: EventParams,
+        body: Type.Object({ kind: Type.Optional(ServiceEventKindSchema), at: Type.Optional(AtField), notes: Type.Optional(Type.Union([NotesField, Type.Null()])) },
+          { additionalProperties: false, minProperties: 1 }),
+        response: { 200: ServiceEventSchema, ...errorResponses(400, 401, 403, 404) },
+      },
+    },
+    async (request) => {
+      const principal = principalOf(request);
+      const vehicle = await requireVehicle(vehicles, principal, request.params.vehicleId);
+      const atMs = parseTimeParam('at', request.body.at);
+      const event = await actions.correct(principal, vehicle, request.params.eventId, {
+        ...(request.body.kind ? { kind: request.body.kind } : {}), ...(atMs !== undefined ? { atMs } : {}),
+        ...(request.body.notes !== undefined ? { notes: request.body.notes } : {}),
       });
+      app.ingestNotifier.emit('analysis-needed', vehicle.fleetId);
+      return event;
+    },
+  );
+
+  app.delete(
+    '/v1/vehicles/:vehicleId/service-events/:eventId',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['service events'],
+        summary: 'Delete a wrong service event: the findings it resolved are reopened',
+        description: 'Audited; the entry is kept out of every list and out of the analysis, and the vehicle is re-analysed.',
+        security: SECURITY,
+        params: EventParams,
+        response: { 200: Type.Object({ deleted: Type.String(), reopenedFindings: Type.Array(Type.String()) }), ...errorResponses(401, 403, 404) },
+      },
+    },
+    async (request) => {
+      const principal = principalOf(request);
+      const vehicle = await requireVehicle(vehicles, principal, request.params.vehicleId);
+      const reopenedFindings = await actions.remove(principal, vehicle, request.params.eventId);
+      app.ingestNotifier.emit('analysis-needed', vehicle.fleetId);
+      return { deleted: request.params.eventId, reopenedFindings };
     },
   );
 };

@@ -7,6 +7,7 @@ import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
 import { Vehicle, VehicleProfilePatchBody } from '../schemas/vehicle.js';
 import { requireVehicle } from '../vehicle-access.js';
+import { toProfilePatch } from '../vehicle-profile-input.js';
 
 /** Vehicle profiles: the cooling-system facts the analysis needs (thermostat, cap, glycol). */
 const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
@@ -33,7 +34,7 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const { vehicleId } = request.params;
       if (principal.fleetId === null && !request.query.fleet) {
         // An admin key edits any vehicle; a new one needs its fleet named.
-        const vehicle = await vehicles.update(vehicleId, request.body);
+        const vehicle = await vehicles.update(vehicleId, toProfilePatch(request.body));
         if (!vehicle) throw new BadRequestError('an admin key must name the fleet of a new vehicle: ?fleet=<fleetId>');
         return reply.status(200).send(vehicle);
       }
@@ -45,7 +46,7 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
         fleetId = request.query.fleet!;
         if (!(await fleets.exists(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
       }
-      const result = await vehicles.upsert(vehicleId, { fleetId, onlyIfFleet: principal.fleetId }, request.body);
+      const result = await vehicles.upsert(vehicleId, { fleetId, onlyIfFleet: principal.fleetId }, toProfilePatch(request.body));
       if ('ownedByOtherFleet' in result) throw new ForbiddenError('this API key belongs to another fleet');
       const { vehicle, created } = result;
       return reply.status(created ? 201 : 200).send(vehicle);

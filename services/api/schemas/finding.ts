@@ -1,7 +1,10 @@
 import { Type } from 'typebox';
 
 export const SeveritySchema = Type.Union([Type.Literal('advisory'), Type.Literal('warning'), Type.Literal('critical')], { description: 'advisory < warning < critical' });
-export const FindingStatusSchema = Type.Union([Type.Literal('open'), Type.Literal('acknowledged'), Type.Literal('resolved')]);
+export const FindingStatusSchema = Type.Union([Type.Literal('open'), Type.Literal('acknowledged'), Type.Literal('deferred'), Type.Literal('resolved')], {
+  description: 'open → acknowledged (seen by a planner) → resolved (by a repair or quiet evidence); deferred: work postponed until deferredUntil. '
+    + 'Every status but resolved counts for risk and keeps the vehicle in the at-risk list.',
+});
 export const FindingKindSchema = Type.Union(
   ['slow-warmup', 'overshoot', 'overheating-trend', 'sensor-fault', 'boil-margin', 'freeze-risk', 'coolant-loss'].map((k) => Type.Literal(k)),
   { description: 'what the analysis found' },
@@ -21,6 +24,8 @@ export const FindingBrief = Type.Object({
   summary: Type.String(),
   recommendedCheck: Type.String({ description: 'what to check, with the safety caution' }),
   troubleCode: NullableString,
+  status: Type.Optional(FindingStatusSchema),
+  deferredUntil: Type.Optional(NullableDate),
 });
 
 export const EvidenceItemSchema = Type.Object({
@@ -55,6 +60,9 @@ export const FindingSchema = Type.Object({
   acknowledgedBy: NullableString,
   resolvedAt: NullableDate,
   resolvedReason: Type.Union([Type.String({ description: "'evidence-stopped' or 'service-event:<kind>'" }), Type.Null()]),
+  deferredUntil: Type.Union([Type.String({ format: 'date-time', description: 'deferred: the work is postponed until then' }), Type.Null()]),
+  deferredReason: NullableString,
+  deferredBy: Type.Union([Type.String({ description: 'id of the API key that deferred it' }), Type.Null()]),
   updatedAt: Type.String({ format: 'date-time' }),
 });
 
