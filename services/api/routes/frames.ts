@@ -5,9 +5,10 @@ import { createBusFramesRepository } from '../../db/bus-frames-repository.js';
 import { createFleetsRepository } from '../../db/fleets-repository.js';
 import { ForeignVehiclesError } from '../../db/readings-repository.js';
 import { Counter } from '../metrics-registry.js';
-import { BadRequestError, ForbiddenError, NotFoundError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
+import { BadRequestError, ForbiddenError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
 import { bodyFormatOf, bodyRecords, type BodyStats } from '../ingest/body-records.js';
 import { type BusProtocol, FRAME_SHAPES, FrameRecords } from '../ingest/frames/frame-records.js';
+import { ingestFleetOf } from '../ingest/ingest-fleet.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { MAX_REJECTED_LISTED } from './readings.js';
@@ -97,14 +98,7 @@ const framesRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReading
         const principal = principalOf(request);
         const format = bodyFormatOf(request.headers['content-type']);
         if (!format) throw new UnsupportedMediaTypeError('send application/json, application/x-ndjson or text/csv');
-        let fleetId = principal.fleetId;
-        if (fleetId === null) {
-          if (!request.query.fleet) throw new BadRequestError(`an admin key must name the fleet: POST /v1/frames/${protocol}?fleet=<fleetId>`);
-          fleetId = request.query.fleet;
-          if (!(await fleets.exists(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
-        } else if (request.query.fleet && request.query.fleet !== fleetId) {
-          throw new ForbiddenError('this API key belongs to another fleet');
-        }
+        const fleetId = await ingestFleetOf(principal, request.query.fleet, fleets, `/v1/frames/${protocol}`);
 
         const stats: BodyStats = { bytes: 0 };
         const rows = new FrameRecords(protocol, Date.now(), opts.ingestMaxAgeDays);

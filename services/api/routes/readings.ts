@@ -3,10 +3,11 @@ import { TypeBoxValidatorCompiler, type FastifyPluginAsyncTypebox } from '@fasti
 import { Type } from 'typebox';
 import { createFleetsRepository } from '../../db/fleets-repository.js';
 import { createReadingsRepository, ForeignVehiclesError, type ReadingChunk } from '../../db/readings-repository.js';
-import { BadRequestError, ClientClosedRequestError, ForbiddenError, NotFoundError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
+import { ClientClosedRequestError, ForbiddenError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
 import { bodyFormatOf, bodyRecords, type BodyStats } from '../ingest/body-records.js';
 import { ChunkBuilder } from '../ingest/chunk-builder.js';
 import { validateReading, type TemperatureUnit } from '../ingest/validate-reading.js';
+import { ingestFleetOf } from '../ingest/ingest-fleet.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 
@@ -88,14 +89,7 @@ const readingsRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadi
       const principal = principalOf(request);
       const format = bodyFormatOf(request.headers['content-type']);
       if (!format) throw new UnsupportedMediaTypeError('send application/json, application/x-ndjson or text/csv');
-      let fleetId = principal.fleetId;
-      if (fleetId === null) {
-        if (!request.query.fleet) throw new BadRequestError('an admin key must name the fleet: POST /v1/readings?fleet=<fleetId>');
-        fleetId = request.query.fleet;
-        if (!(await fleets.exists(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
-      } else if (request.query.fleet && request.query.fleet !== fleetId) {
-        throw new ForbiddenError('this API key belongs to another fleet');
-      }
+      const fleetId = await ingestFleetOf(principal, request.query.fleet, fleets, '/v1/readings');
 
       let unit: TemperatureUnit = request.query.unit ?? 'C';
       const rejected: Array<{ index: number; reason: string }> = [];
