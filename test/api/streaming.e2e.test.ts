@@ -1,19 +1,16 @@
-import { spawn } from 'node:child_process';
-import { randomBytes } from 'node:crypto';
 import { once } from 'node:events';
 import { mkdtemp, rm } from 'node:fs/promises';
 import http from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { createInterface } from 'node:readline';
 import { createGzip } from 'node:zlib';
 import type { FastifyInstance } from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildApp } from '../../services/api/app.js';
-import { createFleetsRepository } from '../../services/db/fleets-repository.js';
 import { createFleetKey, testConfig, useTestApp } from '../helpers/test-app.js';
 import { countStoredReadings, createTestDatabase, testDatabaseKind } from '../helpers/test-database.js';
+import { ServeProcess } from '../helpers/serve-process.js';
 
 // End-to-end over a real listening socket: streamed bodies, gzip, graceful shutdown, the CLI.
 
@@ -169,49 +166,24 @@ describe('graceful shutdown', () => {
 
 describe('thermocline serve', () => {
   it('logs the address it listens on, stores a batch and exits 0 on SIGTERM', async () => {
-    const dir = testDatabaseKind() === 'pglite' ? await mkdtemp(join(tmpdir(), 'thermocline-serve-')) : undefined;
-    const tdb = await createTestDatabase(dir ? { pgliteDir: dir } : {});
+    const serve = await ServeProcess.start();
+    let stored = -1;
+    let code: number | null = null;
     try {
-      await createFleetsRepository(tdb.handle.db).ensure('fleet-cli');
-      // A PGlite folder is opened by one process at a time.
-      await tdb.handle.close();
-      const adminKey = `serve-test-admin-${randomBytes(12).toString('hex')}`;
-      const env: NodeJS.ProcessEnv = { ...process.env, PORT: '0', HOST: '127.0.0.1', LOG_LEVEL: 'info', ADMIN_API_KEY: adminKey };
-      delete env.DATABASE_URL;
-      delete env.PGLITE_DIR;
-      if (tdb.url) env.DATABASE_URL = tdb.url;
-      else env.PGLITE_DIR = dir;
-      const child = spawn(process.execPath, ['bin/thermocline.js', 'serve'], { cwd: join(import.meta.dirname, '..', '..'), env, stdio: ['ignore', 'pipe', 'pipe'] });
-      const exited = once(child, 'exit') as Promise<[number | null, NodeJS.Signals | null]>;
-      const logs: string[] = [];
-      let stderr = '';
-      child.stderr.on('data', (c: Buffer) => (stderr += c.toString('utf8')));
-      try {
-        const url = await new Promise<string>((resolve, reject) => {
-          createInterface({ input: child.stdout }).on('line', (line) => {
-            logs.push(line);
-            const m = /Server listening at (http:\/\/127\.0\.0\.1:\d+)/.exec(line);
-            if (m) resolve(m[1]!);
-          });
-          void exited.then(([code]) => reject(new Error(`serve exited (${code}) before listening:\n${logs.join('\n')}\n${stderr}`)));
-        });
-        expect(logs[0]).toMatch(tdb.url ? /starting on PostgreSQL/ : /starting on embedded PostgreSQL \(PGlite\)/);
-        const res = await fetch(`${url}/v1/readings?fleet=fleet-cli`, {
-          method: 'POST',
-          headers: { authorization: `Bearer ${adminKey}`, 'content-type': 'application/x-ndjson' },
-          body: lines('CLI-1', 0, 100),
-        });
-        expect([res.status, await res.json()]).toEqual([200, { accepted: 100, duplicates: 0, rejected: [] }]);
-      } finally {
-        child.kill('SIGTERM');
-      }
-      const [code] = await exited;
-      expect(code, stderr).toBe(0);
-      expect(logs.some((l) => /"msg":"stopped"/.test(l))).toBe(true);
-      expect(await countStoredReadings(tdb)).toBe(100);
+      expect(serve.logs[0]).toMatch(testDatabaseKind() === 'postgres' ? /starting on PostgreSQL/ : /starting on embedded PostgreSQL \(PGlite\)/);
+      const res = await fetch(`${serve.url}/v1/readings?fleet=${serve.fleetId}`, {
+        method: 'POST',
+        headers: { authorization: `Bearer ${serve.adminKey}`, 'content-type': 'application/x-ndjson' },
+        body: lines('CLI-1', 0, 100),
+      });
+      expect([res.status, await res.json()]).toEqual([200, { accepted: 100, duplicates: 0, rejected: [] }]);
     } finally {
-      await tdb.drop();
-      if (dir) await rm(dir, { recursive: true, force: true });
+      code = await serve.stop(async (tdb) => {
+        stored = await countStoredReadings(tdb);
+      });
     }
+    expect(code, serve.stderr).toBe(0);
+    expect(serve.logs.some((l) => /"msg":"stopped"/.test(l))).toBe(true);
+    expect(stored).toBe(100);
   });
 });

@@ -70,11 +70,18 @@ export class ServeProcess {
     return this.child.exitCode === null && this.child.signalCode === null;
   }
 
-  /** SIGTERM, wait for the exit, drop the database; resolves to the exit code. */
-  async stop(): Promise<number | null> {
+  /**
+   * SIGTERM, wait for the exit, run `beforeDrop` (checks on what the process left in the database),
+   * drop the database; resolves to the exit code.
+   */
+  async stop(beforeDrop?: (tdb: TestDatabase) => Promise<void>): Promise<number | null> {
     if (this.alive) this.child.kill('SIGTERM');
     const [code] = await this.exited;
-    await this.tdb.drop();
+    try {
+      await beforeDrop?.(this.tdb);
+    } finally {
+      await this.tdb.drop();
+    }
     if (this.dir) await rm(this.dir, { recursive: true, force: true });
     return code;
   }
