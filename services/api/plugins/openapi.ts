@@ -21,6 +21,7 @@ export default fp(
         tags: [
           { name: 'readings', description: 'telemetry from gateways' },
           { name: 'vehicles', description: 'vehicle profiles and per-vehicle data' },
+          { name: 'service events', description: 'repair history: recording, correcting and listing service events' },
           { name: 'fleet', description: 'fleet-wide views for maintenance planners' },
           { name: 'findings', description: 'analysis findings and their lifecycle' },
           { name: 'analysis', description: 'running the analysis' },
