@@ -2,14 +2,17 @@ import { j1939Identifier } from './j1939-identifier.js';
 import { PGN_AMB, PGN_CCVS1, PGN_EEC1, PGN_EFLP1, PGN_ET1 } from './j1939-parameters.js';
 import { PID_AMBIENT, PID_BAROMETRIC, PID_COOLANT, PID_RPM, PID_SPEED, SERVICE_01_POSITIVE } from './obd-service01.js';
 
-/** One reading's channels in engineering units; NaN = not sent. */
+/** One reading's channels in engineering units (°C, km/h, rpm); NaN = not sent. Also the channels of a validated reading. */
 export interface BusReading {
   coolantC: number;
   ambientC: number;
   speedKph: number;
   rpm: number;
+  /** Atmospheric pressure, kPa absolute (SPN 108 / PID 0x33). */
   barometricKpa: number;
+  /** Coolant level, % of full (SPN 111). */
   coolantLevelPct: number;
+  /** Coolant pressure, kPa gauge (SPN 109). */
   coolantPressureKpa: number;
 }
 

@@ -1,3 +1,4 @@
+import type { BusReading } from '../../bus-decoding/bus-encoding.js';
 import { MALFORMED, MALFORMED_CSV } from './malformed-record.js';
 
 export type TemperatureUnit = 'C' | 'F' | 'K';
@@ -28,19 +29,9 @@ export const EARLIEST_TS_MS = Date.UTC(2000, 0, 1);
 export const VEHICLE_ID_PATTERN = /^[A-Za-z0-9][A-Za-z0-9_.:-]{0,63}$/;
 
 /** A reading that passed validation, in °C. Absent optional channels are NaN. */
-export interface ValidReading {
+export interface ValidReading extends BusReading {
   vehicleId: string;
   tsMs: number;
-  coolantC: number;
-  ambientC: number;
-  speedKph: number;
-  rpm: number;
-  /** Atmospheric pressure, kPa absolute (SPN 108 / PID 0x33). */
-  barometricKpa: number;
-  /** Coolant level, % of full (SPN 111). */
-  coolantLevelPct: number;
-  /** Coolant pressure, kPa gauge (SPN 109). */
-  coolantPressureKpa: number;
 }
 
 // RFC 3339 date-time: a time zone (Z or ±hh:mm) is required, fractional seconds optional.
