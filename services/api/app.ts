@@ -49,6 +49,8 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     genReqId: () => crypto.randomUUID(),
     // Requests may stream a large body for minutes; drop only idle sockets.
     requestTimeout: 0,
+    // Behind a reverse proxy its X-Forwarded-* headers give the client address and https (the web view's Secure cookie).
+    trustProxy: config.trustProxy,
     ajv: { customOptions: { removeAdditional: false, coerceTypes: 'array', useDefaults: true, allErrors: false } },
   }).withTypeProvider<TypeBoxTypeProvider>();
 
@@ -66,7 +68,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(errorsPlugin);
   await app.register(metricsPlugin);
   await app.register(dbPlugin, { database: options.database, closeOnShutdown: options.closeDatabase ?? false });
-  await app.register(authPlugin, { authFailuresPerMinute: config.authFailuresPerMinute });
+  await app.register(authPlugin, { authFailuresPerMinute: config.authFailuresPerMinute, webSessionIdleMs: config.webSessionIdleMinutes * 60_000 });
   await app.register(openapiPlugin);
   await app.register(rateLimit, {
     global: true,
@@ -88,5 +90,12 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(serviceEventsRoutes);
   await app.register(analysisRunsRoutes, { leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize });
   await app.register(import('./routes/reports.js'));
+  // The planner web view (/app/) and the routes its pages need beyond the rest of /v1.
+  const webSession = { idleMs: config.webSessionIdleMinutes * 60_000, maxMs: config.webSessionMaxHours * 3_600_000 };
+  await app.register(import('./routes/fleet-board.js'));
+  await app.register(import('./routes/vehicle-summary.js'));
+  await app.register(import('./routes/report-archive.js'));
+  await app.register(import('./routes/app-session.js'), webSession);
+  await app.register(import('./routes/app-pages.js'), webSession);
   return app;
 }

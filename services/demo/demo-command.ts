@@ -181,7 +181,8 @@ export async function run(argv: string[]): Promise<number> {
     await app.close();
     return 0;
   }
-  process.stdout.write(`\nServing the API at ${address} — docs: ${address}/docs\nplanner key (read):    ${readKey}\ngateway key (ingest):  ${ingestKey}\nCtrl-C to stop.\n`);
+  process.stdout.write(`\nWeb view for planners: ${address}/app/\n  sign in with the planner key below (demo fleet Quillmoor Provisions)\n`
+    + `Serving the API at ${address} — docs: ${address}/docs\nplanner key (read):    ${readKey}\ngateway key (ingest):  ${ingestKey}\nCtrl-C to stop.\n`);
   await new Promise<void>((resolveStop) => {
     const stop = () => void app.close().then(() => resolveStop());
     process.once('SIGINT', stop);

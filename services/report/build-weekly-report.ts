@@ -26,7 +26,7 @@ export const HISTORY_DAYS = 28;
 
 const DAY_MS = 86_400_000;
 /** Findings that say the warm-up itself (or its measurement) is abnormal. */
-const WARMUP_KINDS = new Set(['slow-warmup', 'overshoot', 'sensor-fault']);
+export const WARMUP_KINDS: ReadonlySet<string> = new Set(['slow-warmup', 'overshoot', 'sensor-fault']);
 
 /** The fleet named does not exist. */
 export class UnknownFleetError extends Error {
@@ -166,7 +166,7 @@ async function vehicleSections(
  * so the work-list sentence and the chart caption quote one computation (slope, level, days to
  * boiling, boiling point); the line is drawn from the chart's last day with data.
  */
-function withFindingTrend(chart: PeakChart, finding: StoredFinding | undefined): PeakChart {
+export function withFindingTrend(chart: PeakChart, finding: Pick<StoredFinding, 'metrics'> | undefined): PeakChart {
   const m = finding?.metrics;
   if (!chart.trend || !m || m.rawSlopeCPerDay === undefined || m.levelC === undefined || m.daysToBoil === undefined) return chart;
   const daysToBoil = m.daysToBoil < 0 ? null : m.daysToBoil;
