@@ -1,0 +1,230 @@
+import { existsSync } from 'node:fs';
+import { mkdir } from 'node:fs/promises';
+import type { AddressInfo } from 'node:net';
+import { join } from 'node:path';
+import { type Browser, chromium, type Page } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { planFleet } from '../../services/simulator/index.js';
+import { simulateToArrays } from '../analysis/evaluation-fleet.js';
+import { useTestApp } from '../helpers/test-app.js';
+import { testDatabaseKind } from '../helpers/test-database.js';
+import { analyseNow, postReadings, putProfile, readingItems } from '../helpers/worker-fleet.js';
+
+/** As in the weekly report's browser test: Debian's chromium, no sandbox as root, nothing fetched in the background. */
+const CHROMIUM_ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'];
+const CHROMIUM = [process.env.CHROMIUM_PATH, '/usr/bin/chromium', '/usr/bin/chromium-browser'].find((p) => p && existsSync(p));
+if (!CHROMIUM && !process.env.CI) {
+  process.stderr.write('web-view.browser.test.ts: no Chromium found (apt-get install chromium, or set CHROMIUM_PATH): the browser checks are skipped\n');
+}
+const OUTPUT_DIR = 'test-output';
+const suffix = testDatabaseKind() === 'postgres' ? '' : `-${testDatabaseKind()}`;
+const DAY_MS = 86_400_000;
+/** A fixed end keeps the simulated weather, and so the findings, the same every day (as the demo's test). */
+const END_MS = Date.UTC(2026, 10, 30);
+const DAYS = 28;
+const SEED = 7;
+
+const t = useTestApp();
+let base: string;
+let readKey: string;
+let otherFleetVehicle: string;
+let browser: Browser;
+
+beforeAll(async () => {
+  readKey = await t.createKey('quillmoor', ['read']);
+  const ingestKey = await t.createKey('quillmoor', ['ingest', 'read']);
+  const startMs = END_MS - DAYS * DAY_MS;
+  const fleet = planFleet({ vehicles: 8, days: DAYS, seed: SEED, startMs, scenario: 'demo' });
+  for (const v of fleet) {
+    await putProfile(t, ingestKey, v);
+    await postReadings(t, ingestKey, readingItems(v.vehicleId, simulateToArrays(v, { startMs, days: DAYS, seed: SEED })));
+  }
+  await analyseNow(t, ingestKey);
+  // A vehicle of another fleet: its page must not open for a session of this one.
+  const otherKey = await t.createKey('other-fleet', ['ingest']);
+  otherFleetVehicle = 'OF-9';
+  const put = await t.app.inject({ method: 'PUT', url: `/v1/vehicles/${otherFleetVehicle}`, headers: t.auth(otherKey), payload: { label: 'not yours' } });
+  expect(put.statusCode).toBe(201);
+  await t.app.listen({ port: 0, host: '127.0.0.1' });
+  base = `http://127.0.0.1:${(t.app.server.address() as AddressInfo).port}`;
+  await mkdir(OUTPUT_DIR, { recursive: true });
+}, 600_000);
+
+afterAll(async () => {
+  await browser?.close();
+});
+
+/** A page that records every request and refuses any that leaves the service. */
+async function openPage(viewport = { width: 1280, height: 800 }) {
+  const page = await browser.newPage({ viewport });
+  const external: string[] = [];
+  const requests: string[] = [];
+  const errors: string[] = [];
+  page.on('pageerror', (e) => errors.push(e.message));
+  page.on('console', (m) => {
+    if (m.type() === 'error' && !/status of 401/.test(m.text())) errors.push(m.text());
+  });
+  await page.route('**/*', (route) => {
+    const url = route.request().url();
+    if (!url.startsWith(base)) {
+      external.push(url);
+      return route.abort();
+    }
+    requests.push(url);
+    return route.continue();
+  });
+  return { page, external, requests, errors };
+}
+
+async function signIn(page: Page) {
+  await page.goto(`${base}/`);
+  expect(page.url()).toBe(`${base}/app/`);
+  const input = page.getByLabel('API key');
+  await expect.poll(() => input.evaluate((el) => el === document.activeElement)).toBe(true);
+  await input.fill(readKey);
+  await input.press('Enter');
+  await page.waitForSelector('#fleet-table');
+}
+
+const shot = (page: Page, name: string) => page.screenshot({ path: join(OUTPUT_DIR, `web-view-${name}${suffix}.png`), fullPage: true });
+
+describe.skipIf(!CHROMIUM && !process.env.CI)('the planner web view in headless Chromium', () => {
+  beforeAll(async () => {
+    if (!CHROMIUM) throw new Error('CI needs Chromium for the browser test of the web view: /usr/bin/chromium not found (see .ci/run)');
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+  }, 120_000);
+
+  it('signs in, filters the list, opens a vehicle, zooms a chart, acknowledges, records a repair and signs out', async () => {
+    const { page, external, requests, errors } = await openPage();
+    await signIn(page);
+    const rows = page.locator('#fleet-table tbody tr');
+    expect(await rows.count()).toBeGreaterThan(0);
+    await expect.poll(() => page.locator('#count-at-risk').textContent()).toBe(String(await rows.count()));
+    // Priority is a word as well as a colour.
+    expect(await rows.first().locator('.badge').textContent()).toMatch(/book now|book this week|at next service/);
+    await shot(page, 'fleet');
+
+    // Filter: search for the top vehicle, then by its priority.
+    const top = (await rows.first().getAttribute('data-vehicle-id'))!;
+    await page.getByLabel('Search vehicle id or label').fill(top.toLowerCase());
+    await page.getByLabel('Search vehicle id or label').press('Enter');
+    await expect.poll(() => page.locator('#fleet-table tbody tr').count()).toBe(1);
+    expect(page.url()).toContain(`q=${top.toLowerCase()}`);
+    await page.getByLabel('Finding kind').selectOption('freeze-risk');
+    await page.waitForSelector('#no-rows');
+    await page.locator('#clear-filters').click();
+    await page.waitForSelector('#fleet-table');
+
+    // Open the vehicle.
+    await page.locator(`#fleet-table tr[data-vehicle-id="${top}"] a.vehicle-link`).click();
+    await page.waitForSelector('#chart-readings canvas');
+    await expect.poll(() => page.locator('#readings-status').textContent()).toMatch(/points/);
+    expect(await page.locator('article.finding').count()).toBeGreaterThan(0);
+    expect(await page.locator('.cautions li').first().textContent()).toMatch(/Never open a hot pressurised cooling system/);
+    for (const id of ['#chart-warmup', '#chart-peaks']) expect(await page.locator(`${id} canvas`).count()).toBe(1);
+    await shot(page, 'vehicle');
+
+    // Zoom the readings chart with the wheel: a finer, narrower request follows.
+    const readingsRequests = () => requests.filter((u) => u.includes(`/v1/vehicles/${top}/readings`));
+    const before = readingsRequests().length;
+    const first = new URL(readingsRequests()[0]!);
+    await page.locator('#chart-readings').scrollIntoViewIfNeeded();
+    const box = (await page.locator('#chart-readings').boundingBox())!;
+    await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+    for (let i = 0; i < 8; i++) await page.mouse.wheel(0, -400);
+    await expect.poll(() => readingsRequests().length, { timeout: 10_000 }).toBeGreaterThan(before);
+    const fine = new URL(readingsRequests().at(-1)!);
+    const span = (u: URL) => Date.parse(u.searchParams.get('to')!) - Date.parse(u.searchParams.get('from')!);
+    expect(fine.searchParams.get('from')).not.toBeNull();
+    const firstReply = await (await page.request.get(first.href)).json();
+    expect(span(fine)).toBeLessThan(0.7 * (Date.parse(firstReply.to) - Date.parse(firstReply.from)));
+    expect(Number(fine.searchParams.get('maxPoints'))).toBeLessThanOrEqual(5000);
+    await expect.poll(() => page.locator('#readings-status').textContent()).toMatch(/^zoomed/);
+    await shot(page, 'vehicle-zoomed');
+
+    // Acknowledge its first open finding; back in the list the vehicle stays, marked.
+    const card = page.locator('article.finding[data-status="open"]').first();
+    const findingId = (await card.getAttribute('data-finding-id'))!;
+    await card.getByRole('button', { name: 'Acknowledge' }).click();
+    await expect.poll(() => page.locator(`#finding-${findingId}`).getAttribute('data-status')).toBe('acknowledged');
+    await expect.poll(() => page.locator('#page-status').textContent()).toMatch(/acknowledged/);
+    await page.getByRole('link', { name: '← Fleet' }).click();
+    await page.waitForSelector(`#fleet-table tr[data-vehicle-id="${top}"]`);
+    expect(await page.locator(`#fleet-table tr[data-vehicle-id="${top}"] .marks`).textContent()).toMatch(/1 acknowledged/);
+    await page.getByLabel('Acknowledged', { exact: true }).selectOption('acknowledged');
+    await expect.poll(() => page.locator('#fleet-table tbody tr').count()).toBe(1);
+    await shot(page, 'fleet-acknowledged');
+
+    // Record the repair that addresses the finding: its findings resolve and the history shows it.
+    await page.locator(`#fleet-table tr[data-vehicle-id="${top}"] a.vehicle-link`).click();
+    await page.waitForSelector('#service-event-form');
+    const summary = await (await page.request.get(`${base}/v1/vehicles/${top}/summary`)).json();
+    const findingKind = (await (await page.request.get(`${base}/v1/vehicles/${top}/findings`)).json()).findings.find((f: { id: string }) => f.id === findingId).kind;
+    const repair = summary.serviceEventKinds.find((k: { resolves: string[] }) => k.resolves.includes(findingKind)).kind;
+    await page.getByLabel('Work done').selectOption(repair);
+    await page.getByRole('button', { name: 'Record' }).click();
+    await expect.poll(() => page.locator('#page-status').textContent()).toMatch(/Recorded\. [1-9]\d* findings? resolved/);
+    await expect.poll(() => page.locator('#service-history tbody tr').count()).toBe(1);
+    expect(await page.locator(`#finding-${findingId}`).getAttribute('data-status')).toBe('resolved');
+    await shot(page, 'vehicle-repaired');
+
+    // Sign out: the session is gone for the page and for the API.
+    await page.getByRole('button', { name: 'Sign out' }).click();
+    await page.waitForSelector('#sign-in-form');
+    expect((await page.request.get(`${base}/v1/fleet/at-risk`)).status()).toBe(401);
+    expect(external).toEqual([]);
+    expect(errors).toEqual([]);
+    await page.close();
+  });
+
+  it('refuses a POST of the signed-in page that lacks the CSRF token', async () => {
+    const { page } = await openPage();
+    await signIn(page);
+    const findingId = await page.evaluate(async () => (await (await fetch('/v1/findings?limit=1')).json()).findings[0].id as string);
+    const statuses = await page.evaluate(async (id) => {
+      const bare = await fetch(`/v1/findings/${id}/acknowledge`, { method: 'POST' });
+      const form = await fetch(`/v1/findings/${id}/acknowledge`, { method: 'POST', headers: { 'content-type': 'application/x-www-form-urlencoded' }, body: 'a=1' });
+      return [bare.status, form.status, (await bare.json()).error.code];
+    }, findingId);
+    expect(statuses).toEqual([403, 403, 'csrf_failed']);
+    await page.close();
+  });
+
+  it("answers 404 to another fleet's vehicle URL and says not found", async () => {
+    const { page } = await openPage();
+    await signIn(page);
+    const res = await page.goto(`${base}/app/vehicles/${otherFleetVehicle}`);
+    expect(res?.status()).toBe(404);
+    await page.waitForSelector('#not-found');
+    expect(await page.locator('#not-found h1').textContent()).toBe('Vehicle not found');
+    expect(await page.content()).not.toContain('not yours');
+    await page.close();
+  });
+
+  it('works by keyboard with a visible focus, and lays out at tablet width', async () => {
+    const { page } = await openPage({ width: 820, height: 1180 });
+    await signIn(page);
+    // Tab from the start of the page to the first vehicle link and open it with Enter.
+    await page.locator('body').focus();
+    let found = false;
+    for (let i = 0; i < 40 && !found; i++) {
+      await page.keyboard.press('Tab');
+      found = await page.evaluate(() => document.activeElement?.classList.contains('vehicle-link') ?? false);
+      if (i === 2) {
+        const outline = await page.evaluate(() => getComputedStyle(document.activeElement!).outlineStyle);
+        expect(outline).not.toBe('none');
+      }
+    }
+    expect(found).toBe(true);
+    const width = await page.evaluate(() => document.documentElement.scrollWidth);
+    expect(width).toBeLessThanOrEqual(820);
+    await shot(page, 'fleet-tablet');
+    await page.keyboard.press('Enter');
+    await page.waitForSelector('#chart-readings canvas');
+    const charts = await page.locator('.chart-grid figure').evaluateAll((els) => els.map((e) => e.getBoundingClientRect().width));
+    // One chart per row at tablet width.
+    for (const w of charts) expect(w).toBeGreaterThan(700);
+    await shot(page, 'vehicle-tablet');
+    await page.close();
+  });
+});
