@@ -80,7 +80,7 @@ async function signIn(page: Page) {
   await page.goto(`${base}/`);
   expect(page.url()).toBe(`${base}/app/`);
   const input = page.getByLabel('API key');
-  await expect.poll(() => input.evaluate((el) => el === document.activeElement)).toBe(true);
+  await expect.poll(() => page.evaluate('document.activeElement?.id')).toBe('api-key');
   await input.fill(readKey);
   await input.press('Enter');
   await page.waitForSelector('#fleet-table');
@@ -180,11 +180,11 @@ describe.skipIf(!CHROMIUM && !process.env.CI)('the planner web view in headless 
   it('refuses a POST of the signed-in page that lacks the CSRF token', async () => {
     const { page } = await openPage();
     await signIn(page);
-    const findingId = await page.evaluate(async () => (await (await fetch('/v1/findings?limit=1')).json()).findings[0].id as string);
+    const findingId = await page.evaluate(async () => ((await (await fetch('/v1/findings?limit=1')).json()) as { findings: Array<{ id: string }> }).findings[0]!.id);
     const statuses = await page.evaluate(async (id) => {
       const bare = await fetch(`/v1/findings/${id}/acknowledge`, { method: 'POST' });
       const form = await fetch(`/v1/findings/${id}/acknowledge`, { method: 'POST', headers: { 'content-type': 'application/x-www-form-urlencoded' }, body: 'a=1' });
-      return [bare.status, form.status, (await bare.json()).error.code];
+      return [bare.status, form.status, ((await bare.json()) as { error: { code: string } }).error.code];
     }, findingId);
     expect(statuses).toEqual([403, 403, 'csrf_failed']);
     await page.close();
@@ -209,15 +209,11 @@ describe.skipIf(!CHROMIUM && !process.env.CI)('the planner web view in headless 
     let found = false;
     for (let i = 0; i < 40 && !found; i++) {
       await page.keyboard.press('Tab');
-      found = await page.evaluate(() => document.activeElement?.classList.contains('vehicle-link') ?? false);
-      if (i === 2) {
-        const outline = await page.evaluate(() => getComputedStyle(document.activeElement!).outlineStyle);
-        expect(outline).not.toBe('none');
-      }
+      found = (await page.evaluate("document.activeElement?.classList.contains('vehicle-link') ?? false")) === true;
+      if (i === 2) expect(await page.evaluate('getComputedStyle(document.activeElement).outlineStyle')).not.toBe('none');
     }
     expect(found).toBe(true);
-    const width = await page.evaluate(() => document.documentElement.scrollWidth);
-    expect(width).toBeLessThanOrEqual(820);
+    expect(await page.evaluate('document.documentElement.scrollWidth')).toBeLessThanOrEqual(820);
     await shot(page, 'fleet-tablet');
     await page.keyboard.press('Enter');
     await page.waitForSelector('#chart-readings canvas');

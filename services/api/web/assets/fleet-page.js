@@ -71,10 +71,10 @@ export async function renderFleetPage({ view, signal, navigate }) {
     h('td', { class: 'num' }, Math.round(v.riskScore)),
     h('td', {}, h('ul', { class: 'tags' }, v.findings.map((f) => h('li', { class: `tag sev-${f.severity}` }, f.label, f.status !== 'open' ? h('span', { class: 'tag-status' }, f.status === 'acknowledged' ? ' ✓' : ' ⏸') : null)))),
     h('td', {}, day(v.since)),
-    h('td', { class: 'marks' },
+    h('td', {}, h('div', { class: 'marks' },
       v.acknowledged > 0 ? h('span', { class: 'status st-ack' }, `✓ ${v.acknowledged} acknowledged`) : null,
       v.deferred > 0 ? h('span', { class: 'status st-def' }, `⏸ ${v.deferred} deferred`) : null,
-      v.acknowledged + v.deferred === 0 ? h('span', { class: 'sub' }, 'not yet seen') : null),
+      v.acknowledged + v.deferred === 0 ? h('span', { class: 'sub' }, 'not yet seen') : null)),
     h('td', {}, v.depot ?? '—')));
 
   const from = data.total === 0 ? 0 : data.offset + 1;
