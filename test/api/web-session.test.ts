@@ -143,6 +143,10 @@ describe('ending a session', () => {
     expect(await createApiKeysRepository(t.tdb.handle.db).revoke(key)).toBe(true);
     expect((await withSession(s1, 'GET', '/v1/fleet/at-risk')).statusCode).toBe(401);
     expect((await withSession(s2, 'GET', '/app/session')).statusCode).toBe(401);
+    // The next sign-in clears the revoked key's sessions from the table.
+    await signIn(readKey);
+    const left = await sql<{ n: number }>`select count(*)::int as n from web_sessions where csrf_token in (${s1.csrf}, ${s2.csrf})`.execute(t.tdb.handle.db);
+    expect(left.rows[0]!.n).toBe(0);
   });
 });
 

@@ -1,4 +1,3 @@
-import { existsSync } from 'node:fs';
 import { mkdir } from 'node:fs/promises';
 import type { AddressInfo } from 'node:net';
 import { join } from 'node:path';
@@ -6,16 +5,12 @@ import { type Browser, chromium, type Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { planFleet } from '../../services/simulator/index.js';
 import { simulateToArrays } from '../analysis/evaluation-fleet.js';
+import { CHROMIUM_ARGS, requireChromium, skipBrowserChecks } from '../helpers/chromium.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { testDatabaseKind } from '../helpers/test-database.js';
 import { analyseNow, postReadings, putProfile, readingItems } from '../helpers/worker-fleet.js';
 
-/** As in the weekly report's browser test: Debian's chromium, no sandbox as root, nothing fetched in the background. */
-const CHROMIUM_ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'];
-const CHROMIUM = [process.env.CHROMIUM_PATH, '/usr/bin/chromium', '/usr/bin/chromium-browser'].find((p) => p && existsSync(p));
-if (!CHROMIUM && !process.env.CI) {
-  process.stderr.write('web-view.browser.test.ts: no Chromium found (apt-get install chromium, or set CHROMIUM_PATH): the browser checks are skipped\n');
-}
+const SKIP = skipBrowserChecks('web-view.browser.test.ts');
 const OUTPUT_DIR = 'test-output';
 const suffix = testDatabaseKind() === 'postgres' ? '' : `-${testDatabaseKind()}`;
 const DAY_MS = 86_400_000;
@@ -88,10 +83,9 @@ async function signIn(page: Page) {
 
 const shot = (page: Page, name: string) => page.screenshot({ path: join(OUTPUT_DIR, `web-view-${name}${suffix}.png`), fullPage: true });
 
-describe.skipIf(!CHROMIUM && !process.env.CI)('the planner web view in headless Chromium', () => {
+describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
   beforeAll(async () => {
-    if (!CHROMIUM) throw new Error('CI needs Chromium for the browser test of the web view: /usr/bin/chromium not found (see .ci/run)');
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+    browser = await chromium.launch({ executablePath: requireChromium('the web view'), args: CHROMIUM_ARGS });
   }, 120_000);
 
   it('signs in, filters the list, opens a vehicle, zooms a chart, acknowledges, records a repair and signs out', async () => {

@@ -70,6 +70,8 @@ const appSessionRoutes: FastifyPluginAsyncTypebox<WebSessionOptions> = async (ap
       const principal = await app.verifySignInKey(request, request.body.key);
       if (!principal.scopes.has('read') && !principal.scopes.has('admin')) throw new ForbiddenError('an ingest-only key cannot sign in to the web view: use a key with the read scope');
       const nowMs = Date.now();
+      // Sign-ins are rare next to requests: each clears the expired and revoked sessions, so the table stays small.
+      await sessions.purge(nowMs);
       const { token } = await sessions.create({ keyId: principal.keyId, fleetId: principal.fleetId, idleMs: opts.idleMs, maxMs: opts.maxMs, nowMs });
       const session = (await sessions.find(token, nowMs))!;
       reply.header('set-cookie', sessionCookie(token, isSecureRequest(request), opts.maxMs / 1000));
