@@ -1,5 +1,5 @@
 import { api, ApiError } from './api.js';
-import { figure, peaksChart, readingsChart, warmupChart } from './charts.js';
+import { figure, loadCharting, peaksChart, readingsChart, readingsRequest, warmupChart } from './charts.js';
 import { day, dayTime, h, priorityBadge, replace, severityBadge, statusBadge } from './dom.js';
 import { profileSection } from './vehicle-profile.js';
 
@@ -105,6 +105,11 @@ export async function renderVehiclePage(ctx, vehicleId) {
   const { view, signal, session } = ctx;
   const base = `/v1/vehicles/${encodeURIComponent(vehicleId)}`;
   let vehicle, findings, summary, events;
+  // The readings are asked for at once too: on a server with a connection pool all five run side by side.
+  const firstReadings = readingsRequest(vehicleId);
+  firstReadings.catch(() => {});
+  const charting = loadCharting();
+  charting.catch(() => {});
   try {
     [vehicle, { findings }, summary, { events }] = await Promise.all([
       api(base, { signal }), api(`${base}/findings`, { signal }), api(`${base}/summary`, { signal }), api(`${base}/service-events?limit=50`, { signal }),
@@ -167,8 +172,11 @@ export async function renderVehiclePage(ctx, vehicleId) {
     serviceSection(vehicleId, summary, events, reload),
     profileSection(vehicle, session, reload));
 
+  // The page is drawn; the charts follow as soon as the library is there.
+  await charting;
+  if (signal.aborted) return;
   warmupChart(warm.el, summary.warmup);
   peaksChart(peaks.el, summary.peaks);
   const rc = readingsChart(readings.el, vehicleId, readingsStatus);
-  await rc.load();
+  await rc.load(undefined, undefined, firstReadings);
 }
