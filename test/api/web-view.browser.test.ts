@@ -22,12 +22,14 @@ const SEED = 7;
 const t = useTestApp();
 let base: string;
 let readKey: string;
+let editKey: string;
 let otherFleetVehicle: string;
 let browser: Browser;
 
 beforeAll(async () => {
   readKey = await t.createKey('quillmoor', ['read']);
   const ingestKey = await t.createKey('quillmoor', ['ingest', 'read']);
+  editKey = ingestKey;
   const startMs = END_MS - DAYS * DAY_MS;
   const fleet = planFleet({ vehicles: 8, days: DAYS, seed: SEED, startMs, scenario: 'demo' });
   for (const v of fleet) {
@@ -71,12 +73,12 @@ async function openPage(viewport = { width: 1280, height: 800 }) {
   return { page, external, requests, errors };
 }
 
-async function signIn(page: Page) {
+async function signIn(page: Page, key = readKey) {
   await page.goto(`${base}/`);
   expect(page.url()).toBe(`${base}/app/`);
   const input = page.getByLabel('API key');
   await expect.poll(() => page.evaluate('document.activeElement?.id')).toBe('api-key');
-  await input.fill(readKey);
+  await input.fill(key);
   await input.press('Enter');
   await page.waitForSelector('#fleet-table');
 }
@@ -193,6 +195,56 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     expect(await page.locator('#not-found h1').textContent()).toBe('Vehicle not found');
     expect(await page.content()).not.toContain('not yours');
     await page.close();
+  });
+
+  it('builds a weekly report on demand and lists the archive newest first, each as HTML, CSV and JSON', async () => {
+    const { page, external } = await openPage();
+    await signIn(page);
+    await page.getByRole('link', { name: 'Weekly reports' }).click();
+    await page.waitForSelector('#build-report');
+    for (const week of ['2026-W47', '2026-W48']) {
+      await page.getByLabel('ISO week').fill(week);
+      await page.getByRole('button', { name: 'Build' }).click();
+      await expect.poll(() => page.locator('#report-result').textContent(), { timeout: 60_000 }).toBe(`Report ${week} built and archived.`);
+    }
+    expect(await page.locator('#reports-table tbody tr').evaluateAll((trs) => trs.map((tr) => tr.getAttribute('data-week')))).toEqual(['2026-W48', '2026-W47']);
+    const links = await page.locator('#reports-table tbody tr').first().locator('a').evaluateAll((as) => as.map((a) => a.getAttribute('href')!));
+    const types = [];
+    for (const href of links) {
+      const res = await page.request.get(`${base}${href}`);
+      expect(res.status()).toBe(200);
+      types.push(res.headers()['content-type']!.split(';')[0]);
+    }
+    expect(types).toEqual(['text/html', 'text/csv', 'application/json']);
+    await shot(page, 'reports');
+    expect(external).toEqual([]);
+    await page.close();
+  });
+
+  it('edits the profile with a key that may (ingest scope), and shows a read key the profile only', async () => {
+    const { page } = await openPage();
+    await signIn(page, editKey);
+    const vehicleId = (await page.locator('#fleet-table tbody tr').first().getAttribute('data-vehicle-id'))!;
+    await page.goto(`${base}/app/vehicles/${vehicleId}`);
+    await page.waitForSelector('#profile-form');
+    await page.getByLabel('Label (e.g. plate)').fill('KX-4411 rear loader');
+    await page.getByLabel('Depot').fill('Ridgeback Pass');
+    await page.getByRole('button', { name: 'Save profile' }).click();
+    await expect.poll(() => page.locator('#page-status').textContent()).toMatch(/Profile saved/);
+    expect(await page.locator('#profile-facts').textContent()).toContain('KX-4411 rear loader');
+    const stored = await t.app.inject({ method: 'GET', url: `/v1/vehicles/${vehicleId}`, headers: t.auth(readKey) });
+    expect(stored.json()).toMatchObject({ label: 'KX-4411 rear loader', depot: 'Ridgeback Pass' });
+    await page.getByRole('link', { name: '← Fleet' }).click();
+    await page.waitForSelector('#fleet-table');
+    await page.getByLabel('Depot', { exact: true }).selectOption('Ridgeback Pass');
+    await expect.poll(() => page.locator('#fleet-table tbody tr').count()).toBe(1);
+    await page.close();
+    const reader = await openPage();
+    await signIn(reader.page);
+    await reader.page.goto(`${base}/app/vehicles/${vehicleId}`);
+    await reader.page.waitForSelector('#profile-facts');
+    expect(await reader.page.locator('#profile-form').count()).toBe(0);
+    await reader.page.close();
   });
 
   it('works by keyboard with a visible focus, and lays out at tablet width', async () => {
