@@ -40,15 +40,15 @@ export interface BoardCounts {
 
 /** The earliest onset among a row's unresolved findings (ISO text sorts as time). */
 const SINCE = sql`(select min(e->>'firstSeen') from jsonb_array_elements(a.open_findings_brief) e)`;
-const SEVERITY_RANK = sql`case a.max_severity when 'critical' then 0 when 'warning' then 1 else 2 end`;
 const hasStatus = (status: string) => sql`a.open_findings_brief @> ${JSON.stringify([{ status }])}::jsonb`;
 
+/** Sort keys over the columns of the filtered set `m` (page below). */
 const ORDER: Readonly<Record<BoardSort, (desc: boolean) => RawBuilder<unknown>>> = {
-  risk: (d) => sql`a.risk_score ${sql.raw(d ? 'desc' : 'asc')}, a.vehicle_id`,
-  priority: (d) => sql`${SEVERITY_RANK} ${sql.raw(d ? 'desc' : 'asc')}, a.risk_score desc, a.vehicle_id`,
-  since: (d) => sql`${SINCE} ${sql.raw(d ? 'desc' : 'asc')}, a.risk_score desc, a.vehicle_id`,
-  vehicle: (d) => sql`a.vehicle_id ${sql.raw(d ? 'desc' : 'asc')}`,
-  depot: (d) => sql`v.depot ${sql.raw(d ? 'desc nulls last' : 'asc nulls last')}, a.risk_score desc, a.vehicle_id`,
+  risk: (d) => sql`risk_score ${sql.raw(d ? 'desc' : 'asc')}, vehicle_id`,
+  priority: (d) => sql`case max_severity when 'critical' then 0 when 'warning' then 1 else 2 end ${sql.raw(d ? 'desc' : 'asc')}, risk_score desc, vehicle_id`,
+  since: (d) => sql`since ${sql.raw(d ? 'desc' : 'asc')}, risk_score desc, vehicle_id`,
+  vehicle: (d) => sql`vehicle_id ${sql.raw(d ? 'desc' : 'asc')}`,
+  depot: (d) => sql`depot ${sql.raw(d ? 'desc nulls last' : 'asc nulls last')}, risk_score desc, vehicle_id`,
 };
 
 function where(f: BoardFilter): RawBuilder<unknown> {
@@ -77,29 +77,44 @@ function where(f: BoardFilter): RawBuilder<unknown> {
 export function createFleetBoardRepository(db: Kysely<Database>) {
   return {
     /**
-     * One page of rows and the number of rows the filter matches. Offset paging: the filtered
-     * set is at most the fleet (10,000 rows measured in bench/fleet-page.ts), sorted in one pass,
-     * and a planner jumps to page n; a cursor would not save that sort.
+     * One page of rows and the number of rows the filter matches. Two statements: the filter,
+     * sort and count over narrow rows (ids and sort keys), then the page's rows with their
+     * briefs; counting over rows that carry the brief read every vehicle's jsonb (3,333 of them
+     * at 10,000 vehicles: 54 ms against 20 ms per request, measured in-process under load 7). Offset paging: the filtered
+     * set is at most the fleet and is sorted whatever the cursor, and a planner jumps to page n.
      */
     async page(f: BoardFilter, sort: BoardSort, desc: boolean, limit: number, offset: number): Promise<{ total: number; rows: BoardRow[] }> {
-      const result = await sql<{ vehicle_id: string; label: string | null; depot: string | null; risk_score: number; max_severity: Severity; last_reading_at: Date | null; brief: FindingBriefView[]; total: string | number }>`
-        select a.vehicle_id, v.label, v.depot, a.risk_score, a.max_severity, a.last_reading_at, a.open_findings_brief as brief, count(*) over () as total
-        from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id
-        where ${where(f)}
+      // Materialised: with the count over the whole set, the planner otherwise walks the risk index row by row
+      // (a nested loop over 3,333 rows: 14.6 ms against 9.4 ms for the hash join, EXPLAIN ANALYZE at 10,000 vehicles).
+      const ids = await sql<{ vehicle_id: string; total: string | number }>`
+        with m as materialized (
+          select a.vehicle_id, a.risk_score, a.max_severity, v.depot, ${sort === 'since' ? SINCE : sql`null::text`} as since
+          from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id
+          where ${where(f)})
+        select vehicle_id, count(*) over () as total from m
         order by ${ORDER[sort](desc)}
         limit ${limit} offset ${offset}`.execute(db);
-      let total = toNumber(result.rows[0]?.total);
-      if (result.rows.length === 0 && offset > 0) {
+      const total = toNumber(ids.rows[0]?.total);
+      if (ids.rows.length === 0) {
+        if (offset === 0) return { total: 0, rows: [] };
         // Past the last page: the window count is not there, count apart.
         const c = await sql<{ n: string | number }>`select count(*) as n from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id where ${where(f)}`.execute(db);
-        total = toNumber(c.rows[0]?.n);
+        return { total: toNumber(c.rows[0]?.n), rows: [] };
       }
+      const order = ids.rows.map((r) => r.vehicle_id);
+      const rows = await db.selectFrom('vehicle_analysis as a').innerJoin('vehicles as v', 'v.vehicle_id', 'a.vehicle_id')
+        .select(['a.vehicle_id', 'v.label', 'v.depot', 'a.risk_score', 'a.max_severity', 'a.last_reading_at', 'a.open_findings_brief'])
+        .where('a.vehicle_id', 'in', order).execute();
+      const byId = new Map(rows.map((r) => [r.vehicle_id, r]));
       return {
         total,
-        rows: result.rows.map((r) => ({
-          vehicleId: r.vehicle_id, label: r.label, depot: r.depot, riskScore: r.risk_score, maxSeverity: r.max_severity,
-          lastReadingAt: r.last_reading_at, findings: r.brief,
-        })),
+        rows: order.flatMap((id) => {
+          const r = byId.get(id);
+          return r ? [{
+            vehicleId: r.vehicle_id, label: r.label, depot: r.depot, riskScore: r.risk_score, maxSeverity: r.max_severity as Severity,
+            lastReadingAt: r.last_reading_at, findings: r.open_findings_brief as unknown as FindingBriefView[],
+          }] : [];
+        }),
       };
     },
 
@@ -110,14 +125,16 @@ export function createFleetBoardRepository(db: Kysely<Database>) {
      */
     async counts(fleetId: string | null, nowMs: number, silentMs: number, newMs: number): Promise<BoardCounts> {
       const since = new Date(nowMs - silentMs);
-      const newFrom = new Date(nowMs - newMs).toISOString();
+      const newFrom = new Date(nowMs - newMs);
+      // "New this week" from the findings (index on fleet, status), not by parsing every brief.
       const r = await sql<Record<string, string | number>>`
         select count(*) as vehicles,
                count(*) filter (where a.open_findings > 0) as at_risk,
                count(*) filter (where a.last_reading_at >= ${since}) as reporting,
                count(*) filter (where a.last_reading_at is null or a.last_reading_at < ${since}) as silent,
-               count(*) filter (where a.open_findings > 0 and exists (
-                 select 1 from jsonb_array_elements(a.open_findings_brief) e where e->>'firstSeen' >= ${newFrom})) as new_this_week
+               (select count(distinct f.vehicle_id) from findings f
+                 where (${fleetId}::text is null or f.fleet_id = ${fleetId}) and f.status in ('open', 'acknowledged', 'deferred')
+                   and f.first_seen >= ${newFrom}) as new_this_week
         from vehicles v left join vehicle_analysis a on a.vehicle_id = v.vehicle_id
         where (${fleetId}::text is null or v.fleet_id = ${fleetId})`.execute(db);
       const row = r.rows[0] ?? {};
