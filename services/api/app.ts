@@ -4,6 +4,7 @@ import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import type { Config } from '../config.js';
 import type { DatabaseHandle } from '../db/database.js';
 import { splitKey } from '../db/api-keys-repository.js';
+import { sessionHash } from '../db/web-sessions-repository.js';
 import { AppError } from './errors.js';
 import authPlugin from './plugins/auth.js';
 import dbPlugin from './plugins/db.js';
@@ -20,6 +21,7 @@ import serviceEventsRoutes from './routes/service-events.js';
 import vehicleReadingsRoutes from './routes/vehicle-readings.js';
 import vehicleRunsRoutes from './routes/vehicle-runs.js';
 import vehiclesRoutes from './routes/vehicles.js';
+import { readCookie, SESSION_COOKIE } from './web/session-auth.js';
 
 export interface AppOptions {
   config: Config;
@@ -33,11 +35,14 @@ export interface AppOptions {
 /** Operations endpoints that probes and scrapers call often: never rate-limited, whatever the query. */
 const UNLIMITED_PATHS = new Set(['/healthz', '/readyz', '/metrics']);
 
-/** Rate-limit bucket: the API key's id (cheap, no database), else the client address. */
-function rateLimitKey(request: { headers: Record<string, unknown>; ip: string }): string {
+/** Rate-limit bucket: the API key's id (cheap, no database), else the web-view session, else the client address. */
+function rateLimitKey(request: { headers: Record<string, string | string[] | undefined>; ip: string }): string {
   const header = request.headers.authorization;
   const match = typeof header === 'string' ? /^Bearer\s+(\S+)/i.exec(header) : null;
-  return match ? `key:${splitKey(match[1]!).keyId}` : `ip:${request.ip}`;
+  if (match) return `key:${splitKey(match[1]!).keyId}`;
+  // Planners behind one office address each get their own bucket.
+  const session = readCookie(request, SESSION_COOKIE);
+  return session ? `session:${sessionHash(session).slice(0, 24)}` : `ip:${request.ip}`;
 }
 
 /** Builds the whole HTTP API on an open database. The caller listens and closes. */

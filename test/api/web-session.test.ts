@@ -229,3 +229,21 @@ describe('behind a TLS-terminating proxy', () => {
     expect((await signIn(readKey, { 'x-forwarded-proto': 'https' })).setCookie).not.toMatch(/Secure/);
   });
 });
+
+describe('rate limits of sessions', () => {
+  it('gives each session its own bucket, so planners behind one office address do not share one', async () => {
+    const limited = await createTestApp({ rateLimitPerMinute: 3 });
+    try {
+      const key = await limited.createKey('fleet-r', ['read']);
+      const a = await signIn(key, {}, limited.app);
+      const b = await signIn(key, {}, limited.app);
+      const get = (s: SignedIn) => limited.app.inject({ method: 'GET', url: '/v1/fleet/at-risk', headers: { cookie: s.cookie } });
+      const statuses = [];
+      for (let i = 0; i < 4; i++) statuses.push((await get(a)).statusCode);
+      expect(statuses).toEqual([200, 200, 200, 429]);
+      expect((await get(b)).statusCode).toBe(200);
+    } finally {
+      await limited.close();
+    }
+  });
+});

@@ -23,6 +23,7 @@ const t = useTestApp();
 let base: string;
 let readKey: string;
 let editKey: string;
+let adminKey: string;
 let otherFleetVehicle: string;
 let browser: Browser;
 
@@ -30,6 +31,7 @@ beforeAll(async () => {
   readKey = await t.createKey('quillmoor', ['read']);
   const ingestKey = await t.createKey('quillmoor', ['ingest', 'read']);
   editKey = ingestKey;
+  adminKey = await t.createAdminKey();
   const startMs = END_MS - DAYS * DAY_MS;
   const fleet = planFleet({ vehicles: 8, days: DAYS, seed: SEED, startMs, scenario: 'demo' });
   for (const v of fleet) {
@@ -73,14 +75,14 @@ async function openPage(viewport = { width: 1280, height: 800 }) {
   return { page, external, requests, errors };
 }
 
-async function signIn(page: Page, key = readKey) {
+async function signIn(page: Page, key = readKey, waitFor = '#fleet-table') {
   await page.goto(`${base}/`);
   expect(page.url()).toBe(`${base}/app/`);
   const input = page.getByLabel('API key');
   await expect.poll(() => page.evaluate('document.activeElement?.id')).toBe('api-key');
   await input.fill(key);
   await input.press('Enter');
-  await page.waitForSelector('#fleet-table');
+  await page.waitForSelector(waitFor);
 }
 
 const shot = (page: Page, name: string) => page.screenshot({ path: join(OUTPUT_DIR, `web-view-${name}${suffix}.png`), fullPage: true });
@@ -170,6 +172,20 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     expect((await page.request.get(`${base}/v1/fleet/at-risk`)).status()).toBe(401);
     expect(external).toEqual([]);
     expect(errors).toEqual([]);
+    await page.close();
+  });
+
+  it('lets an admin choose the fleet, then shows only that fleet', async () => {
+    const { page } = await openPage();
+    await signIn(page, adminKey, '#fleet-form');
+    expect(await page.getByLabel('Fleet').locator('option').allTextContents()).toEqual(expect.arrayContaining(['quillmoor (quillmoor)', 'other-fleet (other-fleet)']));
+    await page.getByLabel('Fleet').selectOption('quillmoor');
+    await page.getByRole('button', { name: 'Open the fleet' }).click();
+    await page.waitForSelector('#fleet-table');
+    expect(await page.locator('#fleet-name').textContent()).toBe('quillmoor (admin)');
+    const res = await page.goto(`${base}/app/vehicles/${otherFleetVehicle}`);
+    expect(res?.status()).toBe(404);
+    await page.waitForSelector('#not-found');
     await page.close();
   });
 
