@@ -175,6 +175,39 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     await page.close();
   });
 
+  it('defers a finding with a date and a reason, shows it deferred in the list, and undoes it', async () => {
+    const { page, requests } = await openPage();
+    await signIn(page);
+    await page.getByLabel('Acknowledged', { exact: true }).selectOption('unmarked');
+    await page.waitForSelector('#fleet-table, #no-rows');
+    const row = page.locator('#fleet-table tbody tr').first();
+    const vehicleId = (await row.getAttribute('data-vehicle-id'))!;
+    await row.locator('a.vehicle-link').click();
+    const card = page.locator('article.finding[data-status="open"]').first();
+    await card.waitFor();
+    const findingId = (await card.getAttribute('data-finding-id'))!;
+    await card.locator('summary', { hasText: 'Defer…' }).click();
+    const until = new Date(Date.now() + 14 * DAY_MS).toISOString().slice(0, 10);
+    await card.getByLabel('Defer until').fill(until);
+    await card.getByLabel('Reason').fill('booked with the next planned service');
+    await card.getByRole('button', { name: 'Defer', exact: true }).click();
+    await expect.poll(() => page.locator(`#finding-${findingId}`).getAttribute('data-status')).toBe('deferred');
+    expect(await page.locator(`#finding-${findingId}`).textContent()).toContain(`until ${until}: booked with the next planned service`);
+    await page.getByRole('link', { name: '← Fleet' }).click();
+    await page.waitForSelector(`#fleet-table tr[data-vehicle-id="${vehicleId}"]`);
+    expect(await page.locator(`#fleet-table tr[data-vehicle-id="${vehicleId}"] .marks`).textContent()).toMatch(/1 deferred/);
+    await page.locator(`#fleet-table tr[data-vehicle-id="${vehicleId}"] a.vehicle-link`).click();
+    await page.locator(`#finding-${findingId}`).getByRole('button', { name: 'Undo deferral' }).click();
+    await expect.poll(() => page.locator(`#finding-${findingId}`).getAttribute('data-status')).toBe('open');
+    // Any range of days: the readings of that range are asked for.
+    await page.getByLabel('From (UTC)').fill('2026-11-20');
+    await page.getByLabel('To, inclusive').fill('2026-11-21');
+    await page.getByRole('button', { name: 'Show range' }).click();
+    await expect.poll(() => requests.some((u) => u.includes(`/v1/vehicles/${vehicleId}/readings?from=2026-11-20T00%3A00%3A00.000Z&to=2026-11-22T00%3A00%3A00.000Z`))).toBe(true);
+    await expect.poll(() => page.locator('#readings-status').textContent()).toMatch(/2026-11-20 to 2026-11-22/);
+    await page.close();
+  });
+
   it('lets an admin choose the fleet, then shows only that fleet', async () => {
     const { page } = await openPage();
     await signIn(page, adminKey, '#fleet-form');

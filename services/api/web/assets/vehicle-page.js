@@ -60,6 +60,23 @@ function findingCard(f, labels, act) {
     actions);
 }
 
+/** Any range of days (UTC), up to the service's limit. */
+function rangeForm(show) {
+  const from = h('input', { type: 'date', id: 'range-from', required: true });
+  const to = h('input', { type: 'date', id: 'range-to', required: true });
+  const form = h('form', { class: 'range-form', id: 'range-form' },
+    h('div', { class: 'field' }, h('label', { for: 'range-from' }, 'From (UTC)'), from),
+    h('div', { class: 'field' }, h('label', { for: 'range-to' }, 'To, inclusive'), to),
+    h('div', { class: 'field actions' }, h('button', { type: 'submit', class: 'quiet' }, 'Show range')));
+  form.addEventListener('submit', (event) => {
+    event.preventDefault();
+    void show(Date.parse(`${from.value}T00:00:00Z`), Date.parse(`${to.value}T00:00:00Z`) + 86_400_000).catch((err) => {
+      document.getElementById('readings-status').textContent = err.message;
+    });
+  });
+  return form;
+}
+
 function serviceSection(vehicleId, summary, events, onRecorded) {
   const kinds = summary.serviceEventKinds;
   const labels = summary.kindLabels;
@@ -167,7 +184,8 @@ export async function renderVehiclePage(ctx, vehicleId) {
       h('div', { class: 'range-bar', role: 'group', 'aria-label': 'Readings range and zoom' },
         RANGES.map(([label, days]) => h('button', { type: 'button', class: 'quiet', dataset: { days }, onclick: () => void rc.load(Date.parse(summary.analysedUpTo ?? new Date().toISOString()) + 1 - days * 86_400_000, Date.parse(summary.analysedUpTo ?? new Date().toISOString()) + 1) }, `last ${label}`)),
         h('button', { type: 'button', class: 'quiet', id: 'zoom-in', onclick: () => rc.zoom(0.5) }, 'Zoom in'),
-        h('button', { type: 'button', class: 'quiet', id: 'zoom-out', onclick: () => rc.zoom(2) }, 'Zoom out')),
+        h('button', { type: 'button', class: 'quiet', id: 'zoom-out', onclick: () => rc.zoom(2) }, 'Zoom out'),
+        rangeForm((from, to) => rc.load(from, to))),
       readings.node, readingsStatus),
     serviceSection(vehicleId, summary, events, reload),
     profileSection(vehicle, session, reload));
