@@ -231,6 +231,20 @@ describe('behind a TLS-terminating proxy', () => {
 });
 
 describe('rate limits of sessions', () => {
+  it('counts failed sign-ins as failed authentications: the address is then answered 429, even with a good key', async () => {
+    const limited = await createTestApp({ authFailuresPerMinute: 2 });
+    try {
+      const key = await limited.createKey('fleet-f', ['read']);
+      const bad = () => limited.app.inject({ method: 'POST', url: '/app/session', payload: { key: 'tck_0123456789abcdef_guessguessguessguessguessguessguess' } });
+      expect([(await bad()).statusCode, (await bad()).statusCode]).toEqual([401, 401]);
+      const good = await limited.app.inject({ method: 'POST', url: '/app/session', payload: { key } });
+      expect(good.statusCode).toBe(429);
+      expect(good.headers['retry-after']).toBeDefined();
+    } finally {
+      await limited.close();
+    }
+  });
+
   it('gives each session its own bucket, so planners behind one office address do not share one', async () => {
     const limited = await createTestApp({ rateLimitPerMinute: 3 });
     try {
