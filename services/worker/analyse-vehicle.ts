@@ -11,8 +11,8 @@ import { createAnalysisStore, type VehicleState, type WindowResults } from './an
 import { syncFindings } from './findings-sync.js';
 import type { PeerBaselines } from './peer-baselines.js';
 import type { Lease, QueueRepository } from './queue-repository.js';
-import { COLUMN_NAMES } from './copy-binary-window.js';
-import { windowBounds } from './readings-window.js';
+import { COLUMN_NAMES } from '../db/pg-wire/binary-window-decoder.js';
+import { windowBounds } from '../db/reading-windows.js';
 
 /*
  * One pass over one leased vehicle:

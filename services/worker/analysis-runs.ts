@@ -2,7 +2,7 @@ import { randomUUID } from 'node:crypto';
 import { setTimeout as delay } from 'node:timers/promises';
 import { sql } from 'kysely';
 import type { DatabaseHandle } from '../db/database.js';
-import { WindowBuffers } from './copy-binary-window.js';
+import { WindowBuffers } from '../db/pg-wire/binary-window-decoder.js';
 import { processLeases, SILENT_LOGGER, type WorkerLogger } from './lease-processor.js';
 import { PeerBaselines } from './peer-baselines.js';
 import { createQueueRepository } from './queue-repository.js';
