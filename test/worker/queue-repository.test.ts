@@ -4,7 +4,7 @@ import { createFleetsRepository } from '../../services/db/fleets-repository.js';
 import { PartitionKeeper } from '../../services/db/partitions.js';
 import { createReadingsRepository } from '../../services/db/readings-repository.js';
 import type { ReadingChunk } from '../../services/db/reading-chunk.js';
-import { BACKOFF_BASE_MS, createQueueRepository } from '../../services/worker/queue-repository.js';
+import { BACKOFF_BASE_MS, createQueueRepository } from '../../services/db/analysis-queue-repository.js';
 import { createTestDatabase, type TestDatabase } from '../helpers/test-database.js';
 
 let tdb: TestDatabase;
