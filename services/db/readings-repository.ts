@@ -4,7 +4,7 @@ import { autocommitConnection, inTransaction, type IngestConnection } from './in
 import { monthIndexOf, type PartitionKeeper } from './partitions.js';
 import { encodeReadingsCopy } from './pg-wire/binary-copy-in.js';
 import type { ReadingChunk } from './reading-chunk.js';
-import { toNumber, type Database } from './schema.js';
+import { toNumber } from './schema.js';
 import { TransientConflictError, withTransientRetry } from './transient-conflict.js';
 
 /** The readings columns every insert names, in the order of `unnestRows` and the binary COPY. */
