@@ -10,7 +10,7 @@ import { createApiKeysRepository } from '../services/db/api-keys-repository.js';
 import { openDatabase, type DatabaseHandle } from '../services/db/database.js';
 import { migrateToLatest } from '../services/db/migrator.js';
 import { AnalysisRuns } from '../services/worker/analysis-runs.js';
-import { readWindows } from '../services/worker/readings-window.js';
+import { readWindows } from '../services/db/reading-windows.js';
 import { BENCH_START_MS, seedFindings, seedReadings } from './analysis-seed.js';
 import { DEFAULT_SERVER_URL, ROOT, scratchDatabase, startServer } from './bench-server.js';
 

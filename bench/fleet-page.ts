@@ -40,13 +40,19 @@ export async function benchFleetPage(serverUrl: string): Promise<FleetPageBenchR
   const { h, url, drop } = await migrated(serverUrl, 'thermocline_bench_fleet_page');
   try {
     const findings = await seedFindings(h, 'board', FLEET_PAGE_VEHICLES);
-    await sql`update vehicles set depot = (${DEPOTS}::text[])[1 + (substr(vehicle_id, 7)::int % 5)], label = 'truck ' || substr(vehicle_id, 7) where fleet_id = 'board'`.execute(h.db);
+    await sql`update vehicles set depot = (${DEPOTS}::text[])[1 + (substr(vehicle_id, 7)::int % 5)], label = 'truck ' || substr(vehicle_id, 7) where fleet_id = 'board'`.execute(
+      h.db,
+    );
     await sql`analyze`.execute(h.db);
     const { key } = await createApiKeysRepository(h.db).create({ fleetId: 'board', scopes: ['read'] });
     log(`${FLEET_PAGE_VEHICLES} vehicles with ${findings} findings seeded`);
     const server = await startServer({ DATABASE_URL: url });
     try {
-      const signIn = await fetch(`${server.baseUrl}/app/session`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ key }) });
+      const signIn = await fetch(`${server.baseUrl}/app/session`, {
+        method: 'POST',
+        headers: { 'content-type': 'application/json' },
+        body: JSON.stringify({ key }),
+      });
       if (signIn.status !== 201) throw new Error(`sign-in answered ${signIn.status}`);
       const cookie = signIn.headers.get('set-cookie')!.split(';')[0]!;
       const get = async (path: string) => {
@@ -71,7 +77,13 @@ export async function benchFleetPage(serverUrl: string): Promise<FleetPageBenchR
         if (path === QUERIES[0]) atRisk = last.total;
         times.sort((a, b) => a - b);
         all.push(...times);
-        queries.push({ path, p50Ms: percentile(times, 0.5), p99Ms: percentile(times, 0.99), rows: last.vehicles.length, total: last.total });
+        queries.push({
+          path,
+          p50Ms: percentile(times, 0.5),
+          p99Ms: percentile(times, 0.99),
+          rows: last.vehicles.length,
+          total: last.total,
+        });
       }
       all.sort((a, b) => a - b);
       return { vehicles: FLEET_PAGE_VEHICLES, atRisk, queries, allP99Ms: percentile(all, 0.99) };

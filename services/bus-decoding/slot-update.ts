@@ -1,6 +1,6 @@
 import { alignReadings, type DerivedReadings, emptyDerivedReadings } from './align-readings.js';
 import { MAX_STALE_MS } from './bus-channels.js';
-import { SLOT_RECORD_LENGTH, VehicleSlots } from './vehicle-slots.js';
+import { SLOT_RECORD_LENGTH, type VehicleSlots } from './vehicle-slots.js';
 
 /** The stored slots a request's slots need: the range whose readings they can change, plus the look-back. */
 export function windowToLoad(incoming: VehicleSlots): { fromMs: number; toMs: number } {

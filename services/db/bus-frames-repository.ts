@@ -6,8 +6,9 @@ import { decodeSlotRecord, SlotWrites } from './bus-slot-writes.js';
 import type { DatabaseHandle } from './database.js';
 import { inTransaction, type IngestConnection } from './ingest-connection.js';
 import { monthIndexOf, type PartitionKeeper } from './partitions.js';
-import { encodeReadingsCopy } from './readings-copy.js';
-import { ForeignVehiclesError, READINGS_INSERT_COLUMNS, type IngestAuditInput, type ReadingChunk } from './readings-repository.js';
+import { encodeReadingsCopy } from './pg-wire/binary-copy-in.js';
+import { ForeignVehiclesError, READINGS_INSERT_COLUMNS, type IngestAuditInput } from './readings-repository.js';
+import type { ReadingChunk } from './reading-chunk.js';
 import { withTransientRetry } from './transient-conflict.js';
 
 export interface FrameIngestResult {

@@ -1,7 +1,7 @@
 import type { DerivedReadings } from '../bus-decoding/align-readings.js';
 import { CHANNEL_COUNT } from '../bus-decoding/bus-channels.js';
 import { SLOT_RECORD_LENGTH } from '../bus-decoding/vehicle-slots.js';
-import type { ReadingChunk } from './readings-repository.js';
+import type { ReadingChunk } from './reading-chunk.js';
 
 /** Longest encoded slot record: the mask and every channel's two samples. */
 const MAX_RECORD_BYTES = 2 + CHANNEL_COUNT * 32;

@@ -2,7 +2,7 @@ import { mkdirSync } from 'node:fs';
 import { PGlite } from '@electric-sql/pglite';
 import { Kysely, PGliteDialect, PostgresDialect } from 'kysely';
 import pg from 'pg';
-import { pgSocket } from './reused-buffer-socket.js';
+import { pgSocket } from './pg-wire/receive-buffer-socket.js';
 import type { Database } from './schema.js';
 
 export type DatabaseKind = 'postgres' | 'pglite';

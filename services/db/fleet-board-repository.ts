@@ -45,7 +45,8 @@ const hasStatus = (status: string) => sql`a.open_findings_brief @> ${JSON.string
 /** Sort keys over the columns of the filtered set `m` (page below). */
 const ORDER: Readonly<Record<BoardSort, (desc: boolean) => RawBuilder<unknown>>> = {
   risk: (d) => sql`risk_score ${sql.raw(d ? 'desc' : 'asc')}, vehicle_id`,
-  priority: (d) => sql`case max_severity when 'critical' then 0 when 'warning' then 1 else 2 end ${sql.raw(d ? 'desc' : 'asc')}, risk_score desc, vehicle_id`,
+  priority: (d) =>
+    sql`case max_severity when 'critical' then 0 when 'warning' then 1 else 2 end ${sql.raw(d ? 'desc' : 'asc')}, risk_score desc, vehicle_id`,
   since: (d) => sql`since ${sql.raw(d ? 'desc' : 'asc')}, risk_score desc, vehicle_id`,
   vehicle: (d) => sql`vehicle_id ${sql.raw(d ? 'desc' : 'asc')}`,
   depot: (d) => sql`depot ${sql.raw(d ? 'desc nulls last' : 'asc nulls last')}, risk_score desc, vehicle_id`,
@@ -83,7 +84,13 @@ export function createFleetBoardRepository(db: Kysely<Database>) {
      * at 10,000 vehicles: 54 ms against 20 ms per request, measured in-process under load 7). Offset paging: the filtered
      * set is at most the fleet and is sorted whatever the cursor, and a planner jumps to page n.
      */
-    async page(f: BoardFilter, sort: BoardSort, desc: boolean, limit: number, offset: number): Promise<{ total: number; rows: BoardRow[] }> {
+    async page(
+      f: BoardFilter,
+      sort: BoardSort,
+      desc: boolean,
+      limit: number,
+      offset: number,
+    ): Promise<{ total: number; rows: BoardRow[] }> {
       // Materialised: with the count over the whole set, the planner otherwise walks the risk index row by row
       // (a nested loop over 3,333 rows: 14.6 ms against 9.4 ms for the hash join, EXPLAIN ANALYZE at 10,000 vehicles).
       const ids = await sql<{ vehicle_id: string; total: string | number }>`
@@ -98,22 +105,46 @@ export function createFleetBoardRepository(db: Kysely<Database>) {
       if (ids.rows.length === 0) {
         if (offset === 0) return { total: 0, rows: [] };
         // Past the last page: the window count is not there, count apart.
-        const c = await sql<{ n: string | number }>`select count(*) as n from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id where ${where(f)}`.execute(db);
+        const c = await sql<{
+          n: string | number;
+        }>`select count(*) as n from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id where ${where(f)}`.execute(
+          db,
+        );
         return { total: toNumber(c.rows[0]?.n), rows: [] };
       }
       const order = ids.rows.map((r) => r.vehicle_id);
-      const rows = await db.selectFrom('vehicle_analysis as a').innerJoin('vehicles as v', 'v.vehicle_id', 'a.vehicle_id')
-        .select(['a.vehicle_id', 'v.label', 'v.depot', 'a.risk_score', 'a.max_severity', 'a.last_reading_at', 'a.open_findings_brief'])
-        .where('a.vehicle_id', 'in', order).execute();
+      const rows = await db
+        .selectFrom('vehicle_analysis as a')
+        .innerJoin('vehicles as v', 'v.vehicle_id', 'a.vehicle_id')
+        .select([
+          'a.vehicle_id',
+          'v.label',
+          'v.depot',
+          'a.risk_score',
+          'a.max_severity',
+          'a.last_reading_at',
+          'a.open_findings_brief',
+        ])
+        .where('a.vehicle_id', 'in', order)
+        .execute();
       const byId = new Map(rows.map((r) => [r.vehicle_id, r]));
       return {
         total,
         rows: order.flatMap((id) => {
           const r = byId.get(id);
-          return r ? [{
-            vehicleId: r.vehicle_id, label: r.label, depot: r.depot, riskScore: r.risk_score, maxSeverity: r.max_severity as Severity,
-            lastReadingAt: r.last_reading_at, findings: r.open_findings_brief as unknown as FindingBriefView[],
-          }] : [];
+          return r
+            ? [
+                {
+                  vehicleId: r.vehicle_id,
+                  label: r.label,
+                  depot: r.depot,
+                  riskScore: r.risk_score,
+                  maxSeverity: r.max_severity as Severity,
+                  lastReadingAt: r.last_reading_at,
+                  findings: r.open_findings_brief as unknown as FindingBriefView[],
+                },
+              ]
+            : [];
         }),
       };
     },
@@ -139,14 +170,21 @@ export function createFleetBoardRepository(db: Kysely<Database>) {
         where (${fleetId}::text is null or v.fleet_id = ${fleetId})`.execute(db);
       const row = r.rows[0] ?? {};
       return {
-        vehicles: toNumber(row.vehicles), atRisk: toNumber(row.at_risk), reporting: toNumber(row.reporting),
-        silentGateways: toNumber(row.silent), newThisWeek: toNumber(row.new_this_week),
+        vehicles: toNumber(row.vehicles),
+        atRisk: toNumber(row.at_risk),
+        reporting: toNumber(row.reporting),
+        silentGateways: toNumber(row.silent),
+        newThisWeek: toNumber(row.new_this_week),
       };
     },
 
     /** A vehicle's latest analysed reading, ms (null: never analysed): what its charts are drawn as of. */
     async analysedUpTo(vehicleId: string): Promise<number | null> {
-      const row = await db.selectFrom('vehicle_analysis').select('last_reading_at').where('vehicle_id', '=', vehicleId).executeTakeFirst();
+      const row = await db
+        .selectFrom('vehicle_analysis')
+        .select('last_reading_at')
+        .where('vehicle_id', '=', vehicleId)
+        .executeTakeFirst();
       return row?.last_reading_at?.getTime() ?? null;
     },
 

@@ -4,7 +4,7 @@ import type { Kysely, RawBuilder, Transaction } from 'kysely';
 import type pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 import type { DatabaseHandle } from './database.js';
-import { READINGS_COPY_COLUMNS } from './readings-copy.js';
+import { READINGS_COPY_COLUMNS } from './pg-wire/binary-copy-in.js';
 import type { Database } from './schema.js';
 
 /**

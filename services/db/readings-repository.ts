@@ -2,24 +2,10 @@ import { sql } from 'kysely';
 import type { DatabaseHandle } from './database.js';
 import { autocommitConnection, inTransaction, type IngestConnection } from './ingest-connection.js';
 import { monthIndexOf, type PartitionKeeper } from './partitions.js';
-import { encodeReadingsCopy } from './readings-copy.js';
-import { toNumber, type Database } from './schema.js';
+import { encodeReadingsCopy } from './pg-wire/binary-copy-in.js';
+import type { ReadingChunk } from './reading-chunk.js';
+import { toNumber } from './schema.js';
 import { TransientConflictError, withTransientRetry } from './transient-conflict.js';
-
-/** A column-wise chunk of validated readings in °C; absent optional channels are NaN. */
-export interface ReadingChunk {
-  length: number;
-  vehicleIds: string[];
-  tsMs: Float64Array;
-  coolantC: Float64Array;
-  ambientC: Float64Array;
-  speedKph: Float64Array;
-  rpm: Float64Array;
-  /** Channels the vehicle bus adds (migration 0005); absent = all NULL. */
-  barometricKpa?: Float64Array;
-  coolantLevelPct?: Float64Array;
-  coolantPressureKpa?: Float64Array;
-}
 
 /** The readings columns every insert names, in the order of `unnestRows` and the binary COPY. */
 export const READINGS_INSERT_COLUMNS = sql.raw('(vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa)');
@@ -87,7 +73,7 @@ function textArrayLiteral(values: string[], length: number): string {
 type Inserted = Array<{ vehicle_id: string; n: string | number; first_ts: Date }>;
 
 /** What one attempt at storing a request has inserted so far. */
-class Tally {
+class StoredSoFar {
   staged = 0;
   accepted = 0;
   readonly vehicles = new Set<string>();
@@ -197,10 +183,10 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
    * a fresh snapshot that sees the winner. (Before, the readings of two fleets racing for a new id
    * both ended up under the winner: 103 of 150 trials.)
    */
-  async function finish(conn: IngestConnection, fleetId: string, tally: Tally, audit: IngestAuditInput, started: number, alsoInsert?: ReadingChunk): Promise<void> {
-    const ids = [...tally.vehicles].sort();
-    const queued = [...tally.dirtyFrom.keys()].sort();
-    const firsts = queued.map((id) => tally.dirtyFrom.get(id)!);
+  async function finish(conn: IngestConnection, fleetId: string, stored: StoredSoFar, audit: IngestAuditInput, started: number, alsoInsert?: ReadingChunk): Promise<void> {
+    const ids = [...stored.vehicles].sort();
+    const queued = [...stored.dirtyFrom.keys()].sort();
+    const firsts = queued.map((id) => stored.dirtyFrom.get(id)!);
     for (let attempt = 1; ; attempt++) {
       const [outcome] = await conn.run(sql<{ foreign_ids: string[] | null; raced: number }>`
         with known as (
@@ -228,8 +214,8 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
                 enqueued_at = now()
         ), audited as (
           insert into ingest_audit (key_id, fleet_id, content_type, body_bytes, accepted, duplicates, rejected, vehicles, duration_ms)
-          select ${audit.keyId}, ${fleetId}, ${audit.contentType}, ${audit.bodyBytes()}, ${tally.accepted}, ${tally.staged - tally.accepted},
-                 ${audit.rejected()}, ${tally.vehicles.size}, ${Date.now() - started}
+          select ${audit.keyId}, ${fleetId}, ${audit.contentType}, ${audit.bodyBytes()}, ${stored.accepted}, ${stored.staged - stored.accepted},
+                 ${audit.rejected()}, ${stored.vehicles.size}, ${Date.now() - started}
           where (select ok from verdict)
         )${alsoInsert ? sql`, stored as (
           insert into readings ${READINGS_INSERT_COLUMNS} ${unnestRows(alsoInsert)}
@@ -253,24 +239,24 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
    * stored; the chunk, still in memory, is then stored the careful way in a transaction. The
    * chunk is in memory, so a deadlock with a concurrent request is retried whole.
    */
-  function ingestOneChunk(fleetId: string, chunk: ReadingChunk | undefined, audit: IngestAuditInput, started: number): Promise<Tally> {
+  function ingestOneChunk(fleetId: string, chunk: ReadingChunk | undefined, audit: IngestAuditInput, started: number): Promise<StoredSoFar> {
     return withTransientRetry(async () => {
-      const tally = new Tally();
+      const stored = new StoredSoFar();
       if (!chunk) {
-        await finish(autocommit, fleetId, tally, audit, started);
-        return tally;
+        await finish(autocommit, fleetId, stored, audit, started);
+        return stored;
       }
       await ensurePartitions(autocommit, chunk);
-      tally.stage(chunk);
-      tally.add(insertedFromChunk(chunk));
+      stored.stage(chunk);
+      stored.add(insertedFromChunk(chunk));
       try {
-        await finish(autocommit, fleetId, tally, audit, started, chunk);
-        return tally;
+        await finish(autocommit, fleetId, stored, audit, started, chunk);
+        return stored;
       } catch (err) {
         if (!isUniqueViolation(err)) throw err;
       }
       return transaction(async (conn) => {
-        const careful = new Tally();
+        const careful = new StoredSoFar();
         careful.stage(chunk);
         careful.add(await insertNew(conn, chunk));
         await finish(conn, fleetId, careful, audit, started);
@@ -304,9 +290,9 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
    * body is not held, so the whole cannot be retried: if the conflict persists the request fails
    * with nothing stored, and the client is told to retry later).
    */
-  async function ingestStream(fleetId: string, chunks: AsyncIterable<ReadingChunk>, audit: IngestAuditInput, started: number): Promise<Tally> {
+  async function ingestStream(fleetId: string, chunks: AsyncIterable<ReadingChunk>, audit: IngestAuditInput, started: number): Promise<StoredSoFar> {
     return transaction(async (conn) => {
-      const tally = new Tally();
+      const stored = new StoredSoFar();
       let careful = false;
       const store = (chunk: ReadingChunk): Promise<Inserted> =>
         withTransientRetry(async () => {
@@ -324,14 +310,14 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
       for await (const chunk of chunks) {
         await pending;
         await ensurePartitions(conn, chunk);
-        tally.stage(chunk);
-        pending = store(chunk).then((rows) => tally.add(rows));
+        stored.stage(chunk);
+        pending = store(chunk).then((rows) => stored.add(rows));
         // Keep a failed insert from being an unhandled rejection while the next chunk is parsed.
         pending.catch(() => undefined);
       }
       await pending;
-      await withTransientRetry(() => inSavepoint(conn, () => finish(conn, fleetId, tally, audit, started)));
-      return tally;
+      await withTransientRetry(() => inSavepoint(conn, () => finish(conn, fleetId, stored, audit, started)));
+      return stored;
     });
   }
 
@@ -360,8 +346,8 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
         yield second!;
         for (let next = await nonEmpty(); next; next = await nonEmpty()) yield next;
       }
-      const tally = second ? await ingestStream(fleetId, all(), audit, started) : await ingestOneChunk(fleetId, first, audit, started);
-      return { accepted: tally.accepted, duplicates: tally.staged - tally.accepted, staged: tally.staged, vehicles: tally.vehicles.size };
+      const stored = second ? await ingestStream(fleetId, all(), audit, started) : await ingestOneChunk(fleetId, first, audit, started);
+      return { accepted: stored.accepted, duplicates: stored.staged - stored.accepted, staged: stored.staged, vehicles: stored.vehicles.size };
     },
 
     /** Number of stored readings of a vehicle (tests, bench and the load check). */

@@ -29,27 +29,59 @@ export function sessionHash(token: string): string {
 export function createWebSessionsRepository(db: Kysely<Database>) {
   return {
     /** Opens a session; returns the cookie token (shown once, stored hashed) and the CSRF token. */
-    async create(input: { keyId: string; fleetId: string | null; idleMs: number; maxMs: number; nowMs: number }): Promise<{ token: string; csrfToken: string; expiresAt: Date }> {
+    async create(input: {
+      keyId: string;
+      fleetId: string | null;
+      idleMs: number;
+      maxMs: number;
+      nowMs: number;
+    }): Promise<{ token: string; csrfToken: string; expiresAt: Date }> {
       const token = randomBytes(32).toString('base64url');
       const csrfToken = randomBytes(24).toString('base64url');
       const expiresAt = new Date(input.nowMs + Math.min(input.idleMs, input.maxMs));
-      await db.insertInto('web_sessions').values({
-        session_hash: sessionHash(token), key_id: input.keyId, fleet_id: input.fleetId, csrf_token: csrfToken,
-        expires_at: expiresAt, max_expires_at: new Date(input.nowMs + input.maxMs),
-      }).execute();
+      await db
+        .insertInto('web_sessions')
+        .values({
+          session_hash: sessionHash(token),
+          key_id: input.keyId,
+          fleet_id: input.fleetId,
+          csrf_token: csrfToken,
+          expires_at: expiresAt,
+          max_expires_at: new Date(input.nowMs + input.maxMs),
+        })
+        .execute();
       return { token, csrfToken, expiresAt };
     },
 
     /** The live session of a cookie token: not expired at `nowMs`, its key not revoked. */
     async find(token: string, nowMs: number): Promise<WebSession | undefined> {
-      const row = await db.selectFrom('web_sessions as s').innerJoin('api_keys as k', 'k.key_id', 's.key_id')
-        .select(['s.session_hash', 's.key_id', 's.fleet_id', 's.csrf_token', 's.expires_at', 's.max_expires_at', 'k.fleet_id as key_fleet_id', 'k.scopes'])
-        .where('s.session_hash', '=', sessionHash(token)).where('s.expires_at', '>', new Date(nowMs)).where('k.revoked_at', 'is', null)
+      const row = await db
+        .selectFrom('web_sessions as s')
+        .innerJoin('api_keys as k', 'k.key_id', 's.key_id')
+        .select([
+          's.session_hash',
+          's.key_id',
+          's.fleet_id',
+          's.csrf_token',
+          's.expires_at',
+          's.max_expires_at',
+          'k.fleet_id as key_fleet_id',
+          'k.scopes',
+        ])
+        .where('s.session_hash', '=', sessionHash(token))
+        .where('s.expires_at', '>', new Date(nowMs))
+        .where('k.revoked_at', 'is', null)
         .executeTakeFirst();
       if (!row) return undefined;
       return {
-        sessionHash: row.session_hash, keyId: row.key_id, keyFleetId: row.key_fleet_id, fleetId: row.key_fleet_id ?? row.fleet_id,
-        scopes: row.scopes as Scope[], csrfToken: row.csrf_token, expiresAt: row.expires_at, maxExpiresAt: row.max_expires_at,
+        sessionHash: row.session_hash,
+        keyId: row.key_id,
+        keyFleetId: row.key_fleet_id,
+        fleetId: row.key_fleet_id ?? row.fleet_id,
+        scopes: row.scopes as Scope[],
+        csrfToken: row.csrf_token,
+        expiresAt: row.expires_at,
+        maxExpiresAt: row.max_expires_at,
       };
     },
 
@@ -70,11 +102,14 @@ export function createWebSessionsRepository(db: Kysely<Database>) {
 
     /** Drops sessions that expired before `nowMs` or whose key is revoked; returns how many. */
     async purge(nowMs: number): Promise<number> {
-      const result = await db.deleteFrom('web_sessions')
-        .where((eb) => eb.or([
-          eb('expires_at', '<=', new Date(nowMs)),
-          eb('key_id', 'in', eb.selectFrom('api_keys').select('key_id').where('revoked_at', 'is not', null)),
-        ]))
+      const result = await db
+        .deleteFrom('web_sessions')
+        .where((eb) =>
+          eb.or([
+            eb('expires_at', '<=', new Date(nowMs)),
+            eb('key_id', 'in', eb.selectFrom('api_keys').select('key_id').where('revoked_at', 'is not', null)),
+          ]),
+        )
         .executeTakeFirst();
       return Number(result.numDeletedRows);
     },

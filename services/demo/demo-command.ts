@@ -10,7 +10,7 @@ import { createFleetsRepository } from '../db/fleets-repository.js';
 import { migrateToLatest } from '../db/migrator.js';
 import { SAFETY_CAUTION } from '../analysis/findings/finding.js';
 import { utcDayStartMs } from '../analysis/sample-arrays.js';
-import { formatIsoWeek, lastCompleteIsoWeek } from '../report/iso-week.js';
+import { formatIsoWeek, lastCompleteIsoWeek } from '../time/iso-week.js';
 import { DEMO_FLEET_ID, planFleet, type SimVehicle } from '../simulator/index.js';
 import { formatAtRiskTable, type AtRiskVehicle } from './at-risk-table.js';
 import { feedVehicle, type FeedTotals } from './gateway-feed.js';

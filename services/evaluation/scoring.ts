@@ -2,7 +2,7 @@
  * Scores what a planner saw against the ground truth of simulated fleets. Pure: the alarms may
  * be the service's findings read over HTTP, or a baseline rule's hits.
  *
- * Definitions (DEVELOPERS.md, Field evaluation):
+ * Definitions (services/evaluation/README.md):
  * - An alarm is every finding a planner could have seen, resolved or superseded ones included,
  *   with the most severe severity it was ever shown at and the time it was first seen.
  * - A fault is found when any alarm on its vehicle was first seen on or after onset, and found

@@ -5,7 +5,7 @@ import { hashSeed, Rng } from '../simulator/prng.js';
 /**
  * Held-out discipline: fleets whose seeds lie in the tuning range may be looked at while
  * thresholds are chosen; fleets in the reporting range are only ever reported. `npm run
- * evaluate` uses the reporting range unless told otherwise (DEVELOPERS.md names both).
+ * evaluate` uses the reporting range unless told otherwise (services/evaluation/README.md names both).
  */
 export const SEED_RANGES = {
   tuning: { first: 1000, last: 4999 },

@@ -3,7 +3,7 @@ import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import pg from 'pg';
+import { createScratchDatabase } from '../db/scratch-database.js';
 import { openDatabase } from '../db/database.js';
 import { migrateToLatest } from '../db/migrator.js';
 import { createFleetKeys, type EvaluationService, type ServiceFactory } from './evaluation-service.js';
@@ -24,26 +24,8 @@ async function freshDatabase(databaseUrl: string | undefined): Promise<{ env: Re
     const dir = await mkdtemp(join(tmpdir(), 'thermocline-evaluate-'));
     return { env: { PGLITE_DIR: dir }, url: undefined, dir, drop: () => rm(dir, { recursive: true, force: true }) };
   }
-  const name = `thermocline_evaluate_${process.pid}_${++serial}`;
-  const admin = new pg.Client({ connectionString: databaseUrl });
-  await admin.connect();
-  try {
-    await admin.query(`create database ${name}`);
-  } finally {
-    await admin.end();
-  }
-  const url = new URL(databaseUrl);
-  url.pathname = `/${name}`;
-  const drop = async () => {
-    const c = new pg.Client({ connectionString: databaseUrl });
-    await c.connect();
-    try {
-      await c.query(`drop database if exists ${name} with (force)`);
-    } finally {
-      await c.end();
-    }
-  };
-  return { env: { DATABASE_URL: url.toString() }, url: url.toString(), dir: '', drop };
+  const { url, drop } = await createScratchDatabase(databaseUrl, `thermocline_evaluate_${process.pid}_${++serial}`);
+  return { env: { DATABASE_URL: url }, url, dir: '', drop };
 }
 
 /**

@@ -4,9 +4,9 @@ import { deriveFindings } from '../analysis/derive-findings.js';
 import type { Finding } from '../analysis/findings/finding.js';
 import { riskScore } from '../analysis/risk-score.js';
 import type { Database } from '../db/schema.js';
-import { createAnalysisStore } from '../worker/analysis-store.js';
-import { PeerBaselines } from '../worker/peer-baselines.js';
-import type { ReportVehicle, StoredFinding } from './report-repository.js';
+import { createAnalysisStore } from '../db/analysis-results-repository.js';
+import { PeerBaselines } from '../db/peer-baselines-repository.js';
+import type { ReportVehicle, StoredFinding } from '../db/weekly-report-repository.js';
 
 /** A past week's findings as the analysis saw them at the week's end, and each vehicle's risk then. */
 export interface FindingsAsOf {

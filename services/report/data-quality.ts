@@ -1,5 +1,5 @@
 import { round } from '../analysis/findings/finding.js';
-import type { StoredDay, StoredFinding, StoredSensorEvent } from './report-repository.js';
+import type { StoredDay, StoredFinding, StoredSensorEvent } from '../db/weekly-report-repository.js';
 import type { WeeklyReport } from './weekly-report-schema.js';
 
 type DataQuality = WeeklyReport['dataQuality'];

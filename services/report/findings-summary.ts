@@ -1,4 +1,4 @@
-import type { StoredFinding } from './report-repository.js';
+import type { StoredFinding } from '../db/weekly-report-repository.js';
 import type { WeeklyReport } from './weekly-report-schema.js';
 
 type Summary = WeeklyReport['findings'];

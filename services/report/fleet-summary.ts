@@ -1,5 +1,5 @@
 import { round } from '../analysis/findings/finding.js';
-import type { ReportVehicle, StoredDay } from './report-repository.js';
+import type { ReportVehicle, StoredDay } from '../db/weekly-report-repository.js';
 import type { WeeklyReport } from './weekly-report-schema.js';
 
 /** A gateway with no data for this long at the report time is listed as silent, h. */

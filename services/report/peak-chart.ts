@@ -1,6 +1,6 @@
 import { type ChartOption, GRID, LEGEND, renderChartSvg, Y_NAME } from './chart-svg.js';
 import type { PeakChart } from './weekly-report-schema.js';
-import { utcWeekStartMs } from './iso-week.js';
+import { utcWeekStartMs } from '../time/iso-week.js';
 
 const DAY_MS = 86_400_000;
 /** The projection is drawn at most this far past the last day, days (further: stated in words). */

@@ -3,8 +3,8 @@ import { loadConfig } from '../config.js';
 import { openDatabase } from '../db/database.js';
 import { migrateToLatest } from '../db/migrator.js';
 import { UnknownFleetError } from './build-weekly-report.js';
-import { parseIsoWeek } from './iso-week.js';
-import { createReportRepository } from './report-repository.js';
+import { parseIsoWeek } from '../time/iso-week.js';
+import { createReportRepository } from '../db/weekly-report-repository.js';
 import { writeWeeklyReport } from './weekly-report-files.js';
 
 const USAGE = `usage: thermocline report weekly [--week YYYY-Www] [--fleet FLEET] [--out DIR]

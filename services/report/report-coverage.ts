@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import type { WeekData } from './report-repository.js';
+import type { WeekData } from '../db/weekly-report-repository.js';
 import type { WeeklyReport } from './weekly-report-schema.js';
 
 const fmt = (v: number) => v.toLocaleString('en-GB');

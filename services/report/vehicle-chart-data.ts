@@ -3,7 +3,7 @@ import type { DayAggregate } from '../analysis/day-aggregates.js';
 import { coolantBoilingPointC } from '../analysis/physics/boiling-point.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
 import { peakChart } from './peak-chart-data.js';
-import type { ReportRepository, StoredFinding } from './report-repository.js';
+import type { ReportRepository, StoredFinding } from '../db/weekly-report-repository.js';
 import { baselineBand, drawableColdStarts, WARMUP_CHART_MIN, warmupCurve } from './warmup-chart-data.js';
 import type { PeakChart, WarmupChart } from './weekly-report-schema.js';
 
@@ -33,10 +33,19 @@ export interface ChartInput {
 }
 
 /** The latest drawable cold starts since `recentFromMs` as curves: measured readings where still kept, else the stored fit. */
-export async function recentWarmupCurves(repo: ReportRepository, vehicleId: string, runs: readonly RunMetrics[], recentFromMs: number): Promise<WarmupChart['curves']> {
+export async function recentWarmupCurves(
+  repo: ReportRepository,
+  vehicleId: string,
+  runs: readonly RunMetrics[],
+  recentFromMs: number,
+): Promise<WarmupChart['curves']> {
   const curves = [];
   for (const run of drawableColdStarts(runs.filter((r) => r.startMs >= recentFromMs))) {
-    const readings = await repo.coolant(vehicleId, run.startMs, Math.min(run.startMs + WARMUP_CHART_MIN * 60_000 + 1, run.endMs + 1));
+    const readings = await repo.coolant(
+      vehicleId,
+      run.startMs,
+      Math.min(run.startMs + WARMUP_CHART_MIN * 60_000 + 1, run.endMs + 1),
+    );
     const curve = warmupCurve(run, readings);
     if (curve) curves.push(curve);
   }
@@ -58,7 +67,10 @@ export function vehicleChartsOf(v: ChartProfile, input: ChartInput): { warmup: W
       ...baselineBand(input.runs.filter((r) => r.startMs >= input.bandFromMs && r.startMs < input.onsetMs)),
       curves: input.curves,
     },
-    peaks: withFindingTrend(peakChart(input.days, cfg.trendWindowDays, boilingPointC, v.thermostatOpenC + cfg.hotMarginC), input.trendFinding),
+    peaks: withFindingTrend(
+      peakChart(input.days, cfg.trendWindowDays, boilingPointC, v.thermostatOpenC + cfg.hotMarginC),
+      input.trendFinding,
+    ),
   };
 }
 
@@ -69,15 +81,20 @@ export function vehicleChartsOf(v: ChartProfile, input: ChartInput): { warmup: W
  */
 export function withFindingTrend(chart: PeakChart, finding: Pick<StoredFinding, 'metrics'> | undefined): PeakChart {
   const m = finding?.metrics;
-  if (!chart.trend || !m || m.rawSlopeCPerDay === undefined || m.levelC === undefined || m.daysToBoil === undefined) return chart;
+  if (!chart.trend || !m || m.rawSlopeCPerDay === undefined || m.levelC === undefined || m.daysToBoil === undefined)
+    return chart;
   const daysToBoil = m.daysToBoil < 0 ? null : m.daysToBoil;
   const anchorMs = Date.parse(chart.trend.anchorDay);
   return {
     ...chart,
     boilingPointC: m.boilingPointC ?? chart.boilingPointC,
     trend: {
-      ...chart.trend, senSlopeCPerDay: m.rawSlopeCPerDay, levelC: m.levelC, daysToBoil,
-      projectedBoilDate: daysToBoil === null ? null : new Date(anchorMs + Math.ceil(daysToBoil) * DAY_MS).toISOString().slice(0, 10),
+      ...chart.trend,
+      senSlopeCPerDay: m.rawSlopeCPerDay,
+      levelC: m.levelC,
+      daysToBoil,
+      projectedBoilDate:
+        daysToBoil === null ? null : new Date(anchorMs + Math.ceil(daysToBoil) * DAY_MS).toISOString().slice(0, 10),
     },
   };
 }

@@ -1,7 +1,7 @@
 import { round } from '../analysis/findings/finding.js';
 import { quantileSorted } from 'simple-statistics';
 import type { RunMetrics } from '../analysis/run-metrics.js';
-import type { ReadingSeries } from './report-repository.js';
+import type { ReadingSeries } from '../db/weekly-report-repository.js';
 import type { WarmupChart } from './weekly-report-schema.js';
 
 /** Minutes after engine start shown in the warm-up chart (a stuck-open thermostat takes longer than a healthy 10–20 min). */

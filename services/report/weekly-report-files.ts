@@ -5,7 +5,7 @@ import type { Database } from '../db/schema.js';
 import { type BuildReportOptions, buildWeeklyReport } from './build-weekly-report.js';
 import { renderWorkListCsv } from './csv-work-list.js';
 import { renderReportHtml } from './html-report.js';
-import { createReportRepository } from './report-repository.js';
+import { createReportRepository } from '../db/weekly-report-repository.js';
 import type { WeeklyReport } from './weekly-report-schema.js';
 
 /** A report in its three formats. */

@@ -1,10 +1,10 @@
 import type { Kysely } from 'kysely';
 import type { Database } from '../db/schema.js';
-import { formatIsoWeek, isoWeekAt, isoWeekDate, lastCompleteIsoWeek } from './iso-week.js';
-import { createReportRepository } from './report-repository.js';
+import { formatIsoWeek, isoWeekAt, isoWeekDate, lastCompleteIsoWeek } from '../time/iso-week.js';
+import { createReportRepository } from '../db/weekly-report-repository.js';
 import { generateWeeklyReport, writeWeeklyReport } from './weekly-report-files.js';
 import { archiveState } from './weekly-report-service.js';
-import { zonedTimeToUtcMs } from './zoned-time.js';
+import { zonedTimeToUtcMs } from '../time/zoned-time.js';
 
 export interface WeeklyReportSchedulerOptions {
   db: Kysely<Database>;

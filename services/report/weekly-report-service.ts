@@ -1,8 +1,8 @@
 import type { Kysely } from 'kysely';
 import type { Database } from '../db/schema.js';
-import { formatIsoWeek, parseIsoWeek, weekWindow } from './iso-week.js';
+import { formatIsoWeek, parseIsoWeek, weekWindow } from '../time/iso-week.js';
 import { weekDataStamp } from './report-coverage.js';
-import { createReportRepository, type ArchivedReport, type WeekData } from './report-repository.js';
+import { createReportRepository, type ArchivedReport, type WeekData } from '../db/weekly-report-repository.js';
 import { generateWeeklyReport } from './weekly-report-files.js';
 import type { WeeklyReport } from './weekly-report-schema.js';
 

@@ -1,7 +1,7 @@
 import { cautionsFor } from '../analysis/findings/cautions.js';
 import { round, SAFETY_CAUTION, type Severity } from '../analysis/findings/finding.js';
 import { utcDay } from '../analysis/sample-arrays.js';
-import type { ReportVehicle, StoredFinding } from './report-repository.js';
+import type { ReportVehicle, StoredFinding } from '../db/weekly-report-repository.js';
 import type { Priority, WorkFinding, WorkItem } from './weekly-report-schema.js';
 
 const SEVERITY_RANK: Readonly<Record<Severity, number>> = { critical: 0, warning: 1, advisory: 2 };

@@ -1,5 +1,5 @@
 /**
- * Physics-based cooling-system simulator (pure: no I/O). See DEVELOPERS.md, section Simulator.
+ * Physics-based cooling-system simulator (pure: no I/O). See services/simulator/README.md.
  */
 export type { Climate, ClimateSpec } from './weather.js';
 export { CLIMATES, AmbientModel } from './weather.js';

@@ -110,8 +110,8 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
   let n = 0;
   let tMs = opts.startMs;
   let ambientC = weather.at(tMs);
-  let nextSlowMs = tMs;
-  let stepIndex = 0;
+  let nextSlowMs: number;
+  let stepIndex: number;
 
   const firstMidnightMs = Math.floor((opts.startMs + offsetMs) / DAY_MS) * DAY_MS - offsetMs;
   for (let midnight = firstMidnightMs; midnight < endMs; midnight += DAY_MS) {

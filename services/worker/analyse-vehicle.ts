@@ -7,12 +7,12 @@ import { utcDayStartMs, type SampleArrays } from '../analysis/sample-arrays.js';
 import type { SensorEvent } from '../analysis/sensor-events.js';
 import type { DatabaseHandle } from '../db/database.js';
 import { refreshVehicleRisk } from '../db/vehicle-risk.js';
-import { createAnalysisStore, type VehicleState, type WindowResults } from './analysis-store.js';
-import { syncFindings } from './findings-sync.js';
-import type { PeerBaselines } from './peer-baselines.js';
-import type { Lease, QueueRepository } from './queue-repository.js';
-import { COLUMN_NAMES } from './copy-binary-window.js';
-import { windowBounds } from './readings-window.js';
+import { createAnalysisStore, type VehicleState, type WindowResults } from '../db/analysis-results-repository.js';
+import { syncFindings } from '../db/findings-sync.js';
+import type { PeerBaselines } from '../db/peer-baselines-repository.js';
+import type { Lease, QueueRepository } from '../db/analysis-queue-repository.js';
+import { COLUMN_NAMES } from '../db/pg-wire/binary-window-decoder.js';
+import { windowBounds } from '../db/reading-windows.js';
 
 /*
  * One pass over one leased vehicle:

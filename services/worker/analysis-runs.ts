@@ -2,10 +2,10 @@ import { randomUUID } from 'node:crypto';
 import { setTimeout as delay } from 'node:timers/promises';
 import { sql } from 'kysely';
 import type { DatabaseHandle } from '../db/database.js';
-import { WindowBuffers } from './copy-binary-window.js';
+import { WindowBuffers } from '../db/pg-wire/binary-window-decoder.js';
 import { processLeases, SILENT_LOGGER, type WorkerLogger } from './lease-processor.js';
-import { PeerBaselines } from './peer-baselines.js';
-import { createQueueRepository } from './queue-repository.js';
+import { PeerBaselines } from '../db/peer-baselines-repository.js';
+import { createQueueRepository } from '../db/analysis-queue-repository.js';
 import { newWorkerId } from './worker.js';
 
 /** One explicit analysis run (`POST /v1/analysis/runs`), as its status URL reports it. */

@@ -1,9 +1,9 @@
 import type { DatabaseHandle } from '../db/database.js';
 import { LeaseLostError, prepareVehicles, WindowAnalysis, WINDOW_SLICE_DAYS, writeVehicle, type PreparedVehicle, type VehicleOutcome } from './analyse-vehicle.js';
-import type { PeerBaselines } from './peer-baselines.js';
-import type { Lease, QueueRepository } from './queue-repository.js';
-import { WindowBuffers } from './copy-binary-window.js';
-import { readWindows } from './readings-window.js';
+import type { PeerBaselines } from '../db/peer-baselines-repository.js';
+import type { Lease, QueueRepository } from '../db/analysis-queue-repository.js';
+import { WindowBuffers } from '../db/pg-wire/binary-window-decoder.js';
+import { readWindows } from '../db/reading-windows.js';
 
 /** The few pino methods the worker logs through. */
 export interface WorkerLogger {

@@ -1,10 +1,10 @@
 import { hostname } from 'node:os';
 import { randomBytes } from 'node:crypto';
 import type { DatabaseHandle } from '../db/database.js';
-import { WindowBuffers } from './copy-binary-window.js';
+import { WindowBuffers } from '../db/pg-wire/binary-window-decoder.js';
 import { processLeases, SILENT_LOGGER, type WorkerLogger } from './lease-processor.js';
-import { PeerBaselines } from './peer-baselines.js';
-import { createQueueRepository, type QueueRepository } from './queue-repository.js';
+import { PeerBaselines } from '../db/peer-baselines-repository.js';
+import { createQueueRepository, type QueueRepository } from '../db/analysis-queue-repository.js';
 
 export interface WorkerOptions {
   handle: DatabaseHandle;

@@ -17,8 +17,9 @@ const PROGRESSIVE_FAULTS = ['radiator-fouling', 'coolant-loss', 'fan-failure'];
 const EVALUATION_TIMEOUT_MS = 240_000;
 const MAX_HEALTHY_FALSE_ALARM_RATE = 0.05;
 /**
- * Lines where the analysis does not yet meet the brief, with the reason (see DEVELOPERS.md,
- * "Analysis library"). They are printed and held to a weaker bound instead of being hidden.
+ * Lines where the analysis does not yet meet the brief, with the reason (see
+ * services/analysis/README.md, "Quality and speed"). They are printed and held to a weaker
+ * bound instead of being hidden.
  */
 const KNOWN_SHORTFALLS: Readonly<Record<string, string>> = {};
 /** Weaker bounds for the lines above (still far better than the naive rules). */

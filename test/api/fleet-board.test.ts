@@ -11,17 +11,75 @@ let adminKey: string;
 
 /** A made-up fleet: kinds, severities, depots, labels and reporting states chosen so every filter keeps a different set. */
 const FLEET: BoardVehicle[] = [
-  { vehicleId: 'V-01', fleetId: 'board', label: 'Tipper 100%_A', depot: 'harbour', lastReadingMs: NOW - HOUR_MS, findings: [{ kind: 'boil-margin', severity: 'critical', onsetMs: NOW - 2 * DAY_MS }] },
-  { vehicleId: 'V-02', fleetId: 'board', label: 'bus fifteen', depot: 'hill', lastReadingMs: NOW - 2 * HOUR_MS, findings: [{ kind: 'slow-warmup', severity: 'warning', onsetMs: NOW - 20 * DAY_MS }, { kind: 'overshoot', severity: 'advisory', onsetMs: NOW - 10 * DAY_MS }] },
-  { vehicleId: 'V-03', fleetId: 'board', depot: 'harbour', lastReadingMs: NOW - 3 * DAY_MS, findings: [{ kind: 'overshoot', severity: 'advisory', onsetMs: NOW - 30 * DAY_MS }] },
-  { vehicleId: 'V-04', fleetId: 'board', label: 'van', depot: 'hill', lastReadingMs: NOW - HOUR_MS, findings: [{ kind: 'overheating-trend', severity: 'warning', onsetMs: NOW - 5 * DAY_MS }] },
-  { vehicleId: 'V-05', fleetId: 'board', label: 'healthy', depot: 'harbour', lastReadingMs: NOW - HOUR_MS, findings: [] },
+  {
+    vehicleId: 'V-01',
+    fleetId: 'board',
+    label: 'Tipper 100%_A',
+    depot: 'harbour',
+    lastReadingMs: NOW - HOUR_MS,
+    findings: [{ kind: 'boil-margin', severity: 'critical', onsetMs: NOW - 2 * DAY_MS }],
+  },
+  {
+    vehicleId: 'V-02',
+    fleetId: 'board',
+    label: 'bus fifteen',
+    depot: 'hill',
+    lastReadingMs: NOW - 2 * HOUR_MS,
+    findings: [
+      { kind: 'slow-warmup', severity: 'warning', onsetMs: NOW - 20 * DAY_MS },
+      { kind: 'overshoot', severity: 'advisory', onsetMs: NOW - 10 * DAY_MS },
+    ],
+  },
+  {
+    vehicleId: 'V-03',
+    fleetId: 'board',
+    depot: 'harbour',
+    lastReadingMs: NOW - 3 * DAY_MS,
+    findings: [{ kind: 'overshoot', severity: 'advisory', onsetMs: NOW - 30 * DAY_MS }],
+  },
+  {
+    vehicleId: 'V-04',
+    fleetId: 'board',
+    label: 'van',
+    depot: 'hill',
+    lastReadingMs: NOW - HOUR_MS,
+    findings: [{ kind: 'overheating-trend', severity: 'warning', onsetMs: NOW - 5 * DAY_MS }],
+  },
+  {
+    vehicleId: 'V-05',
+    fleetId: 'board',
+    label: 'healthy',
+    depot: 'harbour',
+    lastReadingMs: NOW - HOUR_MS,
+    findings: [],
+  },
   { vehicleId: 'V-06', fleetId: 'board', label: 'never reported', lastReadingMs: null, findings: [] },
-  { vehicleId: 'W-01', fleetId: 'elsewhere', label: 'van of another fleet', depot: 'hill', lastReadingMs: NOW - HOUR_MS, findings: [{ kind: 'boil-margin', severity: 'critical', onsetMs: NOW - DAY_MS }] },
+  {
+    vehicleId: 'W-01',
+    fleetId: 'elsewhere',
+    label: 'van of another fleet',
+    depot: 'hill',
+    lastReadingMs: NOW - HOUR_MS,
+    findings: [{ kind: 'boil-margin', severity: 'critical', onsetMs: NOW - DAY_MS }],
+  },
 ];
 
-interface Row { vehicleId: string; riskScore: number; maxSeverity: string; priority: string; since: string; depot: string | null; acknowledged: number; findings: Array<{ id: string; kind: string; status: string; label: string }> }
-interface Board { total: number; counts: Record<string, number>; depots: string[]; vehicles: Row[] }
+interface Row {
+  vehicleId: string;
+  riskScore: number;
+  maxSeverity: string;
+  priority: string;
+  since: string;
+  depot: string | null;
+  acknowledged: number;
+  findings: Array<{ id: string; kind: string; status: string; label: string }>;
+}
+interface Board {
+  total: number;
+  counts: Record<string, number>;
+  depots: string[];
+  vehicles: Row[];
+}
 
 async function board(query = '', k = key): Promise<Board> {
   const res = await t.app.inject({ method: 'GET', url: `/v1/fleet/vehicles${query}`, headers: t.auth(k) });
@@ -40,7 +98,8 @@ beforeAll(async () => {
 describe('the fleet page list', () => {
   it('has one row per vehicle with unresolved findings, in the order and with the risk of GET /v1/fleet/at-risk', async () => {
     const b = await board();
-    const atRisk = (await t.app.inject({ method: 'GET', url: '/v1/fleet/at-risk', headers: t.auth(key) })).json().vehicles as Array<{ vehicleId: string; riskScore: number; findings: Array<{ id: string }> }>;
+    const atRisk = (await t.app.inject({ method: 'GET', url: '/v1/fleet/at-risk', headers: t.auth(key) })).json()
+      .vehicles as Array<{ vehicleId: string; riskScore: number; findings: Array<{ id: string }> }>;
     expect(ids(b)).toEqual(atRisk.map((v) => v.vehicleId));
     expect(ids(b)).toEqual(['V-01', 'V-02', 'V-04', 'V-03']);
     expect(b.total).toBe(4);
@@ -60,7 +119,14 @@ describe('the fleet page list', () => {
   it('counts the vehicles, those reporting within 48 h, the silent gateways and those with a finding new this week', async () => {
     const { counts } = await board();
     // V-03 last reported 3 days ago and V-06 never: silent. V-01 and V-04 have onsets within 7 days.
-    expect(counts).toEqual({ vehicles: 6, atRisk: 4, reporting: 4, silentGateways: 2, newThisWeek: 2, silentGatewayHours: 48 });
+    expect(counts).toEqual({
+      vehicles: 6,
+      atRisk: 4,
+      reporting: 4,
+      silentGateways: 2,
+      newThisWeek: 2,
+      silentGatewayHours: 48,
+    });
   });
 
   it.each([
@@ -106,7 +172,10 @@ describe('the fleet page list', () => {
     expect(ack.statusCode).toBe(200);
     const b = await board();
     expect(ids(b)).toEqual(['V-01', 'V-02', 'V-04', 'V-03']);
-    expect(b.vehicles.find((v) => v.vehicleId === 'V-04')).toMatchObject({ acknowledged: 1, findings: [{ status: 'acknowledged' }] });
+    expect(b.vehicles.find((v) => v.vehicleId === 'V-04')).toMatchObject({
+      acknowledged: 1,
+      findings: [{ status: 'acknowledged' }],
+    });
     expect(ids(await board('?mark=acknowledged'))).toEqual(['V-04']);
     expect(ids(await board('?mark=marked'))).toEqual(['V-04']);
     expect(ids(await board('?mark=deferred'))).toEqual([]);
@@ -118,11 +187,22 @@ describe('the fleet page list', () => {
     expect(ids(await board())).not.toContain('W-01');
     expect(new Set(ids(await board('', adminKey)))).toEqual(new Set(['V-01', 'V-02', 'V-03', 'V-04', 'W-01']));
     expect(ids(await board('?fleet=elsewhere', adminKey))).toEqual(['W-01']);
-    expect((await t.app.inject({ method: 'GET', url: '/v1/fleet/vehicles?fleet=elsewhere', headers: t.auth(key) })).statusCode).toBe(403);
+    expect(
+      (await t.app.inject({ method: 'GET', url: '/v1/fleet/vehicles?fleet=elsewhere', headers: t.auth(key) }))
+        .statusCode,
+    ).toBe(403);
   });
 
   it.each([
-    ['?sort=colour'], ['?order=up'], ['?limit=0'], ['?limit=201'], ['?offset=-1'], ['?severity=bad'], ['?kind=rust'], ['?mark=maybe'], [`?q=${'x'.repeat(101)}`],
+    ['?sort=colour'],
+    ['?order=up'],
+    ['?limit=0'],
+    ['?limit=201'],
+    ['?offset=-1'],
+    ['?severity=bad'],
+    ['?kind=rust'],
+    ['?mark=maybe'],
+    [`?q=${'x'.repeat(101)}`],
   ])('answers 400 to %s', async (query) => {
     const res = await t.app.inject({ method: 'GET', url: `/v1/fleet/vehicles${query}`, headers: t.auth(key) });
     expect(res.statusCode).toBe(400);

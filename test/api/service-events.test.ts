@@ -2,7 +2,7 @@ import { sql } from 'kysely';
 import { beforeAll, describe, expect, it } from 'vitest';
 import type { Finding } from '../../services/analysis/findings/finding.js';
 import { refreshVehicleRisk } from '../../services/db/vehicle-risk.js';
-import { syncFindings } from '../../services/worker/findings-sync.js';
+import { syncFindings } from '../../services/db/findings-sync.js';
 import { useTestApp } from '../helpers/test-app.js';
 
 const t = useTestApp();

@@ -168,7 +168,7 @@ describe('thermocline serve', () => {
   it('logs the address it listens on, stores a batch and exits 0 on SIGTERM', async () => {
     const serve = await ServeProcess.start();
     let stored = -1;
-    let code: number | null = null;
+    let code: number | null;
     try {
       expect(serve.logs[0]).toMatch(testDatabaseKind() === 'postgres' ? /starting on PostgreSQL/ : /starting on embedded PostgreSQL \(PGlite\)/);
       const res = await fetch(`${serve.url}/v1/readings?fleet=${serve.fleetId}`, {

@@ -41,7 +41,7 @@ describe('vehicle site and units', () => {
     expect(high).toMatchObject({ depot: 'pass-depot', siteAltitudeM: 2000 });
     expect(high.atmosphericPressureKpa).toBeCloseTo(79.5, 1);
     expect((await put('SITE-3', { atmosphericPressureKpa: 85 })).json().atmosphericPressureKpa).toBe(85);
-    const { createAnalysisStore } = await import('../../services/worker/analysis-store.js');
+    const { createAnalysisStore } = await import('../../services/db/analysis-results-repository.js');
     const [state] = await createAnalysisStore(t.tdb.handle.db).vehicleStates(['SITE-3']);
     expect(state!.profile.atmosphericPressureKpa).toBe(85);
   });

@@ -13,7 +13,12 @@ let ingestKey: string;
 let otherKey: string;
 let adminKey: string;
 
-interface SignedIn { cookie: string; csrf: string; setCookie: string; body: Record<string, unknown> }
+interface SignedIn {
+  cookie: string;
+  csrf: string;
+  setCookie: string;
+  body: Record<string, unknown>;
+}
 
 async function signIn(key: string, headers: Record<string, string> = {}, app = t.app): Promise<SignedIn> {
   const res = await app.inject({ method: 'POST', url: '/app/session', payload: { key }, headers });
@@ -22,12 +27,28 @@ async function signIn(key: string, headers: Record<string, string> = {}, app = t
   return { cookie: setCookie.split(';')[0]!, csrf: res.json().csrfToken, setCookie, body: res.json() };
 }
 
-const withSession = (s: SignedIn, method: 'GET' | 'POST' | 'PUT' | 'DELETE', url: string, opts: { csrf?: string | null; payload?: Record<string, unknown> } = {}) => {
+const withSession = (
+  s: SignedIn,
+  method: 'GET' | 'POST' | 'PUT' | 'DELETE',
+  url: string,
+  opts: { csrf?: string | null; payload?: Record<string, unknown> } = {},
+) => {
   const csrf = opts.csrf === undefined ? s.csrf : opts.csrf;
-  return t.app.inject({ method, url, headers: { cookie: s.cookie, ...(csrf ? { 'x-csrf-token': csrf } : {}) }, ...(opts.payload ? { payload: opts.payload } : {}) });
+  return t.app.inject({
+    method,
+    url,
+    headers: { cookie: s.cookie, ...(csrf ? { 'x-csrf-token': csrf } : {}) },
+    ...(opts.payload ? { payload: opts.payload } : {}),
+  });
 };
 
-const findingOf = async (s: SignedIn, vehicleId: string) => ((await withSession(s, 'GET', `/v1/vehicles/${vehicleId}/findings`)).json().findings as Array<{ id: string; status: string }>)[0]!;
+const findingOf = async (s: SignedIn, vehicleId: string) =>
+  (
+    (await withSession(s, 'GET', `/v1/vehicles/${vehicleId}/findings`)).json().findings as Array<{
+      id: string;
+      status: string;
+    }>
+  )[0]!;
 
 beforeAll(async () => {
   const db = t.tdb.handle.db;
@@ -35,8 +56,19 @@ beforeAll(async () => {
   ingestKey = await t.createKey('fleet-a', ['ingest']);
   otherKey = await t.createKey('fleet-b', ['read']);
   adminKey = await t.createAdminKey();
-  await seedBoardVehicle(db, { vehicleId: 'A-1', fleetId: 'fleet-a', depot: 'north', lastReadingMs: NOW - 3_600_000, findings: [{ kind: 'overheating-trend', severity: 'critical', onsetMs: NOW - 3 * DAY_MS }] });
-  await seedBoardVehicle(db, { vehicleId: 'B-1', fleetId: 'fleet-b', lastReadingMs: NOW - 3_600_000, findings: [{ kind: 'slow-warmup', severity: 'warning', onsetMs: NOW - 9 * DAY_MS }] });
+  await seedBoardVehicle(db, {
+    vehicleId: 'A-1',
+    fleetId: 'fleet-a',
+    depot: 'north',
+    lastReadingMs: NOW - 3_600_000,
+    findings: [{ kind: 'overheating-trend', severity: 'critical', onsetMs: NOW - 3 * DAY_MS }],
+  });
+  await seedBoardVehicle(db, {
+    vehicleId: 'B-1',
+    fleetId: 'fleet-b',
+    lastReadingMs: NOW - 3_600_000,
+    findings: [{ kind: 'slow-warmup', severity: 'warning', onsetMs: NOW - 9 * DAY_MS }],
+  });
 });
 
 describe('signing in to the web view', () => {
@@ -57,8 +89,21 @@ describe('signing in to the web view', () => {
     const ingest = await t.app.inject({ method: 'POST', url: '/app/session', payload: { key: ingestKey } });
     expect(ingest.statusCode).toBe(403);
     expect(ingest.headers['set-cookie']).toBeUndefined();
-    expect((await t.app.inject({ method: 'POST', url: '/app/session', payload: { key: 'tck_0123456789abcdef_notarealsecretnotarealsecretnotareal' } })).statusCode).toBe(401);
-    const cross = await t.app.inject({ method: 'POST', url: '/app/session', payload: { key: readKey }, headers: { origin: 'https://elsewhere.example' } });
+    expect(
+      (
+        await t.app.inject({
+          method: 'POST',
+          url: '/app/session',
+          payload: { key: 'tck_0123456789abcdef_notarealsecretnotarealsecretnotareal' },
+        })
+      ).statusCode,
+    ).toBe(401);
+    const cross = await t.app.inject({
+      method: 'POST',
+      url: '/app/session',
+      payload: { key: readKey },
+      headers: { origin: 'https://elsewhere.example' },
+    });
     expect(cross.statusCode).toBe(403);
     expect((await t.app.inject({ method: 'POST', url: '/app/session', payload: {} })).statusCode).toBe(400);
   });
@@ -70,7 +115,10 @@ describe('signing in to the web view', () => {
     expect(atRisk.json().vehicles.map((v: { vehicleId: string }) => v.vehicleId)).toEqual(['A-1']);
     expect((await withSession(s, 'GET', '/v1/vehicles/B-1')).statusCode).toBe(403);
     expect((await withSession(s, 'GET', '/v1/vehicles/B-1/readings')).statusCode).toBe(403);
-    expect((await withSession(s, 'GET', '/app/session')).json()).toMatchObject({ fleetId: 'fleet-a', csrfToken: s.csrf });
+    expect((await withSession(s, 'GET', '/app/session')).json()).toMatchObject({
+      fleetId: 'fleet-a',
+      csrfToken: s.csrf,
+    });
   });
 
   it('answers a vehicle page of another fleet 404, as for an unknown vehicle, and its own 200', async () => {
@@ -90,14 +138,18 @@ describe('CSRF protection of a session', () => {
     const none = await withSession(s, 'POST', `/v1/findings/${f.id}/acknowledge`, { csrf: null });
     expect(none.statusCode).toBe(403);
     expect(none.json().error.code).toBe('csrf_failed');
-    const wrong = await withSession(s, 'POST', `/v1/findings/${f.id}/acknowledge`, { csrf: `${s.csrf.slice(0, -2)}xx` });
+    const wrong = await withSession(s, 'POST', `/v1/findings/${f.id}/acknowledge`, {
+      csrf: `${s.csrf.slice(0, -2)}xx`,
+    });
     expect(wrong.statusCode).toBe(403);
     const other = await signIn(readKey);
-    expect((await withSession(s, 'POST', `/v1/findings/${f.id}/acknowledge`, { csrf: other.csrf })).statusCode).toBe(403);
+    expect((await withSession(s, 'POST', `/v1/findings/${f.id}/acknowledge`, { csrf: other.csrf })).statusCode).toBe(
+      403,
+    );
     expect((await findingOf(s, 'A-1')).status).toBe('open');
   });
 
-  it('accepts the request with the session\'s token, and a bearer key needs none', async () => {
+  it("accepts the request with the session's token, and a bearer key needs none", async () => {
     const s = await signIn(readKey);
     const f = await findingOf(s, 'A-1');
     const ok = await withSession(s, 'POST', `/v1/findings/${f.id}/acknowledge`);
@@ -127,9 +179,14 @@ describe('ending a session', () => {
     await sql`update web_sessions set expires_at = now() + interval '10 minutes', max_expires_at = now() + interval '20 minutes'
               where csrf_token = ${s.csrf}`.execute(db);
     expect((await withSession(s, 'GET', '/v1/fleet/at-risk')).statusCode).toBe(200);
-    const row = await sql<{ e: Date; m: Date }>`select expires_at as e, max_expires_at as m from web_sessions where csrf_token = ${s.csrf}`.execute(db);
+    const row = await sql<{
+      e: Date;
+      m: Date;
+    }>`select expires_at as e, max_expires_at as m from web_sessions where csrf_token = ${s.csrf}`.execute(db);
     expect(row.rows[0]!.e.getTime()).toBe(row.rows[0]!.m.getTime());
-    await sql`update web_sessions set expires_at = now() - interval '1 second' where csrf_token = ${s.csrf}`.execute(db);
+    await sql`update web_sessions set expires_at = now() - interval '1 second' where csrf_token = ${s.csrf}`.execute(
+      db,
+    );
     const expired = await withSession(s, 'GET', '/v1/fleet/at-risk');
     expect(expired.statusCode).toBe(401);
     expect(expired.json().error.message).toMatch(/sign in again/);
@@ -145,7 +202,11 @@ describe('ending a session', () => {
     expect((await withSession(s2, 'GET', '/app/session')).statusCode).toBe(401);
     // The next sign-in clears the revoked key's sessions from the table.
     await signIn(readKey);
-    const left = await sql<{ n: number }>`select count(*)::int as n from web_sessions where csrf_token in (${s1.csrf}, ${s2.csrf})`.execute(t.tdb.handle.db);
+    const left = await sql<{
+      n: number;
+    }>`select count(*)::int as n from web_sessions where csrf_token in (${s1.csrf}, ${s2.csrf})`.execute(
+      t.tdb.handle.db,
+    );
     expect(left.rows[0]!.n).toBe(0);
   });
 });
@@ -154,21 +215,33 @@ describe('an admin in the web view', () => {
   it('chooses the fleet (with the CSRF token) and then sees exactly that fleet', async () => {
     const s = await signIn(adminKey);
     expect(s.body).toMatchObject({ fleetId: null, admin: true, canEditProfiles: true });
-    const fleets = (await withSession(s, 'GET', '/app/fleets')).json().fleets.map((f: { fleetId: string }) => f.fleetId);
+    const fleets = (await withSession(s, 'GET', '/app/fleets'))
+      .json()
+      .fleets.map((f: { fleetId: string }) => f.fleetId);
     expect(fleets).toEqual(expect.arrayContaining(['fleet-a', 'fleet-b']));
-    expect((await withSession(s, 'PUT', '/app/session/fleet', { csrf: null, payload: { fleetId: 'fleet-a' } })).statusCode).toBe(403);
-    expect((await withSession(s, 'PUT', '/app/session/fleet', { payload: { fleetId: 'no-such-fleet' } })).statusCode).toBe(404);
+    expect(
+      (await withSession(s, 'PUT', '/app/session/fleet', { csrf: null, payload: { fleetId: 'fleet-a' } })).statusCode,
+    ).toBe(403);
+    expect(
+      (await withSession(s, 'PUT', '/app/session/fleet', { payload: { fleetId: 'no-such-fleet' } })).statusCode,
+    ).toBe(404);
     const chosen = await withSession(s, 'PUT', '/app/session/fleet', { payload: { fleetId: 'fleet-a' } });
     expect(chosen.json()).toMatchObject({ fleetId: 'fleet-a', admin: true });
-    expect((await withSession(s, 'GET', '/v1/fleet/at-risk')).json().vehicles.map((v: { vehicleId: string }) => v.vehicleId)).toEqual(['A-1']);
+    expect(
+      (await withSession(s, 'GET', '/v1/fleet/at-risk')).json().vehicles.map((v: { vehicleId: string }) => v.vehicleId),
+    ).toEqual(['A-1']);
     expect((await withSession(s, 'GET', '/v1/vehicles/B-1')).statusCode).toBe(403);
     expect((await withSession(s, 'GET', '/app/vehicles/B-1')).statusCode).toBe(404);
   });
 
   it('is the only session that may change fleet', async () => {
     const s = await signIn(readKey);
-    expect((await withSession(s, 'PUT', '/app/session/fleet', { payload: { fleetId: 'fleet-b' } })).statusCode).toBe(403);
-    expect((await withSession(s, 'GET', '/app/fleets')).json().fleets.map((f: { fleetId: string }) => f.fleetId)).toEqual(['fleet-a']);
+    expect((await withSession(s, 'PUT', '/app/session/fleet', { payload: { fleetId: 'fleet-b' } })).statusCode).toBe(
+      403,
+    );
+    expect(
+      (await withSession(s, 'GET', '/app/fleets')).json().fleets.map((f: { fleetId: string }) => f.fleetId),
+    ).toEqual(['fleet-a']);
   });
 });
 
@@ -177,22 +250,40 @@ describe('the vehicle summary the vehicle page reads', () => {
     const res = await t.app.inject({ method: 'GET', url: '/v1/vehicles/A-1/summary', headers: t.auth(readKey) });
     expect(res.statusCode, res.body).toBe(200);
     const body = res.json();
-    expect(body).toMatchObject({ vehicleId: 'A-1', priority: 'book now', unresolved: 1, checks: ['Check the overheating-trend.'] });
+    expect(body).toMatchObject({
+      vehicleId: 'A-1',
+      priority: 'book now',
+      unresolved: 1,
+      checks: ['Check the overheating-trend.'],
+    });
     expect(body.cautions[0]).toBe(SAFETY_CAUTION);
     expect(body.cautions.length).toBe(3);
     expect(body.peaks.boilingPointC).toBeGreaterThan(100);
-    expect((await t.app.inject({ method: 'GET', url: '/v1/vehicles/A-1/summary', headers: t.auth(otherKey) })).statusCode).toBe(403);
-    expect((await t.app.inject({ method: 'GET', url: '/v1/vehicles/NONE/summary', headers: t.auth(readKey) })).statusCode).toBe(404);
+    expect(
+      (await t.app.inject({ method: 'GET', url: '/v1/vehicles/A-1/summary', headers: t.auth(otherKey) })).statusCode,
+    ).toBe(403);
+    expect(
+      (await t.app.inject({ method: 'GET', url: '/v1/vehicles/NONE/summary', headers: t.auth(readKey) })).statusCode,
+    ).toBe(404);
   });
 });
 
 describe('pages and files', () => {
   it('sends a browser from / to /app/ and answers an API client 404', async () => {
-    const browser = await t.app.inject({ method: 'GET', url: '/', headers: { accept: 'text/html,application/xhtml+xml,application/xml;q=0.9,*/*;q=0.8' } });
+    const browser = await t.app.inject({
+      method: 'GET',
+      url: '/',
+      headers: { accept: 'text/html,application/xhtml+xml,application/xml;q=0.9,*/*;q=0.8' },
+    });
     expect(browser.statusCode).toBe(302);
     expect(browser.headers.location).toBe('/app/');
-    expect((await t.app.inject({ method: 'GET', url: '/', headers: { accept: 'application/json' } })).statusCode).toBe(404);
-    expect((await t.app.inject({ method: 'GET', url: '/', headers: { accept: 'application/json, text/html;q=0.5' } })).statusCode).toBe(404);
+    expect((await t.app.inject({ method: 'GET', url: '/', headers: { accept: 'application/json' } })).statusCode).toBe(
+      404,
+    );
+    expect(
+      (await t.app.inject({ method: 'GET', url: '/', headers: { accept: 'application/json, text/html;q=0.5' } }))
+        .statusCode,
+    ).toBe(404);
   });
 
   it('serves the page with a strict content security policy and echarts from the installed package, gzipped', async () => {
@@ -202,12 +293,22 @@ describe('pages and files', () => {
     expect(page.body).toContain('/app/assets/app.js');
     expect(page.body).not.toMatch(/https?:\/\//);
     // The charting library is loaded by the page's own module, from the service.
-    expect((await t.app.inject({ method: 'GET', url: '/app/assets/charts.js' })).body).toContain("'/app/assets/vendor/echarts.min.js'");
-    const echarts = await t.app.inject({ method: 'GET', url: '/app/assets/vendor/echarts.min.js', headers: { 'accept-encoding': 'gzip' } });
+    expect((await t.app.inject({ method: 'GET', url: '/app/assets/charts.js' })).body).toContain(
+      "'/app/assets/vendor/echarts.min.js'",
+    );
+    const echarts = await t.app.inject({
+      method: 'GET',
+      url: '/app/assets/vendor/echarts.min.js',
+      headers: { 'accept-encoding': 'gzip' },
+    });
     expect(echarts.statusCode).toBe(200);
     expect(echarts.headers['content-encoding']).toBe('gzip');
     expect(echarts.headers['content-type']).toMatch(/javascript/);
-    const again = await t.app.inject({ method: 'GET', url: '/app/assets/vendor/echarts.min.js', headers: { 'if-none-match': String(echarts.headers.etag) } });
+    const again = await t.app.inject({
+      method: 'GET',
+      url: '/app/assets/vendor/echarts.min.js',
+      headers: { 'if-none-match': String(echarts.headers.etag) },
+    });
     expect(again.statusCode).toBe(304);
     expect((await t.app.inject({ method: 'GET', url: '/app/assets/../../package.json' })).statusCode).toBe(404);
     expect((await t.app.inject({ method: 'GET', url: '/app/assets/nothing.js' })).statusCode).toBe(404);
@@ -235,7 +336,12 @@ describe('rate limits of sessions', () => {
     const limited = await createTestApp({ authFailuresPerMinute: 2 });
     try {
       const key = await limited.createKey('fleet-f', ['read']);
-      const bad = () => limited.app.inject({ method: 'POST', url: '/app/session', payload: { key: 'tck_0123456789abcdef_guessguessguessguessguessguessguess' } });
+      const bad = () =>
+        limited.app.inject({
+          method: 'POST',
+          url: '/app/session',
+          payload: { key: 'tck_0123456789abcdef_guessguessguessguessguessguessguess' },
+        });
       expect([(await bad()).statusCode, (await bad()).statusCode]).toEqual([401, 401]);
       const good = await limited.app.inject({ method: 'POST', url: '/app/session', payload: { key } });
       expect(good.statusCode).toBe(429);
@@ -251,7 +357,8 @@ describe('rate limits of sessions', () => {
       const key = await limited.createKey('fleet-r', ['read']);
       const a = await signIn(key, {}, limited.app);
       const b = await signIn(key, {}, limited.app);
-      const get = (s: SignedIn) => limited.app.inject({ method: 'GET', url: '/v1/fleet/at-risk', headers: { cookie: s.cookie } });
+      const get = (s: SignedIn) =>
+        limited.app.inject({ method: 'GET', url: '/v1/fleet/at-risk', headers: { cookie: s.cookie } });
       const statuses = [];
       for (let i = 0; i < 4; i++) statuses.push((await get(a)).statusCode);
       expect(statuses).toEqual([200, 200, 200, 429]);

@@ -36,13 +36,22 @@ beforeAll(async () => {
   const fleet = planFleet({ vehicles: 8, days: DAYS, seed: SEED, startMs, scenario: 'demo' });
   for (const v of fleet) {
     await putProfile(t, ingestKey, v);
-    await postReadings(t, ingestKey, readingItems(v.vehicleId, simulateToArrays(v, { startMs, days: DAYS, seed: SEED })));
+    await postReadings(
+      t,
+      ingestKey,
+      readingItems(v.vehicleId, simulateToArrays(v, { startMs, days: DAYS, seed: SEED })),
+    );
   }
   await analyseNow(t, ingestKey);
   // A vehicle of another fleet: its page must not open for a session of this one.
   const otherKey = await t.createKey('other-fleet', ['ingest']);
   otherFleetVehicle = 'OF-9';
-  const put = await t.app.inject({ method: 'PUT', url: `/v1/vehicles/${otherFleetVehicle}`, headers: t.auth(otherKey), payload: { label: 'not yours' } });
+  const put = await t.app.inject({
+    method: 'PUT',
+    url: `/v1/vehicles/${otherFleetVehicle}`,
+    headers: t.auth(otherKey),
+    payload: { label: 'not yours' },
+  });
   expect(put.statusCode).toBe(201);
   await t.app.listen({ port: 0, host: '127.0.0.1' });
   base = `http://127.0.0.1:${(t.app.server.address() as AddressInfo).port}`;
@@ -85,7 +94,8 @@ async function signIn(page: Page, key = readKey, waitFor = '#fleet-table') {
   await page.waitForSelector(waitFor);
 }
 
-const shot = (page: Page, name: string) => page.screenshot({ path: join(OUTPUT_DIR, `web-view-${name}${suffix}.png`), fullPage: true });
+const shot = (page: Page, name: string) =>
+  page.screenshot({ path: join(OUTPUT_DIR, `web-view-${name}${suffix}.png`), fullPage: true });
 
 describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
   beforeAll(async () => {
@@ -118,7 +128,9 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     await page.waitForSelector('#chart-readings canvas');
     await expect.poll(() => page.locator('#readings-status').textContent()).toMatch(/points/);
     expect(await page.locator('article.finding').count()).toBeGreaterThan(0);
-    expect(await page.locator('.cautions li').first().textContent()).toMatch(/Never open a hot pressurised cooling system/);
+    expect(await page.locator('.cautions li').first().textContent()).toMatch(
+      /Never open a hot pressurised cooling system/,
+    );
     for (const id of ['#chart-warmup', '#chart-peaks']) expect(await page.locator(`${id} canvas`).count()).toBe(1);
     await shot(page, 'vehicle');
 
@@ -148,7 +160,9 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     await expect.poll(() => page.locator('#page-status').textContent()).toMatch(/acknowledged/);
     await page.getByRole('link', { name: '← Fleet' }).click();
     await page.waitForSelector(`#fleet-table tr[data-vehicle-id="${top}"]`);
-    expect(await page.locator(`#fleet-table tr[data-vehicle-id="${top}"] .marks`).textContent()).toMatch(/1 acknowledged/);
+    expect(await page.locator(`#fleet-table tr[data-vehicle-id="${top}"] .marks`).textContent()).toMatch(
+      /1 acknowledged/,
+    );
     await page.getByLabel('Acknowledged', { exact: true }).selectOption('acknowledged');
     await expect.poll(() => page.locator('#fleet-table tbody tr').count()).toBe(1);
     await shot(page, 'fleet-acknowledged');
@@ -157,11 +171,15 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     await page.locator(`#fleet-table tr[data-vehicle-id="${top}"] a.vehicle-link`).click();
     await page.waitForSelector('#service-event-form');
     const summary = await (await page.request.get(`${base}/v1/vehicles/${top}/summary`)).json();
-    const findingKind = (await (await page.request.get(`${base}/v1/vehicles/${top}/findings`)).json()).findings.find((f: { id: string }) => f.id === findingId).kind;
+    const findingKind = (await (await page.request.get(`${base}/v1/vehicles/${top}/findings`)).json()).findings.find(
+      (f: { id: string }) => f.id === findingId,
+    ).kind;
     const repair = summary.serviceEventKinds.find((k: { resolves: string[] }) => k.resolves.includes(findingKind)).kind;
     await page.getByLabel('Work done').selectOption(repair);
     await page.getByRole('button', { name: 'Record' }).click();
-    await expect.poll(() => page.locator('#page-status').textContent()).toMatch(/Recorded\. [1-9]\d* findings? resolved/);
+    await expect
+      .poll(() => page.locator('#page-status').textContent())
+      .toMatch(/Recorded\. [1-9]\d* findings? resolved/);
     await expect.poll(() => page.locator('#service-history tbody tr').count()).toBe(1);
     expect(await page.locator(`#finding-${findingId}`).getAttribute('data-status')).toBe('resolved');
     await shot(page, 'vehicle-repaired');
@@ -192,10 +210,14 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     await card.getByLabel('Reason').fill('booked with the next planned service');
     await card.getByRole('button', { name: 'Defer', exact: true }).click();
     await expect.poll(() => page.locator(`#finding-${findingId}`).getAttribute('data-status')).toBe('deferred');
-    expect(await page.locator(`#finding-${findingId}`).textContent()).toContain(`until ${until}: booked with the next planned service`);
+    expect(await page.locator(`#finding-${findingId}`).textContent()).toContain(
+      `until ${until}: booked with the next planned service`,
+    );
     await page.getByRole('link', { name: '← Fleet' }).click();
     await page.waitForSelector(`#fleet-table tr[data-vehicle-id="${vehicleId}"]`);
-    expect(await page.locator(`#fleet-table tr[data-vehicle-id="${vehicleId}"] .marks`).textContent()).toMatch(/1 deferred/);
+    expect(await page.locator(`#fleet-table tr[data-vehicle-id="${vehicleId}"] .marks`).textContent()).toMatch(
+      /1 deferred/,
+    );
     await page.locator(`#fleet-table tr[data-vehicle-id="${vehicleId}"] a.vehicle-link`).click();
     await page.locator(`#finding-${findingId}`).getByRole('button', { name: 'Undo deferral' }).click();
     await expect.poll(() => page.locator(`#finding-${findingId}`).getAttribute('data-status')).toBe('open');
@@ -203,7 +225,15 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     await page.getByLabel('From (UTC)').fill('2026-11-20');
     await page.getByLabel('To, inclusive').fill('2026-11-21');
     await page.getByRole('button', { name: 'Show range' }).click();
-    await expect.poll(() => requests.some((u) => u.includes(`/v1/vehicles/${vehicleId}/readings?from=2026-11-20T00%3A00%3A00.000Z&to=2026-11-22T00%3A00%3A00.000Z`))).toBe(true);
+    await expect
+      .poll(() =>
+        requests.some((u) =>
+          u.includes(
+            `/v1/vehicles/${vehicleId}/readings?from=2026-11-20T00%3A00%3A00.000Z&to=2026-11-22T00%3A00%3A00.000Z`,
+          ),
+        ),
+      )
+      .toBe(true);
     await expect.poll(() => page.locator('#readings-status').textContent()).toMatch(/2026-11-20 to 2026-11-22/);
     await page.close();
   });
@@ -211,7 +241,9 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
   it('lets an admin choose the fleet, then shows only that fleet', async () => {
     const { page } = await openPage();
     await signIn(page, adminKey, '#fleet-form');
-    expect(await page.getByLabel('Fleet').locator('option').allTextContents()).toEqual(expect.arrayContaining(['quillmoor (quillmoor)', 'other-fleet (other-fleet)']));
+    expect(await page.getByLabel('Fleet').locator('option').allTextContents()).toEqual(
+      expect.arrayContaining(['quillmoor (quillmoor)', 'other-fleet (other-fleet)']),
+    );
     await page.getByLabel('Fleet').selectOption('quillmoor');
     await page.getByRole('button', { name: 'Open the fleet' }).click();
     await page.waitForSelector('#fleet-table');
@@ -225,10 +257,17 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
   it('refuses a POST of the signed-in page that lacks the CSRF token', async () => {
     const { page } = await openPage();
     await signIn(page);
-    const findingId = await page.evaluate(async () => ((await (await fetch('/v1/findings?limit=1')).json()) as { findings: Array<{ id: string }> }).findings[0]!.id);
+    const findingId = await page.evaluate(
+      async () =>
+        ((await (await fetch('/v1/findings?limit=1')).json()) as { findings: Array<{ id: string }> }).findings[0]!.id,
+    );
     const statuses = await page.evaluate(async (id) => {
       const bare = await fetch(`/v1/findings/${id}/acknowledge`, { method: 'POST' });
-      const form = await fetch(`/v1/findings/${id}/acknowledge`, { method: 'POST', headers: { 'content-type': 'application/x-www-form-urlencoded' }, body: 'a=1' });
+      const form = await fetch(`/v1/findings/${id}/acknowledge`, {
+        method: 'POST',
+        headers: { 'content-type': 'application/x-www-form-urlencoded' },
+        body: 'a=1',
+      });
       return [bare.status, form.status, ((await bare.json()) as { error: { code: string } }).error.code];
     }, findingId);
     expect(statuses).toEqual([403, 403, 'csrf_failed']);
@@ -254,10 +293,18 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     for (const week of ['2026-W47', '2026-W48']) {
       await page.getByLabel('ISO week').fill(week);
       await page.getByRole('button', { name: 'Build' }).click();
-      await expect.poll(() => page.locator('#report-result').textContent(), { timeout: 60_000 }).toBe(`Report ${week} built and archived.`);
+      await expect
+        .poll(() => page.locator('#report-result').textContent(), { timeout: 60_000 })
+        .toBe(`Report ${week} built and archived.`);
     }
-    expect(await page.locator('#reports-table tbody tr').evaluateAll((trs) => trs.map((tr) => tr.getAttribute('data-week')))).toEqual(['2026-W48', '2026-W47']);
-    const links = await page.locator('#reports-table tbody tr').first().locator('a').evaluateAll((as) => as.map((a) => a.getAttribute('href')!));
+    expect(
+      await page.locator('#reports-table tbody tr').evaluateAll((trs) => trs.map((tr) => tr.getAttribute('data-week'))),
+    ).toEqual(['2026-W48', '2026-W47']);
+    const links = await page
+      .locator('#reports-table tbody tr')
+      .first()
+      .locator('a')
+      .evaluateAll((as) => as.map((a) => a.getAttribute('href')!));
     const types = [];
     for (const href of links) {
       const res = await page.request.get(`${base}${href}`);
@@ -305,14 +352,17 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     for (let i = 0; i < 40 && !found; i++) {
       await page.keyboard.press('Tab');
       found = (await page.evaluate("document.activeElement?.classList.contains('vehicle-link') ?? false")) === true;
-      if (i === 2) expect(await page.evaluate('getComputedStyle(document.activeElement).outlineStyle')).not.toBe('none');
+      if (i === 2)
+        expect(await page.evaluate('getComputedStyle(document.activeElement).outlineStyle')).not.toBe('none');
     }
     expect(found).toBe(true);
     expect(await page.evaluate('document.documentElement.scrollWidth')).toBeLessThanOrEqual(820);
     await shot(page, 'fleet-tablet');
     await page.keyboard.press('Enter');
     await page.waitForSelector('#chart-readings canvas');
-    const charts = await page.locator('.chart-grid figure').evaluateAll((els) => els.map((e) => e.getBoundingClientRect().width));
+    const charts = await page
+      .locator('.chart-grid figure')
+      .evaluateAll((els) => els.map((e) => e.getBoundingClientRect().width));
     // One chart per row at tablet width.
     for (const w of charts) expect(w).toBeGreaterThan(700);
     await shot(page, 'vehicle-tablet');

@@ -3,8 +3,8 @@ import { pipeline } from 'node:stream/promises';
 import fc from 'fast-check';
 import { from as copyFrom } from 'pg-copy-streams';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { encodeReadingsCopy, READINGS_COPY_COLUMNS } from '../../services/db/readings-copy.js';
-import type { ReadingChunk } from '../../services/db/readings-repository.js';
+import { encodeReadingsCopy, READINGS_COPY_COLUMNS } from '../../services/db/pg-wire/binary-copy-in.js';
+import type { ReadingChunk } from '../../services/db/reading-chunk.js';
 import { createTestDatabase, testDatabaseKind, type TestDatabase } from '../helpers/test-database.js';
 
 // On a PostgreSQL server long bodies are stored by binary COPY; elsewhere readings go as text.

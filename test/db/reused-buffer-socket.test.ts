@@ -1,7 +1,8 @@
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ReusedBufferSocket } from '../../services/db/reused-buffer-socket.js';
-import { copyOut, eachCopyData } from '../../services/worker/copy-out.js';
+import { ReusedBufferSocket } from '../../services/db/pg-wire/receive-buffer-socket.js';
+import { copyOut } from '../../services/db/pg-wire/copy-out.js';
+import { eachCopyData } from '../helpers/copy-data.js';
 import { createTestDatabase, testDatabaseKind, type TestDatabase } from '../helpers/test-database.js';
 
 // The pool's connections receive into one buffer each; pg must still see every byte exactly once,

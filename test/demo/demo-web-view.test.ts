@@ -43,9 +43,16 @@ describe.skipIf(testDatabaseKind() !== 'pglite')('npm run demo, serving', () => 
       expect(page.status).toBe(200);
       expect(await page.text()).toContain('/app/assets/app.js');
       const origin = new URL(url!).origin;
-      const signIn = await fetch(`${origin}/app/session`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ key }) });
+      const signIn = await fetch(`${origin}/app/session`, {
+        method: 'POST',
+        headers: { 'content-type': 'application/json' },
+        body: JSON.stringify({ key }),
+      });
       expect(signIn.status).toBe(201);
-      expect(await signIn.json()).toMatchObject({ fleetId: 'quillmoor', fleetName: expect.stringContaining('Quillmoor') });
+      expect(await signIn.json()).toMatchObject({
+        fleetId: 'quillmoor',
+        fleetName: expect.stringContaining('Quillmoor'),
+      });
       const cookie = signIn.headers.get('set-cookie')!.split(';')[0]!;
       const board = await fetch(`${origin}/v1/fleet/vehicles`, { headers: { cookie } });
       expect(board.status).toBe(200);

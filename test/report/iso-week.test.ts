@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { addIsoWeeks, formatIsoWeek, isoWeekAt, isoWeekDate, isoWeekOfDate, isoWeeksInYear, lastCompleteIsoWeek, parseIsoWeek, utcWeekStartMs, weekWindow } from '../../services/report/iso-week.js';
+import { addIsoWeeks, formatIsoWeek, isoWeekAt, isoWeekDate, isoWeekOfDate, isoWeeksInYear, lastCompleteIsoWeek, parseIsoWeek, utcWeekStartMs, weekWindow } from '../../services/time/iso-week.js';
 
 // Expected values follow ISO 8601 week dates (Monday first; week 1 holds the year's first
 // Thursday); the calendar dates were read off a printed calendar (from memory where noted).

@@ -1,6 +1,6 @@
 import { beforeAll, describe, expect, it } from 'vitest';
-import { formatIsoWeek, lastCompleteIsoWeek, weekWindow } from '../../services/report/iso-week.js';
-import { createReportRepository } from '../../services/report/report-repository.js';
+import { formatIsoWeek, lastCompleteIsoWeek, weekWindow } from '../../services/time/iso-week.js';
+import { createReportRepository } from '../../services/db/weekly-report-repository.js';
 import { WeeklyReportScheduler } from '../../services/report/weekly-report-scheduler.js';
 import type { WeeklyReport } from '../../services/report/weekly-report-schema.js';
 import { concatSamples, syntheticDrive } from '../analysis/synthetic-drive.js';

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { COOLANT_DISPOSAL_CAUTION, ENGINE_RUNNING_CAUTION } from '../../services/analysis/findings/cautions.js';
 import { SAFETY_CAUTION } from '../../services/analysis/findings/finding.js';
-import type { ReportVehicle, StoredFinding } from '../../services/report/report-repository.js';
+import type { ReportVehicle, StoredFinding } from '../../services/db/weekly-report-repository.js';
 import { buildWorkList } from '../../services/report/work-list.js';
 
 const DAY_MS = 86_400_000;

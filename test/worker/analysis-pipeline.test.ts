@@ -1,7 +1,7 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import type { SampleArrays } from '../../services/analysis/sample-arrays.js';
 import { planFleet, type SimVehicle } from '../../services/simulator/index.js';
-import { createQueueRepository } from '../../services/worker/queue-repository.js';
+import { createQueueRepository } from '../../services/db/analysis-queue-repository.js';
 import { simulateToArrays } from '../analysis/evaluation-fleet.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { analyseNow, derivedState, postReadings, putProfile, readingItems } from '../helpers/worker-fleet.js';

@@ -2,7 +2,7 @@ import { sql } from 'kysely';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Finding } from '../../services/analysis/findings/finding.js';
 import { refreshVehicleRisk } from '../../services/db/vehicle-risk.js';
-import { EVIDENCE_STOPPED, syncFindings } from '../../services/worker/findings-sync.js';
+import { EVIDENCE_STOPPED, syncFindings } from '../../services/db/findings-sync.js';
 import { createTestDatabase, type TestDatabase } from '../helpers/test-database.js';
 
 const DAY_MS = 86_400_000;

@@ -2,8 +2,9 @@ import { sql } from 'kysely';
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { createFleetsRepository } from '../../services/db/fleets-repository.js';
 import { PartitionKeeper } from '../../services/db/partitions.js';
-import { createReadingsRepository, type ReadingChunk } from '../../services/db/readings-repository.js';
-import { BACKOFF_BASE_MS, createQueueRepository } from '../../services/worker/queue-repository.js';
+import { createReadingsRepository } from '../../services/db/readings-repository.js';
+import type { ReadingChunk } from '../../services/db/reading-chunk.js';
+import { BACKOFF_BASE_MS, createQueueRepository } from '../../services/db/analysis-queue-repository.js';
 import { createTestDatabase, type TestDatabase } from '../helpers/test-database.js';
 
 let tdb: TestDatabase;

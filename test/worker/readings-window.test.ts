@@ -1,8 +1,8 @@
 import { sql } from 'kysely';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { monthIndexOf, PartitionKeeper } from '../../services/db/partitions.js';
-import { WindowBuffers } from '../../services/worker/copy-binary-window.js';
-import { readWindowAsText, readWindows } from '../../services/worker/readings-window.js';
+import { WindowBuffers } from '../../services/db/pg-wire/binary-window-decoder.js';
+import { readWindowAsText, readWindows } from '../../services/db/reading-windows.js';
 import { createTestDatabase, type TestDatabase } from '../helpers/test-database.js';
 
 let tdb: TestDatabase;

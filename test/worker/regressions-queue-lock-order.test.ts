@@ -1,7 +1,7 @@
 import { sql } from 'kysely';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createFleetsRepository } from '../../services/db/fleets-repository.js';
-import { createQueueRepository } from '../../services/worker/queue-repository.js';
+import { createQueueRepository } from '../../services/db/analysis-queue-repository.js';
 import { createTestDatabase, testDatabaseKind, type TestDatabase } from '../helpers/test-database.js';
 
 // Regression: an ingest marks vehicles in the queue in id order while the worker's heartbeat

@@ -1,7 +1,7 @@
 import { sql } from 'kysely';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { monthIndexOf, PartitionKeeper } from '../../services/db/partitions.js';
-import { createQueueRepository } from '../../services/worker/queue-repository.js';
+import { createQueueRepository } from '../../services/db/analysis-queue-repository.js';
 import { createTestDatabase, testDatabaseKind, type TestDatabase } from '../helpers/test-database.js';
 import { WorkerProcess } from '../helpers/worker-process.js';
 

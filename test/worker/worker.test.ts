@@ -47,10 +47,9 @@ describe('the Worker', () => {
     await postReadings(t, key, [...items('WS-1'), ...items('WS-2'), ...items('WS-3')]);
     const done: string[] = [];
     let stopping: Promise<void> | undefined;
-    let worker!: Worker;
     let stopped!: () => void;
     const firstDone = new Promise<void>((resolve) => (stopped = resolve));
-    worker = new Worker({
+    const worker = new Worker({
       handle: t.tdb.handle, pollMs: HOUR_MS, leaseMs: 60_000, batchSize: 10,
       logger: logger((id) => {
         done.push(id);

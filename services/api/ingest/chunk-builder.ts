@@ -1,4 +1,4 @@
-import type { ReadingChunk } from '../../db/readings-repository.js';
+import type { ReadingChunk } from '../../db/reading-chunk.js';
 import type { ValidReading } from './validate-reading.js';
 
 /** Arrays start this long and double up to the capacity: most bodies are a gateway's small batch. */

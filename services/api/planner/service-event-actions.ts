@@ -6,7 +6,7 @@ import { createPlannerActionsRepository } from '../../db/planner-actions-reposit
 import type { Database, ServiceEventsTable } from '../../db/schema.js';
 import { createServiceEventsRepository, toServiceEventView, type ServiceEventView } from '../../db/service-events-repository.js';
 import { refreshVehicleRisk } from '../../db/vehicle-risk.js';
-import { createQueueRepository } from '../../worker/queue-repository.js';
+import { createQueueRepository } from '../../db/analysis-queue-repository.js';
 import { NotFoundError } from '../errors.js';
 
 export interface ServiceEventInput {

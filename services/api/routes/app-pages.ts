@@ -19,7 +19,12 @@ export function prefersHtml(accept: string | undefined): boolean {
   let json = -1;
   for (const [i, part] of accept.split(',').entries()) {
     const [type, ...params] = part.trim().toLowerCase().split(';');
-    const q = Number(params.find((p) => p.trim().startsWith('q='))?.trim().slice(2) ?? 1);
+    const q = Number(
+      params
+        .find((p) => p.trim().startsWith('q='))
+        ?.trim()
+        .slice(2) ?? 1,
+    );
     const score = q * 1000 - i;
     if (type === 'text/html' || type === 'application/xhtml+xml') html = Math.max(html, score);
     if (type === 'application/json') json = Math.max(json, score);
@@ -37,37 +42,51 @@ const appPagesRoutes: FastifyPluginAsyncTypebox<{ idleMs: number }> = async (app
   const vehicles = createVehiclesRepository(app.database.db);
 
   function send(request: FastifyRequest, reply: FastifyReply, file: StaticAsset, status = 200, cache = 'no-cache') {
-    reply.headers(SECURITY_HEADERS).header('cache-control', cache).header('etag', file.etag).header('vary', 'accept-encoding').type(file.type);
+    reply
+      .headers(SECURITY_HEADERS)
+      .header('cache-control', cache)
+      .header('etag', file.etag)
+      .header('vary', 'accept-encoding')
+      .type(file.type);
     if (status === 200 && request.headers['if-none-match'] === file.etag) return reply.status(304).send();
-    if (/\bgzip\b/.test(String(request.headers['accept-encoding'] ?? ''))) return reply.status(status).header('content-encoding', 'gzip').send(file.gzip);
+    if (/\bgzip\b/.test(String(request.headers['accept-encoding'] ?? '')))
+      return reply.status(status).header('content-encoding', 'gzip').send(file.gzip);
     return reply.status(status).send(file.body);
   }
-  const shell = (request: FastifyRequest, reply: FastifyReply, status = 200) => send(request, reply, assets.get(SHELL)!, status);
+  const shell = (request: FastifyRequest, reply: FastifyReply, status = 200) =>
+    send(request, reply, assets.get(SHELL)!, status);
   const hidden = { schema: { hide: true } };
 
   app.get('/', hidden, async (request, reply) => {
-    if (!prefersHtml(request.headers.accept)) throw new NotFoundError('nothing here: the API is under /v1 (see /docs), the web view under /app/');
+    if (!prefersHtml(request.headers.accept))
+      throw new NotFoundError('nothing here: the API is under /v1 (see /docs), the web view under /app/');
     return reply.redirect('/app/', 302);
   });
   app.get('/app', hidden, async (_request, reply) => reply.redirect('/app/', 302));
-  for (const path of ['/app/', '/app/reports', '/app/sign-in']) app.get(path, hidden, async (request, reply) => shell(request, reply));
+  for (const path of ['/app/', '/app/reports', '/app/sign-in'])
+    app.get(path, hidden, async (request, reply) => shell(request, reply));
 
   // A vehicle of another fleet is not found, exactly as an unknown one: the page does not say it exists.
   app.get('/app/vehicles/:vehicleId', { schema: { hide: true, params: VehicleIdParams } }, async (request, reply) => {
     const session = await authenticateSession(sessions, request, opts.idleMs, Date.now());
     if (session) {
       const vehicle = await vehicles.get(request.params.vehicleId);
-      if (!vehicle || (session.fleetId !== null && vehicle.fleetId !== session.fleetId)) return shell(request, reply, 404);
+      if (!vehicle || (session.fleetId !== null && vehicle.fleetId !== session.fleetId))
+        return shell(request, reply, 404);
     }
     return shell(request, reply);
   });
 
-  app.get('/app/assets/*', { schema: { hide: true, params: Type.Object({ '*': Type.String() }) } }, async (request, reply) => {
-    const name = request.params['*'];
-    const file = ASSET_NAME.test(name) ? assets.get(name) : undefined;
-    if (!file) throw new NotFoundError(`no file '${name}' in the web view`);
-    return send(request, reply, file);
-  });
+  app.get(
+    '/app/assets/*',
+    { schema: { hide: true, params: Type.Object({ '*': Type.String() }) } },
+    async (request, reply) => {
+      const name = request.params['*'];
+      const file = ASSET_NAME.test(name) ? assets.get(name) : undefined;
+      if (!file) throw new NotFoundError(`no file '${name}' in the web view`);
+      return send(request, reply, file);
+    },
+  );
 };
 
 export default appPagesRoutes;

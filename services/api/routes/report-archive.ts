@@ -16,14 +16,22 @@ const reportArchiveRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['reports'],
         summary: "The fleet's archived weekly reports, newest week first",
-        description: 'Each is served by GET /v1/reports/weekly?week=<isoWeek>&format=html|csv|json (rebuilt there when its data changed since).',
+        description:
+          'Each is served by GET /v1/reports/weekly?week=<isoWeek>&format=html|csv|json (rebuilt there when its data changed since).',
         security: SECURITY,
         querystring: Type.Object({
           limit: Type.Integer({ minimum: 1, maximum: 520, default: 104 }),
-          fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })),
+          fleet: Type.Optional(
+            Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' }),
+          ),
         }),
         response: {
-          200: Type.Object({ fleetId: Type.String(), reports: Type.Array(Type.Object({ isoWeek: Type.String(), generatedAt: Type.String({ format: 'date-time' }) })) }),
+          200: Type.Object({
+            fleetId: Type.String(),
+            reports: Type.Array(
+              Type.Object({ isoWeek: Type.String(), generatedAt: Type.String({ format: 'date-time' }) }),
+            ),
+          }),
           ...errorResponses(400, 401, 403),
         },
       },
@@ -34,7 +42,10 @@ const reportArchiveRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const fleetId = principal.fleetId ?? request.query.fleet;
       if (!fleetId) throw new BadRequestError('an admin key must name the fleet: ?fleet=<fleetId>');
       const reports = await archive.list(fleetId, request.query.limit);
-      return { fleetId, reports: reports.map((r) => ({ isoWeek: r.isoWeek, generatedAt: r.generatedAt.toISOString() })) };
+      return {
+        fleetId,
+        reports: reports.map((r) => ({ isoWeek: r.isoWeek, generatedAt: r.generatedAt.toISOString() })),
+      };
     },
   );
 };

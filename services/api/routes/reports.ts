@@ -1,8 +1,8 @@
 import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { UnknownFleetError } from '../../report/build-weekly-report.js';
-import { formatIsoWeek, lastCompleteIsoWeek, parseIsoWeek, weekWindow } from '../../report/iso-week.js';
-import { createReportRepository } from '../../report/report-repository.js';
+import { formatIsoWeek, lastCompleteIsoWeek, parseIsoWeek, weekWindow } from '../../time/iso-week.js';
+import { createReportRepository } from '../../db/weekly-report-repository.js';
 import { reportBaseName } from '../../report/weekly-report-files.js';
 import { WeeklyReportSchema } from '../../report/weekly-report-schema.js';
 import { currentWeeklyReport } from '../../report/weekly-report-service.js';

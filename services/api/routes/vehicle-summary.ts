@@ -26,24 +26,36 @@ const vehicleSummaryRoutes: FastifyPluginAsyncTypebox = async (app) => {
       onRequest: app.requireScope('read'),
       schema: {
         tags: ['vehicles'],
-        summary: "A vehicle's priority, checks and cautions, and the weekly report's two charts as of its latest analysed reading",
-        description: 'warmup: the latest cold starts against the band (10th–90th percentile) of its healthy cold starts before the onset; '
-          + 'peaks: daily peak coolant and maximum ambient with the trend and the boiling point at cap pressure. '
-          + 'Checks come from the unresolved findings (without the safety caution, which is in cautions with the others the checks call for).',
+        summary:
+          "A vehicle's priority, checks and cautions, and the weekly report's two charts as of its latest analysed reading",
+        description:
+          'warmup: the latest cold starts against the band (10th–90th percentile) of its healthy cold starts before the onset; ' +
+          'peaks: daily peak coolant and maximum ambient with the trend and the boiling point at cap pressure. ' +
+          'Checks come from the unresolved findings (without the safety caution, which is in cautions with the others the checks call for).',
         security: SECURITY,
         params: VehicleIdParams,
         response: {
           200: Type.Object({
             vehicleId: Type.String(),
             analysedUpTo: Type.Union([Type.String({ format: 'date-time' }), Type.Null()]),
-            priority: Type.Union([Type.String({ description: 'book now, book this week or at next service' }), Type.Null()], { description: 'null: no unresolved finding' }),
+            priority: Type.Union(
+              [Type.String({ description: 'book now, book this week or at next service' }), Type.Null()],
+              { description: 'null: no unresolved finding' },
+            ),
             unresolved: Type.Integer(),
             checks: Type.Array(Type.String()),
             cautions: Type.Array(Type.String()),
             warmup: WarmupChart,
             peaks: PeakChart,
-            kindLabels: Type.Record(Type.String(), Type.String(), { description: 'finding kinds in a planner\'s words' }),
-            serviceEventKinds: Type.Array(Type.Object({ kind: Type.String(), resolves: Type.Array(Type.String({ description: 'finding kinds the event resolves' })) })),
+            kindLabels: Type.Record(Type.String(), Type.String(), {
+              description: "finding kinds in a planner's words",
+            }),
+            serviceEventKinds: Type.Array(
+              Type.Object({
+                kind: Type.String(),
+                resolves: Type.Array(Type.String({ description: 'finding kinds the event resolves' })),
+              }),
+            ),
           }),
           ...errorResponses(401, 403, 404),
         },
@@ -53,7 +65,12 @@ const vehicleSummaryRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const vehicle = await requireVehicle(vehicles, principalOf(request), request.params.vehicleId);
       const unresolved = (await findings.ofVehicle(vehicle.vehicleId)).filter((f) => f.status !== 'resolved');
       const analysedMs = await board.analysedUpTo(vehicle.vehicleId);
-      const charts = await vehicleCharts(db, vehicle, unresolved.map((f) => ({ kind: f.kind, firstSeenMs: Date.parse(f.firstSeen), metrics: f.metrics })), analysedMs ?? Date.now());
+      const charts = await vehicleCharts(
+        db,
+        vehicle,
+        unresolved.map((f) => ({ kind: f.kind, firstSeenMs: Date.parse(f.firstSeen), metrics: f.metrics })),
+        analysedMs ?? Date.now(),
+      );
       return {
         vehicleId: vehicle.vehicleId,
         analysedUpTo: analysedMs === null ? null : new Date(analysedMs).toISOString(),

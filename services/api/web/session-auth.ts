@@ -15,7 +15,11 @@ const EXTEND_STEP_MS = 60_000;
 /** 403 for a state-changing request of a session without its CSRF token. */
 export class CsrfError extends AppError {
   constructor() {
-    super(403, 'csrf_failed', `a state-changing request of a web-view session must send the session's CSRF token in the ${CSRF_HEADER} header`);
+    super(
+      403,
+      'csrf_failed',
+      `a state-changing request of a web-view session must send the session's CSRF token in the ${CSRF_HEADER} header`,
+    );
   }
 }
 
@@ -37,7 +41,13 @@ export function isSecureRequest(request: Pick<FastifyRequest, 'protocol'>): bool
 
 /** The Set-Cookie value that stores (or, with `token` null, clears) the session cookie. */
 export function sessionCookie(token: string | null, secure: boolean, maxAgeS: number): string {
-  const parts = [`${SESSION_COOKIE}=${token ?? ''}`, 'Path=/', 'HttpOnly', 'SameSite=Strict', `Max-Age=${token === null ? 0 : Math.max(0, Math.floor(maxAgeS))}`];
+  const parts = [
+    `${SESSION_COOKIE}=${token ?? ''}`,
+    'Path=/',
+    'HttpOnly',
+    'SameSite=Strict',
+    `Max-Age=${token === null ? 0 : Math.max(0, Math.floor(maxAgeS))}`,
+  ];
   if (secure) parts.push('Secure');
   return parts.join('; ');
 }
@@ -59,7 +69,10 @@ export function sessionPrincipal(session: WebSession): Principal {
  * otherwise). Use slides the idle expiry, never past the absolute one.
  */
 export async function authenticateSession(
-  sessions: WebSessionsRepository, request: FastifyRequest, idleMs: number, nowMs: number,
+  sessions: WebSessionsRepository,
+  request: FastifyRequest,
+  idleMs: number,
+  nowMs: number,
 ): Promise<WebSession | undefined> {
   const token = readCookie(request, SESSION_COOKIE);
   if (!token) return undefined;

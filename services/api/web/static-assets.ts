@@ -24,7 +24,12 @@ export const ASSETS_DIR = join(import.meta.dirname, 'assets');
 export const ECHARTS_ASSET = 'vendor/echarts.min.js';
 
 function asset(body: Buffer, type: string): StaticAsset {
-  return { body, gzip: gzipSync(body, { level: 9 }), type, etag: `"${createHash('sha256').update(body).digest('base64url').slice(0, 22)}"` };
+  return {
+    body,
+    gzip: gzipSync(body, { level: 9 }),
+    type,
+    etag: `"${createHash('sha256').update(body).digest('base64url').slice(0, 22)}"`,
+  };
 }
 
 /** The web view's files (services/api/web/assets) and echarts' dist file, by path under /app/assets/. */
@@ -44,8 +49,9 @@ export function loadStaticAssets(): Map<string, StaticAsset> {
  * itself; nothing framed, no form posted elsewhere. echarts sets element styles from script
  * (CSSOM), which 'self' styles allow.
  */
-export const WEB_VIEW_CSP = "default-src 'none'; script-src 'self'; style-src 'self'; img-src 'self' data:; connect-src 'self'; "
-  + "font-src 'self'; form-action 'self'; frame-ancestors 'none'; base-uri 'none'";
+export const WEB_VIEW_CSP =
+  "default-src 'none'; script-src 'self'; style-src 'self'; img-src 'self' data:; connect-src 'self'; " +
+  "font-src 'self'; form-action 'self'; frame-ancestors 'none'; base-uri 'none'";
 
 export const SECURITY_HEADERS: Readonly<Record<string, string>> = {
   'content-security-policy': WEB_VIEW_CSP,

@@ -10,7 +10,6 @@ import { ServeProcess } from '../../helpers/serve-process.js';
 // - ~4 KB of gzip holding 2 M invalid lines produced an 87 MB reply (RSS 312 → 1,176 MB).
 
 const served = useServedTestApp('fleet-ee');
-const t = served.t;
 
 const BIG = Buffer.alloc(50 * 1024 * 1024, '{"vehicleId":"EE-1","ts":1,"coolant":1}\n');
 

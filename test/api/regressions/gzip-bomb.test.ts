@@ -9,7 +9,6 @@ import { postReadings } from '../../helpers/raw-http.js';
 // more than telemetry does is refused early, and blank lines are bounded.
 
 const served = useServedTestApp('fleet-gb');
-const t = served.t;
 
 describe('a gzip bomb', () => {
   it.each(['application/x-ndjson', 'text/csv', 'application/json'])(`as %s is refused early (more than ${MAX_BLANK_LINES} blank lines, or expanding more than ${MAX_GZIP_RATIO}-fold)`, async (contentType) => {

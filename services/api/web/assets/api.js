@@ -26,13 +26,20 @@ export async function api(path, options = {}) {
   if (options.body !== undefined) headers['content-type'] = 'application/json';
   if (method !== 'GET' && csrfToken) headers['x-csrf-token'] = csrfToken;
   const res = await fetch(path, {
-    method, headers, credentials: 'same-origin', signal: options.signal,
+    method,
+    headers,
+    credentials: 'same-origin',
+    signal: options.signal,
     ...(options.body !== undefined ? { body: JSON.stringify(options.body) } : {}),
   });
   const text = await res.text();
   const json = text && (res.headers.get('content-type') ?? '').includes('json') ? JSON.parse(text) : null;
   if (!res.ok) {
-    const err = new ApiError(res.status, json?.error?.code ?? 'error', json?.error?.message ?? `the service answered ${res.status}`);
+    const err = new ApiError(
+      res.status,
+      json?.error?.code ?? 'error',
+      json?.error?.message ?? `the service answered ${res.status}`,
+    );
     if (res.status === 401 && !path.startsWith('/app/session')) hooks.onSignedOut(err);
     throw err;
   }

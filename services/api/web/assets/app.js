@@ -17,7 +17,9 @@ function setSession(s) {
   setCsrfToken(s?.csrfToken ?? null);
   nav.hidden = !s || !s.fleetId;
   who.hidden = !s;
-  document.getElementById('fleet-name').textContent = s ? `${s.fleetName ?? s.fleetId ?? 'no fleet chosen'}${s.admin ? ' (admin)' : ''}` : '';
+  document.getElementById('fleet-name').textContent = s
+    ? `${s.fleetName ?? s.fleetId ?? 'no fleet chosen'}${s.admin ? ' (admin)' : ''}`
+    : '';
 }
 
 export function navigate(path, { replaceState = false } = {}) {
@@ -54,15 +56,30 @@ document.getElementById('sign-out').addEventListener('click', async () => {
 function renderSignIn(message) {
   document.title = 'Sign in — thermocline';
   const error = h('p', { class: 'error', role: 'alert', id: 'sign-in-error' });
-  const input = h('input', { id: 'api-key', name: 'key', type: 'password', autocomplete: 'off', required: true, spellcheck: 'false', 'aria-describedby': 'key-help' });
-  const form = h('form', { class: 'card sign-in', id: 'sign-in-form' },
+  const input = h('input', {
+    id: 'api-key',
+    name: 'key',
+    type: 'password',
+    autocomplete: 'off',
+    required: true,
+    spellcheck: 'false',
+    'aria-describedby': 'key-help',
+  });
+  const form = h(
+    'form',
+    { class: 'card sign-in', id: 'sign-in-form' },
     h('h1', {}, 'Sign in'),
     message ? h('p', { class: 'note', role: 'status' }, message) : null,
     h('label', { for: 'api-key' }, 'API key'),
     input,
-    h('p', { id: 'key-help', class: 'help' }, 'A key with the read scope (planners) or an admin key. Gateway keys (ingest only) cannot sign in. The key is checked once; the browser then keeps only a session.'),
+    h(
+      'p',
+      { id: 'key-help', class: 'help' },
+      'A key with the read scope (planners) or an admin key. Gateway keys (ingest only) cannot sign in. The key is checked once; the browser then keeps only a session.',
+    ),
     h('button', { type: 'submit' }, 'Sign in'),
-    error);
+    error,
+  );
   form.addEventListener('submit', async (event) => {
     event.preventDefault();
     error.textContent = '';
@@ -83,13 +100,26 @@ function renderSignIn(message) {
 async function renderFleetChoice() {
   document.title = 'Choose a fleet — thermocline';
   const { fleets } = await api('/app/fleets');
-  const select = h('select', { id: 'fleet-choice', required: true }, fleets.map((f) => h('option', { value: f.fleetId }, `${f.name} (${f.fleetId})`)));
+  const select = h(
+    'select',
+    { id: 'fleet-choice', required: true },
+    fleets.map((f) => h('option', { value: f.fleetId }, `${f.name} (${f.fleetId})`)),
+  );
   const error = h('p', { class: 'error', role: 'alert' });
-  const form = h('form', { class: 'card sign-in', id: 'fleet-form' },
+  const form = h(
+    'form',
+    { class: 'card sign-in', id: 'fleet-form' },
     h('h1', {}, 'Choose a fleet'),
-    h('p', { class: 'help' }, 'An admin key sees every fleet; the web view shows one at a time, exactly as a key of that fleet would see it.'),
-    h('label', { for: 'fleet-choice' }, 'Fleet'), select,
-    h('button', { type: 'submit' }, 'Open the fleet'), error);
+    h(
+      'p',
+      { class: 'help' },
+      'An admin key sees every fleet; the web view shows one at a time, exactly as a key of that fleet would see it.',
+    ),
+    h('label', { for: 'fleet-choice' }, 'Fleet'),
+    select,
+    h('button', { type: 'submit' }, 'Open the fleet'),
+    error,
+  );
   form.addEventListener('submit', async (event) => {
     event.preventDefault();
     try {
@@ -139,7 +169,10 @@ async function route() {
     }
   } catch (err) {
     if (signal.aborted || (err instanceof ApiError && err.status === 401)) return;
-    replace(view, h('div', { class: 'card' }, h('h1', {}, 'Something went wrong'), h('p', { role: 'alert' }, err.message)));
+    replace(
+      view,
+      h('div', { class: 'card' }, h('h1', {}, 'Something went wrong'), h('p', { role: 'alert' }, err.message)),
+    );
   }
 }
 

@@ -33,16 +33,33 @@ const PRIORITY_MARK = { critical: '▲', warning: '◆', advisory: '●' };
 
 /** The priority as a word, a shape and a colour (never the colour alone). */
 export function priorityBadge(severity) {
-  return h('span', { class: `badge sev-${severity}` }, h('span', { 'aria-hidden': 'true', class: 'mark' }, PRIORITY_MARK[severity] ?? '●'), ' ', PRIORITY_OF[severity] ?? severity);
+  return h(
+    'span',
+    { class: `badge sev-${severity}` },
+    h('span', { 'aria-hidden': 'true', class: 'mark' }, PRIORITY_MARK[severity] ?? '●'),
+    ' ',
+    PRIORITY_OF[severity] ?? severity,
+  );
 }
 
 export function severityBadge(severity) {
-  return h('span', { class: `badge small sev-${severity}` }, h('span', { 'aria-hidden': 'true', class: 'mark' }, PRIORITY_MARK[severity] ?? '●'), ' ', SEVERITY_WORD[severity] ?? severity);
+  return h(
+    'span',
+    { class: `badge small sev-${severity}` },
+    h('span', { 'aria-hidden': 'true', class: 'mark' }, PRIORITY_MARK[severity] ?? '●'),
+    ' ',
+    SEVERITY_WORD[severity] ?? severity,
+  );
 }
 
 export function statusBadge(status, deferredUntil) {
   if (status === 'acknowledged') return h('span', { class: 'status st-ack' }, '✓ acknowledged');
-  if (status === 'deferred') return h('span', { class: 'status st-def' }, `⏸ deferred${deferredUntil ? ` until ${deferredUntil.slice(0, 10)}` : ''}`);
+  if (status === 'deferred')
+    return h(
+      'span',
+      { class: 'status st-def' },
+      `⏸ deferred${deferredUntil ? ` until ${deferredUntil.slice(0, 10)}` : ''}`,
+    );
   if (status === 'resolved') return h('span', { class: 'status st-res' }, 'resolved');
   return h('span', { class: 'status st-open' }, 'open');
 }

@@ -15,24 +15,55 @@ const NULLABLE = new Set(['label', 'depot', 'siteAltitudeM']);
 
 /** The vehicle's profile; editable when the session's key may change profiles (ingest or admin scope). */
 export function profileSection(vehicle, session, onSaved) {
-  const facts = h('dl', { class: 'facts wide', id: 'profile-facts' },
+  const facts = h(
+    'dl',
+    { class: 'facts wide', id: 'profile-facts' },
     FIELDS.map(([k, label]) => [h('dt', {}, label), h('dd', {}, vehicle[k] ?? '—')]),
-    h('dt', {}, 'Atmospheric pressure used'), h('dd', {}, `${vehicle.atmosphericPressureKpa} kPa`),
-    h('dt', {}, 'Profile'), h('dd', {}, vehicle.defaultProfile ? 'defaults (no profile set: boiling and freezing figures are assumptions)' : `set, last changed ${vehicle.updatedAt.slice(0, 10)}`));
-  const section = h('section', { 'aria-labelledby': 'profile-heading' }, h('h2', { id: 'profile-heading' }, 'Profile'), facts);
+    h('dt', {}, 'Atmospheric pressure used'),
+    h('dd', {}, `${vehicle.atmosphericPressureKpa} kPa`),
+    h('dt', {}, 'Profile'),
+    h(
+      'dd',
+      {},
+      vehicle.defaultProfile
+        ? 'defaults (no profile set: boiling and freezing figures are assumptions)'
+        : `set, last changed ${vehicle.updatedAt.slice(0, 10)}`,
+    ),
+  );
+  const section = h(
+    'section',
+    { 'aria-labelledby': 'profile-heading' },
+    h('h2', { id: 'profile-heading' }, 'Profile'),
+    facts,
+  );
   if (!session.canEditProfiles) {
-    section.append(h('p', { class: 'sub' }, 'Profile changes need a key with the ingest or admin scope; this session is read-only for profiles.'));
+    section.append(
+      h(
+        'p',
+        { class: 'sub' },
+        'Profile changes need a key with the ingest or admin scope; this session is read-only for profiles.',
+      ),
+    );
     return section;
   }
   const inputs = new Map();
   const result = h('p', { role: 'status', id: 'profile-result' });
-  const form = h('form', { class: 'card', id: 'profile-form' }, h('h3', {}, 'Edit the profile'),
-    h('div', { class: 'row wrap' }, FIELDS.map(([k, label, type, attrs]) => {
-      const input = h('input', { id: `profile-${k}`, name: k, type, value: vehicle[k] ?? '', ...attrs });
-      inputs.set(k, input);
-      return h('div', { class: 'field' }, h('label', { for: `profile-${k}` }, label), input);
-    })),
-    h('button', { type: 'submit' }, 'Save profile'), result);
+  const form = h(
+    'form',
+    { class: 'card', id: 'profile-form' },
+    h('h3', {}, 'Edit the profile'),
+    h(
+      'div',
+      { class: 'row wrap' },
+      FIELDS.map(([k, label, type, attrs]) => {
+        const input = h('input', { id: `profile-${k}`, name: k, type, value: vehicle[k] ?? '', ...attrs });
+        inputs.set(k, input);
+        return h('div', { class: 'field' }, h('label', { for: `profile-${k}` }, label), input);
+      }),
+    ),
+    h('button', { type: 'submit' }, 'Save profile'),
+    result,
+  );
   form.addEventListener('submit', async (event) => {
     event.preventDefault();
     // Only what changed is sent: an unchanged default stays a default.

@@ -1,6 +1,6 @@
 import { sql, type Kysely } from 'kysely';
 import type { Finding } from '../analysis/findings/finding.js';
-import type { Database } from '../db/schema.js';
+import type { Database } from './schema.js';
 
 /** resolved_reason of a finding closed because its evidence stopped for the quiet period. */
 export const EVIDENCE_STOPPED = 'evidence-stopped';

@@ -1,5 +1,5 @@
 import { sql, type Kysely, type RawBuilder } from 'kysely';
-import type { Database } from '../db/schema.js';
+import type { Database } from './schema.js';
 
 /** One leased vehicle: analyse readings from `windowFromMs` on, then `finish` or `fail`. */
 export interface Lease {

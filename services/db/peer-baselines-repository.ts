@@ -1,8 +1,8 @@
 import { sql, type Kysely } from 'kysely';
 import { buildPeerBaseline, type PeerBaseline } from '../analysis/peer-baseline.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
-import type { Database } from '../db/schema.js';
-import { utcWeekStartMs } from '../report/iso-week.js';
+import type { Database } from './schema.js';
+import { utcWeekStartMs } from '../time/iso-week.js';
 
 const DAY_MS = 86_400_000;
 /** A family's baseline learns from its closed runs of this many days before the week starts. */

@@ -1,7 +1,9 @@
 import { sql } from 'kysely';
 import type { AllSampleArrays, SampleArrays } from '../analysis/sample-arrays.js';
-import type { DatabaseHandle } from '../db/database.js';
-import { COLUMN_NAMES, readWindowsByCopy, type WindowBuffers, type WindowRequest } from './copy-binary-window.js';
+import type pg from 'pg';
+import type { DatabaseHandle } from './database.js';
+import { COLUMN_NAMES, idBytes, WindowBuffers, WindowsDecoder, type WindowRequest } from './pg-wire/binary-window-decoder.js';
+import { copyOut } from './pg-wire/copy-out.js';
 import { parseNumberList } from './number-list.js';
 
 const MS_PER_S = 1000;
@@ -36,6 +38,44 @@ export async function readWindows(handle: DatabaseHandle, windows: readonly Wind
   return out;
 }
 
+function quoteLiteral(value: string): string {
+  return `'${value.replace(/'/g, "''")}'`;
+}
+
+/**
+ * Reads several vehicles' windows with one `COPY … TO STDOUT (FORMAT binary)` and decodes the
+ * tuples straight into typed arrays, one set per window, in ascending time: no per-value text
+ * formatting on the server and no parsing on the client (about 2× the rows/s of the text
+ * aggregate). Readings arrive interleaved across vehicles, so a vehicle's window is spread over
+ * thousands of heap pages that hold other vehicles' readings too; one statement for a whole batch
+ * (a BitmapOr of the vehicles' index ranges) visits each page once instead of once per vehicle,
+ * and leaves the rows in heap order, which is insertion order: no sort in Postgres, and one here
+ * only for a window that late data left out of order. COPY takes no bind parameters, so the
+ * values are inlined as quoted literals. With `buffers` (reused by the caller) the arrays are views
+ * into them, valid until the next read with the same buffers.
+ */
+export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowRequest[], buffers = new WindowBuffers()): Promise<AllSampleArrays[]> {
+  if (windows.length === 0) return [];
+  if (new Set(windows.map((w) => w.vehicleId)).size !== windows.length) throw new Error('readWindowsByCopy: one window per vehicle');
+  const where = windows.map((w) =>
+    `(vehicle_id = ${quoteLiteral(w.vehicleId)} and ts >= ${quoteLiteral(new Date(w.fromMs).toISOString())}::timestamptz and ts < ${quoteLiteral(new Date(w.toMs).toISOString())}::timestamptz)`);
+  // No parallel workers: on a large readings table PostgreSQL plans a batch's BitmapOr as a
+  // Parallel Bitmap Heap Scan with two workers, whose CPU was about 3× that of one backend
+  // scanning alone (a round of 20 vehicle-weeks: ~0.35 s against ~0.13 s, measured), and whose
+  // Gather interleaves the rows, so every window needed the sort here. SET LOCAL lasts for the
+  // implicit transaction of this one query string.
+  const text = `set local max_parallel_workers_per_gather = 0; copy (select vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa from readings where ${where.join(' or ')}) to stdout (format binary)`;
+  const decoder = new WindowsDecoder(windows.map((w) => idBytes(Buffer.from(w.vehicleId, 'utf8'))), buffers, windows.map((w) => w.prefix));
+  const client = await pool.connect();
+  try {
+    await copyOut(client, text, (bytes, view, start, end) => decoder.messages(bytes, view, start, end));
+  } catch (err) {
+    client.release(err instanceof Error ? err : true);
+    throw err;
+  }
+  client.release();
+  return decoder.split();
+}
 /** The rows of `a` (a channel it lacks: NaN), then those of `b`. */
 function concatArrays(a: SampleArrays, b: AllSampleArrays): AllSampleArrays {
   const out = {} as AllSampleArrays;

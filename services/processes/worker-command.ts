@@ -3,9 +3,8 @@ import pino from 'pino';
 import { loadConfig } from '../config.js';
 import { openDatabase } from '../db/database.js';
 import { migrateToLatest } from '../db/migrator.js';
-import { AnalysisRuns } from './analysis-runs.js';
-import { startReportSchedule } from './report-schedule.js';
-import { Worker } from './worker.js';
+import { AnalysisRuns } from '../worker/analysis-runs.js';
+import { onStopSignal, startBackgroundJobs } from './background-jobs.js';
 
 const HELP = `usage: thermocline worker [--once]
 
@@ -48,18 +47,13 @@ export async function run(argv: string[]): Promise<number> {
       logger.info(result, 'analysis run finished');
       return result.status === 'succeeded' && result.vehiclesFailed === 0 ? 0 : 1;
     }
-    const worker = new Worker({ handle: database, pollMs: config.workerPollMs, leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize, logger });
-    worker.start();
-    const reports = startReportSchedule(config, database, logger);
-    await new Promise<void>((resolve) => {
-      const stop = (signal: string) => {
+    const jobs = startBackgroundJobs(config, database, logger);
+    await new Promise<void>((resolve) =>
+      onStopSignal((signal) => {
         logger.info({ signal }, 'stopping: finishing the vehicle in hand, releasing the other leases');
         resolve();
-      };
-      process.once('SIGTERM', () => stop('SIGTERM'));
-      process.once('SIGINT', () => stop('SIGINT'));
-    });
-    await Promise.all([worker.stop(), reports?.stop()]);
+      }));
+    await jobs.stop();
     return 0;
   } finally {
     await database.close();

@@ -1,11 +1,7 @@
-import type { ReadingChunk } from './readings-repository.js';
+import type { ReadingChunk } from '../reading-chunk.js';
+import { COPY_SIGNATURE, HEADER_BYTES, PG_EPOCH_MS, TWO_POW_32 } from './binary-copy-format.js';
 
-/** Binary COPY header: the 11-byte signature, 4 bytes of flags, 4 bytes of header extension length. */
-const COPY_SIGNATURE = Buffer.from('PGCOPY\n\xff\r\n\0', 'latin1');
-export const HEADER_BYTES = 19;
-/** timestamptz travels as int64 microseconds since 2000-01-01T00:00:00Z, here as two 32-bit halves. */
-export const PG_EPOCH_MS = 946_684_800_000;
-export const TWO_POW_32 = 4_294_967_296;
+
 const COLUMNS = 9;
 /** Per row: field count, then each field's length; ts is 8 bytes, the seven channels 4 bytes each (float4). */
 const FIXED_ROW_BYTES = 2 + 4 + (4 + 8) + 7 * (4 + 4);

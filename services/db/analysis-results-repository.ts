@@ -5,7 +5,7 @@ import type { RunMetrics } from '../analysis/run-metrics.js';
 import type { SensorEvent } from '../analysis/sensor-events.js';
 import { utcDay, utcDayStartMs } from '../analysis/sample-arrays.js';
 import { DEFAULT_VEHICLE_PROFILE, type VehicleProfile } from '../analysis/vehicle-profile.js';
-import type { Database } from '../db/schema.js';
+import type { Database } from './schema.js';
 
 /** What the worker knows about a vehicle before analysing it. */
 export interface VehicleState {

@@ -17,12 +17,13 @@ export class ReusedBufferSocket extends net.Socket {
   sink: ((chunk: Buffer) => void) | undefined;
 
   constructor() {
-    let socket: ReusedBufferSocket | undefined;
+    // Node's net.Socket takes `onread` in its constructor; @types/node's SocketConstructorOpts
+    // lacks it. Its callback runs only after the constructor, once `this` is set.
+    const holder: { socket?: ReusedBufferSocket } = {};
     const buffer = Buffer.allocUnsafe(READ_BUFFER_BYTES);
-    // Node's net.Socket takes `onread` in its constructor; @types/node's SocketConstructorOpts lacks it.
-    const onread = { buffer, callback: (bytes: number, into: Uint8Array) => socket!.received(Buffer.from(into.buffer, into.byteOffset, bytes)) };
+    const onread = { buffer, callback: (bytes: number, into: Uint8Array) => holder.socket!.received(Buffer.from(into.buffer, into.byteOffset, bytes)) };
     super({ onread } as net.SocketConstructorOpts);
-    socket = this;
+    holder.socket = this;
   }
 
   /** Hands a chunk the sink took but does not want (the rest after its COPY) to pg's parser. */

@@ -1,5 +1,5 @@
 import type pg from 'pg';
-import { ReusedBufferSocket } from '../db/reused-buffer-socket.js';
+import { ReusedBufferSocket } from './receive-buffer-socket.js';
 
 /** Backend message types of the COPY OUT sub-protocol (PostgreSQL frontend/backend protocol 3.0). */
 export const COPY_DATA = 0x64; // 'd'
@@ -14,23 +14,9 @@ export const MESSAGE_HEADER_BYTES = 5;
  * message it did not take: one of another type, or one that does not end by `end`. `view` is a
  * DataView over the same chunk (made once per chunk). Both are valid during the call only.
  * Walking the messages itself, a sink that decodes rows pays no call per row (PostgreSQL sends one
- * message per row). `eachCopyData` makes one from a function of a single payload.
+ * message per row).
  */
 export type CopyDataSink = (bytes: Uint8Array, view: DataView, start: number, end: number) => number;
-
-/** A `CopyDataSink` that hands `payload` the bytes [start, end) of each CopyData message's payload. */
-export function eachCopyData(payload: (bytes: Uint8Array, view: DataView, start: number, end: number) => void): CopyDataSink {
-  return (bytes, view, start, end) => {
-    let p = start;
-    while (p + MESSAGE_HEADER_BYTES <= end && bytes[p] === COPY_DATA) {
-      const next = p + 1 + view.getInt32(p + 1);
-      if (next > end) break;
-      payload(bytes, view, p + MESSAGE_HEADER_BYTES, next);
-      p = next;
-    }
-    return p;
-  };
-}
 
 /** The parts of pg's Connection this reader uses (not in pg's public types). */
 interface PgConnection {

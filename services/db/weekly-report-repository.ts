@@ -1,8 +1,8 @@
 import { type Kysely, sql } from 'kysely';
 import type { DayAggregate } from '../analysis/day-aggregates.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
-import type { Database } from '../db/schema.js';
-import { isValidTimeZone } from './zoned-time.js';
+import type { Database } from './schema.js';
+import { isValidTimeZone } from '../time/zoned-time.js';
 
 /** Every database read and write of the weekly report (one module for all its SQL). */
 

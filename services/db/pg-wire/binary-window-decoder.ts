@@ -1,7 +1,6 @@
-import type pg from 'pg';
-import type { AllSampleArrays, SampleArrays } from '../analysis/sample-arrays.js';
-import { HEADER_BYTES, PG_EPOCH_MS, TWO_POW_32 } from '../db/readings-copy.js';
-import { COPY_DATA, copyOut, MESSAGE_HEADER_BYTES } from './copy-out.js';
+import type { AllSampleArrays, SampleArrays } from '../../analysis/sample-arrays.js';
+import { HEADER_BYTES, PG_EPOCH_MS, TWO_POW_32 } from './binary-copy-format.js';
+import { COPY_DATA, MESSAGE_HEADER_BYTES } from './copy-out.js';
 
 /** Printed values remembered per window read (telemetry repeats values a lot); bounded. */
 const PRINTED_CACHE_MAX = 65_536;
@@ -32,10 +31,6 @@ function float4AsPrinted(f: number, cache: Map<number, number>): number {
   if (cache.size >= PRINTED_CACHE_MAX) cache.clear();
   cache.set(f, printed);
   return printed;
-}
-
-function quoteLiteral(value: string): string {
-  return `'${value.replace(/'/g, "''")}'`;
 }
 
 /** One vehicle's readings to read: [fromMs, toMs). */
@@ -79,41 +74,6 @@ function permute(a: AllSampleArrays, order: Uint32Array): AllSampleArrays {
     ts: pick(a.ts), coolant: pick(a.coolant), ambient: pick(a.ambient), speedKph: pick(a.speedKph), rpm: pick(a.rpm),
     barometricKpa: pick(a.barometricKpa), coolantLevelPct: pick(a.coolantLevelPct), coolantPressureKpa: pick(a.coolantPressureKpa),
   };
-}
-
-/**
- * Reads several vehicles' windows with one `COPY … TO STDOUT (FORMAT binary)` and decodes the
- * tuples straight into typed arrays, one set per window, in ascending time: no per-value text
- * formatting on the server and no parsing on the client (about 2× the rows/s of the text
- * aggregate). Readings arrive interleaved across vehicles, so a vehicle's window is spread over
- * thousands of heap pages that hold other vehicles' readings too; one statement for a whole batch
- * (a BitmapOr of the vehicles' index ranges) visits each page once instead of once per vehicle,
- * and leaves the rows in heap order, which is insertion order: no sort in Postgres, and one here
- * only for a window that late data left out of order. COPY takes no bind parameters, so the
- * values are inlined as quoted literals. With `buffers` (reused by the caller) the arrays are views
- * into them, valid until the next read with the same buffers.
- */
-export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowRequest[], buffers = new WindowBuffers()): Promise<AllSampleArrays[]> {
-  if (windows.length === 0) return [];
-  if (new Set(windows.map((w) => w.vehicleId)).size !== windows.length) throw new Error('readWindowsByCopy: one window per vehicle');
-  const where = windows.map((w) =>
-    `(vehicle_id = ${quoteLiteral(w.vehicleId)} and ts >= ${quoteLiteral(new Date(w.fromMs).toISOString())}::timestamptz and ts < ${quoteLiteral(new Date(w.toMs).toISOString())}::timestamptz)`);
-  // No parallel workers: on a large readings table PostgreSQL plans a batch's BitmapOr as a
-  // Parallel Bitmap Heap Scan with two workers, whose CPU was about 3× that of one backend
-  // scanning alone (a round of 20 vehicle-weeks: ~0.35 s against ~0.13 s, measured), and whose
-  // Gather interleaves the rows, so every window needed the sort here. SET LOCAL lasts for the
-  // implicit transaction of this one query string.
-  const text = `set local max_parallel_workers_per_gather = 0; copy (select vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa from readings where ${where.join(' or ')}) to stdout (format binary)`;
-  const decoder = new WindowsDecoder(windows.map((w) => idBytes(Buffer.from(w.vehicleId, 'utf8'))), buffers, windows.map((w) => w.prefix));
-  const client = await pool.connect();
-  try {
-    await copyOut(client, text, (bytes, view, start, end) => decoder.messages(bytes, view, start, end));
-  } catch (err) {
-    client.release(err instanceof Error ? err : true);
-    throw err;
-  }
-  client.release();
-  return decoder.split();
 }
 
 const INITIAL_ROWS = 262_144;
@@ -189,7 +149,7 @@ export class WindowBuffers {
  * window. PostgreSQL sends one CopyData message per tuple (the first with the file header in
  * front) and one for the trailer.
  */
-class WindowsDecoder {
+export class WindowsDecoder {
   /** Rows per window so far, prefix included. */
   private readonly sizes: Uint32Array;
   /** 1 for a window whose rows came out of time order (late data): sorted before it is handed out. */
@@ -223,24 +183,24 @@ class WindowsDecoder {
    * Decodes the whole CopyData messages from `start` on (a `CopyDataSink`): one tuple each, the
    * first one after the file header, and the trailer. Returns where it stopped: a message of
    * another type, or one that does not end by `end`. Rows mostly come in runs of one vehicle (a
-   * gateway's post): `run` decodes those, and every other message (header, trailer, another
-   * vehicle, a window out of room) goes through `one`, so the hot loop holds no rarely taken path
+   * gateway's post): `decodeRunOfLastWindow` decodes those, and every other message (header, trailer, another
+   * vehicle, a window out of room) goes through `decodeAnyMessage`, so the hot loop holds no rarely taken path
    * that would make V8 throw its compiled code away when first taken.
    */
   messages(bytes: Uint8Array, view: DataView, start: number, end: number): number {
     let p = start;
     for (;;) {
-      p = this.run(bytes, view, p, end);
+      p = this.decodeRunOfLastWindow(bytes, view, p, end);
       if (p + MESSAGE_HEADER_BYTES > end || bytes[p] !== COPY_DATA) return p;
       const next = p + 1 + view.getInt32(p + 1);
       if (next > end) return p;
-      this.one(bytes, view, p + MESSAGE_HEADER_BYTES, next);
+      this.decodeAnyMessage(bytes, view, p + MESSAGE_HEADER_BYTES, next);
       p = next;
     }
   }
 
   /** Decodes tuples of the current window while it has room; returns at the first other message. */
-  private run(bytes: Uint8Array, view: DataView, start: number, end: number): number {
+  private decodeRunOfLastWindow(bytes: Uint8Array, view: DataView, start: number, end: number): number {
     const k = this.last;
     const id = this.ids[k]!;
     const columns = this.buffers.windows[k]!;
@@ -262,7 +222,7 @@ class WindowsDecoder {
   }
 
   /** One message's payload, [q, next): the header and its tuple, the trailer, or a tuple of any window. */
-  private one(bytes: Uint8Array, view: DataView, q: number, next: number): void {
+  private decodeAnyMessage(bytes: Uint8Array, view: DataView, q: number, next: number): void {
     if (!this.headerSeen) {
       // The file header comes in front of the first tuple (or the trailer), in the same message.
       if (next - q < HEADER_BYTES) throw new Error('binary COPY: short header');
@@ -330,12 +290,12 @@ class WindowsDecoder {
 }
 
 /** A vehicle id as the decoder compares it: its bytes, and its first whole 4-byte words big-endian. */
-interface IdBytes {
+export interface IdBytes {
   bytes: Buffer;
   words: Int32Array;
 }
 
-function idBytes(bytes: Buffer): IdBytes {
+export function idBytes(bytes: Buffer): IdBytes {
   const words = new Int32Array(bytes.length >> 2);
   for (let j = 0; j < words.length; j++) words[j] = bytes.readInt32BE(4 * j);
   return { bytes, words };

@@ -4,9 +4,8 @@ import { loadConfig } from '../config.js';
 import { createApiKeysRepository } from '../db/api-keys-repository.js';
 import { openDatabase } from '../db/database.js';
 import { migrateToLatest } from '../db/migrator.js';
-import { startReportSchedule } from '../worker/report-schedule.js';
-import { Worker } from '../worker/worker.js';
-import { buildApp } from './app.js';
+import { buildApp } from '../api/app.js';
+import { onStopSignal, startBackgroundJobs } from './background-jobs.js';
 
 const HELP = `usage: thermocline serve
 
@@ -40,21 +39,14 @@ export async function run(argv: string[]): Promise<number> {
   const app = await buildApp({ config, database, closeDatabase: true, logger: logger });
   await app.listen({ port: config.port, host: config.host });
   // The in-process worker starts once the API answers and wakes whenever an ingest commits.
-  const worker = config.inProcessWorker
-    ? new Worker({ handle: database, pollMs: config.workerPollMs, leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize, logger })
-    : undefined;
-  if (worker) {
-    app.ingestNotifier.on('readings', () => worker.wake());
-    app.ingestNotifier.on('analysis-needed', () => worker.wake());
-    worker.start();
+  const jobs = config.inProcessWorker ? startBackgroundJobs(config, database, logger) : undefined;
+  if (jobs) {
+    app.ingestNotifier.on('readings', () => jobs.worker.wake());
+    app.ingestNotifier.on('analysis-needed', () => jobs.worker.wake());
   }
-  const reports = worker ? startReportSchedule(config, database, logger) : undefined;
 
   return new Promise<number>((resolve) => {
-    let stopping = false;
-    const stop = (signal: string) => {
-      if (stopping) return;
-      stopping = true;
+    onStopSignal((signal) => {
       app.log.info({ signal }, 'shutting down: no new connections, finishing requests in flight');
       // A request that never ends must not keep the process alive: after the grace period the
       // connections are cut and the process exits.
@@ -65,7 +57,7 @@ export async function run(argv: string[]): Promise<number> {
       }, config.shutdownGraceMs).unref();
       // The worker stops first (its vehicle in hand finished, other leases released): app.close()
       // closes the database.
-      Promise.all([worker?.stop(), reports?.stop()])
+      Promise.resolve(jobs?.stop())
         .then(() => app.close())
         .then(
           () => {
@@ -77,8 +69,6 @@ export async function run(argv: string[]): Promise<number> {
             resolve(1);
           },
         );
-    };
-    process.once('SIGTERM', () => stop('SIGTERM'));
-    process.once('SIGINT', () => stop('SIGINT'));
+    });
   });
 }
