@@ -128,6 +128,9 @@ describe('signing in to the web view', () => {
     expect(own.headers['content-type']).toMatch(/text\/html/);
     expect((await withSession(s, 'GET', '/app/vehicles/B-1')).statusCode).toBe(404);
     expect((await withSession(s, 'GET', '/app/vehicles/NO-SUCH')).statusCode).toBe(404);
+    const malformed = await withSession(s, 'GET', '/app/vehicles/%20bad%20id');
+    expect(malformed.statusCode).toBe(404);
+    expect(malformed.headers['content-type']).toMatch(/text\/html/);
   });
 });
 

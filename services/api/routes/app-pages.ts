@@ -67,15 +67,22 @@ const appPagesRoutes: FastifyPluginAsyncTypebox<{ idleMs: number }> = async (app
     app.get(path, hidden, async (request, reply) => shell(request, reply));
 
   // A vehicle of another fleet is not found, exactly as an unknown one: the page does not say it exists.
-  app.get('/app/vehicles/:vehicleId', { schema: { hide: true, params: VehicleIdParams } }, async (request, reply) => {
-    const session = await authenticateSession(sessions, request, opts.idleMs, Date.now());
-    if (session) {
-      const vehicle = await vehicles.get(request.params.vehicleId);
-      if (!vehicle || (session.fleetId !== null && vehicle.fleetId !== session.fleetId))
-        return shell(request, reply, 404);
-    }
-    return shell(request, reply);
-  });
+  // A malformed id is a page that does not exist either (the HTML 404, not the API's 400).
+  const VEHICLE_ID = new RegExp((VehicleIdParams.properties.vehicleId as unknown as { pattern: string }).pattern);
+  app.get(
+    '/app/vehicles/:vehicleId',
+    { schema: { hide: true, params: Type.Object({ vehicleId: Type.String() }) } },
+    async (request, reply) => {
+      if (!VEHICLE_ID.test(request.params.vehicleId)) return shell(request, reply, 404);
+      const session = await authenticateSession(sessions, request, opts.idleMs, Date.now());
+      if (session) {
+        const vehicle = await vehicles.get(request.params.vehicleId);
+        if (!vehicle || (session.fleetId !== null && vehicle.fleetId !== session.fleetId))
+          return shell(request, reply, 404);
+      }
+      return shell(request, reply);
+    },
+  );
 
   app.get(
     '/app/assets/*',
