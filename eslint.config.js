@@ -46,6 +46,17 @@ export default tseslint.config(
     rules: { '@typescript-eslint/no-explicit-any': 'off' },
   },
   {
+    // The web view's own modules run in the browser (plain ES modules, no build step).
+    files: ['services/api/web/assets/**/*.js'],
+    languageOptions: {
+      sourceType: 'module',
+      globals: Object.fromEntries(
+        ['window', 'document', 'location', 'history', 'fetch', 'URLSearchParams', 'FormData', 'Node', 'Element', 'ResizeObserver',
+          'AbortController', 'setTimeout', 'clearTimeout'].map((name) => [name, 'readonly']),
+      ),
+    },
+  },
+  {
     files: ['test/**/*.ts', 'bench/**/*.ts'],
     rules: { '@typescript-eslint/no-non-null-assertion': 'off', 'no-console': 'off' },
   },

@@ -98,11 +98,11 @@ function reapedTicksOf(pid: number): number {
   return fields ? Number(fields[13]) + Number(fields[14]) : 0;
 }
 
-function percentile(sorted: number[], q: number): number {
+export function percentile(sorted: number[], q: number): number {
   return sorted[Math.min(sorted.length - 1, Math.ceil(q * sorted.length) - 1)]!;
 }
 
-async function migrated(serverUrl: string, name: string): Promise<{ h: DatabaseHandle; url: string; drop: () => Promise<void> }> {
+export async function migrated(serverUrl: string, name: string): Promise<{ h: DatabaseHandle; url: string; drop: () => Promise<void> }> {
   const scratch = await scratchDatabase(serverUrl, name);
   const h = await openDatabase({ databaseUrl: scratch.url, pgliteDir: '', poolSize: 4 });
   await migrateToLatest(h.db);

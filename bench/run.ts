@@ -2,6 +2,7 @@ import { measureSimulatorThroughput } from '../services/simulator/simulate-comma
 import { cpus, loadavg } from 'node:os';
 import { benchAnalysisE2e } from './analysis-e2e.js';
 import { benchAnalysisLibrary } from './analysis-library.js';
+import { benchFleetPage, REQUESTS_PER_QUERY } from './fleet-page.js';
 import { benchFrames } from './frames.js';
 import { benchIngest } from './ingest.js';
 import { DEFAULT_SERVER_URL } from './bench-server.js';
@@ -73,6 +74,14 @@ if (want('worker')) {
     `  GET /v1/fleet/at-risk, ${fmt(r.atRisk.vehicles)} vehicles, ${fmt(r.atRisk.findings)} findings, ${r.atRisk.requests} requests after warm-up: p50 ${r.atRisk.p50Ms.toFixed(1)} ms, p99 ${r.atRisk.p99Ms.toFixed(1)} ms   ratio to the 20 ms target ${(r.atRisk.p99Ms / 20).toFixed(2)}`,
     `  GET /healthz in between (no database; this machine's floor): p50 ${r.atRisk.healthzP50Ms.toFixed(1)} ms, p99 ${r.atRisk.healthzP99Ms.toFixed(1)} ms`,
     `  load average before ${r.loadAverage.before.map((l) => l.toFixed(2)).join(' ')}, after ${r.loadAverage.after.map((l) => l.toFixed(2)).join(' ')}`,
+  );
+}
+if (want('fleet-page')) {
+  const r = await benchFleetPage(serverUrl);
+  lines.push(
+    `web view fleet page: GET /v1/fleet/vehicles with a session cookie, ${fmt(r.vehicles)} vehicles (${fmt(r.atRisk)} at risk), ${REQUESTS_PER_QUERY} requests per query after warm-up`,
+    ...r.queries.map((q) => `  ${q.path.padEnd(72)} p50 ${q.p50Ms.toFixed(1).padStart(5)} ms, p99 ${q.p99Ms.toFixed(1).padStart(5)} ms (${q.rows} rows of ${fmt(q.total)})`),
+    `  all queries: p99 ${r.allP99Ms.toFixed(1)} ms   ratio to the 50 ms target ${(r.allP99Ms / 50).toFixed(2)}`,
   );
 }
 const load = loadavg().map((l) => l.toFixed(2)).join(' ');

@@ -43,6 +43,12 @@ export interface Config {
   reportHour: number;
   /** Also write scheduled reports as files here (default: archived in the database only). */
   reportDir: string | undefined;
+  /** Behind a reverse proxy: trust its X-Forwarded-* headers (client address, https for the Secure cookie). */
+  trustProxy: boolean;
+  /** A web-view session ends after this many minutes without a request. */
+  webSessionIdleMinutes: number;
+  /** A web-view session ends this many hours after sign-in, however busy. */
+  webSessionMaxHours: number;
 }
 
 export class ConfigError extends Error {
@@ -99,5 +105,8 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     reportWeekday: int(env, 'REPORT_WEEKDAY', 1, 1, 7),
     reportHour: int(env, 'REPORT_HOUR', 6, 0, 23),
     reportDir: env.REPORT_DIR || undefined,
+    trustProxy: bool(env, 'TRUST_PROXY', false),
+    webSessionIdleMinutes: int(env, 'WEB_SESSION_IDLE_MINUTES', 60, 1, 7 * 24 * 60),
+    webSessionMaxHours: int(env, 'WEB_SESSION_MAX_HOURS', 12, 1, 24 * 30),
   };
 }

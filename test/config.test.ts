@@ -25,6 +25,9 @@ describe('loadConfig', () => {
       reportWeekday: 1,
       reportHour: 6,
       reportDir: undefined,
+      trustProxy: false,
+      webSessionIdleMinutes: 60,
+      webSessionMaxHours: 12,
     });
   });
 
@@ -51,6 +54,9 @@ describe('loadConfig', () => {
       REPORT_WEEKDAY: '7',
       REPORT_HOUR: '23',
       REPORT_DIR: '/srv/reports',
+      TRUST_PROXY: 'true',
+      WEB_SESSION_IDLE_MINUTES: '15',
+      WEB_SESSION_MAX_HOURS: '8',
     });
     expect(config).toEqual({
       port: 0,
@@ -74,6 +80,9 @@ describe('loadConfig', () => {
       reportWeekday: 7,
       reportHour: 23,
       reportDir: '/srv/reports',
+      trustProxy: true,
+      webSessionIdleMinutes: 15,
+      webSessionMaxHours: 8,
     });
   });
 

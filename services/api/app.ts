@@ -4,6 +4,7 @@ import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import type { Config } from '../config.js';
 import type { DatabaseHandle } from '../db/database.js';
 import { splitKey } from '../db/api-keys-repository.js';
+import { sessionHash } from '../db/web-sessions-repository.js';
 import { AppError } from './errors.js';
 import authPlugin from './plugins/auth.js';
 import dbPlugin from './plugins/db.js';
@@ -20,6 +21,7 @@ import serviceEventsRoutes from './routes/service-events.js';
 import vehicleReadingsRoutes from './routes/vehicle-readings.js';
 import vehicleRunsRoutes from './routes/vehicle-runs.js';
 import vehiclesRoutes from './routes/vehicles.js';
+import { readCookie, SESSION_COOKIE } from './web/session-auth.js';
 
 export interface AppOptions {
   config: Config;
@@ -33,11 +35,14 @@ export interface AppOptions {
 /** Operations endpoints that probes and scrapers call often: never rate-limited, whatever the query. */
 const UNLIMITED_PATHS = new Set(['/healthz', '/readyz', '/metrics']);
 
-/** Rate-limit bucket: the API key's id (cheap, no database), else the client address. */
-function rateLimitKey(request: { headers: Record<string, unknown>; ip: string }): string {
+/** Rate-limit bucket: the API key's id (cheap, no database), else the web-view session, else the client address. */
+function rateLimitKey(request: { headers: Record<string, string | string[] | undefined>; ip: string }): string {
   const header = request.headers.authorization;
   const match = typeof header === 'string' ? /^Bearer\s+(\S+)/i.exec(header) : null;
-  return match ? `key:${splitKey(match[1]!).keyId}` : `ip:${request.ip}`;
+  if (match) return `key:${splitKey(match[1]!).keyId}`;
+  // Planners behind one office address each get their own bucket.
+  const session = readCookie(request, SESSION_COOKIE);
+  return session ? `session:${sessionHash(session).slice(0, 24)}` : `ip:${request.ip}`;
 }
 
 /** Builds the whole HTTP API on an open database. The caller listens and closes. */
@@ -49,6 +54,8 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     genReqId: () => crypto.randomUUID(),
     // Requests may stream a large body for minutes; drop only idle sockets.
     requestTimeout: 0,
+    // Behind a reverse proxy its X-Forwarded-* headers give the client address and https (the web view's Secure cookie).
+    trustProxy: config.trustProxy,
     ajv: { customOptions: { removeAdditional: false, coerceTypes: 'array', useDefaults: true, allErrors: false } },
   }).withTypeProvider<TypeBoxTypeProvider>();
 
@@ -66,7 +73,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(errorsPlugin);
   await app.register(metricsPlugin);
   await app.register(dbPlugin, { database: options.database, closeOnShutdown: options.closeDatabase ?? false });
-  await app.register(authPlugin, { authFailuresPerMinute: config.authFailuresPerMinute });
+  await app.register(authPlugin, { authFailuresPerMinute: config.authFailuresPerMinute, webSessionIdleMs: config.webSessionIdleMinutes * 60_000 });
   await app.register(openapiPlugin);
   await app.register(rateLimit, {
     global: true,
@@ -88,5 +95,12 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(serviceEventsRoutes);
   await app.register(analysisRunsRoutes, { leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize });
   await app.register(import('./routes/reports.js'));
+  // The planner web view (/app/) and the routes its pages need beyond the rest of /v1.
+  const webSession = { idleMs: config.webSessionIdleMinutes * 60_000, maxMs: config.webSessionMaxHours * 3_600_000 };
+  await app.register(import('./routes/fleet-board.js'));
+  await app.register(import('./routes/vehicle-summary.js'));
+  await app.register(import('./routes/report-archive.js'));
+  await app.register(import('./routes/app-session.js'), webSession);
+  await app.register(import('./routes/app-pages.js'), webSession);
   return app;
 }

@@ -213,6 +213,17 @@ export interface WeeklyReportsTable {
   worklist_csv: string;
 }
 
+/** Sessions of the planner web view (migrations/0010). */
+export interface WebSessionsTable {
+  session_hash: string;
+  key_id: string;
+  fleet_id: string | null;
+  csrf_token: string;
+  created_at: Generated<Date>;
+  expires_at: Date;
+  max_expires_at: Date;
+}
+
 export interface Database {
   engine_runs: EngineRunsTable;
   vehicle_days: VehicleDaysTable;
@@ -230,6 +241,7 @@ export interface Database {
   ingest_audit: IngestAuditTable;
   analysis_queue: AnalysisQueueTable;
   planner_actions: PlannerActionsTable;
+  web_sessions: WebSessionsTable;
 }
 
 /**

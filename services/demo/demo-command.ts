@@ -20,7 +20,8 @@ const HELP = `usage: npm run demo [-- options]
 Simulates the made-up Quillmoor Provisions delivery fleet (four depots in different climates,
 a few vehicles with cooling-system faults), posts its telemetry through the HTTP API as the
 gateways would, analyses it, prints the at-risk vehicles, writes the weekly report, then keeps
-serving the API until Ctrl-C. Without DATABASE_URL it runs on a fresh embedded database in
+serving the API and the planner web view (/app/, sign in with the printed planner key) until
+Ctrl-C. Without DATABASE_URL it runs on a fresh embedded database in
 ./data/demo (wiped at start).
 
 options:
@@ -120,6 +121,7 @@ export async function run(argv: string[]): Promise<number> {
         capPressureKpa: v.capPressureKpa,
         glycolPercent: v.glycolPercent,
         label: v.label,
+        depot: v.depot,
       });
       if (status >= 300) throw new Error(`registering ${v.vehicleId} answered ${status}`);
     }
@@ -181,7 +183,8 @@ export async function run(argv: string[]): Promise<number> {
     await app.close();
     return 0;
   }
-  process.stdout.write(`\nServing the API at ${address} — docs: ${address}/docs\nplanner key (read):    ${readKey}\ngateway key (ingest):  ${ingestKey}\nCtrl-C to stop.\n`);
+  process.stdout.write(`\nWeb view for planners: ${address}/app/\n  sign in with the planner key below (demo fleet Quillmoor Provisions)\n`
+    + `Serving the API at ${address} — docs: ${address}/docs\nplanner key (read):    ${readKey}\ngateway key (ingest):  ${ingestKey}\nCtrl-C to stop.\n`);
   await new Promise<void>((resolveStop) => {
     const stop = () => void app.close().then(() => resolveStop());
     process.once('SIGINT', stop);

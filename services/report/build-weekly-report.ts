@@ -1,7 +1,6 @@
 import type { Kysely } from 'kysely';
 import { resolveConfig } from '../analysis/config.js';
 import { SAFETY_CAUTION } from '../analysis/findings/finding.js';
-import { coolantBoilingPointC } from '../analysis/physics/boiling-point.js';
 import type { Database } from '../db/schema.js';
 import { findingsAsOf } from './as-of-findings.js';
 import { summariseDataQuality } from './data-quality.js';
@@ -9,10 +8,10 @@ import { reportCoverage } from './report-coverage.js';
 import { summariseFindings } from './findings-summary.js';
 import { SILENT_LOOKBACK_DAYS, summariseFleet } from './fleet-summary.js';
 import { lastCompleteIsoWeek, parseIsoWeek, weekWindow, type WeekWindow } from '../time/iso-week.js';
-import { PEAK_CHART_DAYS, peakChart } from './peak-chart-data.js';
+import { PEAK_CHART_DAYS } from './peak-chart-data.js';
 import { createReportRepository, type ReportRepository, type ReportVehicle, type StoredFinding } from '../db/weekly-report-repository.js';
-import { baselineBand, drawableColdStarts, WARMUP_CHART_MIN, warmupCurve } from './warmup-chart-data.js';
-import type { PeakChart, VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
+import { recentWarmupCurves, vehicleChartsOf } from './vehicle-chart-data.js';
+import type { VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
 import { buildWorkList, unresolvedAt } from './work-list.js';
 
 /** Vehicles (highest risk first) that get chart sections; the rest are on the work list only. */
@@ -26,7 +25,7 @@ export const HISTORY_DAYS = 28;
 
 const DAY_MS = 86_400_000;
 /** Findings that say the warm-up itself (or its measurement) is abnormal. */
-const WARMUP_KINDS = new Set(['slow-warmup', 'overshoot', 'sensor-fault']);
+export const WARMUP_KINDS: ReadonlySet<string> = new Set(['slow-warmup', 'overshoot', 'sensor-fault']);
 
 /** The fleet named does not exist. */
 export class UnknownFleetError extends Error {
@@ -131,52 +130,18 @@ async function vehicleSections(
     const onset = onsets.get(id)!;
     const bandFrom = Math.max(onset - BASELINE_LOOKBACK_DAYS * DAY_MS, services.get(id) ?? -Infinity);
     const own = runs.filter((r) => r.vehicleId === id).map((r) => r.metrics);
-    const recent = drawableColdStarts(own.filter((r) => r.startMs >= recentFrom));
-    const curves = [];
-    for (const run of recent) {
-      const readings = await repo.coolant(id, run.startMs, Math.min(run.startMs + WARMUP_CHART_MIN * 60_000 + 1, run.endMs + 1));
-      const curve = warmupCurve(run, readings);
-      if (curve) curves.push(curve);
-    }
+    const curves = await recentWarmupCurves(repo, id, own, recentFrom);
     const row = workList.find((w) => w.vehicleId === id)!;
     const atmosphericPressureKpa = v.atmosphericPressureKpa ?? cfg.atmosphericPressureKpa;
-    const boilingPointC = coolantBoilingPointC(v.capPressureKpa, v.glycolPercent, atmosphericPressureKpa);
     sections.push({
       vehicleId: id, label: v.label, engineFamily: v.engineFamily, riskScore: v.riskScore, priority: row.priority,
       capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent, atmosphericPressureKpa, defaultProfile: v.defaultProfile ?? false,
       findingIds: row.findings.map((f) => f.findingId), headline: row.why,
-      warmup: {
-        warmupTargetC: Math.round((v.thermostatOpenC - cfg.obdWarmupMarginC) * 10) / 10,
-        thermostatOpenC: v.thermostatOpenC,
-        baselineUntil: new Date(onset).toISOString().slice(0, 10),
-        ...baselineBand(own.filter((r) => r.startMs >= bandFrom && r.startMs < onset)),
-        curves,
-      },
-      peaks: withFindingTrend(
-        peakChart(days.filter((d) => d.vehicleId === id).map((d) => d.metrics), cfg.trendWindowDays, boilingPointC, v.thermostatOpenC + cfg.hotMarginC),
-        unresolved.find((f) => f.vehicleId === id && f.kind === 'overheating-trend'),
-      ),
+      ...vehicleChartsOf({ ...v, atmosphericPressureKpa }, {
+        onsetMs: onset, bandFromMs: bandFrom, runs: own, curves, days: days.filter((d) => d.vehicleId === id).map((d) => d.metrics),
+        trendFinding: unresolved.find((f) => f.vehicleId === id && f.kind === 'overheating-trend'),
+      }),
     });
   }
   return sections;
-}
-
-/**
- * The chart's trend numbers taken from the vehicle's overheating-trend finding when it has one,
- * so the work-list sentence and the chart caption quote one computation (slope, level, days to
- * boiling, boiling point); the line is drawn from the chart's last day with data.
- */
-function withFindingTrend(chart: PeakChart, finding: StoredFinding | undefined): PeakChart {
-  const m = finding?.metrics;
-  if (!chart.trend || !m || m.rawSlopeCPerDay === undefined || m.levelC === undefined || m.daysToBoil === undefined) return chart;
-  const daysToBoil = m.daysToBoil < 0 ? null : m.daysToBoil;
-  const anchorMs = Date.parse(chart.trend.anchorDay);
-  return {
-    ...chart,
-    boilingPointC: m.boilingPointC ?? chart.boilingPointC,
-    trend: {
-      ...chart.trend, senSlopeCPerDay: m.rawSlopeCPerDay, levelC: m.levelC, daysToBoil,
-      projectedBoilDate: daysToBoil === null ? null : new Date(anchorMs + Math.ceil(daysToBoil) * DAY_MS).toISOString().slice(0, 10),
-    },
-  };
 }

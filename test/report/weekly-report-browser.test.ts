@@ -1,4 +1,3 @@
-import { existsSync } from 'node:fs';
 import { mkdir, mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -7,21 +6,12 @@ import { TheilSenRegression } from 'ml-regression-theil-sen';
 import { type Browser, chromium } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { type WrittenReport, writeWeeklyReport } from '../../services/report/weekly-report-files.js';
+import { CHROMIUM_ARGS, requireChromium, skipBrowserChecks } from '../helpers/chromium.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { testDatabaseKind } from '../helpers/test-database.js';
 import { type SeededFleet, SEED_WEEK, SEED_WEEK_END_MS, seedFleetThroughApi } from './analysed-fleet.js';
 
-/** The flags the CI's Debian chromium runs with (no sandbox as root, nothing fetched in the background). */
-const CHROMIUM_ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'];
-/**
- * Debian's chromium (`.ci/run` installs it; `apt-get install chromium` elsewhere), or
- * CHROMIUM_PATH. Without one the browser checks are skipped with a notice, except in CI,
- * where they fail.
- */
-const CHROMIUM = [process.env.CHROMIUM_PATH, '/usr/bin/chromium', '/usr/bin/chromium-browser'].find((p) => p && existsSync(p));
-if (!CHROMIUM && !process.env.CI) {
-  process.stderr.write('weekly-report-browser.test.ts: no Chromium found (apt-get install chromium, or set CHROMIUM_PATH): the browser checks are skipped\n');
-}
+const SKIP = skipBrowserChecks('weekly-report-browser.test.ts');
 const OUTPUT_DIR = 'test-output';
 const suffix = testDatabaseKind() === 'postgres' ? '' : `-${testDatabaseKind()}`;
 const DAY_MS = 86_400_000;
@@ -57,10 +47,9 @@ async function openReport() {
   return { page, requested };
 }
 
-describe.skipIf(!CHROMIUM && !process.env.CI)('the weekly report opened in headless Chromium', () => {
+describe.skipIf(SKIP)('the weekly report opened in headless Chromium', () => {
   beforeAll(async () => {
-    if (!CHROMIUM) throw new Error('CI needs Chromium for the browser test of the weekly report: /usr/bin/chromium not found (see .ci/run)');
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+    browser = await chromium.launch({ executablePath: requireChromium('the weekly report'), args: CHROMIUM_ARGS });
   }, 120_000);
 
   it('has at-risk vehicles to show (the demo fleet develops faults before the week)', () => {

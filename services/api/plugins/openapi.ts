@@ -17,7 +17,15 @@ export default fp(
             'Turns fleet coolant-temperature telemetry into cooling-system maintenance decisions. Authenticate with `Authorization: Bearer <key>`; ' +
             'keys have scopes ingest, read and admin and belong to one fleet (admin keys: every fleet).',
         },
-        components: { securitySchemes: { bearerAuth: { type: 'http', scheme: 'bearer' } } },
+        components: {
+          securitySchemes: {
+            bearerAuth: { type: 'http', scheme: 'bearer' },
+            sessionCookie: {
+              type: 'apiKey', in: 'cookie', name: 'tc_session',
+              description: 'web-view session from POST /app/session; every /v1 route accepts it instead of a bearer key, state-changing requests with the x-csrf-token header',
+            },
+          },
+        },
         tags: [
           { name: 'readings', description: 'telemetry from gateways' },
           { name: 'vehicles', description: 'vehicle profiles and per-vehicle data' },
@@ -27,6 +35,7 @@ export default fp(
           { name: 'analysis', description: 'running the analysis' },
           { name: 'reports', description: 'weekly maintenance reports' },
           { name: 'operations', description: 'health, readiness and metrics' },
+          { name: 'web view', description: 'the planner web view at /app/: sign-in, session, fleet choice' },
         ],
       },
       refResolver: { buildLocalReference: (json, _base, _fragment, i) => (typeof json.$id === 'string' ? json.$id : `def-${i}`) },
