@@ -1,7 +1,14 @@
 import { randomUUID } from 'node:crypto';
 import { sql, type Kysely, type Selectable } from 'kysely';
 import type { ServiceEventKind } from '../analysis/findings/service-events.js';
+import { afterKeySql, epochMs, keySelections, orderBySql, pageOf, type Page, type PageRequest, type SortColumn } from './keyset.js';
 import type { Database, ServiceEventsTable } from './schema.js';
+
+/** A vehicle's repair history: newest first. */
+export const SERVICE_EVENT_ORDER: readonly SortColumn[] = [
+  { sql: epochMs('at'), dir: 'desc', type: 'number' },
+  { sql: sql.ref('event_id'), dir: 'asc', type: 'text' },
+];
 
 /** A service event as the API shows it (times ISO 8601). */
 export interface ServiceEventView {
@@ -52,14 +59,12 @@ export function createServiceEventsRepository(db: Kysely<Database>) {
         .where('deleted_at', 'is', null).executeTakeFirst();
     },
 
-    /** A page of the vehicle's events, newest first, after the cursor key (at ms, event id). */
-    async list(vehicleId: string, limit: number, after?: { atMs: number; eventId: string }): Promise<Array<Selectable<ServiceEventsTable>>> {
-      let q = db.selectFrom('service_events').selectAll().where('vehicle_id', '=', vehicleId).where('deleted_at', 'is', null);
-      if (after) {
-        const at = new Date(after.atMs);
-        q = q.where((eb) => eb.or([eb('at', '<', at), eb.and([eb('at', '=', at), eb('event_id', '>', after.eventId)])]));
-      }
-      return q.orderBy('at', 'desc').orderBy('event_id').limit(limit).execute();
+    /** A page of the vehicle's events, newest first. */
+    async list(vehicleId: string, pageRequest: PageRequest): Promise<Page<ServiceEventView>> {
+      const rows = await db.selectFrom('service_events').selectAll().select(keySelections(SERVICE_EVENT_ORDER))
+        .where('vehicle_id', '=', vehicleId).where('deleted_at', 'is', null)
+        .where(afterKeySql(SERVICE_EVENT_ORDER, pageRequest.after)).orderBy(orderBySql(SERVICE_EVENT_ORDER)).limit(pageRequest.limit + 1).execute();
+      return pageOf(rows, pageRequest.limit, SERVICE_EVENT_ORDER.length, toServiceEventView);
     },
 
     /** Sets kind, time and notes after a correction, with the findings it now resolves. */

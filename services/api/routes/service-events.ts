@@ -2,13 +2,14 @@ import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { SERVICE_EVENT_KINDS } from '../../analysis/findings/service-events.js';
 import { createPlannerActionsRepository } from '../../db/planner-actions-repository.js';
-import { createServiceEventsRepository, toServiceEventView } from '../../db/service-events-repository.js';
+import { keyTypes } from '../../db/keyset.js';
+import { createServiceEventsRepository, SERVICE_EVENT_ORDER, toServiceEventView } from '../../db/service-events-repository.js';
 import { createVehiclesRepository } from '../../db/vehicles-repository.js';
 import { NotFoundError } from '../errors.js';
 import { createServiceEventActions } from '../planner/service-event-actions.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
-import { decodeCursor, NextCursor, page, pageQuery } from '../schemas/paging.js';
+import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
 import { parseTimeParam } from '../schemas/time-range.js';
 import { requireVehicle } from '../vehicle-access.js';
 
@@ -98,11 +99,8 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
     },
     async (request) => {
       await requireVehicle(vehicles, principalOf(request), request.params.vehicleId);
-      const key = decodeCursor(request.query.cursor, 2);
-      const after = key ? { atMs: Number(key[0]), eventId: String(key[1]) } : undefined;
-      const rows = await events.list(request.params.vehicleId, request.query.limit + 1, after);
-      const { items, nextCursor } = page(rows, request.query.limit, (r) => [r.at.getTime(), r.event_id]);
-      return { events: items.map(toServiceEventView), nextCursor };
+      const page = await events.list(request.params.vehicleId, { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(SERVICE_EVENT_ORDER)) });
+      return { events: page.items, nextCursor: nextCursorOf(page) };
     },
   );
 
