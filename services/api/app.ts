@@ -17,6 +17,7 @@ import fleetRoutes from './routes/fleet.js';
 import operationsRoutes from './routes/operations.js';
 import readingsRoutes from './routes/readings.js';
 import serviceEventsRoutes from './routes/service-events.js';
+import depotsRoutes from './routes/depots.js';
 import vehicleReadingsRoutes from './routes/vehicle-readings.js';
 import vehicleRunsRoutes from './routes/vehicle-runs.js';
 import vehiclesRoutes from './routes/vehicles.js';
@@ -86,6 +87,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(vehicleRunsRoutes);
   await app.register(vehicleReadingsRoutes);
   await app.register(serviceEventsRoutes);
+  await app.register(depotsRoutes);
   await app.register(analysisRunsRoutes, { leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize });
   await app.register(import('./routes/reports.js'));
   return app;

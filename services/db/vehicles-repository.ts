@@ -99,6 +99,11 @@ function selectVehicles(db: Kysely<Database>) {
     .select([SITE_PRESSURE.as('site_kpa'), SITE_SOURCE.as('site_source'), 'd.name as depot_name']);
 }
 
+/** Registers a depot a vehicle names (without a site) if the fleet has none of that id. */
+async function ensureDepot(db: Kysely<Database>, fleetId: string, depotId: string): Promise<void> {
+  await db.insertInto('depots').values({ fleet_id: fleetId, depot_id: depotId }).onConflict((oc) => oc.columns(['fleet_id', 'depot_id']).doNothing()).execute();
+}
+
 export function createVehiclesRepository(db: Kysely<Database>) {
   const get = async (vehicleId: string): Promise<VehicleProfile | undefined> => {
     const row = await selectVehicles(db).where('v.vehicle_id', '=', vehicleId).executeTakeFirst();
@@ -147,6 +152,7 @@ export function createVehiclesRepository(db: Kysely<Database>) {
         .returning(sql<boolean>`(xmax = 0)`.as('created'))
         .executeTakeFirst();
       if (!row) return { ownedByOtherFleet: true };
+      if (patch.depot) await ensureDepot(db, row.fleet_id, patch.depot);
       return { vehicle: (await get(vehicleId))!, created: row.created };
     },
 
@@ -156,8 +162,9 @@ export function createVehiclesRepository(db: Kysely<Database>) {
         .updateTable('vehicles')
         .set({ ...patchValues(patch), updated_at: sql<Date>`now()` })
         .where('vehicle_id', '=', vehicleId)
-        .returning('vehicle_id')
+        .returning(['vehicle_id', 'fleet_id'])
         .executeTakeFirst();
+      if (row && patch.depot) await ensureDepot(db, row.fleet_id, patch.depot);
       return row ? get(vehicleId) : undefined;
     },
   };

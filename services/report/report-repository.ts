@@ -2,6 +2,7 @@ import { type Kysely, sql } from 'kysely';
 import type { DayAggregate } from '../analysis/day-aggregates.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
 import type { Database } from '../db/schema.js';
+import { DEPOT_JOIN, SITE_PRESSURE, SITE_SOURCE, type SiteSource } from '../db/vehicle-site.js';
 import { isValidTimeZone } from './zoned-time.js';
 
 /** Every database read and write of the weekly report (one module for all its SQL). */
@@ -17,7 +18,12 @@ export interface ReportVehicle {
   atmosphericPressureKpa?: number | null;
   /** No profile set: thermostat, cap and glycol are defaults. */
   defaultProfile?: boolean;
+  depot?: string | null;
+  /** Where atmosphericPressureKpa comes from. */
+  siteSource?: SiteSource;
 }
+/** A finding's planner state as it stood at some time (from the audit of planner actions). */
+export interface PlannerStateAt { status: 'open' | 'acknowledged' | 'deferred'; deferredUntilMs: number | null; deferredReason: string | null; acknowledged: boolean }
 export interface StoredDay { vehicleId: string; metrics: DayAggregate }
 export interface StoredRun { vehicleId: string; metrics: RunMetrics }
 export interface StoredFinding {
@@ -57,18 +63,45 @@ export function createReportRepository(db: Kysely<Database>) {
       return rows.map(fleetRow);
     },
 
-    /** The fleet's vehicles with their stored risk (0 when never analysed). */
+    /** The fleet's vehicles with their stored risk (0 when never analysed) and their site (own, else the depot's). */
     async vehicles(fleetId: string): Promise<ReportVehicle[]> {
-      const rows = await db.selectFrom('vehicles as v')
-        .leftJoin('vehicle_analysis as a', 'a.vehicle_id', 'v.vehicle_id')
-        .select(['v.vehicle_id', 'v.label', 'v.engine_family', 'v.thermostat_open_c', 'v.cap_pressure_kpa', 'v.glycol_percent', 'a.risk_score', 'a.last_reading_at', 'v.atmospheric_pressure_kpa', 'v.profile_set_at'])
-        .where('v.fleet_id', '=', fleetId).orderBy('v.vehicle_id').execute();
-      return rows.map((r) => ({
-        vehicleId: r.vehicle_id, label: r.label, engineFamily: r.engine_family, thermostatOpenC: r.thermostat_open_c,
-        capPressureKpa: r.cap_pressure_kpa, glycolPercent: r.glycol_percent, riskScore: r.risk_score ?? 0,
-        lastReadingMs: r.last_reading_at ? ms(r.last_reading_at) : null,
-        atmosphericPressureKpa: r.atmospheric_pressure_kpa, defaultProfile: r.profile_set_at === null,
+      const r = await sql<{ vehicle_id: string; label: string | null; engine_family: string; thermostat_open_c: number; cap_pressure_kpa: number; glycol_percent: number;
+        risk_score: number | null; last_reading_at: Date | null; kpa: number | null; source: SiteSource; profile_set_at: Date | null; depot: string | null }>`
+        select v.vehicle_id, v.label, v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent, a.risk_score, a.last_reading_at,
+               ${SITE_PRESSURE} as kpa, ${SITE_SOURCE} as source, v.profile_set_at, v.depot
+        from vehicles v ${DEPOT_JOIN} left join vehicle_analysis a on a.vehicle_id = v.vehicle_id
+        where v.fleet_id = ${fleetId} order by v.vehicle_id`.execute(db);
+      return r.rows.map((x) => ({
+        vehicleId: x.vehicle_id, label: x.label, engineFamily: x.engine_family, thermostatOpenC: x.thermostat_open_c,
+        capPressureKpa: x.cap_pressure_kpa, glycolPercent: x.glycol_percent, riskScore: x.risk_score ?? 0,
+        lastReadingMs: x.last_reading_at ? ms(x.last_reading_at) : null,
+        atmosphericPressureKpa: x.kpa, defaultProfile: x.profile_set_at === null, depot: x.depot, siteSource: x.source,
       }));
+    },
+
+    /**
+     * Each finding's planner state as it stood at `atMs`: the state after the latest planner
+     * action on it by then (acknowledge, defer, reopen; planner_actions, migrations/0006), a
+     * deferral whose date had passed by then counting as ended. Findings with no action by then
+     * are absent (they were open, unless acknowledged before the audit existed).
+     */
+    async plannerStatesAt(fleetId: string, atMs: number): Promise<Map<string, PlannerStateAt>> {
+      const r = await sql<{ subject_id: string; after: { status?: string; acknowledgedBy?: string | null; deferredUntil?: string | null; deferredReason?: string | null } | null }>`
+        select distinct on (subject_id) subject_id, after from planner_actions
+        where fleet_id = ${fleetId} and subject = 'finding' and at <= ${new Date(atMs)}
+        order by subject_id, at desc, action_id desc`.execute(db);
+      const out = new Map<string, PlannerStateAt>();
+      for (const row of r.rows) {
+        const a = row.after ?? {};
+        const acknowledged = a.acknowledgedBy !== null && a.acknowledgedBy !== undefined;
+        const untilMs = a.deferredUntil ? Date.parse(a.deferredUntil) : null;
+        const deferred = a.status === 'deferred' && untilMs !== null && untilMs > atMs;
+        out.set(row.subject_id, {
+          status: deferred ? 'deferred' : acknowledged ? 'acknowledged' : 'open', acknowledged,
+          deferredUntilMs: deferred ? untilMs : null, deferredReason: deferred ? a.deferredReason ?? null : null,
+        });
+      }
+      return out;
     },
 
     /** Vehicle-days of the fleet's vehicles (or of `vehicleIds`) with first ≤ day ≤ last (YYYY-MM-DD). */

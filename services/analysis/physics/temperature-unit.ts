@@ -74,8 +74,11 @@ export function convertTemperatures<T>(value: T, unit: TemperatureUnit, texts: R
   return walk(value, '') as T;
 }
 
+/** Fields of findings and of the report that hold sentences with °C figures (converted with the numbers). */
+export const TEMPERATURE_SENTENCE_FIELDS: ReadonlySet<string> = new Set(['summary', 'recommendedCheck', 'profileNote', 'why', 'check', 'checks', 'headline', 'openFinding']);
+
 /** Words after "N °C" that make it a difference ("3 °C above", "2 °C a day"). */
-const DIFFERENCE_AFTER = /^\s*(?:a day|per day|\/day|above|below|over|past|warmer|cooler|hotter|colder|higher|lower|more|less|of the)\b/;
+const DIFFERENCE_AFTER = /^\s*(?:a day|per day|\/day|above|below|over|past|warmer|cooler|hotter|colder|higher|lower|more|less)\b/;
 /** Words before it that do ("within 3 °C", "by about 5 °C"). */
 const DIFFERENCE_BEFORE = /(?:within|by|by about|rising|falling)\s+$/;
 

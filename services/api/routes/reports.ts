@@ -3,12 +3,13 @@ import { Type } from 'typebox';
 import { UnknownFleetError } from '../../report/build-weekly-report.js';
 import { formatIsoWeek, lastCompleteIsoWeek, parseIsoWeek, weekWindow } from '../../report/iso-week.js';
 import { createReportRepository } from '../../report/report-repository.js';
-import { reportBaseName } from '../../report/weekly-report-files.js';
+import { reportBaseName, reportInUnit } from '../../report/weekly-report-files.js';
 import { WeeklyReportSchema } from '../../report/weekly-report-schema.js';
 import { currentWeeklyReport } from '../../report/weekly-report-service.js';
 import { BadRequestError, NotFoundError } from '../errors.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
+import { UNIT_HEADER, UnitParam } from '../schemas/temperature-unit.js';
 
 const FORMATS = { json: 'application/json; charset=utf-8', html: 'text/html; charset=utf-8', csv: 'text/csv; charset=utf-8' } as const;
 
@@ -34,6 +35,7 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
           format: Type.Union([Type.Literal('json'), Type.Literal('html'), Type.Literal('csv')], { default: 'json' }),
           fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })),
           refresh: Type.Boolean({ default: false, description: 'rebuild even when an archived report of the ended week exists' }),
+          unit: UnitParam,
         }),
         response: {
           200: {
@@ -73,11 +75,14 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         if (err instanceof UnknownFleetError) throw new NotFoundError(err.message);
         throw err;
       }
+      // Built and archived in °C; another unit converts the copy served (JSON `unit`, CSV column temperatureUnit, the header).
+      const served = request.query.unit === 'C' ? { report: out.json, html: out.html, csv: out.csv } : reportInUnit(out.json, request.query.unit);
       reply.type(FORMATS[format]);
       reply.header('x-report-source', out.source);
-      if (format === 'json') return reply.send(out.json);
+      reply.header(UNIT_HEADER, request.query.unit);
+      if (format === 'json') return reply.send(served.report);
       if (format === 'csv') reply.header('content-disposition', `attachment; filename="${reportBaseName(fleetId, name)}.csv"`);
-      return reply.send(format === 'html' ? out.html : out.csv);
+      return reply.send(format === 'html' ? served.html : served.csv);
     },
   );
 };

@@ -159,19 +159,28 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       onRequest: app.requireScope('read'),
       schema: {
         tags: ['service events'],
-        summary: 'Delete a wrong service event: the findings it resolved are reopened',
-        description: 'Audited; the entry is kept out of every list and out of the analysis, and the vehicle is re-analysed.',
+        summary: 'Delete a wrong service event: the findings it resolved are reopened where their evidence is still there',
+        description: 'Audited, on the event and on every finding it touches (action service-event-delete); the entry is kept out of every list and out of the analysis, '
+          + 'and the vehicle is re-analysed. Findings derived under the baseline the event started are superseded by the reopened ones.',
         security: SECURITY,
         params: EventParams,
-        response: { 200: Type.Object({ deleted: Type.String(), reopenedFindings: Type.Array(Type.String()) }), ...errorResponses(401, 403, 404) },
+        response: {
+          200: Type.Object({
+            deleted: Type.String(),
+            reopenedFindings: Type.Array(Type.String(), { description: 'resolved by the event, evidence still there: unresolved again' }),
+            evidenceStoppedFindings: Type.Array(Type.String(), { description: 'resolved by the event, but their evidence had stopped for the quiet period: stay resolved, as evidence-stopped' }),
+            supersededFindings: Type.Array(Type.String(), { description: 'derived under the baseline the event started: the reopened findings carry their evidence now' }),
+          }),
+          ...errorResponses(401, 403, 404),
+        },
       },
     },
     async (request) => {
       const principal = principalOf(request);
       const vehicle = await requireVehicle(vehicles, principal, request.params.vehicleId);
-      const reopenedFindings = await actions.remove(principal, vehicle, request.params.eventId);
+      const undone = await actions.remove(principal, vehicle, request.params.eventId);
       app.ingestNotifier.emit('analysis-needed', vehicle.fleetId);
-      return { deleted: request.params.eventId, reopenedFindings };
+      return { deleted: request.params.eventId, reopenedFindings: undone.reopened, evidenceStoppedFindings: undone.evidenceStopped, supersededFindings: undone.superseded };
     },
   );
 };

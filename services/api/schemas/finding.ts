@@ -74,7 +74,7 @@ export const FindingSchema = Type.Object({
   acknowledgedAt: NullableDate,
   acknowledgedBy: NullableString,
   resolvedAt: NullableDate,
-  resolvedReason: Type.Union([Type.String({ description: "'evidence-stopped' or 'service-event:<kind>'" }), Type.Null()]),
+  resolvedReason: Type.Union([Type.String({ description: "'evidence-stopped', 'superseded' (its baseline's repair was deleted or moved) or 'service-event:<kind>'" }), Type.Null()]),
   deferredUntil: Type.Union([Type.String({ format: 'date-time', description: 'deferred: the work is postponed until then' }), Type.Null()]),
   deferredReason: NullableString,
   deferredBy: Type.Union([Type.String({ description: 'id of the API key that deferred it' }), Type.Null()]),

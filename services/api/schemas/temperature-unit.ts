@@ -1,6 +1,6 @@
 import type { FastifyReply } from 'fastify';
 import { Type } from 'typebox';
-import { convertTemperatures, type TemperatureUnit } from '../../analysis/physics/temperature-unit.js';
+import { convertTemperatures, TEMPERATURE_SENTENCE_FIELDS, type TemperatureUnit } from '../../analysis/physics/temperature-unit.js';
 
 /** `?unit=` of every read endpoint that returns temperatures. */
 export const UnitParam = Type.Union([Type.Literal('C'), Type.Literal('F')], {
@@ -14,11 +14,8 @@ export const UnitField = Type.Union([Type.Literal('C'), Type.Literal('F')], { de
 /** Header that states the unit of a reply's temperatures. */
 export const UNIT_HEADER = 'x-temperature-unit';
 
-/** The sentence fields of findings whose °C figures convert with the numbers. */
-export const FINDING_TEXTS: ReadonlySet<string> = new Set(['summary', 'recommendedCheck', 'profileNote', 'why', 'check', 'headline', 'checks']);
-
 /** States the unit in the header and converts `body`'s temperatures (and finding sentences) to it. */
 export function inUnit<T>(reply: FastifyReply, unit: TemperatureUnit, body: T): T {
   reply.header(UNIT_HEADER, unit);
-  return convertTemperatures(body, unit, FINDING_TEXTS);
+  return convertTemperatures(body, unit, TEMPERATURE_SENTENCE_FIELDS);
 }
