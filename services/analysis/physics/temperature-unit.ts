@@ -8,8 +8,8 @@ export type TemperatureUnit = 'C' | 'F';
 
 export const TEMPERATURE_UNITS: readonly TemperatureUnit[] = ['C', 'F'];
 
-/** Converted values keep two decimals (a conversion adds no precision). */
-const DECIMALS = 2;
+/** Converted values keep three decimals (a conversion adds no precision). */
+const DECIMALS = 3;
 const roundTo = (v: number, digits: number) => Math.round(v * 10 ** digits) / 10 ** digits;
 
 /** °C or °F. */
