@@ -1,6 +1,7 @@
 import { type Kysely, sql } from 'kysely';
 import type { DayAggregate } from '../analysis/day-aggregates.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
+import { afterKeySql, keySelections, orderBySql, pageOf, type Page, type PageRequest, type SortColumn } from '../db/keyset.js';
 import type { Database } from '../db/schema.js';
 import { DEPOT_JOIN, SITE_PRESSURE, SITE_SOURCE, type SiteSource } from '../db/vehicle-site.js';
 import { isValidTimeZone } from './zoned-time.js';
@@ -43,6 +44,12 @@ export interface WeekData {
   /** Vehicles of the fleet with readings queued for analysis that reach back before the week's end. */
   pendingVehicles: number;
 }
+/** An archived report as the list shows it. */
+export interface ArchivedReportEntry { isoWeek: string; generatedAt: string; complete: boolean | null; workItems: number | null }
+
+/** Archived reports, newest week first (one per fleet and week). */
+export const ARCHIVE_ORDER: readonly SortColumn[] = [{ sql: sql.ref('iso_week'), dir: 'desc', type: 'text' }];
+
 export interface ArchivedReport { fleetId: string; isoWeek: string; generatedAt: Date; json: unknown; html: string; csv: string }
 
 function fleetRow(r: { fleet_id: string; name: string; time_zone: string }): FleetRow {
@@ -259,6 +266,18 @@ export function createReportRepository(db: Kysely<Database>) {
     async archived(fleetId: string, isoWeek: string): Promise<ArchivedReport | undefined> {
       const r = await db.selectFrom('weekly_reports').selectAll().where('fleet_id', '=', fleetId).where('iso_week', '=', isoWeek).executeTakeFirst();
       return r && { fleetId: r.fleet_id, isoWeek: r.iso_week, generatedAt: r.generated_at, json: r.report_json, html: r.report_html, csv: r.worklist_csv };
+    },
+
+    /** A page of the fleet's archived reports, newest week first. */
+    async archivedPage(fleetId: string, pageRequest: PageRequest): Promise<Page<ArchivedReportEntry>> {
+      const rows = await db.selectFrom('weekly_reports')
+        .select(['iso_week', 'generated_at', sql<boolean | null>`(report_json->'coverage'->>'complete')::boolean`.as('complete'),
+          sql<number | null>`jsonb_array_length(report_json->'workList')`.as('work_items')])
+        .select(keySelections(ARCHIVE_ORDER))
+        .where('fleet_id', '=', fleetId).where(afterKeySql(ARCHIVE_ORDER, pageRequest.after)).orderBy(orderBySql(ARCHIVE_ORDER)).limit(pageRequest.limit + 1).execute();
+      return pageOf(rows, pageRequest.limit, ARCHIVE_ORDER.length, (r) => ({
+        isoWeek: r.iso_week, generatedAt: r.generated_at.toISOString(), complete: r.complete, workItems: r.work_items === null ? null : Number(r.work_items),
+      }));
     },
 
     async isArchived(fleetId: string, isoWeek: string): Promise<boolean> {
