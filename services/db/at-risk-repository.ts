@@ -20,9 +20,9 @@ export interface AtRiskVehicle {
   findings: Array<FindingBriefView & { defaultProfile: boolean; profileNote: string | null }>;
 }
 
-/** Highest risk first, then by id. */
+/** Highest risk first, then by id: the order of vehicle_analysis_risk_idx, so the index serves it. */
 export const AT_RISK_ORDER: readonly SortColumn[] = [
-  { sql: sql`a.risk_score::float8`, dir: 'desc', type: 'number' },
+  { sql: sql.ref('a.risk_score'), dir: 'desc', type: 'number', real: true },
   { sql: sql.ref('a.vehicle_id'), dir: 'asc', type: 'text' },
 ];
 

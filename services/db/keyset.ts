@@ -15,6 +15,8 @@ export interface SortColumn {
   sql: RawBuilder<unknown>;
   dir: 'asc' | 'desc';
   type: KeyType;
+  /** A `real` column compared as itself (so an index on it serves the order); numbers are float8 otherwise. */
+  real?: boolean;
 }
 
 export type PageKey = ReadonlyArray<string | number>;
@@ -37,7 +39,7 @@ export interface PageRequest {
 /** A timestamp column as whole epoch milliseconds (the key of a time-ordered list). */
 export const epochMs = (column: string): RawBuilder<unknown> => sql`floor(extract(epoch from ${sql.ref(column)}) * 1000)::float8`;
 
-const typed = (c: SortColumn, v: string | number) => (c.type === 'number' ? sql`${v}::float8` : sql`${String(v)}::text`);
+const typed = (c: SortColumn, v: string | number) => (c.type === 'text' ? sql`${String(v)}::text` : c.real ? sql`${v}::real` : sql`${v}::float8`);
 
 /** `order by` items of the sort order. */
 export function orderBySql(cols: readonly SortColumn[]): RawBuilder<unknown> {

@@ -13,26 +13,27 @@ beforeAll(async () => {
   for (const week of WEEKS) expect((await get(`/v1/reports/weekly?week=${week}`)).statusCode).toBe(200);
 });
 
-describe('GET /v1/reports', () => {
+describe('GET /v1/reports/weekly/archive', () => {
   it('lists the archived weeks newest first, a page at a time, each once while another week is archived meanwhile', async () => {
     const seen: Array<{ isoWeek: string; url: string; complete: boolean | null; workItems: number | null }> = [];
     let cursor: string | null = null;
     let pages = 0;
     do {
-      const res = await get(`/v1/reports?limit=2${cursor ? `&cursor=${cursor}` : ''}`);
+      const res = await get(`/v1/reports/weekly/archive?limit=2${cursor ? `&cursor=${cursor}` : ''}`);
       expect(res.statusCode, res.body).toBe(200);
       seen.push(...res.json().reports);
       cursor = res.json().nextCursor;
       if (++pages === 1) expect((await get('/v1/reports/weekly?week=2026-W43')).statusCode).toBe(200);
     } while (cursor);
     expect(seen.map((r) => r.isoWeek)).toEqual([...WEEKS.reverse(), '2026-W43']);
+    expect((await get('/v1/reports/weekly/archive')).json().fleetId).toBe('fleet-rl');
     expect(seen[0]).toMatchObject({ url: '/v1/reports/weekly?week=2026-W48', complete: true, workItems: 0 });
   });
 
   it("keeps fleets apart and refuses a cursor it did not give out", async () => {
-    expect((await get('/v1/reports', other)).json().reports).toEqual([]);
-    expect((await get('/v1/reports?fleet=fleet-rl', other)).statusCode).toBe(403);
-    expect((await get('/v1/reports?cursor=WzFd')).statusCode).toBe(400);
-    expect((await get('/v1/reports?limit=521')).statusCode).toBe(400);
+    expect((await get('/v1/reports/weekly/archive', other)).json().reports).toEqual([]);
+    expect((await get('/v1/reports/weekly/archive?fleet=fleet-rl', other)).statusCode).toBe(403);
+    expect((await get('/v1/reports/weekly/archive?cursor=WzFd')).statusCode).toBe(400);
+    expect((await get('/v1/reports/weekly/archive?limit=521')).statusCode).toBe(400);
   });
 });

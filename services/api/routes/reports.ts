@@ -89,7 +89,7 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
   );
 
   app.get(
-    '/v1/reports',
+    '/v1/reports/weekly/archive',
     {
       onRequest: app.requireScope('read'),
       schema: {
@@ -98,9 +98,10 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         description: 'Each entry says when it was built, whether its week had ended with the analysis caught up, and how many vehicles its work list has. '
           + 'Fetch one with GET /v1/reports/weekly?week= (a stale archive is rebuilt there).',
         security: SECURITY,
-        querystring: Type.Object({ ...pageQuery(52, 520), fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })) }),
+        querystring: Type.Object({ ...pageQuery(104, 520), fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })) }),
         response: {
           200: Type.Object({
+            fleetId: Type.String(),
             reports: Type.Array(Type.Object({
               isoWeek: Type.String(),
               generatedAt: Type.String({ format: 'date-time' }),
@@ -122,7 +123,7 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       if (!(await reports.fleet(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
       const page = await reports.archivedPage(fleetId, { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(ARCHIVE_ORDER)) });
       const fleetParam = principal.fleetId === null ? `&fleet=${encodeURIComponent(fleetId)}` : '';
-      return { reports: page.items.map((r) => ({ ...r, url: `/v1/reports/weekly?week=${r.isoWeek}${fleetParam}` })), nextCursor: nextCursorOf(page) };
+      return { fleetId, reports: page.items.map((r) => ({ ...r, url: `/v1/reports/weekly?week=${r.isoWeek}${fleetParam}` })), nextCursor: nextCursorOf(page) };
     },
   );
 };
