@@ -37,7 +37,12 @@ async function sync(vehicleId: string, derived: Finding[]): Promise<void> {
 type View = { id: string; key: string; kind: string; status: string; resolvedReason: string | null };
 const findingsOf = async (vehicleId: string) => (await api('GET', `/v1/vehicles/${vehicleId}/findings`)).json().findings as View[];
 const byKey = async (vehicleId: string) => Object.fromEntries((await findingsOf(vehicleId)).map((f) => [f.key, f]));
-const auditOf = (findingId: string) => t.tdb.handle.db.selectFrom('planner_actions').select(['action', 'after']).where('subject_id', '=', findingId).orderBy('at').execute();
+/** The finding's audit trail through the API. */
+const auditOf = async (findingId: string) => {
+  const res = await api('GET', `/v1/findings/${findingId}`);
+  expect(res.statusCode, res.body).toBe(200);
+  return res.json().history as Array<{ action: string; after: Record<string, unknown> }>;
+};
 
 beforeAll(async () => {
   key = await t.createKey('fleet-undo', ['read']);
@@ -86,6 +91,9 @@ describe('deleting a service event', () => {
     }
     const history = (await t.tdb.handle.db.selectFrom('planner_actions').select(['action', 'after']).where('subject_id', '=', eventId).execute());
     expect(history).toEqual([{ action: 'delete', after: { reopenedFindings: [trend.id], evidenceStoppedFindings: [margin.id], supersededFindings: [underRepair.id] } }]);
+    const other = await t.createKey('fleet-undo-other', ['read']);
+    expect((await t.app.inject({ method: 'GET', url: `/v1/findings/${trend.id}`, headers: t.auth(other) })).statusCode).toBe(403);
+    expect((await api('GET', '/v1/findings/no-such-finding')).statusCode).toBe(404);
   });
 
   it('keeps the reopened finding open at the next analysis pass while its evidence continues, and opens a superseded one again if it is derived again', async () => {

@@ -57,6 +57,14 @@ export function createFindingActions(db: Kysely<Database>) {
   }
 
   return {
+    /** The finding (404 unknown, 403 another fleet's) with its audit trail, oldest first. */
+    async withHistory(principal: Principal, findingId: string) {
+      const finding = await findings.get(findingId);
+      if (!finding) throw new NotFoundError(`no finding '${findingId}'`);
+      assertFleetAccess(principal, finding.fleetId);
+      return { ...finding, history: await audit.ofSubject(finding.vehicleId, findingId) };
+    },
+
     /** open → acknowledged; an acknowledged or deferred finding is left as it is (409 when resolved). */
     acknowledge(principal: Principal, findingId: string): Promise<FindingView> {
       return apply(principal, findingId, 'acknowledge', (_row, s) => (s.status !== 'open' ? 'unchanged'

@@ -5,6 +5,7 @@ import { createFindingsRepository, FINDING_ORDER, severitiesFrom, type FindingSt
 import { keyTypes } from '../../db/keyset.js';
 import { BadRequestError } from '../errors.js';
 import { createFindingActions, MAX_DEFERRAL_DAYS } from '../planner/finding-actions.js';
+import { AuditEntry } from '../schemas/audit.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VEHICLE_ID_PATTERN } from '../schemas/common.js';
 import { FINDING_KINDS, FindingIdParams, FindingSchema, FINDING_STATUSES, SEVERITIES, SeveritySchema } from '../schemas/finding.js';
@@ -69,6 +70,27 @@ const findingsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(FINDING_ORDER)), offset: q.offset },
       );
       return inUnit(reply, q.unit, { unit: q.unit, findings: page.items, nextCursor: nextCursorOf(page) });
+    },
+  );
+
+  app.get(
+    '/v1/findings/:findingId',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['findings'],
+        summary: 'One finding with its audit trail',
+        description: 'The history lists, oldest first, every planner action on the finding (acknowledge, defer, reopen) and every change a '
+          + 'corrected or deleted service event made to it (service-event-correct, service-event-delete, naming the event).',
+        security: SECURITY,
+        params: FindingIdParams,
+        querystring: Type.Object({ unit: UnitParam }),
+        response: { 200: Type.Intersect([FindingSchema, Type.Object({ unit: UnitField, history: Type.Array(AuditEntry) })]), ...errorResponses(400, 401, 403, 404) },
+      },
+    },
+    async (request, reply) => {
+      const found = await actions.withHistory(principalOf(request), request.params.findingId);
+      return inUnit(reply, request.query.unit, { ...found, unit: request.query.unit });
     },
   );
 

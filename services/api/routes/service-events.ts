@@ -8,6 +8,7 @@ import { createVehiclesRepository } from '../../db/vehicles-repository.js';
 import { NotFoundError } from '../errors.js';
 import { createServiceEventActions } from '../planner/service-event-actions.js';
 import { principalOf } from '../plugins/auth.js';
+import { AuditEntry } from '../schemas/audit.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
 import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
 import { parseTimeParam } from '../schemas/time-range.js';
@@ -28,11 +29,6 @@ const ServiceEventSchema = Type.Object({
   updatedAt: Type.Union([Type.String({ format: 'date-time', description: 'last correction' }), Type.Null()]),
   resolvedFindings: Type.Array(Type.String(), { description: 'ids of the findings this event resolved' }),
   inspectedFindings: Type.Array(Type.String(), { description: 'ids of the findings an inspection looked at (not resolved by it)' }),
-});
-
-const AuditEntry = Type.Object({
-  id: Type.String(), action: Type.String({ description: 'correct or delete' }), keyId: Type.String(), at: Type.String({ format: 'date-time' }),
-  before: Type.Union([Type.Record(Type.String(), Type.Unknown()), Type.Null()]), after: Type.Union([Type.Record(Type.String(), Type.Unknown()), Type.Null()]),
 });
 
 const EventParams = Type.Intersect([VehicleIdParams, Type.Object({ eventId: Type.String({ minLength: 1, maxLength: 64 }) })]);
