@@ -18,6 +18,7 @@ import fleetRoutes from './routes/fleet.js';
 import operationsRoutes from './routes/operations.js';
 import readingsRoutes from './routes/readings.js';
 import serviceEventsRoutes from './routes/service-events.js';
+import depotsRoutes from './routes/depots.js';
 import vehicleReadingsRoutes from './routes/vehicle-readings.js';
 import vehicleRunsRoutes from './routes/vehicle-runs.js';
 import vehiclesRoutes from './routes/vehicles.js';
@@ -93,13 +94,13 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(vehicleRunsRoutes);
   await app.register(vehicleReadingsRoutes);
   await app.register(serviceEventsRoutes);
+  await app.register(depotsRoutes);
   await app.register(analysisRunsRoutes, { leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize });
   await app.register(import('./routes/reports.js'));
   // The planner web view (/app/) and the routes its pages need beyond the rest of /v1.
   const webSession = { idleMs: config.webSessionIdleMinutes * 60_000, maxMs: config.webSessionMaxHours * 3_600_000 };
   await app.register(import('./routes/fleet-board.js'));
   await app.register(import('./routes/vehicle-summary.js'));
-  await app.register(import('./routes/report-archive.js'));
   await app.register(import('./routes/app-session.js'), webSession);
   await app.register(import('./routes/app-pages.js'), webSession);
   return app;

@@ -39,10 +39,16 @@ export function toProfilePatch(input: VehicleProfileInput): VehicleProfilePatch 
   } else if (input.glycolPercent !== undefined) {
     patch.glycolBasis = 'mass';
   }
-  if (siteAltitudeM !== undefined) {
-    patch.siteAltitudeM = siteAltitudeM;
-    if (atmosphericPressureKpa === undefined) patch.atmosphericPressureKpa = siteAltitudeM === null ? null : round(atmosphericPressureAtAltitudeKpa(siteAltitudeM), 2);
+  return { ...patch, ...toSitePatch({ siteAltitudeM, atmosphericPressureKpa }) };
+}
+
+/** A site as given (of a vehicle or a depot): the altitude sets the pressure by ISO 2533 unless the pressure is given too. */
+export function toSitePatch(site: { siteAltitudeM?: number | null | undefined; atmosphericPressureKpa?: number | null | undefined }): { siteAltitudeM?: number | null; atmosphericPressureKpa?: number | null } {
+  const out: { siteAltitudeM?: number | null; atmosphericPressureKpa?: number | null } = {};
+  if (site.siteAltitudeM !== undefined) {
+    out.siteAltitudeM = site.siteAltitudeM;
+    out.atmosphericPressureKpa = site.siteAltitudeM === null ? null : round(atmosphericPressureAtAltitudeKpa(site.siteAltitudeM), 2);
   }
-  if (atmosphericPressureKpa !== undefined) patch.atmosphericPressureKpa = atmosphericPressureKpa;
-  return patch;
+  if (site.atmosphericPressureKpa !== undefined) out.atmosphericPressureKpa = site.atmosphericPressureKpa;
+  return out;
 }

@@ -5,6 +5,7 @@ import type { RunMetrics } from '../analysis/run-metrics.js';
 import type { SensorEvent } from '../analysis/sensor-events.js';
 import { utcDay, utcDayStartMs } from '../analysis/sample-arrays.js';
 import { DEFAULT_VEHICLE_PROFILE, type VehicleProfile } from '../analysis/vehicle-profile.js';
+import { DEPOT_JOIN, SITE_PRESSURE } from './vehicle-site.js';
 import type { Database } from './schema.js';
 
 /** What the worker knows about a vehicle before analysing it. */
@@ -39,9 +40,10 @@ export function createAnalysisStore(db: Kysely<Database>) {
     /** What the worker knows about each vehicle before analysing it, in the order asked (one statement for a batch). */
     async vehicleStates(vehicleIds: readonly string[]): Promise<VehicleState[]> {
       const r = await sql<{ engine_family: string | null; thermostat_open_c: number; cap_pressure_kpa: number; glycol_percent: number; atmospheric_pressure_kpa: number | null; resume_from: Date | null; last_reading_at: Date | null }>`
-        select v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent, v.atmospheric_pressure_kpa, a.resume_from, a.last_reading_at
+        select v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent, ${SITE_PRESSURE} as atmospheric_pressure_kpa, a.resume_from, a.last_reading_at
         from unnest(${[...vehicleIds]}::text[]) with ordinality as l(vehicle_id, o)
         left join vehicles v on v.vehicle_id = l.vehicle_id
+        ${DEPOT_JOIN}
         left join vehicle_analysis a on a.vehicle_id = l.vehicle_id
         order by l.o`.execute(db);
       return r.rows.map((x) => ({

@@ -1,9 +1,9 @@
 import { sql, type Kysely } from 'kysely';
 import type { Finding } from '../analysis/findings/finding.js';
+import { EVIDENCE_STOPPED, SUPERSEDED } from './finding-resolutions.js';
 import type { Database } from './schema.js';
 
-/** resolved_reason of a finding closed because its evidence stopped for the quiet period. */
-export const EVIDENCE_STOPPED = 'evidence-stopped';
+export { EVIDENCE_STOPPED };
 
 export interface SyncInput {
   vehicleId: string;
@@ -19,8 +19,8 @@ export interface SyncInput {
  * Brings the stored findings of a vehicle in line with a pass's derived findings:
  * - ends deferrals whose date has passed;
  * - upserts each by (vehicle_id, finding_key), keeping id, status and acknowledgement; a
- *   finding that resolved itself comes back `open` if derived again (a finding resolved by a
- *   service event stays resolved); rows whose content is unchanged are not touched, so a
+ *   finding that resolved itself (or was superseded) comes back `open` if derived again (a
+ *   finding resolved by a service event stays resolved); rows whose content is unchanged are not touched, so a
  *   re-run writes nothing;
  * - resolves (`evidence-stopped`, at the analysis time) unresolved findings that were
  *   not derived and whose last evidence is older than the quiet period. One not derived but
@@ -29,7 +29,8 @@ export interface SyncInput {
 export async function syncFindings(trx: Kysely<Database>, input: SyncInput): Promise<void> {
   const { vehicleId, asOfMs } = input;
   const asOf = sql`to_timestamp(${asOfMs}::float8 / 1000)`;
-  const reopen = sql`(findings.status = 'resolved' and findings.resolved_reason = ${EVIDENCE_STOPPED})`;
+  // Closed by the analysis itself (quiet evidence, or a withdrawn baseline) and derived again: open again.
+  const reopen = sql`(findings.status = 'resolved' and findings.resolved_reason in (${EVIDENCE_STOPPED}, ${SUPERSEDED}))`;
   const keys = input.derived.map((f) => f.key);
   // A deferral ends on its date (wall clock: the planner's calendar, not the readings' time):
   // the finding goes back to acknowledged if it had been, else open.

@@ -197,6 +197,17 @@ export interface PlannerActionsTable {
   after: ColumnType<Record<string, unknown> | null, string | null, string | null>;
 }
 
+/** A fleet's depots and their sites (migrations/0009). */
+export interface DepotsTable {
+  fleet_id: string;
+  depot_id: string;
+  name: string | null;
+  site_altitude_m: number | null;
+  atmospheric_pressure_kpa: number | null;
+  created_at: Generated<Date>;
+  updated_at: Generated<Date>;
+}
+
 export interface PeerBaselinesTable {
   engine_family: string;
   baseline: Json<Record<string, unknown>>;
@@ -242,6 +253,7 @@ export interface Database {
   analysis_queue: AnalysisQueueTable;
   planner_actions: PlannerActionsTable;
   web_sessions: WebSessionsTable;
+  depots: DepotsTable;
 }
 
 /**

@@ -1,7 +1,18 @@
 import { randomUUID } from 'node:crypto';
 import { sql, type Kysely, type Selectable } from 'kysely';
 import type { ServiceEventKind } from '../analysis/findings/service-events.js';
+import { afterKeySql, epochMs, keySelections, orderBySql, pageOf, type Page, type PageRequest, type SortColumn } from './keyset.js';
 import type { Database, ServiceEventsTable } from './schema.js';
+import { EVIDENCE_STOPPED, SUPERSEDED } from './finding-resolutions.js';
+
+/** Length of a finding key's "@<ISO time>" suffix (findingKey). */
+const BASELINE_SUFFIX_LENGTH = '@2026-01-01T00:00:00.000Z'.length;
+
+/** A vehicle's repair history: newest first. */
+export const SERVICE_EVENT_ORDER: readonly SortColumn[] = [
+  { sql: epochMs('at'), dir: 'desc', type: 'number' },
+  { sql: sql.ref('event_id'), dir: 'asc', type: 'text' },
+];
 
 /** A service event as the API shows it (times ISO 8601). */
 export interface ServiceEventView {
@@ -52,14 +63,12 @@ export function createServiceEventsRepository(db: Kysely<Database>) {
         .where('deleted_at', 'is', null).executeTakeFirst();
     },
 
-    /** A page of the vehicle's events, newest first, after the cursor key (at ms, event id). */
-    async list(vehicleId: string, limit: number, after?: { atMs: number; eventId: string }): Promise<Array<Selectable<ServiceEventsTable>>> {
-      let q = db.selectFrom('service_events').selectAll().where('vehicle_id', '=', vehicleId).where('deleted_at', 'is', null);
-      if (after) {
-        const at = new Date(after.atMs);
-        q = q.where((eb) => eb.or([eb('at', '<', at), eb.and([eb('at', '=', at), eb('event_id', '>', after.eventId)])]));
-      }
-      return q.orderBy('at', 'desc').orderBy('event_id').limit(limit).execute();
+    /** A page of the vehicle's events, newest first. */
+    async list(vehicleId: string, pageRequest: PageRequest): Promise<Page<ServiceEventView>> {
+      const rows = await db.selectFrom('service_events').selectAll().select(keySelections(SERVICE_EVENT_ORDER))
+        .where('vehicle_id', '=', vehicleId).where('deleted_at', 'is', null)
+        .where(afterKeySql(SERVICE_EVENT_ORDER, pageRequest.after)).orderBy(orderBySql(SERVICE_EVENT_ORDER)).limit(pageRequest.limit + 1).execute();
+      return pageOf(rows, pageRequest.limit, SERVICE_EVENT_ORDER.length, toServiceEventView);
     },
 
     /** Sets kind, time and notes after a correction, with the findings it now resolves. */
@@ -80,14 +89,44 @@ export function createServiceEventsRepository(db: Kysely<Database>) {
     },
 
     /**
-     * Reopens the findings the event resolved, to the planner state they had (deferred while the
-     * date is ahead, acknowledged if they had been, else open); returns their ids.
+     * Undoes what the event resolved. A finding whose evidence is still there (last seen at or
+     * after `staleBeforeMs`: within the quiet period before the vehicle's latest reading) is
+     * reopened to the planner state it had (deferred while the date is ahead, acknowledged if it
+     * had been, else open); one whose evidence had stopped anyway stays resolved, now as
+     * `evidence-stopped`. Returns the ids of both.
      */
-    async reopenResolvedBy(trx: Kysely<Database>, vehicleId: string, eventId: string): Promise<string[]> {
-      const r = await sql<{ finding_id: string }>`
-        update findings set status = case when deferred_until > now() then 'deferred' when acknowledged_at is not null then 'acknowledged' else 'open' end,
-                            resolved_at = null, resolved_reason = null, resolved_by_event = null, updated_at = now()
+    async reopenResolvedBy(trx: Kysely<Database>, vehicleId: string, eventId: string, staleBeforeMs: number): Promise<{ reopened: string[]; evidenceStopped: string[] }> {
+      const r = await sql<{ finding_id: string; status: string }>`
+        update findings set status = case when last_seen < to_timestamp(${staleBeforeMs}::float8 / 1000) then 'resolved'
+                                          when deferred_until > now() then 'deferred' when acknowledged_at is not null then 'acknowledged' else 'open' end,
+                            resolved_at = case when last_seen < to_timestamp(${staleBeforeMs}::float8 / 1000) then now() end,
+                            resolved_reason = case when last_seen < to_timestamp(${staleBeforeMs}::float8 / 1000) then ${EVIDENCE_STOPPED} end,
+                            resolved_by_event = null, updated_at = now()
         where vehicle_id = ${vehicleId} and resolved_by_event = ${eventId} and status = 'resolved'
+        returning finding_id, status`.execute(trx);
+      const ids = (resolved: boolean) => r.rows.filter((x) => (x.status === 'resolved') === resolved).map((x) => x.finding_id).sort();
+      return { reopened: ids(false), evidenceStopped: ids(true) };
+    },
+
+    /** Kinds other live events of the vehicle at exactly `atMs` restart (so their baselines stay). */
+    async kindsRestartedAt(trx: Kysely<Database>, vehicleId: string, exceptEventId: string, atMs: number): Promise<string[]> {
+      const rows = await trx.selectFrom('service_events').select('kind').where('vehicle_id', '=', vehicleId).where('event_id', '<>', exceptEventId)
+        .where('deleted_at', 'is', null).where('at', '=', new Date(atMs)).execute();
+      return rows.map((r) => r.kind);
+    },
+
+    /**
+     * Resolves as `superseded` the unresolved findings of `kinds` derived under a baseline that
+     * started at `atMs` (key …@<atMs>): the event that started it was deleted or moved, and the
+     * next analysis pass shows the same evidence under the earlier baseline (the reopened
+     * finding) instead. Returns their ids.
+     */
+    async supersedeBaseline(trx: Kysely<Database>, vehicleId: string, kinds: readonly string[], atMs: number): Promise<string[]> {
+      if (kinds.length === 0) return [];
+      const r = await sql<{ finding_id: string }>`
+        update findings set status = 'resolved', resolved_reason = ${SUPERSEDED}, resolved_at = now(), updated_at = now()
+        where vehicle_id = ${vehicleId} and status <> 'resolved' and kind = any(${[...kinds]}::text[])
+          and right(finding_key, ${BASELINE_SUFFIX_LENGTH}) = ${`@${new Date(atMs).toISOString()}`}
         returning finding_id`.execute(trx);
       return r.rows.map((x) => x.finding_id).sort();
     },

@@ -1,7 +1,9 @@
 import { sql, type Kysely, type Selectable } from 'kysely';
 import { SEA_LEVEL_PRESSURE_KPA } from '../analysis/physics/atmosphere.js';
 import { glycolMassToVolumePercent } from '../analysis/physics/units.js';
+import type { Page, PageRequest } from './keyset.js';
 import type { Database, VehiclesTable } from './schema.js';
+import { SITE_PRESSURE, SITE_SOURCE, type SiteSource } from './vehicle-site.js';
 
 /** A vehicle's cooling-system profile as the API shows it. */
 export interface VehicleProfile {
@@ -17,8 +19,12 @@ export interface VehicleProfile {
   updatedAt: string;
   depot: string | null;
   siteAltitudeM: number | null;
-  /** The site's atmospheric pressure used for the boiling point, kPa (sea level when not given). */
+  /** The atmospheric pressure used for the boiling point, kPa: the vehicle's site, else its depot's, else sea level. */
   atmosphericPressureKpa: number;
+  /** Where atmosphericPressureKpa comes from. */
+  siteSource: SiteSource;
+  /** The depot's name, when the depot is registered and named. */
+  depotName: string | null;
   glycolPercentByVolume: number;
   /** How the glycol share was given; glycolPercent is always by mass. */
   glycolBasis: 'mass' | 'volume' | null;
@@ -40,7 +46,10 @@ export interface VehicleProfilePatch {
   glycolBasis?: 'mass' | 'volume';
 }
 
-export function toVehicleProfile(row: Selectable<VehiclesTable>): VehicleProfile {
+/** A vehicles row with its depot's site (selectVehicles). */
+export type VehicleRow = Selectable<VehiclesTable> & { site_kpa: number | null; site_source: SiteSource; depot_name: string | null };
+
+export function toVehicleProfile(row: VehicleRow): VehicleProfile {
   return {
     vehicleId: row.vehicle_id,
     fleetId: row.fleet_id,
@@ -54,7 +63,9 @@ export function toVehicleProfile(row: Selectable<VehiclesTable>): VehicleProfile
     updatedAt: row.updated_at.toISOString(),
     depot: row.depot,
     siteAltitudeM: row.site_altitude_m,
-    atmosphericPressureKpa: row.atmospheric_pressure_kpa ?? SEA_LEVEL_PRESSURE_KPA,
+    atmosphericPressureKpa: row.site_kpa ?? SEA_LEVEL_PRESSURE_KPA,
+    siteSource: row.site_source,
+    depotName: row.depot_name,
     glycolBasis: row.glycol_basis,
     glycolPercentByVolume: Math.round(glycolMassToVolumePercent(row.glycol_percent) * 100) / 100,
     defaultProfile: row.profile_set_at === null,
@@ -80,19 +91,37 @@ function patchValues(patch: VehicleProfilePatch) {
 /** The cooling-system facts: setting any of them ends the default profile. */
 const PROFILE_FIELDS = ['engineFamily', 'thermostatOpenC', 'capPressureKpa', 'glycolPercent'] as const;
 
-export function createVehiclesRepository(db: Kysely<Database>) {
-  return {
-    async get(vehicleId: string): Promise<VehicleProfile | undefined> {
-      const row = await db.selectFrom('vehicles').selectAll().where('vehicle_id', '=', vehicleId).executeTakeFirst();
-      return row ? toVehicleProfile(row) : undefined;
-    },
+/** Vehicles with the site of their depot. */
+function selectVehicles(db: Kysely<Database>) {
+  return db.selectFrom('vehicles as v')
+    .leftJoin('depots as d', (j) => j.onRef('d.fleet_id', '=', 'v.fleet_id').onRef('d.depot_id', '=', 'v.depot'))
+    .selectAll('v')
+    .select([SITE_PRESSURE.as('site_kpa'), SITE_SOURCE.as('site_source'), 'd.name as depot_name']);
+}
 
-    /** Vehicles of one fleet (or all fleets), by id, after `after` (keyset pagination). */
-    async list(options: { fleetId: string | null; limit: number; after?: string }): Promise<VehicleProfile[]> {
-      let q = db.selectFrom('vehicles').selectAll().orderBy('vehicle_id').limit(options.limit);
-      if (options.fleetId !== null) q = q.where('fleet_id', '=', options.fleetId);
-      if (options.after) q = q.where('vehicle_id', '>', options.after);
-      return (await q.execute()).map(toVehicleProfile);
+/** Registers a depot a vehicle names (without a site) if the fleet has none of that id. */
+async function ensureDepot(db: Kysely<Database>, fleetId: string, depotId: string): Promise<void> {
+  await db.insertInto('depots').values({ fleet_id: fleetId, depot_id: depotId }).onConflict((oc) => oc.columns(['fleet_id', 'depot_id']).doNothing()).execute();
+}
+
+export function createVehiclesRepository(db: Kysely<Database>) {
+  const get = async (vehicleId: string): Promise<VehicleProfile | undefined> => {
+    const row = await selectVehicles(db).where('v.vehicle_id', '=', vehicleId).executeTakeFirst();
+    return row ? toVehicleProfile(row) : undefined;
+  };
+  return {
+    get,
+
+    /** A page of the vehicles of one fleet (or all fleets), by id; `depot` keeps one depot's. */
+    async list(options: { fleetId: string | null; depot?: string } & PageRequest): Promise<Page<VehicleProfile>> {
+      let q = selectVehicles(db).orderBy('v.vehicle_id').limit(options.limit + 1);
+      if (options.fleetId !== null) q = q.where('v.fleet_id', '=', options.fleetId);
+      if (options.depot !== undefined) q = q.where('v.depot', '=', options.depot);
+      if (options.after) q = q.where('v.vehicle_id', '>', String(options.after[0]));
+      const rows = await q.execute();
+      const items = rows.slice(0, options.limit).map(toVehicleProfile);
+      const last = items[items.length - 1];
+      return { items, nextKey: rows.length > options.limit && last ? [last.vehicleId] : null };
     },
 
     /**
@@ -123,8 +152,8 @@ export function createVehiclesRepository(db: Kysely<Database>) {
         .returning(sql<boolean>`(xmax = 0)`.as('created'))
         .executeTakeFirst();
       if (!row) return { ownedByOtherFleet: true };
-      const { created, ...vehicle } = row;
-      return { vehicle: toVehicleProfile(vehicle), created };
+      if (patch.depot) await ensureDepot(db, row.fleet_id, patch.depot);
+      return { vehicle: (await get(vehicleId))!, created: row.created };
     },
 
     /** Updates the given fields of an existing vehicle (any fleet: admin keys); undefined if there is none. */
@@ -133,9 +162,10 @@ export function createVehiclesRepository(db: Kysely<Database>) {
         .updateTable('vehicles')
         .set({ ...patchValues(patch), updated_at: sql<Date>`now()` })
         .where('vehicle_id', '=', vehicleId)
-        .returningAll()
+        .returning(['vehicle_id', 'fleet_id'])
         .executeTakeFirst();
-      return row ? toVehicleProfile(row) : undefined;
+      if (row && patch.depot) await ensureDepot(db, row.fleet_id, patch.depot);
+      return row ? get(vehicleId) : undefined;
     },
   };
 }

@@ -1,7 +1,9 @@
 import { type Kysely, sql } from 'kysely';
 import type { DayAggregate } from '../analysis/day-aggregates.js';
 import type { RunMetrics } from '../analysis/run-metrics.js';
+import { afterKeySql, keySelections, orderBySql, pageOf, type Page, type PageRequest, type SortColumn } from './keyset.js';
 import type { Database } from './schema.js';
+import { DEPOT_JOIN, SITE_PRESSURE, SITE_SOURCE, type SiteSource } from './vehicle-site.js';
 import { isValidTimeZone } from '../time/zoned-time.js';
 
 /** Every database read and write of the weekly report (one module for all its SQL). */
@@ -17,7 +19,12 @@ export interface ReportVehicle {
   atmosphericPressureKpa?: number | null;
   /** No profile set: thermostat, cap and glycol are defaults. */
   defaultProfile?: boolean;
+  depot?: string | null;
+  /** Where atmosphericPressureKpa comes from. */
+  siteSource?: SiteSource;
 }
+/** A finding's planner state as it stood at some time (from the audit of planner actions). */
+export interface PlannerStateAt { status: 'open' | 'acknowledged' | 'deferred'; deferredUntilMs: number | null; deferredReason: string | null; acknowledged: boolean }
 export interface StoredDay { vehicleId: string; metrics: DayAggregate }
 export interface StoredRun { vehicleId: string; metrics: RunMetrics }
 export interface StoredFinding {
@@ -37,6 +44,12 @@ export interface WeekData {
   /** Vehicles of the fleet with readings queued for analysis that reach back before the week's end. */
   pendingVehicles: number;
 }
+/** An archived report as the list shows it. */
+export interface ArchivedReportEntry { isoWeek: string; generatedAt: string; complete: boolean | null; workItems: number | null }
+
+/** Archived reports, newest week first (one per fleet and week). */
+export const ARCHIVE_ORDER: readonly SortColumn[] = [{ sql: sql.ref('iso_week'), dir: 'desc', type: 'text' }];
+
 export interface ArchivedReport { fleetId: string; isoWeek: string; generatedAt: Date; json: unknown; html: string; csv: string }
 
 function fleetRow(r: { fleet_id: string; name: string; time_zone: string }): FleetRow {
@@ -57,18 +70,45 @@ export function createReportRepository(db: Kysely<Database>) {
       return rows.map(fleetRow);
     },
 
-    /** The fleet's vehicles with their stored risk (0 when never analysed). */
+    /** The fleet's vehicles with their stored risk (0 when never analysed) and their site (own, else the depot's). */
     async vehicles(fleetId: string): Promise<ReportVehicle[]> {
-      const rows = await db.selectFrom('vehicles as v')
-        .leftJoin('vehicle_analysis as a', 'a.vehicle_id', 'v.vehicle_id')
-        .select(['v.vehicle_id', 'v.label', 'v.engine_family', 'v.thermostat_open_c', 'v.cap_pressure_kpa', 'v.glycol_percent', 'a.risk_score', 'a.last_reading_at', 'v.atmospheric_pressure_kpa', 'v.profile_set_at'])
-        .where('v.fleet_id', '=', fleetId).orderBy('v.vehicle_id').execute();
-      return rows.map((r) => ({
-        vehicleId: r.vehicle_id, label: r.label, engineFamily: r.engine_family, thermostatOpenC: r.thermostat_open_c,
-        capPressureKpa: r.cap_pressure_kpa, glycolPercent: r.glycol_percent, riskScore: r.risk_score ?? 0,
-        lastReadingMs: r.last_reading_at ? ms(r.last_reading_at) : null,
-        atmosphericPressureKpa: r.atmospheric_pressure_kpa, defaultProfile: r.profile_set_at === null,
+      const r = await sql<{ vehicle_id: string; label: string | null; engine_family: string; thermostat_open_c: number; cap_pressure_kpa: number; glycol_percent: number;
+        risk_score: number | null; last_reading_at: Date | null; kpa: number | null; source: SiteSource; profile_set_at: Date | null; depot: string | null }>`
+        select v.vehicle_id, v.label, v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent, a.risk_score, a.last_reading_at,
+               ${SITE_PRESSURE} as kpa, ${SITE_SOURCE} as source, v.profile_set_at, v.depot
+        from vehicles v ${DEPOT_JOIN} left join vehicle_analysis a on a.vehicle_id = v.vehicle_id
+        where v.fleet_id = ${fleetId} order by v.vehicle_id`.execute(db);
+      return r.rows.map((x) => ({
+        vehicleId: x.vehicle_id, label: x.label, engineFamily: x.engine_family, thermostatOpenC: x.thermostat_open_c,
+        capPressureKpa: x.cap_pressure_kpa, glycolPercent: x.glycol_percent, riskScore: x.risk_score ?? 0,
+        lastReadingMs: x.last_reading_at ? ms(x.last_reading_at) : null,
+        atmosphericPressureKpa: x.kpa, defaultProfile: x.profile_set_at === null, depot: x.depot, siteSource: x.source,
       }));
+    },
+
+    /**
+     * Each finding's planner state as it stood at `atMs`: the state after the latest planner
+     * action on it by then (acknowledge, defer, reopen; planner_actions, migrations/0006), a
+     * deferral whose date had passed by then counting as ended. Findings with no action by then
+     * are absent (they were open, unless acknowledged before the audit existed).
+     */
+    async plannerStatesAt(fleetId: string, atMs: number): Promise<Map<string, PlannerStateAt>> {
+      const r = await sql<{ subject_id: string; after: { status?: string; acknowledgedBy?: string | null; deferredUntil?: string | null; deferredReason?: string | null } | null }>`
+        select distinct on (subject_id) subject_id, after from planner_actions
+        where fleet_id = ${fleetId} and subject = 'finding' and at <= ${new Date(atMs)}
+        order by subject_id, at desc, action_id desc`.execute(db);
+      const out = new Map<string, PlannerStateAt>();
+      for (const row of r.rows) {
+        const a = row.after ?? {};
+        const acknowledged = a.acknowledgedBy !== null && a.acknowledgedBy !== undefined;
+        const untilMs = a.deferredUntil ? Date.parse(a.deferredUntil) : null;
+        const deferred = a.status === 'deferred' && untilMs !== null && untilMs > atMs;
+        out.set(row.subject_id, {
+          status: deferred ? 'deferred' : acknowledged ? 'acknowledged' : 'open', acknowledged,
+          deferredUntilMs: deferred ? untilMs : null, deferredReason: deferred ? a.deferredReason ?? null : null,
+        });
+      }
+      return out;
     },
 
     /** Vehicle-days of the fleet's vehicles (or of `vehicleIds`) with first ≤ day ≤ last (YYYY-MM-DD). */
@@ -226,6 +266,18 @@ export function createReportRepository(db: Kysely<Database>) {
     async archived(fleetId: string, isoWeek: string): Promise<ArchivedReport | undefined> {
       const r = await db.selectFrom('weekly_reports').selectAll().where('fleet_id', '=', fleetId).where('iso_week', '=', isoWeek).executeTakeFirst();
       return r && { fleetId: r.fleet_id, isoWeek: r.iso_week, generatedAt: r.generated_at, json: r.report_json, html: r.report_html, csv: r.worklist_csv };
+    },
+
+    /** A page of the fleet's archived reports, newest week first. */
+    async archivedPage(fleetId: string, pageRequest: PageRequest): Promise<Page<ArchivedReportEntry>> {
+      const rows = await db.selectFrom('weekly_reports')
+        .select(['iso_week', 'generated_at', sql<boolean | null>`(report_json->'coverage'->>'complete')::boolean`.as('complete'),
+          sql<number | null>`jsonb_array_length(report_json->'workList')`.as('work_items')])
+        .select(keySelections(ARCHIVE_ORDER))
+        .where('fleet_id', '=', fleetId).where(afterKeySql(ARCHIVE_ORDER, pageRequest.after)).orderBy(orderBySql(ARCHIVE_ORDER)).limit(pageRequest.limit + 1).execute();
+      return pageOf(rows, pageRequest.limit, ARCHIVE_ORDER.length, (r) => ({
+        isoWeek: r.iso_week, generatedAt: r.generated_at.toISOString(), complete: r.complete, workItems: r.work_items === null ? null : Number(r.work_items),
+      }));
     },
 
     async isArchived(fleetId: string, isoWeek: string): Promise<boolean> {

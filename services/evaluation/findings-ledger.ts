@@ -44,28 +44,32 @@ export class FindingsLedger {
   }
 }
 
-/** Every finding of the key's fleet, any status (GET /v1/findings, paged). */
-export async function fleetFindings(client: ApiClient): Promise<FindingSeen[]> {
-  const out: FindingSeen[] = [];
-  for (let offset = 0; ; offset += PAGE) {
-    const page = await client.call<{ findings: FindingSeen[] }>('GET', `/v1/findings?limit=${PAGE}&offset=${offset}`);
-    out.push(...page.findings);
-    if (page.findings.length < PAGE) return out;
-  }
+/** Every item of a list endpoint, following nextCursor. */
+async function allPages<T>(client: ApiClient, path: string, field: string): Promise<T[]> {
+  const out: T[] = [];
+  let cursor: string | null = null;
+  do {
+    const page: Record<string, unknown> = await client.call<Record<string, unknown>>('GET', `${path}${path.includes('?') ? '&' : '?'}limit=${PAGE}${cursor ? `&cursor=${encodeURIComponent(cursor)}` : ''}`);
+    out.push(...(page[field] as T[]));
+    cursor = page.nextCursor as string | null;
+  } while (cursor);
+  return out;
 }
 
-/** Every finding of each vehicle, any status (GET /v1/vehicles/{id}/findings). */
+/** Every finding of the key's fleet, any status (GET /v1/findings, paged). */
+export function fleetFindings(client: ApiClient): Promise<FindingSeen[]> {
+  return allPages(client, '/v1/findings', 'findings');
+}
+
+/** Every finding of each vehicle, any status (GET /v1/vehicles/{id}/findings, paged). */
 export async function vehicleFindings(client: ApiClient, vehicleIds: readonly string[]): Promise<FindingSeen[]> {
   const out: FindingSeen[] = [];
-  for (const id of vehicleIds) {
-    const res = await client.call<{ findings: FindingSeen[] }>('GET', `/v1/vehicles/${encodeURIComponent(id)}/findings`);
-    out.push(...res.findings);
-  }
+  for (const id of vehicleIds) out.push(...await allPages<FindingSeen>(client, `/v1/vehicles/${encodeURIComponent(id)}/findings`, 'findings'));
   return out;
 }
 
 /** Risk at the end per vehicle from the at-risk list (vehicles not listed: 0). */
 export async function riskScores(client: ApiClient): Promise<Map<string, number>> {
-  const res = await client.call<{ vehicles: Array<{ vehicleId: string; riskScore: number }> }>('GET', '/v1/fleet/at-risk?limit=1000');
-  return new Map(res.vehicles.map((v) => [v.vehicleId, v.riskScore]));
+  const vehicles = await allPages<{ vehicleId: string; riskScore: number }>(client, '/v1/fleet/at-risk', 'vehicles');
+  return new Map(vehicles.map((v) => [v.vehicleId, v.riskScore]));
 }

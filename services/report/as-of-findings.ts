@@ -19,8 +19,9 @@ export interface FindingsAsOf {
  * events and the service events done by then, so a past week's report quotes what was known
  * at its end (not a later reading): summaries, checks, severities, last evidence and risk all
  * come from the same derivation. Each derived finding keeps the id and planner status of the
- * stored finding with the same key (acknowledged only if that happened by `asOfMs`; a deferral
- * is a current decision and is not shown in a past week). The engine-family peer baseline is the
+ * stored finding with the same key (acknowledged only if that happened by `asOfMs`; the report
+ * then sets every planner state as it stood at the week's end from the audit, withPlannerStatesAt
+ * in work-list.ts). The engine-family peer baseline is the
  * stored one (rebuilt weekly; a past week is judged against the latest, a small approximation).
  */
 export async function findingsAsOf(

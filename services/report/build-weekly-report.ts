@@ -12,7 +12,7 @@ import { PEAK_CHART_DAYS } from './peak-chart-data.js';
 import { createReportRepository, type ReportRepository, type ReportVehicle, type StoredFinding } from '../db/weekly-report-repository.js';
 import { recentWarmupCurves, vehicleChartsOf } from './vehicle-chart-data.js';
 import type { VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
-import { buildWorkList, unresolvedAt } from './work-list.js';
+import { buildWorkList, unresolvedAt, withPlannerStatesAt } from './work-list.js';
 
 /** Vehicles (highest risk first) that get chart sections; the rest are on the work list only. */
 export const MAX_CHARTED_VEHICLES = 10;
@@ -75,6 +75,8 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
     unresolved = [...unresolved.filter((f) => !later.has(f.vehicleId)), ...asOfFindings.unresolved];
     vehicles = stored.map((v) => (later.has(v.vehicleId) ? { ...v, riskScore: asOfFindings.risk.get(v.vehicleId) ?? 0 } : v));
   }
+  // Planner decisions as they stood at the week's end: a deferral made later is not shown in a past week.
+  if (pastWeek) unresolved = withPlannerStatesAt(unresolved, await repo.plannerStatesAt(fleet.fleetId, asOf), asOf);
   const byId = new Map(vehicles.map((v) => [v.vehicleId, v]));
   const workList = buildWorkList(unresolved, byId);
   const toBook = workList.map((w) => w.vehicleId);
@@ -136,6 +138,7 @@ async function vehicleSections(
     sections.push({
       vehicleId: id, label: v.label, engineFamily: v.engineFamily, riskScore: v.riskScore, priority: row.priority,
       capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent, atmosphericPressureKpa, defaultProfile: v.defaultProfile ?? false,
+      depot: v.depot ?? null, siteSource: v.siteSource ?? 'sea level',
       findingIds: row.findings.map((f) => f.findingId), headline: row.why,
       ...vehicleChartsOf({ ...v, atmosphericPressureKpa }, {
         onsetMs: onset, bandFromMs: bandFrom, runs: own, curves, days: days.filter((d) => d.vehicleId === id).map((d) => d.metrics),

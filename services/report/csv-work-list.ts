@@ -1,17 +1,21 @@
+import type { TemperatureUnit } from '../analysis/physics/temperature-unit.js';
 import type { WorkItem } from './weekly-report-schema.js';
 
 /** The CSV columns, named as the JSON work-list fields (one row per vehicle, as the JSON). */
 export const WORK_LIST_COLUMNS = [
   'rank', 'vehicleId', 'label', 'riskScore', 'priority', 'severity', 'kind', 'status', 'since', 'lastSeen',
-  'confidence', 'troubleCode', 'why', 'check', 'caution', 'findingId', 'findingIds', 'findingCount',
+  'confidence', 'troubleCode', 'why', 'check', 'caution', 'findingId', 'findingIds', 'findingCount', 'depot', 'defaultProfile', 'temperatureUnit',
 ] as const;
 
 type Column = (typeof WORK_LIST_COLUMNS)[number];
 
 /** One cell: a scalar field as it is, the vehicle's findings as their ids (space-separated) and their count. */
-function cell(w: WorkItem, c: Column): string | number | null {
+function cell(w: WorkItem, c: Column, unit: TemperatureUnit): string | number | null {
   if (c === 'findingIds') return w.findings.map((f) => f.findingId).join(' ');
   if (c === 'findingCount') return w.findings.length;
+  if (c === 'depot') return w.depot ?? null;
+  if (c === 'defaultProfile') return w.defaultProfile ? 'true' : 'false';
+  if (c === 'temperatureUnit') return unit;
   return w[c];
 }
 
@@ -29,9 +33,9 @@ export function csvField(value: string | number | null): string {
   return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
 }
 
-/** The work list as CSV: a header row, CRLF line ends (RFC 4180), UTF-8. */
-export function renderWorkListCsv(items: readonly WorkItem[]): string {
+/** The work list as CSV: a header row, CRLF line ends (RFC 4180), UTF-8; `temperatureUnit` says the unit of the sentences' temperatures. */
+export function renderWorkListCsv(items: readonly WorkItem[], unit: TemperatureUnit = 'C'): string {
   const lines = [WORK_LIST_COLUMNS.join(',')];
-  for (const w of items) lines.push(WORK_LIST_COLUMNS.map((c) => csvField(cell(w, c))).join(','));
+  for (const w of items) lines.push(WORK_LIST_COLUMNS.map((c) => csvField(cell(w, c, unit))).join(','));
   return `${lines.join('\r\n')}\r\n`;
 }

@@ -26,10 +26,11 @@ export const SENSOR_EVENT_LABELS: Readonly<Record<string, string>> = {
 
 export const sensorEventLabel = (kind: string): string => SENSOR_EVENT_LABELS[kind] ?? kind.replace(/-/g, ' ');
 
-/** Why a finding was resolved, in words: the analysis stores 'evidence-stopped' or 'service-event:<kind>'. */
+/** Why a finding was resolved, in words: the analysis stores 'evidence-stopped', 'superseded' or 'service-event:<kind>'. */
 export function resolvedReasonLabel(reason: string | null): string | null {
   if (reason === null) return null;
   if (reason === 'evidence-stopped') return `the evidence stopped (no new sign of it for ${DEFAULT_ANALYSIS_CONFIG.findingStaleDays} days)`;
+  if (reason === 'superseded') return 'superseded: the repair its baseline started at was deleted or moved, and the evidence now belongs to the earlier finding';
   if (reason.startsWith('service-event:')) return `repair recorded: ${reason.slice('service-event:'.length).replace(/-/g, ' ')}`;
   return reason.replace(/-/g, ' ');
 }

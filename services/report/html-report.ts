@@ -36,12 +36,14 @@ function statusNote(f: WorkFinding): string {
 
 function findingLine(f: WorkFinding): string {
   const code = f.troubleCode ? ` <span class="note">(${e(relatedCodeLabel(f.troubleCode))})</span>` : '';
-  return `<li data-finding-id="${e(f.findingId)}"><b>${e(kindLabel(f.kind))}</b> <span class="note">${e(f.severity)}</span>${code}${statusNote(f)}<br>${e(f.why)}</li>`;
+  const assumed = f.profileNote ? `<br><span class="note profile-note">${e(f.profileNote)}</span>` : '';
+  return `<li data-finding-id="${e(f.findingId)}"><b>${e(kindLabel(f.kind))}</b> <span class="note">${e(f.severity)}</span>${code}${statusNote(f)}<br>${e(f.why)}${assumed}</li>`;
 }
 
 /** One row per vehicle: every finding, one combined list of checks, and the cautions beyond the general one. */
 function workListRow(w: WorkItem): string {
   const label = (w.label ? `<br><span class="note">${e(w.label)}</span>` : '')
+    + (w.depot ? `<br><span class="note">depot ${e(w.depot)}</span>` : '')
     + (w.defaultProfile ? '<br><span class="note">default profile: cap, glycol and thermostat assumed</span>' : '');
   const extra = w.cautions.slice(1);
   return `<tr data-finding-id="${e(w.findingId)}" data-vehicle-id="${e(w.vehicleId)}">
@@ -116,7 +118,7 @@ ${kpis(r)}
 ${workList(r)}
 ${legend()}</section>
 <section id="vehicles"><h2>The evidence, vehicle by vehicle</h2>
-${charted === 0 ? '<p class="empty">No vehicle at risk.</p>' : r.vehicles.map((v) => vehicleSectionHtml(v, r.fleet.timeZone)).join('\n')}
+${charted === 0 ? '<p class="empty">No vehicle at risk.</p>' : r.vehicles.map((v) => vehicleSectionHtml(v, r.fleet.timeZone, r.unit ?? 'C')).join('\n')}
 ${rest > 0 ? `<p class="note">${rest} more vehicle${rest > 1 ? 's' : ''} on the work list without charts here.</p>` : ''}</section>
 <section id="findings"><h2>Findings this week</h2>
 <p class="note">New: first evidence this week. Ongoing: earlier and not yet resolved. Resolved: closed this week (repair recorded, or the evidence stopped).</p>

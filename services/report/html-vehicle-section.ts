@@ -1,4 +1,5 @@
 import { round } from '../analysis/findings/finding.js';
+import { degreeSign, type TemperatureUnit } from '../analysis/physics/temperature-unit.js';
 import { escapeHtml as e } from './html-escape.js';
 import { peakChartSvg, PROJECTION_DRAWN_DAYS } from './peak-chart.js';
 import { warmupChartSvg } from './warmup-chart.js';
@@ -20,35 +21,37 @@ export function warmupCaption(v: VehicleSection): string {
 }
 
 /** What the daily-peak chart shows, in words, with the projected boiling date. */
-export function peakCaption(v: VehicleSection): string {
+export function peakCaption(v: VehicleSection, unit: TemperatureUnit = 'C'): string {
+  const deg = degreeSign(unit);
   const p = v.peaks;
   const t = p.trend;
   let trend = 'Too few days with driving for a trend.';
   if (t) {
-    if (t.daysToBoil === null) trend = `Peaks are not rising towards the boiling point (${t.senSlopeCPerDay.toFixed(2)} °C/day).`;
+    if (t.daysToBoil === null) trend = `Peaks are not rising towards the boiling point (${t.senSlopeCPerDay.toFixed(2)} ${deg}/day).`;
     else {
       const days = Math.round(t.daysToBoil);
       trend = days < 1
-        ? `At ${round(t.senSlopeCPerDay, 2)} °C/day from a level of ${t.levelC} °C, the daily peaks already reach the boiling point (${p.boilingPointC} °C).`
-        : `At ${round(t.senSlopeCPerDay, 2)} °C/day from a level of ${t.levelC} °C, the daily peak reaches the boiling point (${p.boilingPointC} °C) `
+        ? `At ${round(t.senSlopeCPerDay, 2)} ${deg}/day from a level of ${t.levelC} ${deg}, the daily peaks already reach the boiling point (${p.boilingPointC} ${deg}).`
+        : `At ${round(t.senSlopeCPerDay, 2)} ${deg}/day from a level of ${t.levelC} ${deg}, the daily peak reaches the boiling point (${p.boilingPointC} ${deg}) `
           + `around <b>${e(t.projectedBoilDate!)}</b>, in about ${days} day${days === 1 ? '' : 's'}.`;
       if (t.daysToBoil > PROJECTION_DRAWN_DAYS) trend += ` (The dashed projection is drawn for the first ${PROJECTION_DRAWN_DAYS} days.)`;
     }
   }
-  const site = v.atmosphericPressureKpa !== undefined ? ` at ${round(v.atmosphericPressureKpa, 1)} kPa atmospheric pressure` : '';
+  const from = v.siteSource === 'depot' ? ` (depot ${e(v.depot ?? '')})` : v.siteSource === 'sea level' ? ' (sea level: no site given)' : '';
+  const site = v.atmosphericPressureKpa !== undefined ? ` at ${round(v.atmosphericPressureKpa, 1)} kPa atmospheric pressure${from}` : '';
   const assumed = v.defaultProfile ? ' These are the default profile values, not the vehicle\'s own: set its profile for a true figure.' : '';
   return `${trend} Boiling point for a ${v.capPressureKpa} kPa cap and ${v.glycolPercent} % glycol by mass${site}.${assumed} Peaks climbing while ambient does not point to the cooling system, not the weather.`;
 }
 
 /** One at-risk vehicle: heading, the top finding, and its two charts. */
-export function vehicleSectionHtml(v: VehicleSection, timeZone: string): string {
-  const label = v.label ? ` <span class="note">${e(v.label)}</span>` : '';
+export function vehicleSectionHtml(v: VehicleSection, timeZone: string, unit: TemperatureUnit = 'C'): string {
+  const label = (v.label ? ` <span class="note">${e(v.label)}</span>` : '') + (v.depot ? ` <span class="note">depot ${e(v.depot)}</span>` : '');
   return `<article class="vehicle" id="vehicle-${e(v.vehicleId)}" data-vehicle-id="${e(v.vehicleId)}">
 <h3>${e(v.vehicleId)}${label} ${badge(v.priority)} <span class="note">risk ${v.riskScore} · ${e(v.engineFamily)}</span></h3>
 <p class="headline">${e(v.headline)}</p>
 <div class="charts">
-<figure class="warmup">${warmupChartSvg(v.warmup, timeZone, v.vehicleId)}<figcaption><b>Cold-start warm-ups.</b> ${e(warmupCaption(v))}</figcaption></figure>
-<figure class="peaks">${peakChartSvg(v.peaks, v.vehicleId)}<figcaption><b>Daily peak coolant vs ambient.</b> ${peakCaption(v)}</figcaption></figure>
+<figure class="warmup">${warmupChartSvg(v.warmup, timeZone, v.vehicleId, unit)}<figcaption><b>Cold-start warm-ups.</b> ${e(warmupCaption(v))}</figcaption></figure>
+<figure class="peaks">${peakChartSvg(v.peaks, v.vehicleId, unit)}<figcaption><b>Daily peak coolant vs ambient.</b> ${peakCaption(v, unit)}</figcaption></figure>
 </div>
 </article>`;
 }

@@ -1,3 +1,4 @@
+import { degreeSign, type TemperatureUnit } from '../analysis/physics/temperature-unit.js';
 import { type ChartOption, GRID, LEGEND, renderChartSvg, Y_NAME } from './chart-svg.js';
 import type { PeakChart } from './weekly-report-schema.js';
 import { utcWeekStartMs } from '../time/iso-week.js';
@@ -30,10 +31,11 @@ export function trendLine(p: PeakChart): { fitted: [number, number][]; projected
  * Daily peak coolant temperature and daily maximum ambient, the Sen's-slope trend and its
  * projection towards the boiling point at cap pressure (drawn as a limit line).
  */
-export function peakChartSvg(p: PeakChart, vehicleId: string): string {
+export function peakChartSvg(p: PeakChart, vehicleId: string, unit: TemperatureUnit = 'C'): string {
+  const deg = degreeSign(unit);
   const { fitted, projected } = trendLine(p);
   const t = p.trend;
-  const trendName = t ? `trend ${t.senSlopeCPerDay >= 0 ? '+' : ''}${t.senSlopeCPerDay.toFixed(2)} °C/day` : 'trend';
+  const trendName = t ? `trend ${t.senSlopeCPerDay >= 0 ? '+' : ''}${t.senSlopeCPerDay.toFixed(2)} ${deg}/day` : 'trend';
   const crossing = t?.daysToBoil !== null && t?.daysToBoil !== undefined && t.daysToBoil <= PROJECTION_DRAWN_DAYS ? projected[1] : undefined;
   const series = [
     {
@@ -61,8 +63,8 @@ export function peakChartSvg(p: PeakChart, vehicleId: string): string {
         symbol: 'none', silent: true, lineStyle: { color: '#555', type: 'dotted' as const },
         label: { position: 'insideStartTop' as const, fontSize: 10, color: '#333' },
         data: [
-          { yAxis: p.boilingPointC, label: { formatter: `boiling point at cap pressure ${p.boilingPointC} °C` }, lineStyle: { color: TREND_COLOUR, type: 'solid' as const } },
-          { yAxis: p.hotThresholdC, label: { formatter: `overheat threshold ${p.hotThresholdC} °C` } },
+          { yAxis: p.boilingPointC, label: { formatter: `boiling point at cap pressure ${p.boilingPointC} ${deg}` }, lineStyle: { color: TREND_COLOUR, type: 'solid' as const } },
+          { yAxis: p.hotThresholdC, label: { formatter: `overheat threshold ${p.hotThresholdC} ${deg}` } },
         ],
       },
     },
@@ -81,7 +83,7 @@ export function peakChartSvg(p: PeakChart, vehicleId: string): string {
       splitLine: { show: true, lineStyle: { color: '#eee' } },
     },
     yAxis: {
-      type: 'value', name: 'temperature °C', ...Y_NAME, interval: Y_STEP_C,
+      type: 'value', name: `temperature ${deg}`, ...Y_NAME, interval: Y_STEP_C,
       min: Math.floor((Math.min(...lows, 0) - 2) / Y_STEP_C) * Y_STEP_C, max: Math.ceil((p.boilingPointC + 6) / Y_STEP_C) * Y_STEP_C,
     },
     series,

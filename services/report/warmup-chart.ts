@@ -1,3 +1,4 @@
+import { degreeSign, type TemperatureUnit } from '../analysis/physics/temperature-unit.js';
 import { type ChartOption, GRID, LEGEND, renderChartSvg, Y_NAME } from './chart-svg.js';
 import { WARMUP_CHART_MIN } from './warmup-chart-data.js';
 import type { WarmupChart } from './weekly-report-schema.js';
@@ -22,19 +23,20 @@ function withBreaks(points: ReadonlyArray<readonly [number, number]>): (readonly
 }
 
 /** A cold start's legend entry: local day and time in the fleet's zone, and the ambient at start. */
-export function curveName(curve: WarmupChart['curves'][number], timeZone: string): string {
+export function curveName(curve: WarmupChart['curves'][number], timeZone: string, unit: TemperatureUnit = 'C'): string {
   const local = new Intl.DateTimeFormat('en-GB', { timeZone, weekday: 'short', day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit', hourCycle: 'h23' })
     .format(new Date(curve.runStart)).replace(',', '');
-  return curve.startAmbientC === null ? local : `${local} (${Math.round(curve.startAmbientC)} °C)`;
+  return curve.startAmbientC === null ? local : `${local} (${Math.round(curve.startAmbientC)} ${degreeSign(unit)})`;
 }
 
 /**
  * The warm-up chart: the recent cold starts' coolant temperature against minutes since start,
  * over the vehicle's healthy band, with the warm-up target and the thermostat rating.
  */
-export function warmupChartSvg(w: WarmupChart, timeZone: string, vehicleId: string): string {
+export function warmupChartSvg(w: WarmupChart, timeZone: string, vehicleId: string, unit: TemperatureUnit = 'C'): string {
+  const deg = degreeSign(unit);
   const curveSeries = w.curves.map((c, i) => ({
-    name: curveName(c, timeZone),
+    name: curveName(c, timeZone, unit),
     type: 'line' as const,
     showSymbol: false,
     data: withBreaks(c.points),
@@ -67,8 +69,8 @@ export function warmupChartSvg(w: WarmupChart, timeZone: string, vehicleId: stri
       symbol: 'none', silent: true, lineStyle: { color: '#555', type: 'dotted' as const },
       label: { position: 'insideEndTop' as const, fontSize: 10, color: '#333' },
       data: [
-        { yAxis: w.warmupTargetC, name: 'target', label: { formatter: `warm-up target ${w.warmupTargetC} °C` } },
-        { yAxis: w.thermostatOpenC, name: 'thermostat', label: { formatter: `thermostat opens ${w.thermostatOpenC} °C`, position: 'insideStartTop' as const } },
+        { yAxis: w.warmupTargetC, name: 'target', label: { formatter: `warm-up target ${w.warmupTargetC} ${deg}` } },
+        { yAxis: w.thermostatOpenC, name: 'thermostat', label: { formatter: `thermostat opens ${w.thermostatOpenC} ${deg}`, position: 'insideStartTop' as const } },
       ],
     },
   };
@@ -78,7 +80,7 @@ export function warmupChartSvg(w: WarmupChart, timeZone: string, vehicleId: stri
     legend: { ...LEGEND, data: [...bandSeries, ...curveSeries].map((x) => x.name) },
     xAxis: { type: 'value', min: 0, max: WARMUP_CHART_MIN, interval: 5, name: 'minutes since engine start', nameLocation: 'middle', nameGap: 26 },
     yAxis: {
-      type: 'value', name: 'coolant °C', ...Y_NAME, interval: Y_STEP_C,
+      type: 'value', name: `coolant ${deg}`, ...Y_NAME, interval: Y_STEP_C,
       min: Math.floor((Math.min(...lows, w.warmupTargetC) - 2) / Y_STEP_C) * Y_STEP_C, max: Math.ceil((w.thermostatOpenC + 12) / Y_STEP_C) * Y_STEP_C,
     },
     series: [...bandSeries, ...curveSeries, limits],

@@ -1,6 +1,7 @@
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Kysely } from 'kysely';
+import { convertTemperatures, TEMPERATURE_SENTENCE_FIELDS, type TemperatureUnit } from '../analysis/physics/temperature-unit.js';
 import type { Database } from '../db/schema.js';
 import { type BuildReportOptions, buildWeeklyReport } from './build-weekly-report.js';
 import { renderWorkListCsv } from './csv-work-list.js';
@@ -23,7 +24,15 @@ export interface GenerateOptions extends BuildReportOptions {
 
 /** Renders the report object as JSON, HTML and the CSV work list. */
 export function renderWeeklyReport(report: WeeklyReport): RenderedReport {
-  return { report, json: `${JSON.stringify(report, null, 2)}\n`, html: renderReportHtml(report), csv: renderWorkListCsv(report.workList) };
+  return { report, json: `${JSON.stringify(report, null, 2)}\n`, html: renderReportHtml(report), csv: renderWorkListCsv(report.workList, report.unit ?? 'C') };
+}
+
+/**
+ * The report (built and archived in °C) with every temperature in `unit`, numbers and sentences
+ * alike (services/analysis/physics/temperature-unit.ts), rendered again.
+ */
+export function reportInUnit(report: WeeklyReport, unit: TemperatureUnit): RenderedReport {
+  return renderWeeklyReport({ ...convertTemperatures(report, unit, TEMPERATURE_SENTENCE_FIELDS), unit });
 }
 
 /**

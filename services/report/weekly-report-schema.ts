@@ -68,6 +68,7 @@ export const WorkFinding = Type.Object({
   troubleCode: Nullable(Type.String()),
   deferredUntil: Nullable(Type.String({ description: 'deferred: the date the work waits for (YYYY-MM-DD)' })),
   deferredReason: Nullable(Type.String()),
+  profileNote: Type.Optional(Nullable(Type.String({ description: "which of the finding's figures the default profile sets (vehicle on the default profile); null: none" }))),
 });
 
 /**
@@ -80,6 +81,7 @@ export const WorkItem = Type.Object({
   label: Nullable(Type.String()),
   riskScore: Type.Number({ minimum: 0, maximum: 100 }),
   defaultProfile: Type.Optional(Type.Boolean({ description: 'no profile set: boiling and freezing figures assume the default cap, glycol and thermostat' })),
+  depot: Type.Optional(Nullable(Type.String({ description: "the vehicle's depot" }))),
   priority: PriorityT,
   findingId: Type.String({ description: 'the most severe finding' }),
   kind: Type.String(),
@@ -147,6 +149,8 @@ export const VehicleSection = Type.Object({
   capPressureKpa: Type.Number(),
   glycolPercent: Type.Number(),
   atmosphericPressureKpa: Type.Optional(Type.Number({ description: 'the site pressure the boiling point uses, kPa' })),
+  depot: Type.Optional(Nullable(Type.String({ description: "the vehicle's depot" }))),
+  siteSource: Type.Optional(Type.Union([Type.Literal('vehicle'), Type.Literal('depot'), Type.Literal('sea level')], { description: 'where the site pressure comes from' })),
   defaultProfile: Type.Optional(Type.Boolean({ description: 'no profile set: cap, glycol and thermostat are defaults, so boiling and freezing figures are assumptions' })),
   findingIds: Type.Array(Type.String()),
   headline: Type.String({ description: "the top finding's summary" }),
@@ -191,6 +195,7 @@ export const WeeklyReportSchema = Type.Object({
     end: Type.String({ description: 'next Monday 00:00 in the fleet time zone (exclusive)' }),
   }),
   generatedAt: Type.String(),
+  unit: Type.Optional(Type.Union([Type.Literal('C'), Type.Literal('F')], { description: 'unit of every temperature in the report (absent: C); archived reports are kept in °C' })),
   asOf: Type.String({ description: 'the earlier of the week end and the generation time' }),
   coverage: ReportCoverage,
   summary: FleetSummary,

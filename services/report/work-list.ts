@@ -1,7 +1,8 @@
 import { cautionsFor } from '../analysis/findings/cautions.js';
+import { defaultProfileNote } from '../analysis/findings/profile-assumptions.js';
 import { round, SAFETY_CAUTION, type Severity } from '../analysis/findings/finding.js';
 import { utcDay } from '../analysis/sample-arrays.js';
-import type { ReportVehicle, StoredFinding } from '../db/weekly-report-repository.js';
+import type { PlannerStateAt, ReportVehicle, StoredFinding } from '../db/weekly-report-repository.js';
 import type { Priority, WorkFinding, WorkItem } from './weekly-report-schema.js';
 
 const SEVERITY_RANK: Readonly<Record<Severity, number>> = { critical: 0, warning: 1, advisory: 2 };
@@ -17,15 +18,31 @@ export function unresolvedAt(findings: readonly StoredFinding[], asOfMs: number)
   return findings.filter((f) => f.firstSeenMs < asOfMs && (f.resolvedMs === null || f.resolvedMs >= asOfMs));
 }
 
+/**
+ * The findings with their planner state as it stood at the end of a past week (`states` from
+ * plannerStatesAt): a deferral or acknowledgement made after the week ended is not shown, one
+ * undone after it is. A finding with no planner action by then was open, unless it was
+ * acknowledged by then before the audit existed.
+ */
+export function withPlannerStatesAt(findings: readonly StoredFinding[], states: ReadonlyMap<string, PlannerStateAt>, asOfMs: number): StoredFinding[] {
+  return findings.map((f) => {
+    const s = states.get(f.findingId);
+    if (s) return { ...f, status: s.status, deferredUntilMs: s.deferredUntilMs, deferredReason: s.deferredReason, acknowledgedMs: s.acknowledged ? f.acknowledgedMs : null };
+    const acknowledged = f.acknowledgedMs !== null && f.acknowledgedMs <= asOfMs;
+    return { ...f, status: acknowledged ? 'acknowledged' : 'open', deferredUntilMs: null, deferredReason: null, acknowledgedMs: acknowledged ? f.acknowledgedMs : null };
+  });
+}
+
 const statusOf = (f: StoredFinding): WorkFinding['status'] => (f.status === 'acknowledged' || f.status === 'deferred' ? f.status : 'open');
 
-function workFinding(f: StoredFinding): WorkFinding {
+function workFinding(f: StoredFinding, defaultProfile: boolean): WorkFinding {
   const deferred = f.status === 'deferred';
   return {
     findingId: f.findingId, kind: f.kind, severity: f.severity, status: statusOf(f), priority: PRIORITY_OF[f.severity],
     why: f.summary, check: checkWithoutCaution(f.recommendedCheck), since: utcDay(f.firstSeenMs), lastSeen: utcDay(f.lastSeenMs),
     confidence: round(f.confidence, 3), troubleCode: f.troubleCode,
     deferredUntil: deferred && f.deferredUntilMs !== null ? utcDay(f.deferredUntilMs) : null, deferredReason: deferred ? f.deferredReason : null,
+    profileNote: defaultProfileNote(f.kind, defaultProfile),
   };
 }
 
@@ -44,7 +61,8 @@ export function buildWorkList(unresolved: readonly StoredFinding[], vehicles: Re
   return ids.map((vehicleId, i) => {
     const own = byVehicle.get(vehicleId)!.sort((a, b) =>
       SEVERITY_RANK[a.severity] - SEVERITY_RANK[b.severity] || b.confidence - a.confidence || a.findingId.localeCompare(b.findingId));
-    const findings = own.map(workFinding);
+    const defaultProfile = vehicles.get(vehicleId)?.defaultProfile ?? false;
+    const findings = own.map((f) => workFinding(f, defaultProfile));
     const worst = findings[0]!;
     const checks = [...new Set(findings.map((f) => f.check))];
     const cautions = cautionsFor(findings.map((f) => f.kind));
@@ -53,7 +71,8 @@ export function buildWorkList(unresolved: readonly StoredFinding[], vehicles: Re
       vehicleId,
       label: vehicles.get(vehicleId)?.label ?? null,
       riskScore: risk(vehicleId),
-      defaultProfile: vehicles.get(vehicleId)?.defaultProfile ?? false,
+      defaultProfile,
+      depot: vehicles.get(vehicleId)?.depot ?? null,
       priority: worst.priority,
       findingId: worst.findingId,
       kind: worst.kind,

@@ -123,7 +123,7 @@ describe('API documentation', () => {
     expect(ingest.parameters!.filter((p) => p.in === 'query').map((p) => p.name).sort()).toEqual(['fleet', 'unit']);
     expect(spec.paths['/v1/vehicles/{vehicleId}']!.put!.requestBody).toBeDefined();
     expect(Object.keys(spec.paths['/v1/vehicles/{vehicleId}']!.put!.responses)).toEqual(expect.arrayContaining(['200', '201', '400']));
-    expect(spec.paths['/v1/vehicles']!.get!.parameters!.filter((p) => p.in === 'query').map((p) => p.name).sort()).toEqual(['after', 'fleet', 'limit']);
+    expect(spec.paths['/v1/vehicles']!.get!.parameters!.filter((p) => p.in === 'query').map((p) => p.name).sort()).toEqual(['after', 'cursor', 'depot', 'fleet', 'limit', 'unit']);
     expect(Object.keys(spec.paths['/readyz']!.get!.responses).sort()).toEqual(['200', '503']);
   });
 

@@ -53,7 +53,7 @@ describe('GET /v1/fleet/at-risk', () => {
     const risks = vehicles.map((v) => v.riskScore);
     expect([...risks].sort((a, b) => b - a)).toEqual(risks);
     expect(vehicles[0]!.findings.map((f) => f.severity)).toEqual(['critical', 'advisory']);
-    expect(Object.keys(vehicles[0]!.findings[0]!).sort()).toEqual(['confidence', 'deferredUntil', 'firstSeen', 'id', 'kind', 'lastSeen', 'recommendedCheck', 'severity', 'status', 'summary', 'troubleCode']);
+    expect(Object.keys(vehicles[0]!.findings[0]!).sort()).toEqual(['confidence', 'defaultProfile', 'deferredUntil', 'firstSeen', 'id', 'kind', 'lastSeen', 'profileNote', 'recommendedCheck', 'severity', 'status', 'summary', 'troubleCode']);
   });
 
   it('keeps only vehicles and findings at or above minSeverity, and honours limit', async () => {

@@ -1,6 +1,6 @@
 import type { Kysely, Selectable } from 'kysely';
 import type { Principal } from '../../db/api-keys-repository.js';
-import { createFindingsRepository, toFindingView, type FindingStatus, type FindingView, type PlannerState } from '../../db/findings-repository.js';
+import { createFindingsRepository, toFindingViews, type FindingStatus, type FindingView, type PlannerState } from '../../db/findings-repository.js';
 import { createPlannerActionsRepository } from '../../db/planner-actions-repository.js';
 import type { Database, FindingsTable } from '../../db/schema.js';
 import { refreshVehicleRisk } from '../../db/vehicle-risk.js';
@@ -45,7 +45,7 @@ export function createFindingActions(db: Kysely<Database>) {
       const current = stateOf(row);
       const next = change(row, current);
       // The locked row, not a read through `db`: PGlite has one connection, held by this transaction.
-      if (next === 'unchanged') return toFindingView(row);
+      if (next === 'unchanged') return (await toFindingViews(trx, [row]))[0]!;
       const view = await findings.setState(trx, row, next);
       await audit.record(trx, {
         vehicleId: row.vehicle_id, fleetId: row.fleet_id, subject: 'finding', subjectId: findingId, action, keyId: principal.keyId,
@@ -57,6 +57,14 @@ export function createFindingActions(db: Kysely<Database>) {
   }
 
   return {
+    /** The finding (404 unknown, 403 another fleet's) with its audit trail, oldest first. */
+    async withHistory(principal: Principal, findingId: string) {
+      const finding = await findings.get(findingId);
+      if (!finding) throw new NotFoundError(`no finding '${findingId}'`);
+      assertFleetAccess(principal, finding.fleetId);
+      return { ...finding, history: await audit.ofSubject(finding.vehicleId, findingId) };
+    },
+
     /** open → acknowledged; an acknowledged or deferred finding is left as it is (409 when resolved). */
     acknowledge(principal: Principal, findingId: string): Promise<FindingView> {
       return apply(principal, findingId, 'acknowledge', (_row, s) => (s.status !== 'open' ? 'unchanged'

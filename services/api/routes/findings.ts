@@ -1,11 +1,18 @@
 import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
-import { createFindingsRepository } from '../../db/findings-repository.js';
+import type { Severity } from '../../analysis/findings/finding.js';
+import { createFindingsRepository, FINDING_ORDER, severitiesFrom, type FindingStatus } from '../../db/findings-repository.js';
+import { keyTypes } from '../../db/keyset.js';
+import { BadRequestError } from '../errors.js';
 import { createFindingActions, MAX_DEFERRAL_DAYS } from '../planner/finding-actions.js';
+import { AuditEntry } from '../schemas/audit.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
-import { errorResponses, SECURITY } from '../schemas/common.js';
-import { FindingIdParams, FindingKindSchema, FindingSchema, FindingStatusSchema } from '../schemas/finding.js';
-import { parseTimeParam } from '../schemas/time-range.js';
+import { errorResponses, SECURITY, VEHICLE_ID_PATTERN } from '../schemas/common.js';
+import { FINDING_KINDS, FindingIdParams, FindingSchema, FINDING_STATUSES, SEVERITIES, SeveritySchema } from '../schemas/finding.js';
+import { listParam, listValues } from '../schemas/list-param.js';
+import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
+import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
+import { parseTimeParam, TimeParam } from '../schemas/time-range.js';
 
 /**
  * Findings across the fleet and their lifecycle: open → acknowledged → resolved, and deferred until
@@ -23,24 +30,67 @@ const findingsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       onRequest: app.requireScope('read'),
       schema: {
         tags: ['findings'],
-        summary: "The fleet's findings, most severe and most recent first",
+        summary: "The fleet's findings, most severe and most recent first, filtered, a page at a time",
+        description: 'Filters combine (and); a list filter matches any of its values. `severity` lists severities, `minSeverity` keeps those at least as severe '
+          + '(give one of the two). `since` keeps findings with evidence at or after the time. `depot` keeps the findings of the depot\'s vehicles. '
+          + 'Paging: pass `nextCursor` as `?cursor=`; the order is severity, latest evidence, vehicle, id. `offset` is the older paging style (not with a cursor).',
         security: SECURITY,
         querystring: Type.Object({
-          status: Type.Optional(FindingStatusSchema),
-          kind: Type.Optional(FindingKindSchema),
-          limit: Type.Integer({ minimum: 1, maximum: 1000, default: 100 }),
-          offset: Type.Integer({ minimum: 0, default: 0 }),
+          status: listParam(FINDING_STATUSES, 'finding statuses (open, acknowledged, deferred, resolved)'),
+          kind: listParam(FINDING_KINDS, 'finding kinds'),
+          vehicle: listParam({ item: VEHICLE_ID_PATTERN }, 'vehicle ids'),
+          severity: listParam(SEVERITIES, 'severities (advisory, warning, critical)'),
+          minSeverity: Type.Optional(SeveritySchema),
+          since: TimeParam('findings with evidence at or after'),
+          depot: Type.Optional(Type.String({ minLength: 1, maxLength: 64, description: 'findings of the vehicles of this depot' })),
+          ...pageQuery(100, 1000),
+          offset: Type.Integer({ minimum: 0, maximum: 100_000, default: 0, description: 'older paging style: rows to skip (not with cursor)' }),
           fleet: Type.Optional(Type.String({ description: 'admin keys only: one fleet (default: every fleet)' })),
+          unit: UnitParam,
         }),
-        response: { 200: Type.Object({ findings: Type.Array(FindingSchema) }), ...errorResponses(400, 401, 403) },
+        response: { 200: Type.Object({ unit: UnitField, findings: Type.Array(FindingSchema), nextCursor: NextCursor }), ...errorResponses(400, 401, 403) },
       },
     },
-    async (request) => {
+    async (request, reply) => {
       const principal = principalOf(request);
-      const { status, kind, limit, offset, fleet } = request.query;
-      if (fleet) assertFleetAccess(principal, fleet);
-      const list = await findings.list({ fleetId: principal.fleetId ?? fleet ?? null, ...(status ? { status } : {}), ...(kind ? { kind } : {}), limit, offset });
-      return { findings: list };
+      const q = request.query;
+      if (q.fleet) assertFleetAccess(principal, q.fleet);
+      if (q.severity !== undefined && q.minSeverity !== undefined) throw new BadRequestError('give severity or minSeverity, not both', 'validation_failed');
+      if (q.cursor !== undefined && q.offset > 0) throw new BadRequestError('give cursor or offset, not both', 'validation_failed');
+      const sinceMs = parseTimeParam('since', q.since);
+      const severities = q.minSeverity !== undefined ? severitiesFrom(q.minSeverity) : listValues<Severity>(q.severity);
+      const statuses = listValues<FindingStatus>(q.status);
+      const kinds = listValues(q.kind);
+      const vehicleIds = listValues(q.vehicle);
+      const page = await findings.list(
+        {
+          fleetId: principal.fleetId ?? q.fleet ?? null, ...(statuses ? { statuses } : {}), ...(kinds ? { kinds } : {}), ...(severities ? { severities } : {}),
+          ...(vehicleIds ? { vehicleIds } : {}), ...(sinceMs !== undefined ? { sinceMs } : {}), ...(q.depot !== undefined ? { depot: q.depot } : {}),
+        },
+        { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(FINDING_ORDER)), offset: q.offset },
+      );
+      return inUnit(reply, q.unit, { unit: q.unit, findings: page.items, nextCursor: nextCursorOf(page) });
+    },
+  );
+
+  app.get(
+    '/v1/findings/:findingId',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['findings'],
+        summary: 'One finding with its audit trail',
+        description: 'The history lists, oldest first, every planner action on the finding (acknowledge, defer, reopen) and every change a '
+          + 'corrected or deleted service event made to it (service-event-correct, service-event-delete, naming the event).',
+        security: SECURITY,
+        params: FindingIdParams,
+        querystring: Type.Object({ unit: UnitParam }),
+        response: { 200: Type.Intersect([FindingSchema, Type.Object({ unit: UnitField, history: Type.Array(AuditEntry) })]), ...errorResponses(400, 401, 403, 404) },
+      },
+    },
+    async (request, reply) => {
+      const found = await actions.withHistory(principalOf(request), request.params.findingId);
+      return inUnit(reply, request.query.unit, { ...found, unit: request.query.unit });
     },
   );
 

@@ -1,12 +1,13 @@
 import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
-import { sql } from 'kysely';
 import { Type } from 'typebox';
-import type { Severity } from '../../analysis/findings/finding.js';
+import { AT_RISK_ORDER, atRiskVehicles } from '../../db/at-risk-repository.js';
 import { severitiesFrom } from '../../db/findings-repository.js';
-import type { FindingBriefView } from '../../db/vehicle-risk.js';
+import { keyTypes } from '../../db/keyset.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { FindingBrief, SeveritySchema } from '../schemas/finding.js';
+import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
+import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
 
 /** The planner's fleet view: which vehicles are at risk, and why. */
 const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
@@ -22,51 +23,44 @@ const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
         description:
           'Risk 0–100 comes from the unresolved findings (severity, confidence, recency at the vehicle\'s latest reading). ' +
           'Acknowledged and deferred findings still count and are listed with their `status` (a planner having seen a finding repairs nothing); ' +
-          'only a repair or quiet evidence resolves them. `minSeverity` keeps vehicles with an unresolved finding at least that severe, and only those findings.',
+          'only a repair or quiet evidence resolves them. `minSeverity` keeps vehicles with an unresolved finding at least that severe, and only those findings. ' +
+          '`depot` keeps one depot\'s vehicles. A page at a time: pass `nextCursor` as `?cursor=` (a vehicle whose risk changes meanwhile may move).',
         security: SECURITY,
         querystring: Type.Object({
-          limit: Type.Integer({ minimum: 1, maximum: 1000, default: 50 }),
+          ...pageQuery(50, 1000),
           minSeverity: Type.Optional(SeveritySchema),
+          depot: Type.Optional(Type.String({ minLength: 1, maxLength: 64, description: 'only the vehicles of this depot' })),
           fleet: Type.Optional(Type.String({ description: 'admin keys only: one fleet (default: every fleet)' })),
+          unit: UnitParam,
         }),
         response: {
           200: Type.Object({
+            unit: UnitField,
             vehicles: Type.Array(Type.Object({
               vehicleId: Type.String(),
               riskScore: Type.Number({ minimum: 0, maximum: 100 }),
               maxSeverity: SeveritySchema,
               analysedUpTo: Type.Union([Type.String({ format: 'date-time', description: "the vehicle's latest analysed reading" }), Type.Null()]),
+              depot: Type.Union([Type.String(), Type.Null()]),
+              atmosphericPressureKpa: Type.Number({ description: "the atmospheric pressure the vehicle's boiling point uses, kPa" }),
+              siteSource: Type.Union([Type.Literal('vehicle'), Type.Literal('depot'), Type.Literal('sea level')]),
+              defaultProfile: Type.Boolean({ description: 'on the default profile: boiling and freezing figures are assumptions' }),
               findings: Type.Array(FindingBrief),
             })),
+            nextCursor: NextCursor,
           }),
           ...errorResponses(400, 401, 403),
         },
       },
     },
-    async (request) => {
+    async (request, reply) => {
       const principal = principalOf(request);
-      if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
-      const fleetId = principal.fleetId ?? request.query.fleet ?? null;
-      const severities = severitiesFrom(request.query.minSeverity ?? 'advisory');
-      // One index range scan of vehicle_analysis_risk_idx (fleet_id, risk_score desc, vehicle_id), no
-      // sort, no join: each vehicle's open findings are kept beside its risk as JSON (migration 0004),
-      // already in the response's shape and order.
-      const top = await sql<{ vehicle_id: string; risk_score: number; max_severity: Severity; last_reading_at: Date | null; brief: FindingBriefView[] }>`
-        select a.vehicle_id, a.risk_score, a.max_severity, a.last_reading_at, a.open_findings_brief as brief
-        from vehicle_analysis a
-        where (${fleetId}::text is null or a.fleet_id = ${fleetId}) and a.open_findings > 0 and a.max_severity = any(${severities}::text[])
-        order by a.risk_score desc, a.vehicle_id
-        limit ${request.query.limit}`.execute(db);
-      const all = severities.length === 3;
-      return {
-        vehicles: top.rows.map((v) => ({
-          vehicleId: v.vehicle_id,
-          riskScore: v.risk_score,
-          maxSeverity: v.max_severity,
-          analysedUpTo: v.last_reading_at?.toISOString() ?? null,
-          findings: all ? v.brief : v.brief.filter((f) => severities.includes(f.severity)),
-        })),
-      };
+      const q = request.query;
+      if (q.fleet) assertFleetAccess(principal, q.fleet);
+      const page = await atRiskVehicles(db, {
+        fleetId: principal.fleetId ?? q.fleet ?? null, severities: severitiesFrom(q.minSeverity ?? 'advisory'), ...(q.depot !== undefined ? { depot: q.depot } : {}),
+      }, { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(AT_RISK_ORDER)) });
+      return inUnit(reply, q.unit, { unit: q.unit, vehicles: page.items, nextCursor: nextCursorOf(page) });
     },
   );
 };

@@ -2,13 +2,16 @@ import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { UnknownFleetError } from '../../report/build-weekly-report.js';
 import { formatIsoWeek, lastCompleteIsoWeek, parseIsoWeek, weekWindow } from '../../time/iso-week.js';
-import { createReportRepository } from '../../db/weekly-report-repository.js';
-import { reportBaseName } from '../../report/weekly-report-files.js';
+import { keyTypes } from '../../db/keyset.js';
+import { ARCHIVE_ORDER, createReportRepository } from '../../db/weekly-report-repository.js';
+import { reportBaseName, reportInUnit } from '../../report/weekly-report-files.js';
 import { WeeklyReportSchema } from '../../report/weekly-report-schema.js';
 import { currentWeeklyReport } from '../../report/weekly-report-service.js';
 import { BadRequestError, NotFoundError } from '../errors.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
+import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
+import { UNIT_HEADER, UnitParam } from '../schemas/temperature-unit.js';
 
 const FORMATS = { json: 'application/json; charset=utf-8', html: 'text/html; charset=utf-8', csv: 'text/csv; charset=utf-8' } as const;
 
@@ -34,6 +37,7 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
           format: Type.Union([Type.Literal('json'), Type.Literal('html'), Type.Literal('csv')], { default: 'json' }),
           fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })),
           refresh: Type.Boolean({ default: false, description: 'rebuild even when an archived report of the ended week exists' }),
+          unit: UnitParam,
         }),
         response: {
           200: {
@@ -73,11 +77,53 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         if (err instanceof UnknownFleetError) throw new NotFoundError(err.message);
         throw err;
       }
+      // Built and archived in °C; another unit converts the copy served (JSON `unit`, CSV column temperatureUnit, the header).
+      const served = request.query.unit === 'C' ? { report: out.json, html: out.html, csv: out.csv } : reportInUnit(out.json, request.query.unit);
       reply.type(FORMATS[format]);
       reply.header('x-report-source', out.source);
-      if (format === 'json') return reply.send(out.json);
+      reply.header(UNIT_HEADER, request.query.unit);
+      if (format === 'json') return reply.send(served.report);
       if (format === 'csv') reply.header('content-disposition', `attachment; filename="${reportBaseName(fleetId, name)}.csv"`);
-      return reply.send(format === 'html' ? out.html : out.csv);
+      return reply.send(format === 'html' ? served.html : served.csv);
+    },
+  );
+
+  app.get(
+    '/v1/reports/weekly/archive',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['reports'],
+        summary: "The fleet's archived weekly reports, newest week first, a page at a time",
+        description: 'Each entry says when it was built, whether its week had ended with the analysis caught up, and how many vehicles its work list has. '
+          + 'Fetch one with GET /v1/reports/weekly?week= (a stale archive is rebuilt there).',
+        security: SECURITY,
+        querystring: Type.Object({ ...pageQuery(104, 520), fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })) }),
+        response: {
+          200: Type.Object({
+            fleetId: Type.String(),
+            reports: Type.Array(Type.Object({
+              isoWeek: Type.String(),
+              generatedAt: Type.String({ format: 'date-time' }),
+              complete: Type.Union([Type.Boolean(), Type.Null()], { description: 'the week had ended and its analysis had caught up (null: archived before coverage was recorded)' }),
+              workItems: Type.Union([Type.Integer(), Type.Null()], { description: 'vehicles on the work list' }),
+              url: Type.String(),
+            })),
+            nextCursor: NextCursor,
+          }),
+          ...errorResponses(400, 401, 403, 404),
+        },
+      },
+    },
+    async (request) => {
+      const principal = principalOf(request);
+      if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
+      const fleetId = principal.fleetId ?? request.query.fleet;
+      if (!fleetId) throw new BadRequestError('an admin key must name the fleet: ?fleet=<fleetId>');
+      if (!(await reports.fleet(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
+      const page = await reports.archivedPage(fleetId, { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(ARCHIVE_ORDER)) });
+      const fleetParam = principal.fleetId === null ? `&fleet=${encodeURIComponent(fleetId)}` : '';
+      return { fleetId, reports: page.items.map((r) => ({ ...r, url: `/v1/reports/weekly?week=${r.isoWeek}${fleetParam}` })), nextCursor: nextCursorOf(page) };
     },
   );
 };

@@ -2,13 +2,15 @@ import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { SERVICE_EVENT_KINDS } from '../../analysis/findings/service-events.js';
 import { createPlannerActionsRepository } from '../../db/planner-actions-repository.js';
-import { createServiceEventsRepository, toServiceEventView } from '../../db/service-events-repository.js';
+import { keyTypes } from '../../db/keyset.js';
+import { createServiceEventsRepository, SERVICE_EVENT_ORDER, toServiceEventView } from '../../db/service-events-repository.js';
 import { createVehiclesRepository } from '../../db/vehicles-repository.js';
 import { NotFoundError } from '../errors.js';
 import { createServiceEventActions } from '../planner/service-event-actions.js';
 import { principalOf } from '../plugins/auth.js';
+import { AuditEntry } from '../schemas/audit.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
-import { decodeCursor, NextCursor, page, pageQuery } from '../schemas/paging.js';
+import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
 import { parseTimeParam } from '../schemas/time-range.js';
 import { requireVehicle } from '../vehicle-access.js';
 
@@ -27,11 +29,6 @@ const ServiceEventSchema = Type.Object({
   updatedAt: Type.Union([Type.String({ format: 'date-time', description: 'last correction' }), Type.Null()]),
   resolvedFindings: Type.Array(Type.String(), { description: 'ids of the findings this event resolved' }),
   inspectedFindings: Type.Array(Type.String(), { description: 'ids of the findings an inspection looked at (not resolved by it)' }),
-});
-
-const AuditEntry = Type.Object({
-  id: Type.String(), action: Type.String({ description: 'correct or delete' }), keyId: Type.String(), at: Type.String({ format: 'date-time' }),
-  before: Type.Union([Type.Record(Type.String(), Type.Unknown()), Type.Null()]), after: Type.Union([Type.Record(Type.String(), Type.Unknown()), Type.Null()]),
 });
 
 const EventParams = Type.Intersect([VehicleIdParams, Type.Object({ eventId: Type.String({ minLength: 1, maxLength: 64 }) })]);
@@ -98,11 +95,8 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
     },
     async (request) => {
       await requireVehicle(vehicles, principalOf(request), request.params.vehicleId);
-      const key = decodeCursor(request.query.cursor, 2);
-      const after = key ? { atMs: Number(key[0]), eventId: String(key[1]) } : undefined;
-      const rows = await events.list(request.params.vehicleId, request.query.limit + 1, after);
-      const { items, nextCursor } = page(rows, request.query.limit, (r) => [r.at.getTime(), r.event_id]);
-      return { events: items.map(toServiceEventView), nextCursor };
+      const page = await events.list(request.params.vehicleId, { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(SERVICE_EVENT_ORDER)) });
+      return { events: page.items, nextCursor: nextCursorOf(page) };
     },
   );
 
@@ -161,19 +155,28 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       onRequest: app.requireScope('read'),
       schema: {
         tags: ['service events'],
-        summary: 'Delete a wrong service event: the findings it resolved are reopened',
-        description: 'Audited; the entry is kept out of every list and out of the analysis, and the vehicle is re-analysed.',
+        summary: 'Delete a wrong service event: the findings it resolved are reopened where their evidence is still there',
+        description: 'Audited, on the event and on every finding it touches (action service-event-delete); the entry is kept out of every list and out of the analysis, '
+          + 'and the vehicle is re-analysed. Findings derived under the baseline the event started are superseded by the reopened ones.',
         security: SECURITY,
         params: EventParams,
-        response: { 200: Type.Object({ deleted: Type.String(), reopenedFindings: Type.Array(Type.String()) }), ...errorResponses(401, 403, 404) },
+        response: {
+          200: Type.Object({
+            deleted: Type.String(),
+            reopenedFindings: Type.Array(Type.String(), { description: 'resolved by the event, evidence still there: unresolved again' }),
+            evidenceStoppedFindings: Type.Array(Type.String(), { description: 'resolved by the event, but their evidence had stopped for the quiet period: stay resolved, as evidence-stopped' }),
+            supersededFindings: Type.Array(Type.String(), { description: 'derived under the baseline the event started: the reopened findings carry their evidence now' }),
+          }),
+          ...errorResponses(401, 403, 404),
+        },
       },
     },
     async (request) => {
       const principal = principalOf(request);
       const vehicle = await requireVehicle(vehicles, principal, request.params.vehicleId);
-      const reopenedFindings = await actions.remove(principal, vehicle, request.params.eventId);
+      const undone = await actions.remove(principal, vehicle, request.params.eventId);
       app.ingestNotifier.emit('analysis-needed', vehicle.fleetId);
-      return { deleted: request.params.eventId, reopenedFindings };
+      return { deleted: request.params.eventId, reopenedFindings: undone.reopened, evidenceStoppedFindings: undone.evidenceStopped, supersededFindings: undone.superseded };
     },
   );
 };

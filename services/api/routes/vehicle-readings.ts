@@ -5,6 +5,7 @@ import { createVehiclesRepository } from '../../db/vehicles-repository.js';
 import { BadRequestError } from '../errors.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
+import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
 import { parseTimeParam, TimeParam } from '../schemas/time-range.js';
 import { requireVehicle } from '../vehicle-access.js';
 
@@ -38,10 +39,12 @@ const vehicleReadingsRoutes: FastifyPluginAsyncTypebox = async (app) => {
           from: TimeParam('window start (inclusive)'),
           to: TimeParam('window end (exclusive)'),
           maxPoints: Type.Integer({ minimum: 2, maximum: 10_000, default: 1000 }),
+          unit: UnitParam,
         }),
         response: {
           200: Type.Object({
             vehicleId: Type.String(),
+            unit: UnitField,
             from: Type.String({ format: 'date-time' }),
             to: Type.String({ format: 'date-time' }),
             bucketMs: Type.Integer({ description: 'bucket width, ms' }),
@@ -60,7 +63,7 @@ const vehicleReadingsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         },
       },
     },
-    async (request) => {
+    async (request, reply) => {
       const { vehicleId } = request.params;
       await requireVehicle(vehicles, principalOf(request), vehicleId);
       let to = parseTimeParam('to', request.query.to);
@@ -82,8 +85,9 @@ const vehicleReadingsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         where vehicle_id = ${vehicleId} and ts >= to_timestamp(${from}::float8 / 1000) and ts < to_timestamp(${to}::float8 / 1000)
         group by 1 order by 1`.execute(db);
       const round = (v: number | null, digits: number) => (v === null ? null : Math.round(v * 10 ** digits) / 10 ** digits);
-      return {
+      return inUnit(reply, request.query.unit, {
         vehicleId,
+        unit: request.query.unit,
         from: new Date(from).toISOString(),
         to: new Date(to).toISOString(),
         bucketMs,
@@ -91,7 +95,7 @@ const vehicleReadingsRoutes: FastifyPluginAsyncTypebox = async (app) => {
           t: new Date(from + r.b * bucketMs).toISOString(), n: r.n, coolantMinC: r.cmin, coolantMaxC: r.cmax, coolantMeanC: round(r.cmean, 2)!,
           ambientC: round(r.amb, 2), speedKph: round(r.spd, 1), rpm: round(r.rpm, 0),
         })),
-      };
+      });
     },
   );
 };

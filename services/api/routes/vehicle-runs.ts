@@ -1,11 +1,15 @@
 import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
-import { sql } from 'kysely';
 import { Type } from 'typebox';
-import { createFindingsRepository } from '../../db/findings-repository.js';
+import { createFindingsRepository, VEHICLE_FINDING_ORDER } from '../../db/findings-repository.js';
+import { keyTypes } from '../../db/keyset.js';
+import { createVehicleHistoryRepository, DAY_ORDER, RUN_ORDER } from '../../db/vehicle-history-repository.js';
 import { createVehiclesRepository } from '../../db/vehicles-repository.js';
+import { BadRequestError } from '../errors.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
 import { FindingSchema } from '../schemas/finding.js';
+import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
+import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
 import { parseTimeParam, TimeParam } from '../schemas/time-range.js';
 import { requireVehicle } from '../vehicle-access.js';
 
@@ -14,16 +18,24 @@ const RunSchema = Type.Object({
   endTs: Type.String({ format: 'date-time' }),
   startKind: Type.String({ description: "'cold' or 'warm'" }),
   open: Type.Boolean({ description: 'the run may still continue (no gap seen after it yet)' }),
-  metrics: Type.Record(Type.String(), Type.Union([Type.Number(), Type.Boolean(), Type.String(), Type.Null()]), {
-    description: 'warm-up and operating metrics of the run (°C, s, km/h), as computed by the analysis',
+  metrics: Type.Record(Type.String(), Type.Union([Type.Number(), Type.Boolean(), Type.String(), Type.Null(), Type.Array(Type.Unknown()), Type.Record(Type.String(), Type.Unknown())]), {
+    description: 'warm-up and operating metrics of the run (temperatures in the reply\'s unit, s, km/h), as computed by the analysis',
   }),
 });
 
-/** Per-vehicle analysis results: engine runs and findings. */
+const DaySchema = Type.Object({
+  day: Type.String({ format: 'date', description: 'UTC day' }),
+  metrics: Type.Record(Type.String(), Type.Unknown(), { description: "the day's aggregates (peak, warm median and ambient temperatures in the reply's unit, engine hours, samples)" }),
+});
+
+const DATE = '^\\d{4}-\\d{2}-\\d{2}$';
+
+/** Per-vehicle analysis results: engine runs, vehicle-days and findings, each a page at a time. */
 const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
   const db = app.database.db;
   const vehicles = createVehiclesRepository(db);
   const findings = createFindingsRepository(db);
+  const history = createVehicleHistoryRepository(db);
 
   app.get(
     '/v1/vehicles/:vehicleId/runs',
@@ -37,26 +49,49 @@ const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         querystring: Type.Object({
           from: TimeParam('runs starting at or after'),
           to: TimeParam('runs starting before'),
-          limit: Type.Integer({ minimum: 1, maximum: 1000, default: 100 }),
+          ...pageQuery(100, 1000),
+          unit: UnitParam,
         }),
-        response: { 200: Type.Object({ vehicleId: Type.String(), runs: Type.Array(RunSchema) }), ...errorResponses(400, 401, 403, 404) },
+        response: { 200: Type.Object({ vehicleId: Type.String(), unit: UnitField, runs: Type.Array(RunSchema), nextCursor: NextCursor }), ...errorResponses(400, 401, 403, 404) },
       },
     },
-    async (request) => {
+    async (request, reply) => {
       const { vehicleId } = request.params;
+      const q = request.query;
       await requireVehicle(vehicles, principalOf(request), vehicleId);
-      const from = parseTimeParam('from', request.query.from) ?? null;
-      const to = parseTimeParam('to', request.query.to) ?? null;
-      const rows = await sql<{ start_ts: Date; end_ts: Date; start_kind: string; open: boolean; metrics: Record<string, number | boolean | string | null> }>`
-        select start_ts, end_ts, start_kind, open, metrics from engine_runs
-        where vehicle_id = ${vehicleId}
-          and (${from}::float8 is null or start_ts >= to_timestamp(${from}::float8 / 1000))
-          and (${to}::float8 is null or start_ts < to_timestamp(${to}::float8 / 1000))
-        order by start_ts desc limit ${request.query.limit}`.execute(db);
-      return {
-        vehicleId,
-        runs: rows.rows.map((r) => ({ startTs: r.start_ts.toISOString(), endTs: r.end_ts.toISOString(), startKind: r.start_kind, open: r.open, metrics: r.metrics })),
-      };
+      const range = { fromMs: parseTimeParam('from', q.from) ?? null, toMs: parseTimeParam('to', q.to) ?? null };
+      const page = await history.runs(vehicleId, range, { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(RUN_ORDER)) });
+      return inUnit(reply, q.unit, { vehicleId, unit: q.unit, runs: page.items, nextCursor: nextCursorOf(page) });
+    },
+  );
+
+  app.get(
+    '/v1/vehicles/:vehicleId/days',
+    {
+      onRequest: app.requireScope('read'),
+      schema: {
+        tags: ['vehicles'],
+        summary: "A vehicle's daily aggregates (UTC days), newest first",
+        security: SECURITY,
+        params: VehicleIdParams,
+        querystring: Type.Object({
+          from: Type.Optional(Type.String({ pattern: DATE, description: 'first day, YYYY-MM-DD' })),
+          to: Type.Optional(Type.String({ pattern: DATE, description: 'last day, YYYY-MM-DD' })),
+          ...pageQuery(100, 1000),
+          unit: UnitParam,
+        }),
+        response: { 200: Type.Object({ vehicleId: Type.String(), unit: UnitField, days: Type.Array(DaySchema), nextCursor: NextCursor }), ...errorResponses(400, 401, 403, 404) },
+      },
+    },
+    async (request, reply) => {
+      const { vehicleId } = request.params;
+      const q = request.query;
+      for (const [name, v] of [['from', q.from], ['to', q.to]] as const) {
+        if (v !== undefined && Number.isNaN(Date.parse(`${v}T00:00:00Z`))) throw new BadRequestError(`${name} is not a calendar date: '${v}'`, 'validation_failed');
+      }
+      await requireVehicle(vehicles, principalOf(request), vehicleId);
+      const page = await history.days(vehicleId, { from: q.from ?? null, to: q.to ?? null }, { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(DAY_ORDER)) });
+      return inUnit(reply, q.unit, { vehicleId, unit: q.unit, days: page.items, nextCursor: nextCursorOf(page) });
     },
   );
 
@@ -67,15 +102,19 @@ const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['vehicles', 'findings'],
         summary: "A vehicle's findings in every status, with evidence, recommended check and trouble code",
+        description: 'Unresolved first (open, acknowledged, deferred), then resolved; newest evidence first within each. A page at a time: pass `nextCursor` as `?cursor=`.',
         security: SECURITY,
         params: VehicleIdParams,
-        response: { 200: Type.Object({ vehicleId: Type.String(), findings: Type.Array(FindingSchema) }), ...errorResponses(401, 403, 404) },
+        querystring: Type.Object({ ...pageQuery(200, 1000), unit: UnitParam }),
+        response: { 200: Type.Object({ vehicleId: Type.String(), unit: UnitField, findings: Type.Array(FindingSchema), nextCursor: NextCursor }), ...errorResponses(400, 401, 403, 404) },
       },
     },
-    async (request) => {
+    async (request, reply) => {
       const { vehicleId } = request.params;
+      const q = request.query;
       await requireVehicle(vehicles, principalOf(request), vehicleId);
-      return { vehicleId, findings: await findings.ofVehicle(vehicleId) };
+      const page = await findings.ofVehicle(vehicleId, { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(VEHICLE_FINDING_ORDER)) });
+      return inUnit(reply, q.unit, { vehicleId, unit: q.unit, findings: page.items, nextCursor: nextCursorOf(page) });
     },
   );
 };

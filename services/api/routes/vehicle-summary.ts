@@ -63,7 +63,7 @@ const vehicleSummaryRoutes: FastifyPluginAsyncTypebox = async (app) => {
     },
     async (request) => {
       const vehicle = await requireVehicle(vehicles, principalOf(request), request.params.vehicleId);
-      const unresolved = (await findings.ofVehicle(vehicle.vehicleId)).filter((f) => f.status !== 'resolved');
+      const unresolved = await findings.unresolvedOfVehicle(vehicle.vehicleId);
       const analysedMs = await board.analysedUpTo(vehicle.vehicleId);
       const charts = await vehicleCharts(
         db,

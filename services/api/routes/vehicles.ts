@@ -5,6 +5,8 @@ import { createVehiclesRepository } from '../../db/vehicles-repository.js';
 import { BadRequestError, ForbiddenError, NotFoundError } from '../errors.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
+import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
+import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
 import { Vehicle, VehicleProfilePatchBody } from '../schemas/vehicle.js';
 import { requireVehicle } from '../vehicle-access.js';
 import { toProfilePatch } from '../vehicle-profile-input.js';
@@ -61,23 +63,30 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
         tags: ['vehicles'],
         summary: "List the fleet's vehicles",
         security: SECURITY,
+        description: 'By vehicle id, a page at a time: pass `nextCursor` as `?cursor=` (the older `after`/`nextAfter` still work).',
         querystring: Type.Object({
-          limit: Type.Integer({ minimum: 1, maximum: 1000, default: 100 }),
-          after: Type.Optional(Type.String({ description: 'vehicle id to continue after (from nextAfter)' })),
+          ...pageQuery(100, 1000),
+          after: Type.Optional(Type.String({ description: 'vehicle id to continue after (from nextAfter; superseded by cursor)' })),
+          depot: Type.Optional(Type.String({ minLength: 1, maxLength: 64, description: 'only the vehicles of this depot' })),
           fleet: Type.Optional(Type.String({ description: 'admin keys only: restrict to one fleet' })),
+          unit: UnitParam,
         }),
-        response: { 200: Type.Object({ vehicles: Type.Array(Vehicle), nextAfter: Type.Union([Type.String(), Type.Null()]) }), ...errorResponses(400, 401, 403) },
+        response: {
+          200: Type.Object({ unit: UnitField, vehicles: Type.Array(Vehicle), nextCursor: NextCursor, nextAfter: Type.Union([Type.String(), Type.Null()], { description: 'the last vehicle id of the page when another follows (older style)' }) }),
+          ...errorResponses(400, 401, 403),
+        },
       },
     },
-    async (request) => {
+    async (request, reply) => {
       const principal = principalOf(request);
       if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
       const fleetId = principal.fleetId ?? request.query.fleet ?? null;
-      const { limit, after } = request.query;
-      // One more than the page tells whether another page follows, so the last page says null.
-      const list = await vehicles.list({ fleetId, limit: limit + 1, ...(after ? { after } : {}) });
-      const page = list.slice(0, limit);
-      return { vehicles: page, nextAfter: list.length > limit ? page[page.length - 1]!.vehicleId : null };
+      const { limit, after, cursor, depot } = request.query;
+      if (after !== undefined && cursor !== undefined) throw new BadRequestError('give cursor or after, not both', 'validation_failed');
+      const key = decodeCursor(cursor, ['text']) ?? (after !== undefined ? [after] : undefined);
+      const page = await vehicles.list({ fleetId, limit, after: key, ...(depot !== undefined ? { depot } : {}) });
+      const unit = request.query.unit;
+      return inUnit(reply, unit, { unit, vehicles: page.items, nextCursor: nextCursorOf(page), nextAfter: page.nextKey === null ? null : String(page.nextKey[0]) });
     },
   );
 
@@ -90,10 +99,14 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
         summary: "A vehicle's profile",
         security: SECURITY,
         params: VehicleIdParams,
-        response: { 200: Vehicle, ...errorResponses(401, 403, 404) },
+        querystring: Type.Object({ unit: UnitParam }),
+        response: { 200: Type.Intersect([Vehicle, Type.Object({ unit: UnitField })]), ...errorResponses(400, 401, 403, 404) },
       },
     },
-    async (request) => requireVehicle(vehicles, principalOf(request), request.params.vehicleId),
+    async (request, reply) => {
+      const vehicle = await requireVehicle(vehicles, principalOf(request), request.params.vehicleId);
+      return inUnit(reply, request.query.unit, { ...vehicle, unit: request.query.unit });
+    },
   );
 };
 

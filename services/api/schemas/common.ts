@@ -10,8 +10,11 @@ export const ErrorBody = Type.Object(
   { $id: 'ErrorBody', description: 'The uniform error body.' },
 );
 
+/** A vehicle id (without anchors, to build list patterns from). */
+export const VEHICLE_ID_PATTERN = '[A-Za-z0-9][A-Za-z0-9_.:-]{0,63}';
+
 export const VehicleIdParams = Type.Object({
-  vehicleId: Type.String({ pattern: '^[A-Za-z0-9][A-Za-z0-9_.:-]{0,63}$', description: 'the vehicle id the gateway reports' }),
+  vehicleId: Type.String({ pattern: `^${VEHICLE_ID_PATTERN}$`, description: 'the vehicle id the gateway reports' }),
 });
 
 const ERROR_DESCRIPTIONS: Record<number, string> = {

@@ -20,7 +20,9 @@ export const VehicleProfilePatchBody = Type.Object(
     })),
     capPressure: Type.Optional(Type.Number({ minimum: 0, description: 'cap rating in capPressureUnit (instead of capPressureKpa)' })),
     capPressureUnit: Type.Optional(Type.Union([Type.Literal('kPa'), Type.Literal('psi'), Type.Literal('bar')], { description: 'unit of capPressure, gauge (default kPa)' })),
-    depot: Type.Optional(Type.Union([Type.String({ minLength: 1, maxLength: 64 }), Type.Null()], { description: 'the depot or site the vehicle works from' })),
+    depot: Type.Optional(Type.Union([Type.String({ minLength: 1, maxLength: 64 }), Type.Null()], {
+      description: "id of the depot the vehicle works from (PUT /v1/depots/{depotId}); the depot's site sets the boiling point when the vehicle has no site of its own",
+    })),
     siteAltitudeM: Type.Optional(Type.Union([Type.Number({ minimum: -500, maximum: 5000 }), Type.Null()], {
       description: 'altitude of the site, m: sets the atmospheric pressure (ISO 2533 standard atmosphere) unless atmosphericPressureKpa is given',
     })),
@@ -48,6 +50,8 @@ export const Vehicle = Type.Object({
   glycolPercentByVolume: Type.Number({ description: 'the same mix by volume, % (converted with the densities above)' }),
   depot: Type.Union([Type.String(), Type.Null()]),
   siteAltitudeM: Type.Union([Type.Number(), Type.Null()]),
-  atmosphericPressureKpa: Type.Number({ description: 'used for the boiling point, kPa (101.325 when the site is not given)' }),
+  atmosphericPressureKpa: Type.Number({ description: "used for the boiling point, kPa: the vehicle's own site, else its depot's, else 101.325 (sea level)" }),
+  siteSource: Type.Union([Type.Literal('vehicle'), Type.Literal('depot'), Type.Literal('sea level')], { description: 'where atmosphericPressureKpa comes from' }),
+  depotName: Type.Union([Type.String(), Type.Null()], { description: "the depot's name, when the depot is registered with one (PUT /v1/depots/{depotId})" }),
   defaultProfile: Type.Boolean({ description: 'true: no profile was set; thermostat, cap and glycol are defaults, so boiling and freezing figures are assumptions' }),
 });
