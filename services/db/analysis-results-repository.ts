@@ -143,3 +143,9 @@ export function createAnalysisStore(db: Kysely<Database>) {
 }
 
 export type AnalysisStore = ReturnType<typeof createAnalysisStore>;
+
+/** The time of a vehicle's latest analysed reading (its analysis time), or undefined before its first analysis. */
+export async function lastAnalysedReadingAt(executor: Kysely<Database>, vehicleId: string): Promise<Date | undefined> {
+  const row = await executor.selectFrom('vehicle_analysis').select('last_reading_at').where('vehicle_id', '=', vehicleId).executeTakeFirst();
+  return row?.last_reading_at ?? undefined;
+}

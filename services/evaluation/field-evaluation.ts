@@ -1,4 +1,4 @@
-import { EXPECTED_FINDINGS } from '../analysis/evaluation.js';
+import { EXPECTED_FINDINGS } from './expected-findings.js';
 import type { SimVehicle } from '../simulator/index.js';
 import type { ServiceFactory } from './evaluation-service.js';
 import { faultVisible } from './fault-visibility.js';

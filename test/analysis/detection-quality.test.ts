@@ -1,7 +1,6 @@
 import { beforeAll, describe, expect, it } from 'vitest';
-import {
-  compareTables, type DetectionTable, detectionTable, EXPECTED_FINDINGS, formatDetectionTable, type LineComparison, NAIVE_EXPECTED,
-} from '../../services/analysis/evaluation.js';
+import { EXPECTED_FINDINGS } from '../../services/evaluation/expected-findings.js';
+import { compareTables, type DetectionTable, detectionTable, formatDetectionTable, type LineComparison, NAIVE_EXPECTED } from './detection-table.js';
 import { evaluateFleet } from './evaluation-fleet.js';
 
 /**

@@ -1,7 +1,7 @@
 import { analyseSamples, type SampleAnalysis } from '../../services/analysis/analyse-samples.js';
 import { type AnalysisConfig, resolveConfig } from '../../services/analysis/config.js';
 import { deriveFindings } from '../../services/analysis/derive-findings.js';
-import { type EvaluatedVehicle, NAIVE_COLD, NAIVE_OVERHEAT } from '../../services/analysis/evaluation.js';
+import { type EvaluatedVehicle, NAIVE_COLD, NAIVE_OVERHEAT } from './detection-table.js';
 import { buildPeerBaseline, type PeerBaseline } from '../../services/analysis/peer-baseline.js';
 import type { SampleArrays } from '../../services/analysis/sample-arrays.js';
 import type { VehicleProfile } from '../../services/analysis/vehicle-profile.js';

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { EXPECTED_FINDINGS } from '../../services/analysis/evaluation.js';
+import { EXPECTED_FINDINGS } from '../../services/evaluation/expected-findings.js';
 import { FindingsLedger } from '../../services/evaluation/findings-ledger.js';
 import { riskAveragePrecision, scoreRun, type Alarm, type ScoredVehicle } from '../../services/evaluation/scoring.js';
 

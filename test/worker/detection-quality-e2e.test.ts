@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { detectionTable, EXPECTED_FINDINGS, formatDetectionTable } from '../../services/analysis/evaluation.js';
+import { EXPECTED_FINDINGS } from '../../services/evaluation/expected-findings.js';
+import { detectionTable, formatDetectionTable } from '../analysis/detection-table.js';
 import type { SampleArrays } from '../../services/analysis/sample-arrays.js';
 import { FAULT_KINDS, planFleet } from '../../services/simulator/index.js';
 import { evaluateFleet, simulateToArrays } from '../analysis/evaluation-fleet.js';

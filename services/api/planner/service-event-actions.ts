@@ -10,6 +10,7 @@ import { createServiceEventsRepository, toServiceEventView, type ServiceEventVie
 import { refreshVehicleRisk } from '../../db/vehicle-risk.js';
 import { createQueueRepository } from '../../db/analysis-queue-repository.js';
 import { NotFoundError } from '../errors.js';
+import { lastAnalysedReadingAt } from '../../db/analysis-results-repository.js';
 
 export interface ServiceEventInput {
   kind: ServiceEventKind;
@@ -50,8 +51,8 @@ export function createServiceEventActions(db: Kysely<Database>) {
   /** Risk refresh and a re-analysis of the vehicle, inside the transaction of the change. */
   async function afterChange(trx: Kysely<Database>, vehicleId: string, fleetId: string): Promise<void> {
     await refreshVehicleRisk(trx, vehicleId);
-    const state = await trx.selectFrom('vehicle_analysis').select('last_reading_at').where('vehicle_id', '=', vehicleId).executeTakeFirst();
-    if (state?.last_reading_at) await queue.enqueue(vehicleId, fleetId, state.last_reading_at.getTime(), trx);
+    const lastReadingAt = await lastAnalysedReadingAt(trx, vehicleId);
+    if (lastReadingAt) await queue.enqueue(vehicleId, fleetId, lastReadingAt.getTime(), trx);
   }
 
   /**
@@ -63,9 +64,8 @@ export function createServiceEventActions(db: Kysely<Database>) {
   async function undo(
     trx: Kysely<Database>, principal: Principal, vehicle: Vehicle, row: Selectable<ServiceEventsTable>, action: 'correct' | 'delete', keepKinds: readonly string[] = [],
   ): Promise<UndoneEvent> {
-    const state = await trx.selectFrom('vehicle_analysis').select('last_reading_at').where('vehicle_id', '=', vehicle.vehicleId).executeTakeFirst();
     const quietMs = resolveConfig(vehicle.engineFamily).findingStaleDays * DAY_MS;
-    const staleBeforeMs = (state?.last_reading_at?.getTime() ?? Date.now()) - quietMs;
+    const staleBeforeMs = ((await lastAnalysedReadingAt(trx, vehicle.vehicleId))?.getTime() ?? Date.now()) - quietMs;
     const { reopened, evidenceStopped } = await events.reopenResolvedBy(trx, vehicle.vehicleId, row.event_id, staleBeforeMs);
     // Baselines that still start at the event's time (another event then, or the corrected kind) stay.
     const kept = new Set([...keepKinds, ...(await events.kindsRestartedAt(trx, vehicle.vehicleId, row.event_id, row.at.getTime())).flatMap((k) => resolvedKinds(k as ServiceEventKind))]);

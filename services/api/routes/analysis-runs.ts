@@ -4,6 +4,7 @@ import { AnalysisRuns } from '../../worker/analysis-runs.js';
 import { NotFoundError } from '../errors.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
+import { fleetScopeOf } from '../request-fleet.js';
 
 const AnalysisRunSchema = Type.Object({
   runId: Type.String(),
@@ -52,8 +53,7 @@ const analysisRunsRoutes: FastifyPluginAsyncTypebox<AnalysisRunsRouteOptions> = 
     },
     async (request, reply) => {
       const principal = principalOf(request);
-      if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
-      const { run, done } = runs.start(principal.fleetId ?? request.query.fleet ?? null);
+      const { run, done } = runs.start(fleetScopeOf(principal, request.query.fleet));
       if (request.query.wait) return view(await done);
       return reply.status(202).header('location', `/v1/analysis/runs/${run.runId}`).send(view(run));
     },

@@ -4,12 +4,13 @@ import type { Principal } from '../../db/api-keys-repository.js';
 import { createDepotsRepository, DEPOT_ORDER } from '../../db/depots-repository.js';
 import { createFleetsRepository } from '../../db/fleets-repository.js';
 import { keyTypes } from '../../db/keyset.js';
-import { BadRequestError, ConflictError, NotFoundError } from '../errors.js';
+import { ConflictError, NotFoundError } from '../errors.js';
 import { createDepotActions } from '../planner/depot-actions.js';
-import { assertFleetAccess, principalOf } from '../plugins/auth.js';
+import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
 import { toSitePatch } from '../vehicle-profile-input.js';
+import { fleetScopeOf, oneFleetOf } from '../request-fleet.js';
 
 const DepotParams = Type.Object({ depotId: Type.String({ pattern: '^[^/]{1,64}$', description: 'the depot id, unique in the fleet (what vehicles name as their depot)' }) });
 const FleetQuery = Type.Object({ fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })) });
@@ -36,15 +37,6 @@ const DepotBody = Type.Object({
   })),
 }, { additionalProperties: false });
 
-/** The fleet a depot request is about: the key's own, or for admin keys the named one (which must exist). */
-async function depotFleet(principal: Principal, fleet: string | undefined, exists: (id: string) => Promise<boolean>): Promise<string> {
-  if (fleet) assertFleetAccess(principal, fleet);
-  const fleetId = principal.fleetId ?? fleet;
-  if (!fleetId) throw new BadRequestError('an admin key must name the fleet: ?fleet=<fleetId>');
-  if (principal.fleetId === null && !(await exists(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
-  return fleetId;
-}
-
 /**
  * A fleet's depots: the sites its vehicles work from. A vehicle without a site of its own takes
  * its depot's atmospheric pressure for the boiling point. Written with the ingest scope, as
@@ -55,7 +47,7 @@ const depotsRoutes: FastifyPluginAsyncTypebox = async (app) => {
   const depots = createDepotsRepository(db);
   const fleets = createFleetsRepository(db);
   const actions = createDepotActions(db);
-  const fleetOf = (principal: Principal, fleet: string | undefined) => depotFleet(principal, fleet, (id) => fleets.exists(id));
+  const fleetOf = (principal: Principal, fleet: string | undefined) => oneFleetOf(principal, fleet, fleets);
 
   app.put(
     '/v1/depots/:depotId',
@@ -96,8 +88,7 @@ const depotsRoutes: FastifyPluginAsyncTypebox = async (app) => {
     },
     async (request) => {
       const principal = principalOf(request);
-      if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
-      const page = await depots.list(principal.fleetId ?? request.query.fleet ?? null, { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(DEPOT_ORDER)) });
+      const page = await depots.list(fleetScopeOf(principal, request.query.fleet), { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(DEPOT_ORDER)) });
       return { depots: page.items, nextCursor: nextCursorOf(page) };
     },
   );

@@ -6,13 +6,14 @@ import { keyTypes } from '../../db/keyset.js';
 import { BadRequestError } from '../errors.js';
 import { createFindingActions, MAX_DEFERRAL_DAYS } from '../planner/finding-actions.js';
 import { AuditEntry } from '../schemas/audit.js';
-import { assertFleetAccess, principalOf } from '../plugins/auth.js';
+import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VEHICLE_ID_PATTERN } from '../schemas/common.js';
 import { FINDING_KINDS, FindingIdParams, FindingSchema, FINDING_STATUSES, SEVERITIES, SeveritySchema } from '../schemas/finding.js';
 import { listParam, listValues } from '../schemas/list-param.js';
 import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
 import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
 import { parseTimeParam, TimeParam } from '../schemas/time-range.js';
+import { fleetScopeOf } from '../request-fleet.js';
 
 /**
  * Findings across the fleet and their lifecycle: open → acknowledged → resolved, and deferred until
@@ -54,7 +55,6 @@ const findingsRoutes: FastifyPluginAsyncTypebox = async (app) => {
     async (request, reply) => {
       const principal = principalOf(request);
       const q = request.query;
-      if (q.fleet) assertFleetAccess(principal, q.fleet);
       if (q.severity !== undefined && q.minSeverity !== undefined) throw new BadRequestError('give severity or minSeverity, not both', 'validation_failed');
       if (q.cursor !== undefined && q.offset > 0) throw new BadRequestError('give cursor or offset, not both', 'validation_failed');
       const sinceMs = parseTimeParam('since', q.since);
@@ -64,7 +64,7 @@ const findingsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const vehicleIds = listValues(q.vehicle);
       const page = await findings.list(
         {
-          fleetId: principal.fleetId ?? q.fleet ?? null, ...(statuses ? { statuses } : {}), ...(kinds ? { kinds } : {}), ...(severities ? { severities } : {}),
+          fleetId: fleetScopeOf(principal, q.fleet), ...(statuses ? { statuses } : {}), ...(kinds ? { kinds } : {}), ...(severities ? { severities } : {}),
           ...(vehicleIds ? { vehicleIds } : {}), ...(sinceMs !== undefined ? { sinceMs } : {}), ...(q.depot !== undefined ? { depot: q.depot } : {}),
         },
         { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(FINDING_ORDER)), offset: q.offset },

@@ -3,11 +3,12 @@ import { Type } from 'typebox';
 import { AT_RISK_ORDER, atRiskVehicles } from '../../db/at-risk-repository.js';
 import { severitiesFrom } from '../../db/findings-repository.js';
 import { keyTypes } from '../../db/keyset.js';
-import { assertFleetAccess, principalOf } from '../plugins/auth.js';
+import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { FindingBrief, SeveritySchema } from '../schemas/finding.js';
 import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
 import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
+import { fleetScopeOf } from '../request-fleet.js';
 
 /** The planner's fleet view: which vehicles are at risk, and why. */
 const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
@@ -56,9 +57,8 @@ const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
     async (request, reply) => {
       const principal = principalOf(request);
       const q = request.query;
-      if (q.fleet) assertFleetAccess(principal, q.fleet);
       const page = await atRiskVehicles(db, {
-        fleetId: principal.fleetId ?? q.fleet ?? null, severities: severitiesFrom(q.minSeverity ?? 'advisory'), ...(q.depot !== undefined ? { depot: q.depot } : {}),
+        fleetId: fleetScopeOf(principal, q.fleet), severities: severitiesFrom(q.minSeverity ?? 'advisory'), ...(q.depot !== undefined ? { depot: q.depot } : {}),
       }, { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(AT_RISK_ORDER)) });
       return inUnit(reply, q.unit, { unit: q.unit, vehicles: page.items, nextCursor: nextCursorOf(page) });
     },

@@ -8,7 +8,7 @@ import { Counter } from '../metrics-registry.js';
 import { BadRequestError, ForbiddenError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
 import { bodyFormatOf, bodyRecords, type BodyStats } from '../ingest/body-records.js';
 import { type BusProtocol, FRAME_SHAPES, FrameRecords } from '../ingest/frames/frame-records.js';
-import { ingestFleetOf } from '../ingest/ingest-fleet.js';
+import { oneFleetOf } from '../request-fleet.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { MAX_REJECTED_LISTED } from './readings.js';
@@ -98,7 +98,7 @@ const framesRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReading
         const principal = principalOf(request);
         const format = bodyFormatOf(request.headers['content-type']);
         if (!format) throw new UnsupportedMediaTypeError('send application/json, application/x-ndjson or text/csv');
-        const fleetId = await ingestFleetOf(principal, request.query.fleet, fleets, `/v1/frames/${protocol}`);
+        const fleetId = await oneFleetOf(principal, request.query.fleet, fleets, `POST /v1/frames/${protocol}`);
 
         const stats: BodyStats = { bytes: 0 };
         const rows = new FrameRecords(protocol, Date.now(), opts.ingestMaxAgeDays);

@@ -8,7 +8,7 @@ import { ClientClosedRequestError, ForbiddenError, PayloadTooLargeError, Unsuppo
 import { bodyFormatOf, bodyRecords, type BodyStats } from '../ingest/body-records.js';
 import { ChunkBuilder } from '../ingest/chunk-builder.js';
 import { validateReading, type TemperatureUnit } from '../ingest/validate-reading.js';
-import { ingestFleetOf } from '../ingest/ingest-fleet.js';
+import { oneFleetOf } from '../request-fleet.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 
@@ -90,7 +90,7 @@ const readingsRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadi
       const principal = principalOf(request);
       const format = bodyFormatOf(request.headers['content-type']);
       if (!format) throw new UnsupportedMediaTypeError('send application/json, application/x-ndjson or text/csv');
-      const fleetId = await ingestFleetOf(principal, request.query.fleet, fleets, '/v1/readings');
+      const fleetId = await oneFleetOf(principal, request.query.fleet, fleets, 'POST /v1/readings');
 
       let unit: TemperatureUnit = request.query.unit ?? 'C';
       const rejected: Array<{ index: number; reason: string }> = [];

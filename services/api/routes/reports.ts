@@ -8,10 +8,11 @@ import { reportBaseName, reportInUnit } from '../../report/weekly-report-files.j
 import { WeeklyReportSchema } from '../../report/weekly-report-schema.js';
 import { currentWeeklyReport } from '../../report/weekly-report-service.js';
 import { BadRequestError, NotFoundError } from '../errors.js';
-import { assertFleetAccess, principalOf } from '../plugins/auth.js';
+import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
 import { UNIT_HEADER, UnitParam } from '../schemas/temperature-unit.js';
+import { oneFleetOf } from '../request-fleet.js';
 
 const FORMATS = { json: 'application/json; charset=utf-8', html: 'text/html; charset=utf-8', csv: 'text/csv; charset=utf-8' } as const;
 
@@ -55,9 +56,7 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
     async (request, reply) => {
       const principal = principalOf(request);
       const { week, format, refresh } = request.query;
-      if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
-      const fleetId = principal.fleetId ?? request.query.fleet;
-      if (!fleetId) throw new BadRequestError('an admin key must name the fleet: ?fleet=<fleetId>');
+      const fleetId = await oneFleetOf(principal, request.query.fleet);
       const fleet = await reports.fleet(fleetId);
       if (!fleet) throw new NotFoundError(`unknown fleet '${fleetId}'`);
       const { timeZone } = fleet;
@@ -117,9 +116,7 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
     },
     async (request) => {
       const principal = principalOf(request);
-      if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
-      const fleetId = principal.fleetId ?? request.query.fleet;
-      if (!fleetId) throw new BadRequestError('an admin key must name the fleet: ?fleet=<fleetId>');
+      const fleetId = await oneFleetOf(principal, request.query.fleet);
       if (!(await reports.fleet(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
       const page = await reports.archivedPage(fleetId, { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(ARCHIVE_ORDER)) });
       const fleetParam = principal.fleetId === null ? `&fleet=${encodeURIComponent(fleetId)}` : '';

@@ -3,13 +3,14 @@ import { Type } from 'typebox';
 import { createFleetsRepository } from '../../db/fleets-repository.js';
 import { createVehiclesRepository } from '../../db/vehicles-repository.js';
 import { BadRequestError, ForbiddenError, NotFoundError } from '../errors.js';
-import { assertFleetAccess, principalOf } from '../plugins/auth.js';
+import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
 import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
 import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
 import { Vehicle, VehicleProfilePatchBody } from '../schemas/vehicle.js';
 import { requireVehicle } from '../vehicle-access.js';
 import { toProfilePatch } from '../vehicle-profile-input.js';
+import { fleetScopeOf } from '../request-fleet.js';
 
 /** Vehicle profiles: the cooling-system facts the analysis needs (thermostat, cap, glycol). */
 const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
@@ -79,8 +80,7 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
     },
     async (request, reply) => {
       const principal = principalOf(request);
-      if (request.query.fleet) assertFleetAccess(principal, request.query.fleet);
-      const fleetId = principal.fleetId ?? request.query.fleet ?? null;
+      const fleetId = fleetScopeOf(principal, request.query.fleet);
       const { limit, after, cursor, depot } = request.query;
       if (after !== undefined && cursor !== undefined) throw new BadRequestError('give cursor or after, not both', 'validation_failed');
       const key = decodeCursor(cursor, ['text']) ?? (after !== undefined ? [after] : undefined);

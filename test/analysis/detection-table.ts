@@ -44,18 +44,6 @@ export interface DetectionTable {
   healthy: HealthyLine[];
 }
 
-/** Which finding kinds count as the right answer for each simulated fault kind. */
-export const EXPECTED_FINDINGS: Readonly<Record<string, readonly string[]>> = Object.freeze({
-  'thermostat-stuck-open': ['slow-warmup'],
-  'thermostat-sticking': ['overshoot'],
-  'radiator-fouling': ['overheating-trend', 'boil-margin'],
-  'fan-failure': ['overheating-trend', 'boil-margin'],
-  'coolant-loss': ['overheating-trend', 'boil-margin', 'coolant-loss'],
-  'sensor-stuck': ['sensor-fault'],
-  'sensor-spikes': ['sensor-fault'],
-  'sensor-dropouts': ['sensor-fault'],
-  'sensor-bias': ['sensor-fault'],
-});
 
 /** The naive rules' alarm kinds and what they stand for. */
 export const NAIVE_OVERHEAT = 'naive-above-105';
