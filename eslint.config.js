@@ -22,7 +22,10 @@ export default tseslint.config(
   ...tseslint.configs.recommended,
   {
     rules: {
-      '@typescript-eslint/no-unused-vars': ['error', { argsIgnorePattern: '^_', varsIgnorePattern: '^_', caughtErrors: 'none' }],
+      '@typescript-eslint/no-unused-vars': [
+        'error',
+        { argsIgnorePattern: '^_', varsIgnorePattern: '^_', caughtErrors: 'none' },
+      ],
       '@typescript-eslint/consistent-type-imports': ['error', { fixStyle: 'inline-type-imports' }],
       eqeqeq: ['error', 'always', { null: 'ignore' }],
       'no-console': 'error',
@@ -31,12 +34,17 @@ export default tseslint.config(
   ...Object.entries(FORBIDDEN_IMPORTS).map(([folder, forbidden]) => ({
     files: [`services/${folder}/**/*.ts`],
     rules: {
-      'no-restricted-imports': ['error', {
-        patterns: [{
-          group: forbidden.map((f) => `**/${f}/**`),
-          message: `services/${folder}/ may not import from ${forbidden.join(', ')} (DEVELOPERS.md, "Architecture")`,
-        }],
-      }],
+      'no-restricted-imports': [
+        'error',
+        {
+          patterns: [
+            {
+              group: forbidden.map((f) => `**/${f}/**`),
+              message: `services/${folder}/ may not import from ${forbidden.join(', ')} (DEVELOPERS.md, "Architecture")`,
+            },
+          ],
+        },
+      ],
     },
   })),
   {
@@ -51,8 +59,21 @@ export default tseslint.config(
     languageOptions: {
       sourceType: 'module',
       globals: Object.fromEntries(
-        ['window', 'document', 'location', 'history', 'fetch', 'URLSearchParams', 'FormData', 'Node', 'Element', 'ResizeObserver',
-          'AbortController', 'setTimeout', 'clearTimeout'].map((name) => [name, 'readonly']),
+        [
+          'window',
+          'document',
+          'location',
+          'history',
+          'fetch',
+          'URLSearchParams',
+          'FormData',
+          'Node',
+          'Element',
+          'ResizeObserver',
+          'AbortController',
+          'setTimeout',
+          'clearTimeout',
+        ].map((name) => [name, 'readonly']),
       ),
     },
   },

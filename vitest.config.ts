@@ -1,7 +1,14 @@
 import { defineConfig } from 'vitest/config';
 
 // Database and API suites run twice: on a real PostgreSQL server and on the embedded PGlite.
-const DB_SUITES = ['test/api/**/*.test.ts', 'test/db/**/*.test.ts', 'test/worker/**/*.test.ts', 'test/report/**/*.test.ts', 'test/demo/**/*.test.ts', 'test/evaluation/**/*.e2e.test.ts'];
+const DB_SUITES = [
+  'test/api/**/*.test.ts',
+  'test/db/**/*.test.ts',
+  'test/worker/**/*.test.ts',
+  'test/report/**/*.test.ts',
+  'test/demo/**/*.test.ts',
+  'test/evaluation/**/*.e2e.test.ts',
+];
 
 export default defineConfig({
   test: {
@@ -11,7 +18,14 @@ export default defineConfig({
       {
         test: {
           name: 'pure',
-          include: ['test/analysis/**/*.test.ts', 'test/bus-decoding/**/*.test.ts', 'test/reference/**/*.test.ts', 'test/simulator/**/*.test.ts', 'test/evaluation/**/*.test.ts', 'test/config.test.ts'],
+          include: [
+            'test/analysis/**/*.test.ts',
+            'test/bus-decoding/**/*.test.ts',
+            'test/reference/**/*.test.ts',
+            'test/simulator/**/*.test.ts',
+            'test/evaluation/**/*.test.ts',
+            'test/config.test.ts',
+          ],
           // The field evaluation's API run needs a database: it is in DB_SUITES.
           exclude: ['**/node_modules/**', 'test/evaluation/**/*.e2e.test.ts'],
           testTimeout: 120_000,

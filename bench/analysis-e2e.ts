@@ -44,7 +44,14 @@ export interface AnalysisBenchResult {
      * The figures above are the first analysis in this process (JIT cold); these are the same run
      * over a second fleet of as many fresh readings right after, as a long-running worker sees it.
      */
-    warm: { seconds: number; readingsPerS: number; workerCpuS: number; postgresCpuS: number; exitedPostgresCpuS: number; readingsPerCoreS: number };
+    warm: {
+      seconds: number;
+      readingsPerS: number;
+      workerCpuS: number;
+      postgresCpuS: number;
+      exitedPostgresCpuS: number;
+      readingsPerCoreS: number;
+    };
     /** The phases alone, for diagnosis: reading windows (20 vehicles a statement, as the worker does), and analyseSamples on them. */
     readOnlyReadingsPerS: number;
     analyseOnlyReadingsPerS: number;
@@ -56,9 +63,14 @@ export interface AnalysisBenchResult {
     ratio: number;
   };
   atRisk: {
-    vehicles: number; findings: number; requests: number; p50Ms: number; p99Ms: number;
+    vehicles: number;
+    findings: number;
+    requests: number;
+    p50Ms: number;
+    p99Ms: number;
     /** GET /healthz (no database) measured in between, the same number of times: this machine's floor. */
-    healthzP50Ms: number; healthzP99Ms: number;
+    healthzP50Ms: number;
+    healthzP99Ms: number;
   };
 }
 
@@ -102,22 +114,43 @@ export function percentile(sorted: number[], q: number): number {
   return sorted[Math.min(sorted.length - 1, Math.ceil(q * sorted.length) - 1)]!;
 }
 
-export async function migrated(serverUrl: string, name: string): Promise<{ h: DatabaseHandle; url: string; drop: () => Promise<void> }> {
+export async function migrated(
+  serverUrl: string,
+  name: string,
+): Promise<{ h: DatabaseHandle; url: string; drop: () => Promise<void> }> {
   const scratch = await scratchDatabase(serverUrl, name);
   const h = await openDatabase({ databaseUrl: scratch.url, pgliteDir: '', poolSize: 4 });
   await migrateToLatest(h.db);
-  return { h, url: scratch.url, drop: async () => { await h.close(); await scratch.drop(); } };
+  return {
+    h,
+    url: scratch.url,
+    drop: async () => {
+      await h.close();
+      await scratch.drop();
+    },
+  };
 }
 
 /** One analysis run over a seeded fleet, with this process's CPU and its Postgres backends' CPU. */
-async function measuredRun(h: DatabaseHandle, fleetId: string): Promise<{ readings: number; seconds: number; workerCpuS: number; postgresCpuS: number; exitedPostgresCpuS: number }> {
+async function measuredRun(
+  h: DatabaseHandle,
+  fleetId: string,
+): Promise<{
+  readings: number;
+  seconds: number;
+  workerCpuS: number;
+  postgresCpuS: number;
+  exitedPostgresCpuS: number;
+}> {
   // The client backends of this database (the pool's connections, which open lazily), sampled while
   // the run goes on; autovacuum workers cleaning up after the seeding's inserts are not the worker's.
   const first = new Map<number, number>();
   const last = new Map<number, number>();
   const sample = async () => {
     const pids = await sql<{ pid: number }>`
-      select pid from pg_stat_activity where datname = current_database() and backend_type = 'client backend'`.execute(h.db);
+      select pid from pg_stat_activity where datname = current_database() and backend_type = 'client backend'`.execute(
+      h.db,
+    );
     for (const { pid } of pids.rows) {
       const ticks = cpuTicksOf(pid);
       if (ticks === undefined) continue;
@@ -148,9 +181,13 @@ async function measuredRun(h: DatabaseHandle, fleetId: string): Promise<{ readin
   const cpu = process.cpuUsage(cpu0);
   let pgTicks = 0;
   for (const [pid, start] of first) pgTicks += (last.get(pid) ?? start) - start;
-  if (run.status !== 'succeeded' || run.vehiclesFailed > 0) throw new Error(`analysis run failed: ${run.error ?? JSON.stringify(run.failures)}`);
+  if (run.status !== 'succeeded' || run.vehiclesFailed > 0)
+    throw new Error(`analysis run failed: ${run.error ?? JSON.stringify(run.failures)}`);
   return {
-    readings: run.readingsAnalysed, seconds, workerCpuS: (cpu.user + cpu.system) / 1e6, postgresCpuS: pgTicks / CLOCK_TICKS_PER_S,
+    readings: run.readingsAnalysed,
+    seconds,
+    workerCpuS: (cpu.user + cpu.system) / 1e6,
+    postgresCpuS: pgTicks / CLOCK_TICKS_PER_S,
     exitedPostgresCpuS: (reapedTicksOf(postmaster) - reaped0) / CLOCK_TICKS_PER_S,
   };
 }
@@ -165,16 +202,27 @@ async function measureThroughput(serverUrl: string): Promise<AnalysisBenchResult
     await seedReadings(h, 'warm', THROUGHPUT.vehicles, THROUGHPUT.days);
     const warm = await measuredRun(h, 'warm');
     const perCore = (r: typeof cold) => r.readings / (r.workerCpuS + r.postgresCpuS);
-    log(`throughput, second fleet (JIT warm): ${Math.round(warm.readings / warm.seconds).toLocaleString('en-US')} readings/s wall, CPU worker ${warm.workerCpuS.toFixed(2)} s + PostgreSQL ${warm.postgresCpuS.toFixed(2)} s: ${Math.round(perCore(warm)).toLocaleString('en-US')} readings per CPU-second (exited PostgreSQL processes ${warm.exitedPostgresCpuS.toFixed(2)} s)`);
+    log(
+      `throughput, second fleet (JIT warm): ${Math.round(warm.readings / warm.seconds).toLocaleString('en-US')} readings/s wall, CPU worker ${warm.workerCpuS.toFixed(2)} s + PostgreSQL ${warm.postgresCpuS.toFixed(2)} s: ${Math.round(perCore(warm)).toLocaleString('en-US')} readings per CPU-second (exited PostgreSQL processes ${warm.exitedPostgresCpuS.toFixed(2)} s)`,
+    );
 
     // The phases alone, over the same windows, read in batches as the worker reads them.
-    const ids = (await h.db.selectFrom('vehicles').select('vehicle_id').where('fleet_id', '=', 'tput').orderBy('vehicle_id').execute()).map((r) => r.vehicle_id);
+    const ids = (
+      await h.db
+        .selectFrom('vehicles')
+        .select('vehicle_id')
+        .where('fleet_id', '=', 'tput')
+        .orderBy('vehicle_id')
+        .execute()
+    ).map((r) => r.vehicle_id);
     let readS = 0;
     let analyseS = 0;
     const cfg = resolveConfig('bench-13l');
     for (let i = 0; i < ids.length; i += 20) {
       const a = performance.now();
-      const windows = ids.slice(i, i + 20).map((vehicleId) => ({ vehicleId, fromMs: BENCH_START_MS, toMs: BENCH_START_MS + THROUGHPUT.days * DAY_MS }));
+      const windows = ids
+        .slice(i, i + 20)
+        .map((vehicleId) => ({ vehicleId, fromMs: BENCH_START_MS, toMs: BENCH_START_MS + THROUGHPUT.days * DAY_MS }));
       const arrays = await readWindows(h, windows);
       const b = performance.now();
       for (const w of arrays) analyseSamples({ ...w, nowMs: Date.now() }, DEFAULT_VEHICLE_PROFILE, cfg);
@@ -182,13 +230,25 @@ async function measureThroughput(serverUrl: string): Promise<AnalysisBenchResult
       analyseS += (performance.now() - b) / 1000;
     }
     return {
-      vehicles: THROUGHPUT.vehicles, days: THROUGHPUT.days, readings: cold.readings, seconds: cold.seconds, readingsPerS: cold.readings / cold.seconds,
-      workerCpuS: cold.workerCpuS, postgresCpuS: cold.postgresCpuS, exitedPostgresCpuS: cold.exitedPostgresCpuS, readingsPerCoreS: perCore(cold),
+      vehicles: THROUGHPUT.vehicles,
+      days: THROUGHPUT.days,
+      readings: cold.readings,
+      seconds: cold.seconds,
+      readingsPerS: cold.readings / cold.seconds,
+      workerCpuS: cold.workerCpuS,
+      postgresCpuS: cold.postgresCpuS,
+      exitedPostgresCpuS: cold.exitedPostgresCpuS,
+      readingsPerCoreS: perCore(cold),
       warm: {
-        seconds: warm.seconds, readingsPerS: warm.readings / warm.seconds, workerCpuS: warm.workerCpuS, postgresCpuS: warm.postgresCpuS,
-        exitedPostgresCpuS: warm.exitedPostgresCpuS, readingsPerCoreS: perCore(warm),
+        seconds: warm.seconds,
+        readingsPerS: warm.readings / warm.seconds,
+        workerCpuS: warm.workerCpuS,
+        postgresCpuS: warm.postgresCpuS,
+        exitedPostgresCpuS: warm.exitedPostgresCpuS,
+        readingsPerCoreS: perCore(warm),
       },
-      readOnlyReadingsPerS: readings / readS, analyseOnlyReadingsPerS: readings / analyseS,
+      readOnlyReadingsPerS: readings / readS,
+      analyseOnlyReadingsPerS: readings / analyseS,
     };
   } finally {
     await drop();
@@ -199,7 +259,8 @@ async function measureThroughput(serverUrl: string): Promise<AnalysisBenchResult
 async function workerPeakRss(url: string): Promise<{ seconds: number; peakRssMb: number }> {
   const t0 = performance.now();
   const child = spawn(process.execPath, [join(ROOT, 'bin', 'thermocline.js'), 'worker', '--once'], {
-    env: { ...process.env, DATABASE_URL: url, LOG_LEVEL: 'warn', WORKER_BATCH_SIZE: '20' }, stdio: ['ignore', 'ignore', 'inherit'],
+    env: { ...process.env, DATABASE_URL: url, LOG_LEVEL: 'warn', WORKER_BATCH_SIZE: '20' },
+    stdio: ['ignore', 'ignore', 'inherit'],
   });
   let peak = 0;
   const timer = setInterval(() => {
@@ -258,8 +319,13 @@ async function measureAtRisk(serverUrl: string): Promise<AnalysisBenchResult['at
       times.sort((a, b) => a - b);
       floor.sort((a, b) => a - b);
       return {
-        vehicles: AT_RISK_VEHICLES, findings, requests: AT_RISK_REQUESTS, p50Ms: percentile(times, 0.5), p99Ms: percentile(times, 0.99),
-        healthzP50Ms: percentile(floor, 0.5), healthzP99Ms: percentile(floor, 0.99),
+        vehicles: AT_RISK_VEHICLES,
+        findings,
+        requests: AT_RISK_REQUESTS,
+        p50Ms: percentile(times, 0.5),
+        p99Ms: percentile(times, 0.99),
+        healthzP50Ms: percentile(floor, 0.5),
+        healthzP99Ms: percentile(floor, 0.99),
       };
     } finally {
       await server.stop();

@@ -24,7 +24,13 @@ function concatenated(v: SimVehicle, startMs: number, days: number, seed: number
     }
     return out;
   };
-  return { ts: column('ts'), coolant: column('coolant'), ambient: column('ambient'), speedKph: column('speedKph'), rpm: column('rpm') };
+  return {
+    ts: column('ts'),
+    coolant: column('coolant'),
+    ambient: column('ambient'),
+    speedKph: column('speedKph'),
+    rpm: column('rpm'),
+  };
 }
 
 /**
@@ -35,7 +41,11 @@ function concatenated(v: SimVehicle, startMs: number, days: number, seed: number
 export function benchAnalysisLibrary(vehicles = 16, days = 30, passes = 6): AnalysisLibraryBenchResult {
   const startMs = Date.UTC(2026, 9, 5);
   const fleet = planFleet({ vehicles, days, seed: 3, startMs, scenario: 'demo' });
-  const inputs = fleet.map((v) => ({ v, input: concatenated(v, startMs, days, 3), cfg: resolveConfig(v.engineFamily) }));
+  const inputs = fleet.map((v) => ({
+    v,
+    input: concatenated(v, startMs, days, 3),
+    cfg: resolveConfig(v.engineFamily),
+  }));
   const readings = inputs.reduce((s, x) => s + x.input.ts.length, 0);
   const rates: number[] = [];
   for (let pass = 0; pass < passes; pass++) {

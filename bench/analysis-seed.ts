@@ -19,14 +19,21 @@ const POST_EVERY_S = 300;
  * pages (about 30 of a page's ~120 rows are one vehicle's). Every vehicle is queued for
  * analysis. Returns the number of readings.
  */
-export async function seedReadings(h: DatabaseHandle, fleetId: string, vehicles: number, days: number): Promise<number> {
+export async function seedReadings(
+  h: DatabaseHandle,
+  fleetId: string,
+  vehicles: number,
+  days: number,
+): Promise<number> {
   const db = h.db;
   await createFleetsRepository(db).ensure(fleetId);
   const months = new Set<number>();
   for (let d = 0; d <= days; d++) months.add(monthIndexOf(BENCH_START_MS + d * DAY_MS));
   await new PartitionKeeper().ensure(db, months);
   const ids = Array.from({ length: vehicles }, (_, i) => `${fleetId}-${String(i + 1).padStart(5, '0')}`);
-  await sql`insert into vehicles (vehicle_id, fleet_id, engine_family) select unnest(${ids}::text[]), ${fleetId}, 'bench-13l'`.execute(db);
+  await sql`insert into vehicles (vehicle_id, fleet_id, engine_family) select unnest(${ids}::text[]), ${fleetId}, 'bench-13l'`.execute(
+    db,
+  );
   for (let d = 0; d < days; d++) {
     await sql`
       insert into readings (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm)
@@ -38,7 +45,9 @@ export async function seedReadings(h: DatabaseHandle, fleetId: string, vehicles:
            generate_series(0, 8 * 3600, 10) s
       order by s / ${POST_EVERY_S}, k, s`.execute(db);
   }
-  await sql`insert into analysis_queue (vehicle_id, fleet_id, dirty_from) select unnest(${ids}::text[]), ${fleetId}, to_timestamp(${BENCH_START_MS / 1000})`.execute(db);
+  await sql`insert into analysis_queue (vehicle_id, fleet_id, dirty_from) select unnest(${ids}::text[]), ${fleetId}, to_timestamp(${BENCH_START_MS / 1000})`.execute(
+    db,
+  );
   await sql`analyze readings`.execute(db);
   return vehicles * days * (8 * 360 + 1);
 }
@@ -51,7 +60,9 @@ export async function seedFindings(h: DatabaseHandle, fleetId: string, vehicles:
   const db = h.db;
   await createFleetsRepository(db).ensure(fleetId);
   await sql`
-    insert into vehicles (vehicle_id, fleet_id) select ${fleetId} || '-' || lpad(g::text, 5, '0'), ${fleetId} from generate_series(1, ${vehicles}) g`.execute(db);
+    insert into vehicles (vehicle_id, fleet_id) select ${fleetId} || '-' || lpad(g::text, 5, '0'), ${fleetId} from generate_series(1, ${vehicles}) g`.execute(
+    db,
+  );
   await sql`
     insert into findings (vehicle_id, finding_id, fleet_id, finding_key, kind, severity, confidence, first_seen, last_seen, summary, recommended_check, metrics, evidence, raised_at)
     select ${fleetId} || '-' || lpad(g::text, 5, '0'), gen_random_uuid()::text, ${fleetId}, k.kind || '@2026-09-07T00:00:00.000Z', k.kind,

@@ -18,7 +18,10 @@ export async function freePort(): Promise<number> {
 }
 
 /** Creates an empty database on the server and returns its URL and a function that drops it. */
-export async function scratchDatabase(serverUrl: string, name: string): Promise<{ url: string; drop: () => Promise<void> }> {
+export async function scratchDatabase(
+  serverUrl: string,
+  name: string,
+): Promise<{ url: string; drop: () => Promise<void> }> {
   const admin = new pg.Client({ connectionString: serverUrl });
   await admin.connect();
   await admin.query(`drop database if exists ${name} with (force)`);
@@ -42,10 +45,21 @@ export async function scratchDatabase(serverUrl: string, name: string): Promise<
  * `nodeArgs` go to that node process, e.g. `['--cpu-prof', '--cpu-prof-dir=/tmp/prof']` to
  * profile the server during a bench (NODE_OPTIONS does not allow --cpu-prof).
  */
-export async function startServer(env: Record<string, string>, nodeArgs: string[] = []): Promise<{ baseUrl: string; child: ChildProcess; stop: () => Promise<void> }> {
+export async function startServer(
+  env: Record<string, string>,
+  nodeArgs: string[] = [],
+): Promise<{ baseUrl: string; child: ChildProcess; stop: () => Promise<void> }> {
   const port = await freePort();
   const child = spawn(process.execPath, [...nodeArgs, join(ROOT, 'bin', 'thermocline.js'), 'serve'], {
-    env: { ...process.env, LOG_LEVEL: 'warn', IN_PROCESS_WORKER: 'false', RATE_LIMIT_PER_MINUTE: '10000000', ...env, PORT: String(port), HOST: '127.0.0.1' },
+    env: {
+      ...process.env,
+      LOG_LEVEL: 'warn',
+      IN_PROCESS_WORKER: 'false',
+      RATE_LIMIT_PER_MINUTE: '10000000',
+      ...env,
+      PORT: String(port),
+      HOST: '127.0.0.1',
+    },
     stdio: ['ignore', 'inherit', 'inherit'],
   });
   const baseUrl = `http://127.0.0.1:${port}`;

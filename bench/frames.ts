@@ -29,7 +29,12 @@ function log(msg: string): void {
   process.stderr.write(`[frames] ${msg}\n`);
 }
 
-interface RawFrame { vehicleId: string; ts: number; canId: string; data: string }
+interface RawFrame {
+  vehicleId: string;
+  ts: number;
+  canId: string;
+  data: string;
+}
 
 /**
  * A bus dump as a gateway forwards it, already parsed from JSON: per vehicle and second 10 EEC1
@@ -70,20 +75,43 @@ export function decodeAndAlign(rows: readonly RawFrame[]): { seconds: number; re
     if (records.add(rows[i]) !== null) throw new Error(`bench frame ${i} rejected`);
   }
   let readings = 0;
-  for (const pre of records.collector.vehicles.values()) readings += alignReadings(rollUp(pre, SAMPLE_PERIOD_MS), -Infinity, Infinity, emptyDerivedReadings()).length;
+  for (const pre of records.collector.vehicles.values())
+    readings += alignReadings(rollUp(pre, SAMPLE_PERIOD_MS), -Infinity, Infinity, emptyDerivedReadings()).length;
   return { seconds: (performance.now() - t0) / 1000, readings };
 }
 
-function post(agent: Agent, baseUrl: string, path: string, key: string, body: string): Promise<{ status: number; json: { accepted?: number } }> {
+function post(
+  agent: Agent,
+  baseUrl: string,
+  path: string,
+  key: string,
+  body: string,
+): Promise<{ status: number; json: { accepted?: number } }> {
   const url = new URL(baseUrl);
   return new Promise((resolve, reject) => {
     const req = request(
-      { host: url.hostname, port: url.port, path, method: 'POST', agent, headers: { authorization: `Bearer ${key}`, 'content-type': 'application/x-ndjson', 'content-length': Buffer.byteLength(body) } },
+      {
+        host: url.hostname,
+        port: url.port,
+        path,
+        method: 'POST',
+        agent,
+        headers: {
+          authorization: `Bearer ${key}`,
+          'content-type': 'application/x-ndjson',
+          'content-length': Buffer.byteLength(body),
+        },
+      },
       (res) => {
         const parts: Buffer[] = [];
         res.on('data', (d: Buffer) => parts.push(d));
         res.on('error', reject);
-        res.on('end', () => resolve({ status: res.statusCode ?? 0, json: JSON.parse(Buffer.concat(parts).toString('utf8')) as { accepted?: number } }));
+        res.on('end', () =>
+          resolve({
+            status: res.statusCode ?? 0,
+            json: JSON.parse(Buffer.concat(parts).toString('utf8')) as { accepted?: number },
+          }),
+        );
       },
     );
     req.on('error', reject);
@@ -91,19 +119,26 @@ function post(agent: Agent, baseUrl: string, path: string, key: string, body: st
   });
 }
 
-async function postAll(baseUrl: string, path: string, key: string, bodies: string[]): Promise<{ seconds: number; accepted: number }> {
+async function postAll(
+  baseUrl: string,
+  path: string,
+  key: string,
+  bodies: string[],
+): Promise<{ seconds: number; accepted: number }> {
   const agent = new Agent({ keepAlive: true, maxSockets: CLIENTS });
   let next = 0;
   let accepted = 0;
   const started = performance.now();
   try {
-    await Promise.all(Array.from({ length: CLIENTS }, async () => {
-      while (next < bodies.length) {
-        const { status, json } = await post(agent, baseUrl, path, key, bodies[next++]!);
-        if (status !== 200) throw new Error(`${path} answered ${status}: ${JSON.stringify(json)}`);
-        accepted += json.accepted ?? 0;
-      }
-    }));
+    await Promise.all(
+      Array.from({ length: CLIENTS }, async () => {
+        while (next < bodies.length) {
+          const { status, json } = await post(agent, baseUrl, path, key, bodies[next++]!);
+          if (status !== 200) throw new Error(`${path} answered ${status}: ${JSON.stringify(json)}`);
+          accepted += json.accepted ?? 0;
+        }
+      }),
+    );
   } finally {
     agent.destroy();
   }
@@ -128,7 +163,9 @@ export async function benchFrames(serverUrl: string): Promise<FramesBenchResult>
   try {
     await createFleetsRepository(h.db).ensure('bench');
     const { key } = await createApiKeysRepository(h.db).create({ fleetId: 'bench', scopes: ['ingest'] });
-    const rows = Array.from({ length: HTTP_READINGS }, (_, i) => syntheticRow(i, HTTP_VEHICLES)).sort((a, b) => a.vehicleId.localeCompare(b.vehicleId) || a.tsMs - b.tsMs);
+    const rows = Array.from({ length: HTTP_READINGS }, (_, i) => syntheticRow(i, HTTP_VEHICLES)).sort(
+      (a, b) => a.vehicleId.localeCompare(b.vehicleId) || a.tsMs - b.tsMs,
+    );
     const readingBodies: string[] = [];
     const frameBodies: string[] = [];
     let frames = 0;
@@ -138,7 +175,16 @@ export async function benchFrames(serverUrl: string): Promise<FramesBenchResult>
       const lines: string[] = [];
       for (const r of part) {
         const head = `{"vehicleId":"F${r.vehicleId}","ts":${r.tsMs},"canId":"`;
-        for (const f of j1939Frames({ coolantC: r.coolant, ambientC: r.ambient, speedKph: r.speedKph, rpm: r.rpm, barometricKpa: NaN, coolantLevelPct: NaN, coolantPressureKpa: NaN })) lines.push(`${head}${f.canId}","data":"${f.data}"}`);
+        for (const f of j1939Frames({
+          coolantC: r.coolant,
+          ambientC: r.ambient,
+          speedKph: r.speedKph,
+          rpm: r.rpm,
+          barometricKpa: NaN,
+          coolantLevelPct: NaN,
+          coolantPressureKpa: NaN,
+        }))
+          lines.push(`${head}${f.canId}","data":"${f.data}"}`);
       }
       frames += lines.length;
       frameBodies.push(lines.join('\n'));
@@ -147,13 +193,29 @@ export async function benchFrames(serverUrl: string): Promise<FramesBenchResult>
     const asReadings = await postAll(server.baseUrl, '/v1/readings', key, readingBodies);
     log(`HTTP: the same as ${frames.toLocaleString()} J1939 frames, ${CLIENTS} clients`);
     const asFrames = await postAll(server.baseUrl, '/v1/frames/j1939', key, frameBodies);
-    const stored = toNumber((await sql<{ n: string | number }>`select count(*) as n from readings`.execute(h.db)).rows[0]?.n);
+    const stored = toNumber(
+      (await sql<{ n: string | number }>`select count(*) as n from readings`.execute(h.db)).rows[0]?.n,
+    );
     if (asReadings.accepted !== HTTP_READINGS || asFrames.accepted !== HTTP_READINGS || stored !== 2 * HTTP_READINGS) {
-      throw new Error(`frames bench: accepted ${asReadings.accepted} readings and ${asFrames.accepted} from frames, ${stored} stored`);
+      throw new Error(
+        `frames bench: accepted ${asReadings.accepted} readings and ${asFrames.accepted} from frames, ${stored} stored`,
+      );
     }
     return {
-      decode: { frames: dump.length, vehicles: DECODE_VEHICLES, readings: passes[0]!.readings, framesPerS: dump.length / best, firstPassPerS: dump.length / passes[0]!.seconds },
-      http: { readings: HTTP_READINGS, readingsPerS: HTTP_READINGS / asReadings.seconds, frames, framesPerS: frames / asFrames.seconds, framesReadingsPerS: HTTP_READINGS / asFrames.seconds },
+      decode: {
+        frames: dump.length,
+        vehicles: DECODE_VEHICLES,
+        readings: passes[0]!.readings,
+        framesPerS: dump.length / best,
+        firstPassPerS: dump.length / passes[0]!.seconds,
+      },
+      http: {
+        readings: HTTP_READINGS,
+        readingsPerS: HTTP_READINGS / asReadings.seconds,
+        frames,
+        framesPerS: frames / asFrames.seconds,
+        framesReadingsPerS: HTTP_READINGS / asFrames.seconds,
+      },
     };
   } finally {
     await h.close();

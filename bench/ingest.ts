@@ -42,14 +42,28 @@ function httpClient(baseUrl: string, key: string, sockets: number) {
     post(contentType: string, body: string): Promise<{ status: number; json: { accepted?: number } }> {
       return new Promise((resolve, reject) => {
         const req = request(
-          { host: url.hostname, port: url.port, path: '/v1/readings', method: 'POST', agent, headers: { authorization: `Bearer ${key}`, 'content-type': contentType, 'content-length': Buffer.byteLength(body) } },
+          {
+            host: url.hostname,
+            port: url.port,
+            path: '/v1/readings',
+            method: 'POST',
+            agent,
+            headers: {
+              authorization: `Bearer ${key}`,
+              'content-type': contentType,
+              'content-length': Buffer.byteLength(body),
+            },
+          },
           (res) => {
             const parts: Buffer[] = [];
             res.on('data', (d: Buffer) => parts.push(d));
             res.on('error', reject);
             res.on('end', () => {
               try {
-                resolve({ status: res.statusCode ?? 0, json: JSON.parse(Buffer.concat(parts).toString('utf8')) as { accepted?: number } });
+                resolve({
+                  status: res.statusCode ?? 0,
+                  json: JSON.parse(Buffer.concat(parts).toString('utf8')) as { accepted?: number },
+                });
               } catch (err) {
                 reject(err instanceof Error ? err : new Error(String(err)));
               }
@@ -65,7 +79,13 @@ function httpClient(baseUrl: string, key: string, sockets: number) {
 }
 
 /** Sends `bodies` with `concurrency` parallel clients; returns elapsed seconds and accepted rows. */
-async function postAll(baseUrl: string, key: string, contentType: string, bodies: string[], concurrency: number): Promise<{ seconds: number; accepted: number }> {
+async function postAll(
+  baseUrl: string,
+  key: string,
+  contentType: string,
+  bodies: string[],
+  concurrency: number,
+): Promise<{ seconds: number; accepted: number }> {
   const client = httpClient(baseUrl, key, concurrency);
   let next = 0;
   let accepted = 0;
@@ -102,12 +122,25 @@ export async function benchIngest(serverUrl: string): Promise<IngestBenchResult>
     mkdirSync(dir, { recursive: true });
     const csvPath = join(dir, 'readings.csv');
     writeFileSync(csvPath, rows.map(csvLine).join('\n') + '\n');
-    await sql`create table readings_copy (like readings including defaults including constraints) partition by range (ts)`.execute(h.db);
+    await sql`create table readings_copy (like readings including defaults including constraints) partition by range (ts)`.execute(
+      h.db,
+    );
     await sql`alter table readings_copy add primary key (vehicle_id, ts)`.execute(h.db);
-    await sql`create table readings_copy_2026_10 partition of readings_copy for values from ('2026-10-01') to ('2026-11-01')`.execute(h.db);
+    await sql`create table readings_copy_2026_10 partition of readings_copy for values from ('2026-10-01') to ('2026-11-01')`.execute(
+      h.db,
+    );
     log('psql \\copy of the same rows');
     const t0 = performance.now();
-    execFileSync('psql', [scratch.url, '-q', '-c', `\\copy readings_copy (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) from '${csvPath}' with (format csv)`], { stdio: 'inherit' });
+    execFileSync(
+      'psql',
+      [
+        scratch.url,
+        '-q',
+        '-c',
+        `\\copy readings_copy (vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm) from '${csvPath}' with (format csv)`,
+      ],
+      { stdio: 'inherit' },
+    );
     const copySeconds = (performance.now() - t0) / 1000;
     if ((await count(h, 'readings_copy')) !== ROWS) throw new Error('\\copy did not load every row');
 
@@ -121,16 +154,26 @@ export async function benchIngest(serverUrl: string): Promise<IngestBenchResult>
       list.push(ndjsonLine(r));
     }
     const jsonBodies: string[] = [];
-    for (const list of byVehicle.values()) for (let i = 0; i < list.length; i += 1000) jsonBodies.push(`{"unit":"C","readings":[${list.slice(i, i + 1000).join(',')}]}`);
+    for (const list of byVehicle.values())
+      for (let i = 0; i < list.length; i += 1000)
+        jsonBodies.push(`{"unit":"C","readings":[${list.slice(i, i + 1000).join(',')}]}`);
     const json = await postAll(server.baseUrl, key, 'application/json', jsonBodies, 4);
-    if (json.accepted !== ROWS || (await count(h, 'readings')) !== ROWS) throw new Error('JSON ingest did not store every row');
+    if (json.accepted !== ROWS || (await count(h, 'readings')) !== ROWS)
+      throw new Error('JSON ingest did not store every row');
     await sql`truncate readings, analysis_queue`.execute(h.db);
 
     log('HTTP: NDJSON bodies of 100,000, 2 concurrent clients');
     const ndjsonBodies: string[] = [];
-    for (let i = 0; i < ROWS; i += 100_000) ndjsonBodies.push(rows.slice(i, i + 100_000).map(ndjsonLine).join('\n') + '\n');
+    for (let i = 0; i < ROWS; i += 100_000)
+      ndjsonBodies.push(
+        rows
+          .slice(i, i + 100_000)
+          .map(ndjsonLine)
+          .join('\n') + '\n',
+      );
     const ndjson = await postAll(server.baseUrl, key, 'application/x-ndjson', ndjsonBodies, 2);
-    if (ndjson.accepted !== ROWS || (await count(h, 'readings')) !== ROWS) throw new Error('NDJSON ingest did not store every row');
+    if (ndjson.accepted !== ROWS || (await count(h, 'readings')) !== ROWS)
+      throw new Error('NDJSON ingest did not store every row');
     await sql`truncate readings, analysis_queue`.execute(h.db);
 
     const load = await loadRun(server.baseUrl, key, h);
@@ -174,7 +217,11 @@ async function loadRun(baseUrl: string, key: string, h: DatabaseHandle): Promise
         for (let s = 0; s < sends; s++) {
           requests++;
           try {
-            const res = await fetch(`${baseUrl}/v1/readings`, { method: 'POST', headers: { authorization: `Bearer ${key}`, 'content-type': 'application/x-ndjson' }, body });
+            const res = await fetch(`${baseUrl}/v1/readings`, {
+              method: 'POST',
+              headers: { authorization: `Bearer ${key}`, 'content-type': 'application/x-ndjson' },
+              body,
+            });
             const json = (await res.json()) as { accepted?: number };
             if (res.ok) accepted += json.accepted ?? 0;
             else errors++;

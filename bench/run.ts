@@ -49,7 +49,7 @@ if (want('simulator')) {
   );
 }
 if (want('analysis')) {
-  process.stderr.write('[analysis] analyseSamples over a simulated fleet\'s typed arrays, one core\n');
+  process.stderr.write("[analysis] analyseSamples over a simulated fleet's typed arrays, one core\n");
   const r = benchAnalysisLibrary();
   lines.push(
     `analysis library (runs, warm-up fits, overshoot, day aggregates, sensor checks over typed arrays of a simulated fleet, one core)`,
@@ -80,9 +80,16 @@ if (want('fleet-page')) {
   const r = await benchFleetPage(serverUrl);
   lines.push(
     `web view fleet page: GET /v1/fleet/vehicles with a session cookie, ${fmt(r.vehicles)} vehicles (${fmt(r.atRisk)} at risk), ${REQUESTS_PER_QUERY} requests per query after warm-up`,
-    ...r.queries.map((q) => `  ${q.path.padEnd(72)} p50 ${q.p50Ms.toFixed(1).padStart(5)} ms, p99 ${q.p99Ms.toFixed(1).padStart(5)} ms (${q.rows} rows of ${fmt(q.total)})`),
+    ...r.queries.map(
+      (q) =>
+        `  ${q.path.padEnd(72)} p50 ${q.p50Ms.toFixed(1).padStart(5)} ms, p99 ${q.p99Ms.toFixed(1).padStart(5)} ms (${q.rows} rows of ${fmt(q.total)})`,
+    ),
     `  all queries: p99 ${r.allP99Ms.toFixed(1)} ms   ratio to the 50 ms target ${(r.allP99Ms / 50).toFixed(2)}`,
   );
 }
-const load = loadavg().map((l) => l.toFixed(2)).join(' ');
-process.stdout.write(`\nthermocline bench — ${cpus().length} cores, load average at the end ${load} (figures are only comparable on a quiet machine)\n\n${lines.join('\n')}\n`);
+const load = loadavg()
+  .map((l) => l.toFixed(2))
+  .join(' ');
+process.stdout.write(
+  `\nthermocline bench — ${cpus().length} cores, load average at the end ${load} (figures are only comparable on a quiet machine)\n\n${lines.join('\n')}\n`,
+);

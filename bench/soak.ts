@@ -17,7 +17,9 @@ import { DEFAULT_SERVER_URL, scratchDatabase, startServer } from './bench-server
  *
  *   npx tsx bench/soak.ts --minutes 10
  */
-const { values } = parseArgs({ options: { minutes: { type: 'string', default: '10' }, gateways: { type: 'string', default: '4' } } });
+const { values } = parseArgs({
+  options: { minutes: { type: 'string', default: '10' }, gateways: { type: 'string', default: '4' } },
+});
 const MINUTES = Number(values.minutes);
 const GATEWAYS = Number(values.gateways);
 const VEHICLES_PER_GATEWAY = 25;
@@ -31,7 +33,13 @@ const handle = await openDatabase({ databaseUrl: scratch.url, pgliteDir: '' });
 await migrateToLatest(handle.db);
 await createFleetsRepository(handle.db).ensure('soak-fleet');
 const { key } = await createApiKeysRepository(handle.db).create({ fleetId: 'soak-fleet', scopes: ['ingest'] });
-const server = await startServer({ DATABASE_URL: scratch.url, IN_PROCESS_WORKER: 'true', WORKER_POLL_MS: '1000', LOG_LEVEL: 'warn', REPORT_SCHEDULE: 'false' });
+const server = await startServer({
+  DATABASE_URL: scratch.url,
+  IN_PROCESS_WORKER: 'true',
+  WORKER_POLL_MS: '1000',
+  LOG_LEVEL: 'warn',
+  REPORT_SCHEDULE: 'false',
+});
 const url = new URL(server.baseUrl);
 const agent = new Agent({ keepAlive: true, maxSockets: GATEWAYS * 2 });
 
@@ -46,15 +54,34 @@ const tally: Tally = { bodies: 0, accepted: 0, duplicates: 0, statuses: new Map(
 
 function post(body: string): Promise<{ status: number; retryAfterS: number; accepted: number; duplicates: number }> {
   return new Promise((resolve, reject) => {
-    const req = request({ host: url.hostname, port: url.port, path: '/v1/readings', method: 'POST', agent, headers: { authorization: `Bearer ${key}`, 'content-type': 'application/x-ndjson', 'content-length': Buffer.byteLength(body) } }, (res) => {
-      const parts: Buffer[] = [];
-      res.on('data', (d: Buffer) => parts.push(d));
-      res.on('error', reject);
-      res.on('end', () => {
-        const json = JSON.parse(Buffer.concat(parts).toString('utf8')) as { accepted?: number; duplicates?: number };
-        resolve({ status: res.statusCode ?? 0, retryAfterS: Number(res.headers['retry-after'] ?? 1), accepted: json.accepted ?? 0, duplicates: json.duplicates ?? 0 });
-      });
-    });
+    const req = request(
+      {
+        host: url.hostname,
+        port: url.port,
+        path: '/v1/readings',
+        method: 'POST',
+        agent,
+        headers: {
+          authorization: `Bearer ${key}`,
+          'content-type': 'application/x-ndjson',
+          'content-length': Buffer.byteLength(body),
+        },
+      },
+      (res) => {
+        const parts: Buffer[] = [];
+        res.on('data', (d: Buffer) => parts.push(d));
+        res.on('error', reject);
+        res.on('end', () => {
+          const json = JSON.parse(Buffer.concat(parts).toString('utf8')) as { accepted?: number; duplicates?: number };
+          resolve({
+            status: res.statusCode ?? 0,
+            retryAfterS: Number(res.headers['retry-after'] ?? 1),
+            accepted: json.accepted ?? 0,
+            duplicates: json.duplicates ?? 0,
+          });
+        });
+      },
+    );
     req.on('error', reject);
     req.end(body);
   });
@@ -93,7 +120,8 @@ async function gateway(g: number): Promise<void> {
       }
     }
     tally.uniqueSent += samples * VEHICLES_PER_GATEWAY;
-    if (n % 50 === 7) await Promise.all([deliver(body), deliver(body)]); // the same body twice at once
+    if (n % 50 === 7)
+      await Promise.all([deliver(body), deliver(body)]); // the same body twice at once
     else {
       await deliver(body);
       if (n % 20 === 3) await deliver(body); // a retry after a reply the gateway did not get
@@ -102,16 +130,31 @@ async function gateway(g: number): Promise<void> {
   }
 }
 
-log(`${GATEWAYS} gateways × ${VEHICLES_PER_GATEWAY} vehicles for ${MINUTES} min against ${server.baseUrl} (worker in process)`);
-const progress = setInterval(() => log(`${((Date.now() - startMs) / 60_000).toFixed(1)} min: ${tally.bodies} bodies, ${tally.accepted.toLocaleString('en-US')} accepted, statuses ${JSON.stringify(Object.fromEntries(tally.statuses))}`), 30_000);
+log(
+  `${GATEWAYS} gateways × ${VEHICLES_PER_GATEWAY} vehicles for ${MINUTES} min against ${server.baseUrl} (worker in process)`,
+);
+const progress = setInterval(
+  () =>
+    log(
+      `${((Date.now() - startMs) / 60_000).toFixed(1)} min: ${tally.bodies} bodies, ${tally.accepted.toLocaleString('en-US')} accepted, statuses ${JSON.stringify(Object.fromEntries(tally.statuses))}`,
+    ),
+  30_000,
+);
 try {
   await Promise.all(Array.from({ length: GATEWAYS }, (_, g) => gateway(g)));
 } finally {
   clearInterval(progress);
 }
 const stored = toNumber((await sql<{ n: string }>`select count(*) as n from readings`.execute(handle.db)).rows[0]?.n);
-const queue = await sql<{ n: string; failed: string }>`select count(*) as n, count(*) filter (where last_error is not null) as failed from analysis_queue`.execute(handle.db);
-const analysed = toNumber((await sql<{ n: string }>`select count(distinct vehicle_id) as n from engine_runs`.execute(handle.db)).rows[0]?.n);
+const queue = await sql<{
+  n: string;
+  failed: string;
+}>`select count(*) as n, count(*) filter (where last_error is not null) as failed from analysis_queue`.execute(
+  handle.db,
+);
+const analysed = toNumber(
+  (await sql<{ n: string }>`select count(distinct vehicle_id) as n from engine_runs`.execute(handle.db)).rows[0]?.n,
+);
 await server.stop();
 await handle.close();
 await scratch.drop();

@@ -83,13 +83,16 @@ try {
     const seconds = (performance.now() - t0) / 1000;
     const cpu = process.cpuUsage(cpu0);
     const pg1 = postgresCpu(NAME);
-    if (run.status !== 'succeeded' || run.vehiclesFailed > 0) throw new Error(`analysis run failed: ${run.error ?? JSON.stringify(run.failures)}`);
+    if (run.status !== 'succeeded' || run.vehiclesFailed > 0)
+      throw new Error(`analysis run failed: ${run.error ?? JSON.stringify(run.failures)}`);
     const worker = (cpu.user + cpu.system) / 1e6;
     const pgUser = pg1.user - pg0.user;
     const pgSystem = pg1.system - pg0.system;
-    process.stdout.write(`${n === 0 ? 'first (JIT cold)' : 'next (JIT warm) '} ${run.readingsAnalysed} readings, wall ${seconds.toFixed(2)} s, `
-      + `worker ${worker.toFixed(2)} s (system ${(cpu.system / 1e6).toFixed(2)}), PostgreSQL ${(pgUser + pgSystem).toFixed(2)} s `
-      + `(system ${pgSystem.toFixed(2)}): ${Math.round(run.readingsAnalysed / (worker + pgUser + pgSystem)).toLocaleString('en-US')} readings per CPU-second\n`);
+    process.stdout.write(
+      `${n === 0 ? 'first (JIT cold)' : 'next (JIT warm) '} ${run.readingsAnalysed} readings, wall ${seconds.toFixed(2)} s, ` +
+        `worker ${worker.toFixed(2)} s (system ${(cpu.system / 1e6).toFixed(2)}), PostgreSQL ${(pgUser + pgSystem).toFixed(2)} s ` +
+        `(system ${pgSystem.toFixed(2)}): ${Math.round(run.readingsAnalysed / (worker + pgUser + pgSystem)).toLocaleString('en-US')} readings per CPU-second\n`,
+    );
   }
 } finally {
   await h.close();

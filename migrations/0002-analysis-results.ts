@@ -92,7 +92,9 @@ export async function up(db: Kysely<any>): Promise<void> {
       readings_analysed  bigint NOT NULL DEFAULT 0,
       analysed_at        timestamptz NOT NULL DEFAULT now()
     )`.execute(db);
-  await sql`CREATE INDEX vehicle_analysis_risk_idx ON vehicle_analysis (fleet_id, risk_score DESC, vehicle_id)`.execute(db);
+  await sql`CREATE INDEX vehicle_analysis_risk_idx ON vehicle_analysis (fleet_id, risk_score DESC, vehicle_id)`.execute(
+    db,
+  );
 
   await sql`
     CREATE TABLE peer_baselines (

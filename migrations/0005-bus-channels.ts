@@ -20,7 +20,9 @@ export async function up(db: Kysely<any>): Promise<void> {
       ADD COLUMN barometric_kpa real,
       ADD COLUMN coolant_level_pct real,
       ADD COLUMN coolant_pressure_kpa real`.execute(db);
-  await sql`ALTER TABLE vehicles ADD COLUMN sample_period_s integer NOT NULL DEFAULT 10 CHECK (sample_period_s BETWEEN 1 AND 3600)`.execute(db);
+  await sql`ALTER TABLE vehicles ADD COLUMN sample_period_s integer NOT NULL DEFAULT 10 CHECK (sample_period_s BETWEEN 1 AND 3600)`.execute(
+    db,
+  );
   await sql`
     CREATE TABLE bus_slots (
       vehicle_id  text NOT NULL,

@@ -14,7 +14,9 @@ import { sql, type Kysely } from 'kysely';
  */
 export async function up(db: Kysely<any>): Promise<void> {
   await sql`ALTER TABLE findings DROP CONSTRAINT IF EXISTS findings_status_check`.execute(db);
-  await sql`ALTER TABLE findings ADD CONSTRAINT findings_status_check CHECK (status IN ('open', 'acknowledged', 'deferred', 'resolved'))`.execute(db);
+  await sql`ALTER TABLE findings ADD CONSTRAINT findings_status_check CHECK (status IN ('open', 'acknowledged', 'deferred', 'resolved'))`.execute(
+    db,
+  );
   await sql`ALTER TABLE findings ADD COLUMN deferred_until timestamptz`.execute(db);
   await sql`ALTER TABLE findings ADD COLUMN deferred_reason text`.execute(db);
   await sql`ALTER TABLE findings ADD COLUMN deferred_by text`.execute(db);

@@ -24,7 +24,9 @@ export async function up(db: Kysely<any>): Promise<void> {
   await sql`
     UPDATE findings f SET resolved_by_event = e.event_id
     FROM service_events e
-    WHERE e.vehicle_id = f.vehicle_id AND f.resolved_reason = 'service-event:' || e.kind AND f.resolved_at = e.at`.execute(db);
+    WHERE e.vehicle_id = f.vehicle_id AND f.resolved_reason = 'service-event:' || e.kind AND f.resolved_at = e.at`.execute(
+    db,
+  );
   await sql`
     UPDATE service_events e SET resolved_findings = coalesce((
       SELECT jsonb_agg(f.finding_id ORDER BY f.finding_id) FROM findings f

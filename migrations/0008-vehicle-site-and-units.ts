@@ -19,6 +19,8 @@ export async function up(db: Kysely<any>): Promise<void> {
   await sql`ALTER TABLE vehicles ADD COLUMN profile_set_at timestamptz`.execute(db);
   await sql`
     UPDATE vehicles SET profile_set_at = updated_at
-    WHERE label IS NOT NULL OR thermostat_open_c <> 88 OR cap_pressure_kpa <> 100 OR glycol_percent <> 50 OR engine_family <> 'unknown'`.execute(db);
+    WHERE label IS NOT NULL OR thermostat_open_c <> 88 OR cap_pressure_kpa <> 100 OR glycol_percent <> 50 OR engine_family <> 'unknown'`.execute(
+    db,
+  );
   await sql`CREATE INDEX vehicles_fleet_depot_idx ON vehicles (fleet_id, depot)`.execute(db);
 }

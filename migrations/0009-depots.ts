@@ -19,5 +19,7 @@ export async function up(db: Kysely<any>): Promise<void> {
       updated_at               timestamptz NOT NULL DEFAULT now(),
       PRIMARY KEY (fleet_id, depot_id)
     )`.execute(db);
-  await sql`INSERT INTO depots (fleet_id, depot_id) SELECT DISTINCT fleet_id, depot FROM vehicles WHERE depot IS NOT NULL`.execute(db);
+  await sql`INSERT INTO depots (fleet_id, depot_id) SELECT DISTINCT fleet_id, depot FROM vehicles WHERE depot IS NOT NULL`.execute(
+    db,
+  );
 }

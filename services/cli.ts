@@ -7,14 +7,26 @@
 type CommandModule = { run: (argv: string[]) => Promise<number> };
 
 const COMMANDS: Record<string, { summary: string; load: () => Promise<CommandModule> }> = {
-  serve: { summary: 'run the HTTP API (with an in-process analysis worker)', load: () => import('./processes/serve-command.js') },
+  serve: {
+    summary: 'run the HTTP API (with an in-process analysis worker)',
+    load: () => import('./processes/serve-command.js'),
+  },
   worker: { summary: 'run a standalone analysis worker', load: () => import('./processes/worker-command.js') },
   migrate: { summary: 'apply database migrations and exit', load: () => import('./db/migrate-command.js') },
   keys: { summary: 'create, list or revoke API keys', load: () => import('./api/keys-command.js') },
-  simulate: { summary: 'simulate a fleet and write readings.ndjson, vehicles.json, truth.json', load: () => import('./simulator/simulate-command.js') },
-  demo: { summary: 'simulate a demo fleet, ingest it over HTTP, analyse it, report', load: () => import('./demo/demo-command.js') },
+  simulate: {
+    summary: 'simulate a fleet and write readings.ndjson, vehicles.json, truth.json',
+    load: () => import('./simulator/simulate-command.js'),
+  },
+  demo: {
+    summary: 'simulate a demo fleet, ingest it over HTTP, analyse it, report',
+    load: () => import('./demo/demo-command.js'),
+  },
   report: { summary: 'build the weekly maintenance report', load: () => import('./report/report-command.js') },
-  evaluate: { summary: 'score detection on randomised fleets streamed through the API, beside a baseline', load: () => import('./evaluation/evaluate-command.js') },
+  evaluate: {
+    summary: 'score detection on randomised fleets streamed through the API, beside a baseline',
+    load: () => import('./evaluation/evaluate-command.js'),
+  },
 };
 
 function usage(): string {

@@ -87,7 +87,11 @@ describe('loadConfig', () => {
   });
 
   it('treats an empty variable as unset', () => {
-    expect(loadConfig({ PORT: '', DATABASE_URL: '', ADMIN_API_KEY: '' })).toMatchObject({ port: 3000, databaseUrl: undefined, adminApiKey: undefined });
+    expect(loadConfig({ PORT: '', DATABASE_URL: '', ADMIN_API_KEY: '' })).toMatchObject({
+      port: 3000,
+      databaseUrl: undefined,
+      adminApiKey: undefined,
+    });
   });
 
   it.each([

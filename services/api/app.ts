@@ -74,7 +74,10 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(errorsPlugin);
   await app.register(metricsPlugin);
   await app.register(dbPlugin, { database: options.database, closeOnShutdown: options.closeDatabase ?? false });
-  await app.register(authPlugin, { authFailuresPerMinute: config.authFailuresPerMinute, webSessionIdleMs: config.webSessionIdleMinutes * 60_000 });
+  await app.register(authPlugin, {
+    authFailuresPerMinute: config.authFailuresPerMinute,
+    webSessionIdleMs: config.webSessionIdleMinutes * 60_000,
+  });
   await app.register(openapiPlugin);
   await app.register(rateLimit, {
     global: true,
@@ -82,12 +85,25 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     timeWindow: 60_000,
     keyGenerator: rateLimitKey,
     allowList: (request) => UNLIMITED_PATHS.has(request.url.split('?', 1)[0]!),
-    errorResponseBuilder: (_request, context) => new AppError(429, 'rate_limited', `rate limit of ${context.max} requests per minute exceeded; retry after ${context.after}`),
+    errorResponseBuilder: (_request, context) =>
+      new AppError(
+        429,
+        'rate_limited',
+        `rate limit of ${context.max} requests per minute exceeded; retry after ${context.after}`,
+      ),
   });
 
   await app.register(operationsRoutes);
-  await app.register(readingsRoutes, { maxBodyBytes: config.maxBodyBytes, maxReadingsPerRequest: config.maxReadingsPerRequest, ingestMaxAgeDays: config.ingestMaxAgeDays });
-  await app.register(framesRoutes, { maxBodyBytes: config.maxBodyBytes, maxReadingsPerRequest: config.maxReadingsPerRequest, ingestMaxAgeDays: config.ingestMaxAgeDays });
+  await app.register(readingsRoutes, {
+    maxBodyBytes: config.maxBodyBytes,
+    maxReadingsPerRequest: config.maxReadingsPerRequest,
+    ingestMaxAgeDays: config.ingestMaxAgeDays,
+  });
+  await app.register(framesRoutes, {
+    maxBodyBytes: config.maxBodyBytes,
+    maxReadingsPerRequest: config.maxReadingsPerRequest,
+    ingestMaxAgeDays: config.ingestMaxAgeDays,
+  });
   await app.register(vehiclesRoutes);
   await app.register(fleetRoutes);
   await app.register(findingsRoutes);

@@ -56,7 +56,11 @@ export class PayloadTooLargeError extends AppError {
  */
 export class ClientClosedRequestError extends AppError {
   constructor() {
-    super(400, 'client_closed_request', 'the client closed the connection before the body was complete; nothing was stored');
+    super(
+      400,
+      'client_closed_request',
+      'the client closed the connection before the body was complete; nothing was stored',
+    );
   }
 }
 
@@ -78,18 +82,27 @@ export class RateLimitedError extends AppError {
 
 // SQLSTATE classes and node socket codes meaning "the database cannot be reached right now".
 const UNAVAILABLE_SQLSTATE = /^(08|53|57P0[1-3])/;
-const UNAVAILABLE_NODE_CODES = new Set(['ECONNREFUSED', 'ECONNRESET', 'ETIMEDOUT', 'EPIPE', 'ENOTFOUND', 'EHOSTUNREACH']);
+const UNAVAILABLE_NODE_CODES = new Set([
+  'ECONNREFUSED',
+  'ECONNRESET',
+  'ETIMEDOUT',
+  'EPIPE',
+  'ENOTFOUND',
+  'EHOSTUNREACH',
+]);
 
 // Driver messages without a code: pg's broken or closed connections, PGlite closed, and Kysely
 // after its database was closed (a request still running during shutdown).
-const UNAVAILABLE_MESSAGES = /Connection terminated|timeout exceeded when trying to connect|Client has encountered a connection error|Client was closed and is not queryable|Cannot use a pool after calling end|PGlite is closed|driver has already been destroyed/i;
+const UNAVAILABLE_MESSAGES =
+  /Connection terminated|timeout exceeded when trying to connect|Client has encountered a connection error|Client was closed and is not queryable|Cannot use a pool after calling end|PGlite is closed|driver has already been destroyed/i;
 
 /** True when the error says the database is down or unreachable (not a bad query). */
 export function isDatabaseUnavailable(err: unknown): boolean {
   let current: unknown = err;
   for (let depth = 0; current && depth < 5; depth++) {
     const e = current as { code?: unknown; message?: unknown; cause?: unknown };
-    if (typeof e.code === 'string' && (UNAVAILABLE_SQLSTATE.test(e.code) || UNAVAILABLE_NODE_CODES.has(e.code))) return true;
+    if (typeof e.code === 'string' && (UNAVAILABLE_SQLSTATE.test(e.code) || UNAVAILABLE_NODE_CODES.has(e.code)))
+      return true;
     if (typeof e.message === 'string' && UNAVAILABLE_MESSAGES.test(e.message)) return true;
     current = e.cause;
   }

@@ -41,7 +41,11 @@ export async function run(argv: string[]): Promise<number> {
     const keys = createApiKeysRepository(database.db);
     if (action === 'create') {
       if (values.admin) {
-        const { key, keyId } = await keys.create({ fleetId: null, scopes: ['admin', 'read', 'ingest'], label: values.label ?? null });
+        const { key, keyId } = await keys.create({
+          fleetId: null,
+          scopes: ['admin', 'read', 'ingest'],
+          label: values.label ?? null,
+        });
         process.stdout.write(`${key}\n`);
         process.stderr.write(`created admin key ${keyId} (every fleet)\n`);
         return 0;
@@ -54,15 +58,21 @@ export async function run(argv: string[]): Promise<number> {
       const created = await createFleetsRepository(database.db).ensure(values.fleet, values['fleet-name']);
       const { key, keyId } = await keys.create({ fleetId: values.fleet, scopes, label: values.label ?? null });
       process.stdout.write(`${key}\n`);
-      process.stderr.write(`created key ${keyId} for fleet ${values.fleet}${created ? ' (new fleet)' : ''} with scopes ${scopes.join(',')}\n`);
+      process.stderr.write(
+        `created key ${keyId} for fleet ${values.fleet}${created ? ' (new fleet)' : ''} with scopes ${scopes.join(',')}\n`,
+      );
       return 0;
     }
     if (action === 'list') {
       const rows = await keys.list(values.fleet);
-      process.stdout.write(`${'key id'.padEnd(22)} ${'fleet'.padEnd(16)} ${'scopes'.padEnd(20)} ${'created'.padEnd(24)} status\n`);
+      process.stdout.write(
+        `${'key id'.padEnd(22)} ${'fleet'.padEnd(16)} ${'scopes'.padEnd(20)} ${'created'.padEnd(24)} status\n`,
+      );
       for (const r of rows) {
         const status = r.revokedAt ? `revoked ${r.revokedAt.toISOString()}` : 'active';
-        process.stdout.write(`${r.keyId.padEnd(22)} ${(r.fleetId ?? '(all fleets)').padEnd(16)} ${r.scopes.join(',').padEnd(20)} ${r.createdAt.toISOString().padEnd(24)} ${status}${r.label ? `  ${r.label}` : ''}\n`);
+        process.stdout.write(
+          `${r.keyId.padEnd(22)} ${(r.fleetId ?? '(all fleets)').padEnd(16)} ${r.scopes.join(',').padEnd(20)} ${r.createdAt.toISOString().padEnd(24)} ${status}${r.label ? `  ${r.label}` : ''}\n`,
+        );
       }
       return 0;
     }

@@ -6,12 +6,17 @@ type Labels = Record<string, string>;
 
 function labelKey(labels: Labels): string {
   const keys = Object.keys(labels).sort();
-  return keys.map((k) => `${k}="${String(labels[k]).replace(/\\/g, '\\\\').replace(/"/g, '\\"').replace(/\n/g, '\\n')}"`).join(',');
+  return keys
+    .map((k) => `${k}="${String(labels[k]).replace(/\\/g, '\\\\').replace(/"/g, '\\"').replace(/\n/g, '\\n')}"`)
+    .join(',');
 }
 
 export class Counter {
   private readonly values = new Map<string, number>();
-  constructor(readonly name: string, readonly help: string) {}
+  constructor(
+    readonly name: string,
+    readonly help: string,
+  ) {}
 
   inc(labels: Labels = {}, by = 1): void {
     const key = labelKey(labels);
@@ -31,7 +36,11 @@ export class Counter {
 
 export class Histogram {
   private readonly series = new Map<string, { counts: number[]; sum: number; count: number }>();
-  constructor(readonly name: string, readonly help: string, readonly buckets: number[]) {}
+  constructor(
+    readonly name: string,
+    readonly help: string,
+    readonly buckets: number[],
+  ) {}
 
   observe(labels: Labels, value: number): void {
     const key = labelKey(labels);
@@ -60,13 +69,30 @@ export class Histogram {
 
 /** The service's metrics. One instance per app so tests do not share counts. */
 export class ServiceMetrics {
-  readonly ingestReadings = new Counter('thermocline_ingest_readings_total', 'Readings received by POST /v1/readings, by result (accepted, duplicate, rejected).');
-  readonly ingestBatches = new Counter('thermocline_ingest_batches_total', 'Ingest requests committed, by body format.');
-  readonly ingestFailures = new Counter('thermocline_ingest_failures_total', 'Ingest requests that stored nothing, by HTTP status.');
-  readonly requestDuration = new Histogram('thermocline_http_request_duration_seconds', 'HTTP request latency by method, route and status.', [0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30]);
+  readonly ingestReadings = new Counter(
+    'thermocline_ingest_readings_total',
+    'Readings received by POST /v1/readings, by result (accepted, duplicate, rejected).',
+  );
+  readonly ingestBatches = new Counter(
+    'thermocline_ingest_batches_total',
+    'Ingest requests committed, by body format.',
+  );
+  readonly ingestFailures = new Counter(
+    'thermocline_ingest_failures_total',
+    'Ingest requests that stored nothing, by HTTP status.',
+  );
+  readonly requestDuration = new Histogram(
+    'thermocline_http_request_duration_seconds',
+    'HTTP request latency by method, route and status.',
+    [0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30],
+  );
   readonly extra: Array<{ render(): string }> = [];
 
   render(): string {
-    return [this.ingestReadings, this.ingestBatches, this.ingestFailures, this.requestDuration, ...this.extra].map((m) => m.render()).join('\n') + '\n';
+    return (
+      [this.ingestReadings, this.ingestBatches, this.ingestFailures, this.requestDuration, ...this.extra]
+        .map((m) => m.render())
+        .join('\n') + '\n'
+    );
   }
 }

@@ -27,7 +27,11 @@ export async function oneFleetOf(
   what = '',
 ): Promise<string> {
   const fleetId = fleetScopeOf(principal, requested);
-  if (fleetId === null) throw new BadRequestError(`an admin key must name the fleet: ${what ? `${what}?fleet=<fleetId>` : '?fleet=<fleetId>'}`);
-  if (fleets && principal.fleetId === null && !(await fleets.exists(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
+  if (fleetId === null)
+    throw new BadRequestError(
+      `an admin key must name the fleet: ${what ? `${what}?fleet=<fleetId>` : '?fleet=<fleetId>'}`,
+    );
+  if (fleets && principal.fleetId === null && !(await fleets.exists(fleetId)))
+    throw new NotFoundError(`unknown fleet '${fleetId}'`);
   return fleetId;
 }

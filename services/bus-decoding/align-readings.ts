@@ -1,4 +1,14 @@
-import { CH_AMBIENT, CH_BAROMETRIC, CH_COOLANT, CH_COOLANT_HIGH_RES, CH_COOLANT_LEVEL, CH_COOLANT_PRESSURE, CH_RPM, CH_SPEED, CHANNEL_STALE_MS } from './bus-channels.js';
+import {
+  CH_AMBIENT,
+  CH_BAROMETRIC,
+  CH_COOLANT,
+  CH_COOLANT_HIGH_RES,
+  CH_COOLANT_LEVEL,
+  CH_COOLANT_PRESSURE,
+  CH_RPM,
+  CH_SPEED,
+  CHANNEL_STALE_MS,
+} from './bus-channels.js';
 import { EARLIEST_TS, EARLIEST_VALUE, LATEST_TS, LATEST_VALUE, type VehicleSlots } from './vehicle-slots.js';
 
 /** Readings derived from bus data, column-wise; absent channels NaN. */
@@ -18,14 +28,31 @@ export interface DerivedReadings {
 }
 
 export function emptyDerivedReadings(): DerivedReadings {
-  return { length: 0, tsMs: [], coolantC: [], ambientC: [], speedKph: [], rpm: [], barometricKpa: [], coolantLevelPct: [], coolantPressureKpa: [] };
+  return {
+    length: 0,
+    tsMs: [],
+    coolantC: [],
+    ambientC: [],
+    speedKph: [],
+    rpm: [],
+    barometricKpa: [],
+    coolantLevelPct: [],
+    coolantPressureKpa: [],
+  };
 }
 
 /**
  * The latest kept sample of `channel` at or before `t` and no older than its staleness, walking
  * back from slot index `k` of `slots` (ascending slot starts); NaN when there is none.
  */
-function lookBack(periodMs: number, slots: readonly number[], recs: readonly Float64Array[], k: number, channel: number, t: number): number {
+function lookBack(
+  periodMs: number,
+  slots: readonly number[],
+  recs: readonly Float64Array[],
+  k: number,
+  channel: number,
+  t: number,
+): number {
   const oldest = t - STALE_MS[channel]!;
   const i = 4 * channel;
   for (let j = k; j >= 0; j--) {
@@ -57,7 +84,13 @@ function lookBack(periodMs: number, slots: readonly number[], recs: readonly Flo
  * only on the merged state, not on the order samples arrived in.
  * @example alignReadings(slots, 0, Infinity, emptyDerivedReadings()).length
  */
-export function alignReadings(state: VehicleSlots, fromMs: number, toMs: number, out: DerivedReadings, slots = state.sortedSlots()): DerivedReadings {
+export function alignReadings(
+  state: VehicleSlots,
+  fromMs: number,
+  toMs: number,
+  out: DerivedReadings,
+  slots = state.sortedSlots(),
+): DerivedReadings {
   const recs = slots.map((s) => state.records.get(s)!);
   const p = state.periodMs;
   for (let k = 0; k < slots.length; k++) {

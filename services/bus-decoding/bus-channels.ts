@@ -13,7 +13,16 @@ export const CH_COOLANT_LEVEL = 6;
 export const CH_COOLANT_PRESSURE = 7;
 export const CHANNEL_COUNT = 8;
 
-export const CHANNEL_NAMES = ['coolant', 'coolantHighRes', 'ambient', 'barometricKpa', 'rpm', 'speedKph', 'coolantLevelPct', 'coolantPressureKpa'] as const;
+export const CHANNEL_NAMES = [
+  'coolant',
+  'coolantHighRes',
+  'ambient',
+  'barometricKpa',
+  'rpm',
+  'speedKph',
+  'coolantLevelPct',
+  'coolantPressureKpa',
+] as const;
 
 const SECOND_MS = 1000;
 
@@ -26,7 +35,8 @@ const SECOND_MS = 1000;
  * few minutes or on change: 10 min.
  */
 export const CHANNEL_STALE_MS: readonly number[] = [
-  0, 0,
+  0,
+  0,
   120 * SECOND_MS, // ambient
   600 * SECOND_MS, // barometric pressure
   15 * SECOND_MS, // engine speed

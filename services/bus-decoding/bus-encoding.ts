@@ -45,7 +45,10 @@ function wordOf(value: number, scale: number, add: number): [number, number] {
 }
 
 function frame(priority: number, pgn: number, data: number[]): EncodedFrame {
-  return { canId: j1939Identifier(priority, pgn, ENGINE_SOURCE_ADDRESS).toString(16).toUpperCase().padStart(8, '0'), data: data.map(hex2).join('') };
+  return {
+    canId: j1939Identifier(priority, pgn, ENGINE_SOURCE_ADDRESS).toString(16).toUpperCase().padStart(8, '0'),
+    data: data.map(hex2).join(''),
+  };
 }
 
 /**

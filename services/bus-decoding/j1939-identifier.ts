@@ -63,5 +63,5 @@ export function decodeJ1939Identifier(canId: number): J1939Identifier | undefine
  * @example j1939Identifier(6, 65262, 0) // 0x18feee00
  */
 export function j1939Identifier(priority: number, pgn: number, sourceAddress: number): number {
-  return ((priority & 0x07) * 0x4000000) + ((pgn & 0x3ffff) << 8) + (sourceAddress & 0xff);
+  return (priority & 0x07) * 0x4000000 + ((pgn & 0x3ffff) << 8) + (sourceAddress & 0xff);
 }

@@ -1,4 +1,13 @@
-import { CH_AMBIENT, CH_BAROMETRIC, CH_COOLANT, CH_COOLANT_HIGH_RES, CH_COOLANT_LEVEL, CH_COOLANT_PRESSURE, CH_RPM, CH_SPEED } from './bus-channels.js';
+import {
+  CH_AMBIENT,
+  CH_BAROMETRIC,
+  CH_COOLANT,
+  CH_COOLANT_HIGH_RES,
+  CH_COOLANT_LEVEL,
+  CH_COOLANT_PRESSURE,
+  CH_RPM,
+  CH_SPEED,
+} from './bus-channels.js';
 
 /**
  * The parameter groups thermocline decodes (SAE J1939-71). Byte positions are 1-based in the
@@ -33,19 +42,25 @@ const SPNS_BY_PGN = new Map<number, readonly Spn[]>([
   // SPN 110 engine coolant temperature: byte 1, 1 °C/bit, −40 °C.
   [PGN_ET1, [{ channel: CH_COOLANT, offset: 0, bytes: 1, scale: 1, add: -40 }]],
   // SPN 108 barometric pressure: byte 1, 0.5 kPa/bit. SPN 171 ambient air temperature: bytes 4–5, 0.03125 °C/bit, −273 °C.
-  [PGN_AMB, [
-    { channel: CH_BAROMETRIC, offset: 0, bytes: 1, scale: 0.5, add: 0 },
-    { channel: CH_AMBIENT, offset: 3, bytes: 2, scale: 0.03125, add: -273 },
-  ]],
+  [
+    PGN_AMB,
+    [
+      { channel: CH_BAROMETRIC, offset: 0, bytes: 1, scale: 0.5, add: 0 },
+      { channel: CH_AMBIENT, offset: 3, bytes: 2, scale: 0.03125, add: -273 },
+    ],
+  ],
   // SPN 190 engine speed: bytes 4–5, 0.125 rpm/bit.
   [PGN_EEC1, [{ channel: CH_RPM, offset: 3, bytes: 2, scale: 0.125, add: 0 }]],
   // SPN 84 wheel-based vehicle speed: bytes 2–3, 1/256 km/h per bit.
   [PGN_CCVS1, [{ channel: CH_SPEED, offset: 1, bytes: 2, scale: 1 / 256, add: 0 }]],
   // SPN 109 coolant pressure: byte 7, 2 kPa/bit; SPN 111 coolant level: byte 8, 0.4 %/bit (positions from memory).
-  [PGN_EFLP1, [
-    { channel: CH_COOLANT_PRESSURE, offset: 6, bytes: 1, scale: 2, add: 0 },
-    { channel: CH_COOLANT_LEVEL, offset: 7, bytes: 1, scale: 0.4, add: 0 },
-  ]],
+  [
+    PGN_EFLP1,
+    [
+      { channel: CH_COOLANT_PRESSURE, offset: 6, bytes: 1, scale: 2, add: 0 },
+      { channel: CH_COOLANT_LEVEL, offset: 7, bytes: 1, scale: 0.4, add: 0 },
+    ],
+  ],
   // SPN 1637 engine coolant temperature (high resolution): bytes 3–4, 0.03125 °C/bit, −273 °C (from memory).
   [PGN_ET3, [{ channel: CH_COOLANT_HIGH_RES, offset: 2, bytes: 2, scale: 0.03125, add: -273 }]],
 ]);

@@ -25,10 +25,34 @@ export const PID_AMBIENT = 0x46;
  * skipped PIDs are from memory.
  */
 const PID_BYTES = new Map<number, number>([
-  [0x00, 4], [0x20, 4], [0x40, 4], [0x60, 4], [0x80, 4], [0xa0, 4], [0xc0, 4], // supported-PID bitmaps
-  [0x01, 4], [0x03, 2], [0x04, 1], [PID_COOLANT, 1], [0x06, 1], [0x07, 1], [0x0b, 1],
-  [PID_RPM, 2], [PID_SPEED, 1], [0x0e, 1], [0x0f, 1], [0x10, 2], [0x11, 1], [0x1f, 2], [0x21, 2],
-  [0x2f, 1], [0x31, 2], [PID_BAROMETRIC, 1], [0x42, 2], [PID_AMBIENT, 1], [0x5c, 1],
+  [0x00, 4],
+  [0x20, 4],
+  [0x40, 4],
+  [0x60, 4],
+  [0x80, 4],
+  [0xa0, 4],
+  [0xc0, 4], // supported-PID bitmaps
+  [0x01, 4],
+  [0x03, 2],
+  [0x04, 1],
+  [PID_COOLANT, 1],
+  [0x06, 1],
+  [0x07, 1],
+  [0x0b, 1],
+  [PID_RPM, 2],
+  [PID_SPEED, 1],
+  [0x0e, 1],
+  [0x0f, 1],
+  [0x10, 2],
+  [0x11, 1],
+  [0x1f, 2],
+  [0x21, 2],
+  [0x2f, 1],
+  [0x31, 2],
+  [PID_BAROMETRIC, 1],
+  [0x42, 2],
+  [PID_AMBIENT, 1],
+  [0x5c, 1],
 ]);
 
 export interface ObdDecodeResult {
@@ -46,7 +70,12 @@ export interface ObdDecodeResult {
  * 0x0D vehicle speed A km/h, 0x33 barometric pressure A kPa (SAE J1979).
  * @example decodeObdResponse(Uint8Array.of(0x41, 0x05, 0x7b), 3, values) // { mask: 1, … }; values[0] = 83
  */
-export function decodeObdResponse(data: Uint8Array, length: number, values: Float64Array, result: ObdDecodeResult): ObdDecodeResult {
+export function decodeObdResponse(
+  data: Uint8Array,
+  length: number,
+  values: Float64Array,
+  result: ObdDecodeResult,
+): ObdDecodeResult {
   result.mask = 0;
   result.ignoredPids = 0;
   result.error = null;
@@ -80,12 +109,28 @@ export function decodeObdResponse(data: Uint8Array, length: number, values: Floa
     }
     const a = data[i + 1]!;
     switch (pid) {
-      case PID_COOLANT: values[CH_COOLANT] = a - 40; result.mask |= 1 << CH_COOLANT; break;
-      case PID_AMBIENT: values[CH_AMBIENT] = a - 40; result.mask |= 1 << CH_AMBIENT; break;
-      case PID_RPM: values[CH_RPM] = (256 * a + data[i + 2]!) / 4; result.mask |= 1 << CH_RPM; break;
-      case PID_SPEED: values[CH_SPEED] = a; result.mask |= 1 << CH_SPEED; break;
-      case PID_BAROMETRIC: values[CH_BAROMETRIC] = a; result.mask |= 1 << CH_BAROMETRIC; break;
-      default: result.ignoredPids++;
+      case PID_COOLANT:
+        values[CH_COOLANT] = a - 40;
+        result.mask |= 1 << CH_COOLANT;
+        break;
+      case PID_AMBIENT:
+        values[CH_AMBIENT] = a - 40;
+        result.mask |= 1 << CH_AMBIENT;
+        break;
+      case PID_RPM:
+        values[CH_RPM] = (256 * a + data[i + 2]!) / 4;
+        result.mask |= 1 << CH_RPM;
+        break;
+      case PID_SPEED:
+        values[CH_SPEED] = a;
+        result.mask |= 1 << CH_SPEED;
+        break;
+      case PID_BAROMETRIC:
+        values[CH_BAROMETRIC] = a;
+        result.mask |= 1 << CH_BAROMETRIC;
+        break;
+      default:
+        result.ignoredPids++;
     }
     i += 1 + bytes;
   }

@@ -69,7 +69,15 @@ export interface ReadingsDiff {
   unchanged: number;
 }
 
-const VALUE_COLUMNS = ['coolantC', 'ambientC', 'speedKph', 'rpm', 'barometricKpa', 'coolantLevelPct', 'coolantPressureKpa'] as const;
+const VALUE_COLUMNS = [
+  'coolantC',
+  'ambientC',
+  'speedKph',
+  'rpm',
+  'barometricKpa',
+  'coolantLevelPct',
+  'coolantPressureKpa',
+] as const;
 
 function same(x: number, y: number): boolean {
   return x === y || (Number.isNaN(x) && Number.isNaN(y));

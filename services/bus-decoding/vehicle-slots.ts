@@ -125,7 +125,8 @@ export function mergeInto(rec: Float64Array, channel: number, tsMs: number, valu
  * @example rollUp(preSlots, 10_000).records.size
  */
 export function rollUp(pre: VehicleSlots, periodMs: number): VehicleSlots {
-  if (periodMs % pre.periodMs !== 0) throw new RangeError(`sample period ${periodMs} ms is not a multiple of ${pre.periodMs} ms`);
+  if (periodMs % pre.periodMs !== 0)
+    throw new RangeError(`sample period ${periodMs} ms is not a multiple of ${pre.periodMs} ms`);
   const out = new VehicleSlots(periodMs);
   for (const [start, rec] of pre.records) {
     const slot = out.slotOf(start);

@@ -62,9 +62,21 @@ function lockedInIdOrder(where: RawBuilder<unknown>, skipLocked = false) {
  */
 export function createQueueRepository(db: Kysely<Database>) {
   return {
-    async lease(workerId: string, limit: number, leaseMs: number, options: LeaseOptions = {}, trx: Kysely<Database> = db): Promise<Lease[]> {
+    async lease(
+      workerId: string,
+      limit: number,
+      leaseMs: number,
+      options: LeaseOptions = {},
+      trx: Kysely<Database> = db,
+    ): Promise<Lease[]> {
       const fleet = options.fleetId ?? null;
-      const rows = await sql<{ vehicle_id: string; fleet_id: string; leased_from: Date; generation: string | number; attempts: number }>`
+      const rows = await sql<{
+        vehicle_id: string;
+        fleet_id: string;
+        leased_from: Date;
+        generation: string | number;
+        attempts: number;
+      }>`
         with picked as (
           select vehicle_id from analysis_queue
           where (locked_until is null or locked_until < now())
@@ -83,18 +95,32 @@ export function createQueueRepository(db: Kysely<Database>) {
         from picked where q.vehicle_id = picked.vehicle_id
         returning q.vehicle_id, q.fleet_id, q.leased_from, q.generation::text as generation, q.attempts`.execute(trx);
       return rows.rows
-        .map((r) => ({ vehicleId: r.vehicle_id, fleetId: r.fleet_id, windowFromMs: ms(r.leased_from), generation: String(r.generation), attempts: r.attempts }))
+        .map((r) => ({
+          vehicleId: r.vehicle_id,
+          fleetId: r.fleet_id,
+          windowFromMs: ms(r.leased_from),
+          generation: String(r.generation),
+          attempts: r.attempts,
+        }))
         .sort((a, b) => a.vehicleId.localeCompare(b.vehicleId));
     },
 
     /** Locks the row and tells whether `workerId` still holds a live lease on it. */
     async holds(workerId: string, vehicleId: string, trx: Kysely<Database> = db): Promise<boolean> {
-      const r = await sql`select 1 from analysis_queue where vehicle_id = ${vehicleId} and locked_by = ${workerId} and locked_until > now() for update`.execute(trx);
+      const r =
+        await sql`select 1 from analysis_queue where vehicle_id = ${vehicleId} and locked_by = ${workerId} and locked_until > now() for update`.execute(
+          trx,
+        );
       return r.rows.length > 0;
     },
 
     /** Pushes the expiry of `workerId`'s leases out by `leaseMs` (a heartbeat between vehicles). */
-    async extend(workerId: string, vehicleIds: readonly string[], leaseMs: number, trx: Kysely<Database> = db): Promise<number> {
+    async extend(
+      workerId: string,
+      vehicleIds: readonly string[],
+      leaseMs: number,
+      trx: Kysely<Database> = db,
+    ): Promise<number> {
       if (vehicleIds.length === 0) return 0;
       const r = await sql`
         update analysis_queue q set locked_until = now() + ${leaseMs}::float8 * interval '1 millisecond'
@@ -104,9 +130,15 @@ export function createQueueRepository(db: Kysely<Database>) {
     },
 
     /** Completes a lease: 'done' (row removed) or 'again' (new data arrived meanwhile; row released). */
-    async finish(workerId: string, lease: Pick<Lease, 'vehicleId' | 'generation'>, trx: Kysely<Database> = db): Promise<'done' | 'again' | 'lost'> {
+    async finish(
+      workerId: string,
+      lease: Pick<Lease, 'vehicleId' | 'generation'>,
+      trx: Kysely<Database> = db,
+    ): Promise<'done' | 'again' | 'lost'> {
       const deleted = await sql`
-        delete from analysis_queue where vehicle_id = ${lease.vehicleId} and locked_by = ${workerId} and generation = ${lease.generation}::bigint`.execute(trx);
+        delete from analysis_queue where vehicle_id = ${lease.vehicleId} and locked_by = ${workerId} and generation = ${lease.generation}::bigint`.execute(
+        trx,
+      );
       if (Number(deleted.numAffectedRows ?? 0) > 0) return 'done';
       const released = await sql`
         update analysis_queue
@@ -154,7 +186,9 @@ export function createQueueRepository(db: Kysely<Database>) {
       await sql`
         insert into analysis_queue (vehicle_id, fleet_id, dirty_from) values (${vehicleId}, ${fleetId}, to_timestamp(${fromMs}::float8 / 1000))
         on conflict (vehicle_id) do update
-          set dirty_from = least(analysis_queue.dirty_from, excluded.dirty_from), generation = analysis_queue.generation + 1, enqueued_at = now()`.execute(trx);
+          set dirty_from = least(analysis_queue.dirty_from, excluded.dirty_from), generation = analysis_queue.generation + 1, enqueued_at = now()`.execute(
+        trx,
+      );
     },
 
     async counts(fleetId?: string, trx: Kysely<Database> = db): Promise<QueueCounts> {

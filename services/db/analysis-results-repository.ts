@@ -39,7 +39,15 @@ export function createAnalysisStore(db: Kysely<Database>) {
   return {
     /** What the worker knows about each vehicle before analysing it, in the order asked (one statement for a batch). */
     async vehicleStates(vehicleIds: readonly string[]): Promise<VehicleState[]> {
-      const r = await sql<{ engine_family: string | null; thermostat_open_c: number; cap_pressure_kpa: number; glycol_percent: number; atmospheric_pressure_kpa: number | null; resume_from: Date | null; last_reading_at: Date | null }>`
+      const r = await sql<{
+        engine_family: string | null;
+        thermostat_open_c: number;
+        cap_pressure_kpa: number;
+        glycol_percent: number;
+        atmospheric_pressure_kpa: number | null;
+        resume_from: Date | null;
+        last_reading_at: Date | null;
+      }>`
         select v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent, ${SITE_PRESSURE} as atmospheric_pressure_kpa, a.resume_from, a.last_reading_at
         from unnest(${[...vehicleIds]}::text[]) with ordinality as l(vehicle_id, o)
         left join vehicles v on v.vehicle_id = l.vehicle_id
@@ -47,12 +55,16 @@ export function createAnalysisStore(db: Kysely<Database>) {
         left join vehicle_analysis a on a.vehicle_id = l.vehicle_id
         order by l.o`.execute(db);
       return r.rows.map((x) => ({
-        profile: x.engine_family !== null
-          ? {
-            engineFamily: x.engine_family, thermostatOpenC: x.thermostat_open_c, capPressureKpa: x.cap_pressure_kpa, glycolPercent: x.glycol_percent,
-            ...(x.atmospheric_pressure_kpa !== null ? { atmosphericPressureKpa: x.atmospheric_pressure_kpa } : {}),
-          }
-          : { ...DEFAULT_VEHICLE_PROFILE },
+        profile:
+          x.engine_family !== null
+            ? {
+                engineFamily: x.engine_family,
+                thermostatOpenC: x.thermostat_open_c,
+                capPressureKpa: x.cap_pressure_kpa,
+                glycolPercent: x.glycol_percent,
+                ...(x.atmospheric_pressure_kpa !== null ? { atmosphericPressureKpa: x.atmospheric_pressure_kpa } : {}),
+              }
+            : { ...DEFAULT_VEHICLE_PROFILE },
         resumeFromMs: x.resume_from?.getTime() ?? null,
         lastReadingMs: x.last_reading_at?.getTime() ?? null,
       }));
@@ -64,7 +76,9 @@ export function createAnalysisStore(db: Kysely<Database>) {
      * merge or split it, so it is recomputed whole. Repeats until no stored run reaches a start;
      * one statement per repetition for the whole batch. Returns the starts in the order given.
      */
-    async extendOverStoredRuns(windows: ReadonlyArray<{ vehicleId: string; fromMs: number; gapMs: number }>): Promise<number[]> {
+    async extendOverStoredRuns(
+      windows: ReadonlyArray<{ vehicleId: string; fromMs: number; gapMs: number }>,
+    ): Promise<number[]> {
       const from = windows.map((w) => w.fromMs);
       let moving = windows.map((_, k) => k);
       while (moving.length > 0) {
@@ -91,7 +105,12 @@ export function createAnalysisStore(db: Kysely<Database>) {
       // One statement for the three derived tables and the service events (each aggregated in
       // order): the worker's per-vehicle statements cost about as much PostgreSQL CPU as reading
       // its readings. A service event's time travels as epoch ms, floored as a JS Date holds it.
-      const r = await sql<{ runs: RunMetrics[]; days: DayAggregate[]; events: SensorEvent[]; services: ServiceEvent[] }>`
+      const r = await sql<{
+        runs: RunMetrics[];
+        days: DayAggregate[];
+        events: SensorEvent[];
+        services: ServiceEvent[];
+      }>`
         select (select coalesce(jsonb_agg(metrics order by start_ts), '[]') from engine_runs where vehicle_id = ${vehicleId} and start_ts < ${ts(beforeMs)}) as runs,
                (select coalesce(jsonb_agg(metrics order by day), '[]') from vehicle_days where vehicle_id = ${vehicleId} and day < ${utcDay(beforeMs)}::date) as days,
                (select coalesce(jsonb_agg(event order by run_start, kind), '[]') from sensor_events where vehicle_id = ${vehicleId} and run_start < ${ts(beforeMs)}) as events,
@@ -129,7 +148,17 @@ export function createAnalysisStore(db: Kysely<Database>) {
     },
 
     /** Records the pass: watermark, latest reading, readings analysed. */
-    async recordPass(trx: Kysely<Database>, p: { vehicleId: string; fleetId: string; resumeFromMs: number | null; lastRunEndMs: number | null; lastReadingMs: number | null; readings: number }): Promise<void> {
+    async recordPass(
+      trx: Kysely<Database>,
+      p: {
+        vehicleId: string;
+        fleetId: string;
+        resumeFromMs: number | null;
+        lastRunEndMs: number | null;
+        lastReadingMs: number | null;
+        readings: number;
+      },
+    ): Promise<void> {
       const opt = (v: number | null) => (v === null ? sql`null::timestamptz` : ts(v));
       await sql`
         insert into vehicle_analysis (vehicle_id, fleet_id, resume_from, last_run_end, last_reading_at, readings_analysed, analysed_at)
@@ -137,7 +166,9 @@ export function createAnalysisStore(db: Kysely<Database>) {
         on conflict (vehicle_id) do update set
           fleet_id = excluded.fleet_id, resume_from = excluded.resume_from, last_run_end = excluded.last_run_end,
           last_reading_at = excluded.last_reading_at,
-          readings_analysed = vehicle_analysis.readings_analysed + excluded.readings_analysed, analysed_at = now()`.execute(trx);
+          readings_analysed = vehicle_analysis.readings_analysed + excluded.readings_analysed, analysed_at = now()`.execute(
+        trx,
+      );
     },
   };
 }
@@ -146,6 +177,10 @@ export type AnalysisStore = ReturnType<typeof createAnalysisStore>;
 
 /** The time of a vehicle's latest analysed reading (its analysis time), or undefined before its first analysis. */
 export async function lastAnalysedReadingAt(executor: Kysely<Database>, vehicleId: string): Promise<Date | undefined> {
-  const row = await executor.selectFrom('vehicle_analysis').select('last_reading_at').where('vehicle_id', '=', vehicleId).executeTakeFirst();
+  const row = await executor
+    .selectFrom('vehicle_analysis')
+    .select('last_reading_at')
+    .where('vehicle_id', '=', vehicleId)
+    .executeTakeFirst();
   return row?.last_reading_at ?? undefined;
 }

@@ -40,7 +40,10 @@ export function splitKey(key: string): { keyId: string; secret: string } {
 }
 
 export function parseScopes(text: string): Scope[] {
-  const scopes = text.split(',').map((s) => s.trim()).filter(Boolean);
+  const scopes = text
+    .split(',')
+    .map((s) => s.trim())
+    .filter(Boolean);
   const bad = scopes.filter((s) => !(SCOPES as readonly string[]).includes(s));
   if (bad.length > 0 || scopes.length === 0) {
     throw new Error(`scopes must be a comma-separated list of ${SCOPES.join(', ')}; got '${text}'`);
@@ -51,13 +54,25 @@ export function parseScopes(text: string): Scope[] {
 export function createApiKeysRepository(db: Kysely<Database>) {
   return {
     /** Makes a new key; the plain key is returned once and never stored. */
-    async create(input: { fleetId: string | null; scopes: Scope[]; label?: string | null }): Promise<{ key: string; keyId: string }> {
-      if (input.fleetId === null && !input.scopes.includes('admin')) throw new Error('a key without a fleet must have the admin scope');
+    async create(input: {
+      fleetId: string | null;
+      scopes: Scope[];
+      label?: string | null;
+    }): Promise<{ key: string; keyId: string }> {
+      if (input.fleetId === null && !input.scopes.includes('admin'))
+        throw new Error('a key without a fleet must have the admin scope');
       const keyId = randomBytes(8).toString('hex');
       const secret = randomBytes(24).toString('base64url');
       await db
         .insertInto('api_keys')
-        .values({ key_id: keyId, fleet_id: input.fleetId, scopes: input.scopes, secret_hash: hashSecret(secret), label: input.label ?? null, revoked_at: null })
+        .values({
+          key_id: keyId,
+          fleet_id: input.fleetId,
+          scopes: input.scopes,
+          secret_hash: hashSecret(secret),
+          label: input.label ?? null,
+          revoked_at: null,
+        })
         .execute();
       return { key: `tck_${keyId}_${secret}`, keyId };
     },
@@ -67,7 +82,14 @@ export function createApiKeysRepository(db: Kysely<Database>) {
       const { keyId, secret } = splitKey(key);
       await db
         .insertInto('api_keys')
-        .values({ key_id: keyId, fleet_id: null, scopes: ['admin', 'read', 'ingest'], secret_hash: hashSecret(secret), label: 'ADMIN_API_KEY', revoked_at: null })
+        .values({
+          key_id: keyId,
+          fleet_id: null,
+          scopes: ['admin', 'read', 'ingest'],
+          secret_hash: hashSecret(secret),
+          label: 'ADMIN_API_KEY',
+          revoked_at: null,
+        })
         .onConflict((oc) => oc.column('key_id').doUpdateSet({ secret_hash: hashSecret(secret), revoked_at: null }))
         .execute();
       return keyId;
@@ -76,7 +98,11 @@ export function createApiKeysRepository(db: Kysely<Database>) {
     /** The principal for a presented key, or undefined when unknown, wrong or revoked. */
     async verify(key: string): Promise<Principal | undefined> {
       const { keyId, secret } = splitKey(key);
-      const row = await db.selectFrom('api_keys').select(['key_id', 'fleet_id', 'scopes', 'secret_hash', 'revoked_at']).where('key_id', '=', keyId).executeTakeFirst();
+      const row = await db
+        .selectFrom('api_keys')
+        .select(['key_id', 'fleet_id', 'scopes', 'secret_hash', 'revoked_at'])
+        .where('key_id', '=', keyId)
+        .executeTakeFirst();
       if (!row || row.revoked_at !== null) return undefined;
       const presented = Buffer.from(hashSecret(secret), 'hex');
       const stored = Buffer.from(row.secret_hash, 'hex');
@@ -85,16 +111,33 @@ export function createApiKeysRepository(db: Kysely<Database>) {
     },
 
     async list(fleetId?: string): Promise<ApiKeyRow[]> {
-      let q = db.selectFrom('api_keys').select(['key_id', 'fleet_id', 'scopes', 'label', 'created_at', 'revoked_at']).orderBy('created_at').orderBy('key_id');
+      let q = db
+        .selectFrom('api_keys')
+        .select(['key_id', 'fleet_id', 'scopes', 'label', 'created_at', 'revoked_at'])
+        .orderBy('created_at')
+        .orderBy('key_id');
       if (fleetId) q = q.where('fleet_id', '=', fleetId);
       const rows = await q.execute();
-      return rows.map((r) => ({ keyId: r.key_id, fleetId: r.fleet_id, scopes: r.scopes as Scope[], label: r.label, createdAt: r.created_at, revokedAt: r.revoked_at }));
+      return rows.map((r) => ({
+        keyId: r.key_id,
+        fleetId: r.fleet_id,
+        scopes: r.scopes as Scope[],
+        label: r.label,
+        createdAt: r.created_at,
+        revokedAt: r.revoked_at,
+      }));
     },
 
     /** Revokes a key by id (or by the whole key); returns false when there is no such key. */
     async revoke(keyIdOrKey: string): Promise<boolean> {
-      const keyId = /^[a-f0-9]{16}$/.test(keyIdOrKey) || keyIdOrKey.startsWith('env_') ? keyIdOrKey : splitKey(keyIdOrKey).keyId;
-      const result = await db.updateTable('api_keys').set({ revoked_at: new Date() }).where('key_id', '=', keyId).where('revoked_at', 'is', null).executeTakeFirst();
+      const keyId =
+        /^[a-f0-9]{16}$/.test(keyIdOrKey) || keyIdOrKey.startsWith('env_') ? keyIdOrKey : splitKey(keyIdOrKey).keyId;
+      const result = await db
+        .updateTable('api_keys')
+        .set({ revoked_at: new Date() })
+        .where('key_id', '=', keyId)
+        .where('revoked_at', 'is', null)
+        .executeTakeFirst();
       return Number(result.numUpdatedRows) > 0;
     },
   };

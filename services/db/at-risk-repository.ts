@@ -2,7 +2,15 @@ import { sql, type Kysely } from 'kysely';
 import type { Severity } from '../analysis/findings/finding.js';
 import { defaultProfileNote } from '../analysis/findings/profile-assumptions.js';
 import { SEA_LEVEL_PRESSURE_KPA } from '../analysis/physics/atmosphere.js';
-import { afterKeySql, keyColumnsSql, orderBySql, pageOf, type Page, type PageRequest, type SortColumn } from './keyset.js';
+import {
+  afterKeySql,
+  keyColumnsSql,
+  orderBySql,
+  pageOf,
+  type Page,
+  type PageRequest,
+  type SortColumn,
+} from './keyset.js';
 import type { Database } from './schema.js';
 import type { FindingBriefView } from './vehicle-risk.js';
 import { DEPOT_JOIN, SITE_PRESSURE, SITE_SOURCE, type SiteSource } from './vehicle-site.js';
@@ -33,11 +41,24 @@ export const AT_RISK_ORDER: readonly SortColumn[] = [
  * beside the risk as JSON (migration 0004); the vehicle and its depot add two key lookups.
  */
 export async function atRiskVehicles(
-  db: Kysely<Database>, o: { fleetId: string | null; severities: readonly Severity[]; depot?: string }, pageRequest: PageRequest,
+  db: Kysely<Database>,
+  o: { fleetId: string | null; severities: readonly Severity[]; depot?: string },
+  pageRequest: PageRequest,
 ): Promise<Page<AtRiskVehicle>> {
   const depot = o.depot ?? null;
-  const r = await sql<{ vehicle_id: string; risk_score: number; max_severity: Severity; last_reading_at: Date | null; brief: FindingBriefView[];
-    depot: string | null; kpa: number | null; source: SiteSource; default_profile: boolean } & Record<string, unknown>>`
+  const r = await sql<
+    {
+      vehicle_id: string;
+      risk_score: number;
+      max_severity: Severity;
+      last_reading_at: Date | null;
+      brief: FindingBriefView[];
+      depot: string | null;
+      kpa: number | null;
+      source: SiteSource;
+      default_profile: boolean;
+    } & Record<string, unknown>
+  >`
     select a.vehicle_id, a.risk_score, a.max_severity, a.last_reading_at, a.open_findings_brief as brief,
            v.depot, ${SITE_PRESSURE} as kpa, ${SITE_SOURCE} as source, v.profile_set_at is null as default_profile, ${keyColumnsSql(AT_RISK_ORDER)}
     from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id ${DEPOT_JOIN}
@@ -56,7 +77,10 @@ export async function atRiskVehicles(
     atmosphericPressureKpa: v.kpa ?? SEA_LEVEL_PRESSURE_KPA,
     siteSource: v.source,
     defaultProfile: v.default_profile,
-    findings: (all ? v.brief : v.brief.filter((f) => o.severities.includes(f.severity)))
-      .map((f) => ({ ...f, defaultProfile: v.default_profile, profileNote: defaultProfileNote(f.kind, v.default_profile) })),
+    findings: (all ? v.brief : v.brief.filter((f) => o.severities.includes(f.severity))).map((f) => ({
+      ...f,
+      defaultProfile: v.default_profile,
+      profileNote: defaultProfileNote(f.kind, v.default_profile),
+    })),
   }));
 }

@@ -48,23 +48,37 @@ function textLiteral(values: readonly string[]): string {
 export function createBusFramesRepository(handle: DatabaseHandle, partitions: PartitionKeeper) {
   /** Locks the vehicles (in hash order: the same order in every request, so no deadlock) and reads their profiles. */
   async function lockVehicles(conn: IngestConnection, fleetId: string, ids: string[]): Promise<Map<string, number>> {
-    await conn.run(sql`select pg_advisory_xact_lock(k) from (select distinct hashtextextended('bus:' || v, 0) as k from unnest(${ids}::text[]) as v order by 1) s`);
+    await conn.run(
+      sql`select pg_advisory_xact_lock(k) from (select distinct hashtextextended('bus:' || v, 0) as k from unnest(${ids}::text[]) as v order by 1) s`,
+    );
     const rows = await conn.run(sql<{ vehicle_id: string; fleet_id: string; sample_period_s: number }>`
       select vehicle_id, fleet_id, sample_period_s from vehicles where vehicle_id = any(${ids}::text[])`);
-    const foreign = rows.filter((r) => r.fleet_id !== fleetId).map((r) => r.vehicle_id).sort();
+    const foreign = rows
+      .filter((r) => r.fleet_id !== fleetId)
+      .map((r) => r.vehicle_id)
+      .sort();
     if (foreign.length > 0) throw new ForeignVehiclesError(foreign.slice(0, 10));
     return new Map(rows.map((r) => [r.vehicle_id, r.sample_period_s * MS_PER_S]));
   }
 
   /** The stored slots of each vehicle's window, in one statement. */
-  async function loadSlots(conn: IngestConnection, incoming: Map<string, VehicleSlots>): Promise<Map<string, VehicleSlots>> {
+  async function loadSlots(
+    conn: IngestConnection,
+    incoming: Map<string, VehicleSlots>,
+  ): Promise<Map<string, VehicleSlots>> {
     const ids = [...incoming.keys()];
     const periods = ids.map((id) => incoming.get(id)!.periodMs / MS_PER_S);
     const windows = ids.map((id) => windowToLoad(incoming.get(id)!));
     const rows = await conn.run(sql<{ vehicle_id: string; slot_ms: number; rec: Uint8Array }>`
       select s.vehicle_id, s.slot_ms, s.rec
-      from unnest(${textLiteral(ids)}::text[], ${`{${periods.join(',')}}`}::int[], ${floatLiteral(windows.map((w) => w.fromMs), false)}::float8[],
-                  ${floatLiteral(windows.map((w) => w.toMs), false)}::float8[]) as w(v, p, f, t)
+      from unnest(${textLiteral(ids)}::text[], ${`{${periods.join(',')}}`}::int[], ${floatLiteral(
+        windows.map((w) => w.fromMs),
+        false,
+      )}::float8[],
+                  ${floatLiteral(
+                    windows.map((w) => w.toMs),
+                    false,
+                  )}::float8[]) as w(v, p, f, t)
       join bus_slots s on s.vehicle_id = w.v and s.period_s = w.p and s.slot_ms >= w.f and s.slot_ms <= w.t`);
     const stored = new Map(ids.map((id) => [id, new VehicleSlots(incoming.get(id)!.periodMs)]));
     for (const r of rows) decodeSlotRecord(r.rec, stored.get(r.vehicle_id)!.record(r.slot_ms));
@@ -135,7 +149,14 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
   }
 
   /** Registers unknown vehicles, marks changed ones for analysis, writes the audit row; refuses another fleet's vehicle registered meanwhile. */
-  async function finish(conn: IngestConnection, fleetId: string, ids: string[], w: SlotWrites, audit: IngestAuditInput, started: number): Promise<void> {
+  async function finish(
+    conn: IngestConnection,
+    fleetId: string,
+    ids: string[],
+    w: SlotWrites,
+    audit: IngestAuditInput,
+    started: number,
+  ): Promise<void> {
     const queued = [...w.dirtyFrom.keys()].sort();
     const firsts = queued.map((id) => w.dirtyFrom.get(id)!);
     await conn.run(sql`
@@ -150,17 +171,28 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
       )
       insert into ingest_audit (key_id, fleet_id, content_type, body_bytes, accepted, duplicates, rejected, vehicles, duration_ms)
       values (${audit.keyId}, ${fleetId}, ${audit.contentType}, ${audit.bodyBytes()}, ${w.accepted}, ${w.duplicates}, ${audit.rejected()}, ${ids.length}, ${Date.now() - started})`);
-    const raced = await conn.run(sql<{ vehicle_id: string }>`select vehicle_id from vehicles where vehicle_id = any(${ids}::text[]) and fleet_id <> ${fleetId} order by vehicle_id limit 10`);
+    const raced = await conn.run(
+      sql<{
+        vehicle_id: string;
+      }>`select vehicle_id from vehicles where vehicle_id = any(${ids}::text[]) and fleet_id <> ${fleetId} order by vehicle_id limit 10`,
+    );
     if (raced.length > 0) throw new ForeignVehiclesError(raced.map((r) => r.vehicle_id));
   }
 
-  async function ingestOnce(fleetId: string, pre: ReadonlyMap<string, VehicleSlots>, audit: IngestAuditInput, started: number): Promise<FrameIngestResult> {
+  async function ingestOnce(
+    fleetId: string,
+    pre: ReadonlyMap<string, VehicleSlots>,
+    audit: IngestAuditInput,
+    started: number,
+  ): Promise<FrameIngestResult> {
     const ids = [...pre.keys()].sort();
     return inTransaction(handle, async (conn) => {
       const w = new SlotWrites();
       if (ids.length > 0) {
         const periods = await lockVehicles(conn, fleetId, ids);
-        const incoming = new Map(ids.map((id) => [id, rollUp(pre.get(id)!, periods.get(id) ?? DEFAULT_SAMPLE_PERIOD_S * MS_PER_S)]));
+        const incoming = new Map(
+          ids.map((id) => [id, rollUp(pre.get(id)!, periods.get(id) ?? DEFAULT_SAMPLE_PERIOD_S * MS_PER_S)]),
+        );
         const stored = await loadSlots(conn, incoming);
         for (const id of ids) {
           const mine = stored.get(id)!;
@@ -190,7 +222,11 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
      * Resolves after COMMIT; on any error nothing is stored.
      * @example await repo.ingest('northside', collector.vehicles, audit)
      */
-    ingest(fleetId: string, pre: ReadonlyMap<string, VehicleSlots>, audit: IngestAuditInput): Promise<FrameIngestResult> {
+    ingest(
+      fleetId: string,
+      pre: ReadonlyMap<string, VehicleSlots>,
+      audit: IngestAuditInput,
+    ): Promise<FrameIngestResult> {
       const started = Date.now();
       return withTransientRetry(() => ingestOnce(fleetId, pre, audit, started));
     },

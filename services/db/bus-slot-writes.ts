@@ -44,7 +44,16 @@ class ReadingColumns {
 
   push(vehicleId: string, r: DerivedReadings, i: number): void {
     this.vehicleIds.push(vehicleId);
-    const src = [r.tsMs, r.coolantC, r.ambientC, r.speedKph, r.rpm, r.barometricKpa, r.coolantLevelPct, r.coolantPressureKpa];
+    const src = [
+      r.tsMs,
+      r.coolantC,
+      r.ambientC,
+      r.speedKph,
+      r.rpm,
+      r.barometricKpa,
+      r.coolantLevelPct,
+      r.coolantPressureKpa,
+    ];
     for (let k = 0; k < src.length; k++) this.cols[k]!.push(src[k]![i]!);
   }
 
@@ -53,8 +62,28 @@ class ReadingColumns {
   }
 
   chunk(): ReadingChunk {
-    const [ts, c, a, s, r, b, l, p] = this.cols.map((col) => Float64Array.from(col)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
-    return { length: this.length, vehicleIds: this.vehicleIds, tsMs: ts, coolantC: c, ambientC: a, speedKph: s, rpm: r, barometricKpa: b, coolantLevelPct: l, coolantPressureKpa: p };
+    const [ts, c, a, s, r, b, l, p] = this.cols.map((col) => Float64Array.from(col)) as [
+      Float64Array,
+      Float64Array,
+      Float64Array,
+      Float64Array,
+      Float64Array,
+      Float64Array,
+      Float64Array,
+      Float64Array,
+    ];
+    return {
+      length: this.length,
+      vehicleIds: this.vehicleIds,
+      tsMs: ts,
+      coolantC: c,
+      ambientC: a,
+      speedKph: s,
+      rpm: r,
+      barometricKpa: b,
+      coolantLevelPct: l,
+      coolantPressureKpa: p,
+    };
   }
 }
 

@@ -62,7 +62,12 @@ export function redactUrl(url: string): string {
  */
 export async function openDatabase(options: DatabaseOptions): Promise<DatabaseHandle> {
   if (options.databaseUrl) {
-    const pool = new pg.Pool({ connectionString: options.databaseUrl, max: options.poolSize ?? 10, stream: pgSocket, connectionTimeoutMillis: POOL_WAIT_MS });
+    const pool = new pg.Pool({
+      connectionString: options.databaseUrl,
+      max: options.poolSize ?? 10,
+      stream: pgSocket,
+      connectionTimeoutMillis: POOL_WAIT_MS,
+    });
     // Without a listener an idle client's error would crash the process.
     pool.on('error', (err) => options.onPoolError?.(err));
     // pg-pool listens only on idle clients: a checked-out client whose connection dies between
@@ -71,7 +76,12 @@ export async function openDatabase(options: DatabaseOptions): Promise<DatabaseHa
     // query fails with the error, and the request answers 503.
     pool.on('connect', (client) => client.on('error', () => undefined));
     const db = new Kysely<Database>({ dialect: new PostgresDialect({ pool }) });
-    const ddlPool = new pg.Pool({ connectionString: options.databaseUrl, max: 1, idleTimeoutMillis: DDL_IDLE_MS, connectionTimeoutMillis: POOL_WAIT_MS });
+    const ddlPool = new pg.Pool({
+      connectionString: options.databaseUrl,
+      max: 1,
+      idleTimeoutMillis: DDL_IDLE_MS,
+      connectionTimeoutMillis: POOL_WAIT_MS,
+    });
     ddlPool.on('error', (err) => options.onPoolError?.(err));
     const ddl = new Kysely<Database>({ dialect: new PostgresDialect({ pool: ddlPool }) });
     return {
@@ -87,12 +97,16 @@ export async function openDatabase(options: DatabaseOptions): Promise<DatabaseHa
   }
   const dir = options.pgliteDir;
   if (dir !== 'memory://') mkdirSync(dir, { recursive: true });
-  const pglite = await PGlite.create({ dataDir: dir, ...(options.pgliteLoadDataDir ? { loadDataDir: options.pgliteLoadDataDir } : {}) });
+  const pglite = await PGlite.create({
+    dataDir: dir,
+    ...(options.pgliteLoadDataDir ? { loadDataDir: options.pgliteLoadDataDir } : {}),
+  });
   const db = new Kysely<Database>({ dialect: new PGliteDialect({ pglite }) });
   return {
     db,
     kind: 'pglite',
-    description: dir === 'memory://' ? 'embedded PostgreSQL (PGlite) in memory' : `embedded PostgreSQL (PGlite) in ${dir}`,
+    description:
+      dir === 'memory://' ? 'embedded PostgreSQL (PGlite) in memory' : `embedded PostgreSQL (PGlite) in ${dir}`,
     pool: undefined,
     ddl: db,
     close: async () => {

@@ -26,12 +26,19 @@ export interface IngestConnection {
 function pgRunner(target: pg.Pool | pg.PoolClient, db: Kysely<Database>): IngestConnection['run'] {
   return async <R>(query: RawBuilder<R>, name?: string) => {
     const compiled = query.compile(db);
-    return (await target.query({ text: compiled.sql, values: compiled.parameters as unknown[], ...(name ? { name } : {}) })).rows as R[];
+    return (
+      await target.query({ text: compiled.sql, values: compiled.parameters as unknown[], ...(name ? { name } : {}) })
+    ).rows as R[];
   };
 }
 
 /** Runs `fn` in a transaction on one client checked out of the pool (COPY needs the client itself). */
-async function inPoolTransaction<T>(pool: pg.Pool, db: Kysely<Database>, ddl: Kysely<Database>, fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
+async function inPoolTransaction<T>(
+  pool: pg.Pool,
+  db: Kysely<Database>,
+  ddl: Kysely<Database>,
+  fn: (conn: IngestConnection) => Promise<T>,
+): Promise<T> {
   const client = await pool.connect();
   let broken: Error | undefined;
   const conn: IngestConnection = {
@@ -74,6 +81,13 @@ export function autocommitConnection(handle: DatabaseHandle): IngestConnection {
 export function inTransaction<T>(handle: DatabaseHandle, fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
   const { db, pool, ddl } = handle;
   if (pool) return inPoolTransaction(pool, db, ddl, fn);
-  return db.transaction().execute((trx) =>
-    fn({ run: async <R>(query: RawBuilder<R>) => (await query.execute(trx)).rows, copyIn: undefined, partitionTarget: trx }));
+  return db
+    .transaction()
+    .execute((trx) =>
+      fn({
+        run: async <R>(query: RawBuilder<R>) => (await query.execute(trx)).rows,
+        copyIn: undefined,
+        partitionTarget: trx,
+      }),
+    );
 }

@@ -37,9 +37,11 @@ export interface PageRequest {
 }
 
 /** A timestamp column as whole epoch milliseconds (the key of a time-ordered list). */
-export const epochMs = (column: string): RawBuilder<unknown> => sql`floor(extract(epoch from ${sql.ref(column)}) * 1000)::float8`;
+export const epochMs = (column: string): RawBuilder<unknown> =>
+  sql`floor(extract(epoch from ${sql.ref(column)}) * 1000)::float8`;
 
-const typed = (c: SortColumn, v: string | number) => (c.type === 'text' ? sql`${String(v)}::text` : c.real ? sql`${v}::real` : sql`${v}::float8`);
+const typed = (c: SortColumn, v: string | number) =>
+  c.type === 'text' ? sql`${String(v)}::text` : c.real ? sql`${v}::real` : sql`${v}::float8`;
 
 /** `order by` items of the sort order. */
 export function orderBySql(cols: readonly SortColumn[]): RawBuilder<unknown> {
@@ -72,11 +74,20 @@ export const keySelections = (cols: readonly SortColumn[]) => cols.map((c, i) =>
  * The page of `rows` (fetched with limit + 1, each with its k0… key columns), mapped by `view`.
  * @example pageOf(rows, 50, FINDING_ORDER.length, toFindingView)
  */
-export function pageOf<R extends Record<string, unknown>, T>(rows: readonly R[], limit: number, width: number, view: (row: R) => T): Page<T> {
+export function pageOf<R extends Record<string, unknown>, T>(
+  rows: readonly R[],
+  limit: number,
+  width: number,
+  view: (row: R) => T,
+): Page<T> {
   const kept = rows.slice(0, limit);
   const last = kept[kept.length - 1];
-  const nextKey = rows.length > limit && last !== undefined
-    ? Array.from({ length: width }, (_, i) => { const v = last[`k${i}`]; return typeof v === 'number' ? v : String(v); })
-    : null;
+  const nextKey =
+    rows.length > limit && last !== undefined
+      ? Array.from({ length: width }, (_, i) => {
+          const v = last[`k${i}`];
+          return typeof v === 'number' ? v : String(v);
+        })
+      : null;
   return { items: kept.map(view), nextKey };
 }

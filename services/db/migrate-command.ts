@@ -6,7 +6,9 @@ import { migrateToLatest } from './migrator.js';
 export async function run(argv: string[]): Promise<number> {
   const { values } = parseArgs({ args: argv, options: { help: { type: 'boolean', short: 'h' } } });
   if (values.help) {
-    process.stdout.write('usage: thermocline migrate\n\nApplies pending migrations to DATABASE_URL (or the embedded database in PGLITE_DIR) and exits.\n');
+    process.stdout.write(
+      'usage: thermocline migrate\n\nApplies pending migrations to DATABASE_URL (or the embedded database in PGLITE_DIR) and exits.\n',
+    );
     return 0;
   }
   const config = loadConfig();

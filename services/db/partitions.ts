@@ -53,7 +53,9 @@ export class PartitionKeeper {
           // EXCLUSIVE lock on the parent, which does not wait for (or block) ingest transactions
           // that are writing readings at the same time.
           await sql`create table ${sql.id(name)} (like readings including defaults including constraints)`.execute(trx);
-          await sql`alter table readings attach partition ${sql.id(name)} for values from (${sql.lit(monthStartIso(m))}) to (${sql.lit(monthStartIso(m + 1))})`.execute(trx);
+          await sql`alter table readings attach partition ${sql.id(name)} for values from (${sql.lit(monthStartIso(m))}) to (${sql.lit(monthStartIso(m + 1))})`.execute(
+            trx,
+          );
           created++;
         }
       }
@@ -72,6 +74,9 @@ export class PartitionKeeper {
   /** Creates this month's partition and the next `monthsAhead` months'. */
   async ensureAhead(db: Kysely<any>, nowMs: number, monthsAhead = 3): Promise<number> {
     const first = monthIndexOf(nowMs);
-    return this.ensure(db, Array.from({ length: monthsAhead + 1 }, (_, i) => first + i));
+    return this.ensure(
+      db,
+      Array.from({ length: monthsAhead + 1 }, (_, i) => first + i),
+    );
   }
 }

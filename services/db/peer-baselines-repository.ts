@@ -40,7 +40,11 @@ export class PeerBaselines {
   }
 
   private async load(family: string): Promise<StoredPeerBaseline | null> {
-    const row = await this.db.selectFrom('peer_baselines').select('baseline').where('engine_family', '=', family).executeTakeFirst();
+    const row = await this.db
+      .selectFrom('peer_baselines')
+      .select('baseline')
+      .where('engine_family', '=', family)
+      .executeTakeFirst();
     return row ? (row.baseline as unknown as StoredPeerBaseline) : null;
   }
 

@@ -2,7 +2,13 @@ import { sql } from 'kysely';
 import type { AllSampleArrays, SampleArrays } from '../analysis/sample-arrays.js';
 import type pg from 'pg';
 import type { DatabaseHandle } from './database.js';
-import { COLUMN_NAMES, idBytes, WindowBuffers, WindowsDecoder, type WindowRequest } from './pg-wire/binary-window-decoder.js';
+import {
+  COLUMN_NAMES,
+  idBytes,
+  WindowBuffers,
+  WindowsDecoder,
+  type WindowRequest,
+} from './pg-wire/binary-window-decoder.js';
 import { copyOut } from './pg-wire/copy-out.js';
 import { parseNumberList } from './number-list.js';
 
@@ -28,7 +34,11 @@ interface WindowText {
  * Postgres prints (see float4AsPrinted). With `buffers`, a server read returns views into them,
  * valid until the next read with the same buffers.
  */
-export async function readWindows(handle: DatabaseHandle, windows: readonly WindowRequest[], buffers?: WindowBuffers): Promise<AllSampleArrays[]> {
+export async function readWindows(
+  handle: DatabaseHandle,
+  windows: readonly WindowRequest[],
+  buffers?: WindowBuffers,
+): Promise<AllSampleArrays[]> {
   if (handle.pool) return readWindowsByCopy(handle.pool, windows, buffers);
   const out: AllSampleArrays[] = [];
   for (const w of windows) {
@@ -54,18 +64,29 @@ function quoteLiteral(value: string): string {
  * values are inlined as quoted literals. With `buffers` (reused by the caller) the arrays are views
  * into them, valid until the next read with the same buffers.
  */
-export async function readWindowsByCopy(pool: pg.Pool, windows: readonly WindowRequest[], buffers = new WindowBuffers()): Promise<AllSampleArrays[]> {
+export async function readWindowsByCopy(
+  pool: pg.Pool,
+  windows: readonly WindowRequest[],
+  buffers = new WindowBuffers(),
+): Promise<AllSampleArrays[]> {
   if (windows.length === 0) return [];
-  if (new Set(windows.map((w) => w.vehicleId)).size !== windows.length) throw new Error('readWindowsByCopy: one window per vehicle');
-  const where = windows.map((w) =>
-    `(vehicle_id = ${quoteLiteral(w.vehicleId)} and ts >= ${quoteLiteral(new Date(w.fromMs).toISOString())}::timestamptz and ts < ${quoteLiteral(new Date(w.toMs).toISOString())}::timestamptz)`);
+  if (new Set(windows.map((w) => w.vehicleId)).size !== windows.length)
+    throw new Error('readWindowsByCopy: one window per vehicle');
+  const where = windows.map(
+    (w) =>
+      `(vehicle_id = ${quoteLiteral(w.vehicleId)} and ts >= ${quoteLiteral(new Date(w.fromMs).toISOString())}::timestamptz and ts < ${quoteLiteral(new Date(w.toMs).toISOString())}::timestamptz)`,
+  );
   // No parallel workers: on a large readings table PostgreSQL plans a batch's BitmapOr as a
   // Parallel Bitmap Heap Scan with two workers, whose CPU was about 3× that of one backend
   // scanning alone (a round of 20 vehicle-weeks: ~0.35 s against ~0.13 s, measured), and whose
   // Gather interleaves the rows, so every window needed the sort here. SET LOCAL lasts for the
   // implicit transaction of this one query string.
   const text = `set local max_parallel_workers_per_gather = 0; copy (select vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa from readings where ${where.join(' or ')}) to stdout (format binary)`;
-  const decoder = new WindowsDecoder(windows.map((w) => idBytes(Buffer.from(w.vehicleId, 'utf8'))), buffers, windows.map((w) => w.prefix));
+  const decoder = new WindowsDecoder(
+    windows.map((w) => idBytes(Buffer.from(w.vehicleId, 'utf8'))),
+    buffers,
+    windows.map((w) => w.prefix),
+  );
   const client = await pool.connect();
   try {
     await copyOut(client, text, (bytes, view, start, end) => decoder.messages(bytes, view, start, end));
@@ -98,7 +119,12 @@ function concatArrays(a: SampleArrays, b: AllSampleArrays): AllSampleArrays {
  * Float64Array. The same query runs on pg and PGlite. Timestamps travel as epoch seconds
  * (`date_part`, a float8; `extract` would compute a slower numeric) and are rounded to ms.
  */
-export async function readWindowAsText(handle: DatabaseHandle, vehicleId: string, fromMs: number, toMs: number): Promise<AllSampleArrays> {
+export async function readWindowAsText(
+  handle: DatabaseHandle,
+  vehicleId: string,
+  fromMs: number,
+  toMs: number,
+): Promise<AllSampleArrays> {
   const r = await sql<WindowText>`
     select count(*)::int as n,
            string_agg(date_part('epoch', ts)::text, ',') as ts,
@@ -117,12 +143,26 @@ export async function readWindowAsText(handle: DatabaseHandle, vehicleId: string
   const row = r.rows[0];
   const n = row?.n ?? 0;
   const out: AllSampleArrays = {
-    ts: new Float64Array(n), coolant: new Float64Array(n), ambient: new Float64Array(n), speedKph: new Float64Array(n), rpm: new Float64Array(n),
-    barometricKpa: new Float64Array(n), coolantLevelPct: new Float64Array(n), coolantPressureKpa: new Float64Array(n),
+    ts: new Float64Array(n),
+    coolant: new Float64Array(n),
+    ambient: new Float64Array(n),
+    speedKph: new Float64Array(n),
+    rpm: new Float64Array(n),
+    barometricKpa: new Float64Array(n),
+    coolantLevelPct: new Float64Array(n),
+    coolantPressureKpa: new Float64Array(n),
   };
   if (!row || n === 0) return out;
-  const columns: Array<[string | null, Float64Array]> = [[row.ts, out.ts], [row.coolant, out.coolant], [row.ambient, out.ambient], [row.speed, out.speedKph], [row.rpm, out.rpm],
-    [row.baro, out.barometricKpa], [row.level, out.coolantLevelPct], [row.pressure, out.coolantPressureKpa]];
+  const columns: Array<[string | null, Float64Array]> = [
+    [row.ts, out.ts],
+    [row.coolant, out.coolant],
+    [row.ambient, out.ambient],
+    [row.speed, out.speedKph],
+    [row.rpm, out.rpm],
+    [row.baro, out.barometricKpa],
+    [row.level, out.coolantLevelPct],
+    [row.pressure, out.coolantPressureKpa],
+  ];
   for (const [text, target] of columns) {
     // One NULL value aggregates to '', which parses as no value at all.
     if (n === 1 && !text) target[0] = NaN;
@@ -141,7 +181,10 @@ export interface WindowBounds {
 }
 
 /** The bounds of each window (two index probes each, one statement for all), in the order given. */
-export async function windowBounds(handle: DatabaseHandle, windows: ReadonlyArray<{ vehicleId: string; fromMs: number }>): Promise<WindowBounds[]> {
+export async function windowBounds(
+  handle: DatabaseHandle,
+  windows: ReadonlyArray<{ vehicleId: string; fromMs: number }>,
+): Promise<WindowBounds[]> {
   const r = await sql<{ last_ts: Date | null; before_ts: Date | null }>`
     select (select ts from readings r where r.vehicle_id = l.vehicle_id and r.ts >= to_timestamp(l.from_ms / 1000) order by ts desc limit 1) as last_ts,
            (select ts from readings r where r.vehicle_id = l.vehicle_id and r.ts < to_timestamp(l.from_ms / 1000) order by ts desc limit 1) as before_ts

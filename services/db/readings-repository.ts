@@ -8,7 +8,9 @@ import { toNumber } from './schema.js';
 import { TransientConflictError, withTransientRetry } from './transient-conflict.js';
 
 /** The readings columns every insert names, in the order of `unnestRows` and the binary COPY. */
-export const READINGS_INSERT_COLUMNS = sql.raw('(vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa)');
+export const READINGS_INSERT_COLUMNS = sql.raw(
+  '(vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa)',
+);
 
 export interface IngestAuditInput {
   keyId: string;
@@ -183,12 +185,20 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
    * a fresh snapshot that sees the winner. (Before, the readings of two fleets racing for a new id
    * both ended up under the winner: 103 of 150 trials.)
    */
-  async function finish(conn: IngestConnection, fleetId: string, stored: StoredSoFar, audit: IngestAuditInput, started: number, alsoInsert?: ReadingChunk): Promise<void> {
+  async function finish(
+    conn: IngestConnection,
+    fleetId: string,
+    stored: StoredSoFar,
+    audit: IngestAuditInput,
+    started: number,
+    alsoInsert?: ReadingChunk,
+  ): Promise<void> {
     const ids = [...stored.vehicles].sort();
     const queued = [...stored.dirtyFrom.keys()].sort();
     const firsts = queued.map((id) => stored.dirtyFrom.get(id)!);
     for (let attempt = 1; ; attempt++) {
-      const [outcome] = await conn.run(sql<{ foreign_ids: string[] | null; raced: number }>`
+      const [outcome] = await conn.run(
+        sql<{ foreign_ids: string[] | null; raced: number }>`
         with known as (
           select vehicle_id, fleet_id from vehicles where vehicle_id = any(${ids}::text[])
         ), foreign_vehicles as (
@@ -217,17 +227,26 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
           select ${audit.keyId}, ${fleetId}, ${audit.contentType}, ${audit.bodyBytes()}, ${stored.accepted}, ${stored.staged - stored.accepted},
                  ${audit.rejected()}, ${stored.vehicles.size}, ${Date.now() - started}
           where (select ok from verdict)
-        )${alsoInsert ? sql`, stored as (
+        )${
+          alsoInsert
+            ? sql`, stored as (
           insert into readings ${READINGS_INSERT_COLUMNS} ${unnestRows(alsoInsert)}
           where (select ok from verdict)
-        )` : sql``}
+        )`
+            : sql``
+        }
         select (select array_agg(vehicle_id order by vehicle_id) from (select vehicle_id from foreign_vehicles order by vehicle_id limit 10) f) as foreign_ids,
-               (select count(*)::int from raced) as raced`, alsoInsert ? 'thermocline_ingest_one_chunk' : 'thermocline_ingest_finish');
+               (select count(*)::int from raced) as raced`,
+        alsoInsert ? 'thermocline_ingest_one_chunk' : 'thermocline_ingest_finish',
+      );
       const foreign = outcome?.foreign_ids ?? [];
       if (foreign.length > 0) throw new ForeignVehiclesError(foreign);
       if (!outcome || outcome.raced === 0) return;
       // The second run sees the winner's committed row; a third is only for a new race on another id.
-      if (attempt >= MAX_REGISTRATION_ATTEMPTS) throw new TransientConflictError('a vehicle of this body was being registered by another request at the same time');
+      if (attempt >= MAX_REGISTRATION_ATTEMPTS)
+        throw new TransientConflictError(
+          'a vehicle of this body was being registered by another request at the same time',
+        );
     }
   }
 
@@ -239,7 +258,12 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
    * stored; the chunk, still in memory, is then stored the careful way in a transaction. The
    * chunk is in memory, so a deadlock with a concurrent request is retried whole.
    */
-  function ingestOneChunk(fleetId: string, chunk: ReadingChunk | undefined, audit: IngestAuditInput, started: number): Promise<StoredSoFar> {
+  function ingestOneChunk(
+    fleetId: string,
+    chunk: ReadingChunk | undefined,
+    audit: IngestAuditInput,
+    started: number,
+  ): Promise<StoredSoFar> {
     return withTransientRetry(async () => {
       const stored = new StoredSoFar();
       if (!chunk) {
@@ -290,7 +314,12 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
    * body is not held, so the whole cannot be retried: if the conflict persists the request fails
    * with nothing stored, and the client is told to retry later).
    */
-  async function ingestStream(fleetId: string, chunks: AsyncIterable<ReadingChunk>, audit: IngestAuditInput, started: number): Promise<StoredSoFar> {
+  async function ingestStream(
+    fleetId: string,
+    chunks: AsyncIterable<ReadingChunk>,
+    audit: IngestAuditInput,
+    started: number,
+  ): Promise<StoredSoFar> {
     return transaction(async (conn) => {
       const stored = new StoredSoFar();
       let careful = false;
@@ -346,8 +375,15 @@ export function createReadingsRepository(handle: DatabaseHandle, partitions: Par
         yield second!;
         for (let next = await nonEmpty(); next; next = await nonEmpty()) yield next;
       }
-      const stored = second ? await ingestStream(fleetId, all(), audit, started) : await ingestOneChunk(fleetId, first, audit, started);
-      return { accepted: stored.accepted, duplicates: stored.staged - stored.accepted, staged: stored.staged, vehicles: stored.vehicles.size };
+      const stored = second
+        ? await ingestStream(fleetId, all(), audit, started)
+        : await ingestOneChunk(fleetId, first, audit, started);
+      return {
+        accepted: stored.accepted,
+        duplicates: stored.staged - stored.accepted,
+        staged: stored.staged,
+        vehicles: stored.vehicles.size,
+      };
     },
 
     /** Number of stored readings of a vehicle (tests, bench and the load check). */

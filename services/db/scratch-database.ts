@@ -5,7 +5,10 @@ import pg from 'pg';
  * services), and returns its URL and a function that drops it again, connections and all.
  * `name` must be a plain identifier (letters, digits, underscores).
  */
-export async function createScratchDatabase(serverUrl: string, name: string): Promise<{ url: string; drop: () => Promise<void> }> {
+export async function createScratchDatabase(
+  serverUrl: string,
+  name: string,
+): Promise<{ url: string; drop: () => Promise<void> }> {
   if (!/^[a-z_][a-z0-9_]*$/.test(name)) throw new Error(`createScratchDatabase: '${name}' is not a plain identifier`);
   const onServer = async (text: string) => {
     const client = new pg.Client({ connectionString: serverUrl });

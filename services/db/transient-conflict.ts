@@ -51,7 +51,10 @@ export async function withTransientRetry<T>(fn: () => Promise<T>, attempts = TRA
       return await fn();
     } catch (err) {
       if (!isTransientConflict(err)) throw err;
-      if (attempt >= attempts) throw new TransientConflictError(`a conflict with concurrent requests persisted after ${attempts} attempts`, { cause: err });
+      if (attempt >= attempts)
+        throw new TransientConflictError(`a conflict with concurrent requests persisted after ${attempts} attempts`, {
+          cause: err,
+        });
       await sleep(retryPauseMs(attempt));
     }
   }

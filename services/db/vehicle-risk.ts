@@ -56,7 +56,13 @@ export async function refreshVehicleRisk(trx: Kysely<Database>, vehicleId: strin
   // Two statements, not four (the worker runs this once per vehicle): the state with its open
   // findings (one row with null findings columns when there are none), then one update of the
   // risk and the brief.
-  const rows = await sql<{ last_reading_at: Date | null; engine_family: string; severity: Severity | null; confidence: number | null; last_seen: Date | null }>`
+  const rows = await sql<{
+    last_reading_at: Date | null;
+    engine_family: string;
+    severity: Severity | null;
+    confidence: number | null;
+    last_seen: Date | null;
+  }>`
     select a.last_reading_at, v.engine_family, f.severity, f.confidence, f.last_seen
     from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id
     left join findings f on f.vehicle_id = a.vehicle_id and f.status <> 'resolved'
@@ -64,7 +70,9 @@ export async function refreshVehicleRisk(trx: Kysely<Database>, vehicleId: strin
     order by f.finding_id`.execute(trx);
   const state = rows.rows[0];
   if (!state) return undefined;
-  const open = rows.rows.flatMap((f) => (f.severity === null ? [] : [{ severity: f.severity, confidence: f.confidence!, lastSeen: f.last_seen!.getTime() }]));
+  const open = rows.rows.flatMap((f) =>
+    f.severity === null ? [] : [{ severity: f.severity, confidence: f.confidence!, lastSeen: f.last_seen!.getTime() }],
+  );
   const asOf = state.last_reading_at?.getTime() ?? 0;
   const risk = riskScore(open, asOf, resolveConfig(state.engine_family).riskHalfLifeDays);
   let max: Severity | null = null;

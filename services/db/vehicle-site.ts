@@ -28,13 +28,32 @@ export interface VehicleContext {
 }
 
 /** The context of each of `vehicleIds` that exists, in one statement. */
-export async function vehicleContexts(db: Kysely<Database>, vehicleIds: readonly string[]): Promise<Map<string, VehicleContext>> {
+export async function vehicleContexts(
+  db: Kysely<Database>,
+  vehicleIds: readonly string[],
+): Promise<Map<string, VehicleContext>> {
   if (vehicleIds.length === 0) return new Map();
-  const r = await sql<{ vehicle_id: string; depot: string | null; depot_name: string | null; kpa: number | null; source: SiteSource; default_profile: boolean }>`
+  const r = await sql<{
+    vehicle_id: string;
+    depot: string | null;
+    depot_name: string | null;
+    kpa: number | null;
+    source: SiteSource;
+    default_profile: boolean;
+  }>`
     select v.vehicle_id, v.depot, d.name as depot_name, ${SITE_PRESSURE} as kpa, ${SITE_SOURCE} as source, v.profile_set_at is null as default_profile
     from vehicles v ${DEPOT_JOIN}
     where v.vehicle_id = any(${[...new Set(vehicleIds)]}::text[])`.execute(db);
-  return new Map(r.rows.map((x) => [x.vehicle_id, {
-    depot: x.depot, depotName: x.depot_name, atmosphericPressureKpa: x.kpa ?? SEA_LEVEL_PRESSURE_KPA, siteSource: x.source, defaultProfile: x.default_profile,
-  }]));
+  return new Map(
+    r.rows.map((x) => [
+      x.vehicle_id,
+      {
+        depot: x.depot,
+        depotName: x.depot_name,
+        atmosphericPressureKpa: x.kpa ?? SEA_LEVEL_PRESSURE_KPA,
+        siteSource: x.source,
+        defaultProfile: x.default_profile,
+      },
+    ]),
+  );
 }

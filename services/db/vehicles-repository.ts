@@ -47,7 +47,11 @@ export interface VehicleProfilePatch {
 }
 
 /** A vehicles row with its depot's site (selectVehicles). */
-export type VehicleRow = Selectable<VehiclesTable> & { site_kpa: number | null; site_source: SiteSource; depot_name: string | null };
+export type VehicleRow = Selectable<VehiclesTable> & {
+  site_kpa: number | null;
+  site_source: SiteSource;
+  depot_name: string | null;
+};
 
 export function toVehicleProfile(row: VehicleRow): VehicleProfile {
   return {
@@ -93,7 +97,8 @@ const PROFILE_FIELDS = ['engineFamily', 'thermostatOpenC', 'capPressureKpa', 'gl
 
 /** Vehicles with the site of their depot. */
 function selectVehicles(db: Kysely<Database>) {
-  return db.selectFrom('vehicles as v')
+  return db
+    .selectFrom('vehicles as v')
     .leftJoin('depots as d', (j) => j.onRef('d.fleet_id', '=', 'v.fleet_id').onRef('d.depot_id', '=', 'v.depot'))
     .selectAll('v')
     .select([SITE_PRESSURE.as('site_kpa'), SITE_SOURCE.as('site_source'), 'd.name as depot_name']);
@@ -101,7 +106,11 @@ function selectVehicles(db: Kysely<Database>) {
 
 /** Registers a depot a vehicle names (without a site) if the fleet has none of that id. */
 async function ensureDepot(db: Kysely<Database>, fleetId: string, depotId: string): Promise<void> {
-  await db.insertInto('depots').values({ fleet_id: fleetId, depot_id: depotId }).onConflict((oc) => oc.columns(['fleet_id', 'depot_id']).doNothing()).execute();
+  await db
+    .insertInto('depots')
+    .values({ fleet_id: fleetId, depot_id: depotId })
+    .onConflict((oc) => oc.columns(['fleet_id', 'depot_id']).doNothing())
+    .execute();
 }
 
 export function createVehiclesRepository(db: Kysely<Database>) {
@@ -114,7 +123,9 @@ export function createVehiclesRepository(db: Kysely<Database>) {
 
     /** A page of the vehicles of one fleet (or all fleets), by id; `depot` keeps one depot's. */
     async list(options: { fleetId: string | null; depot?: string } & PageRequest): Promise<Page<VehicleProfile>> {
-      let q = selectVehicles(db).orderBy('v.vehicle_id').limit(options.limit + 1);
+      let q = selectVehicles(db)
+        .orderBy('v.vehicle_id')
+        .limit(options.limit + 1);
       if (options.fleetId !== null) q = q.where('v.fleet_id', '=', options.fleetId);
       if (options.depot !== undefined) q = q.where('v.depot', '=', options.depot);
       if (options.after) q = q.where('v.vehicle_id', '>', String(options.after[0]));

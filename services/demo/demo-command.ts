@@ -41,14 +41,23 @@ function say(line: string): void {
   process.stderr.write(`${line}\n`);
 }
 
-async function api<T>(baseUrl: string, key: string, method: string, path: string, body?: unknown): Promise<{ status: number; json: T }> {
+async function api<T>(
+  baseUrl: string,
+  key: string,
+  method: string,
+  path: string,
+  body?: unknown,
+): Promise<{ status: number; json: T }> {
   const res = await fetch(`${baseUrl}${path}`, {
     method,
     headers: { authorization: `Bearer ${key}`, ...(body !== undefined ? { 'content-type': 'application/json' } : {}) },
     ...(body !== undefined ? { body: JSON.stringify(body) } : {}),
   });
   const text = await res.text();
-  return { status: res.status, json: (text && res.headers.get('content-type')?.includes('json') ? JSON.parse(text) : text) as T };
+  return {
+    status: res.status,
+    json: (text && res.headers.get('content-type')?.includes('json') ? JSON.parse(text) : text) as T,
+  };
 }
 
 export async function run(argv: string[]): Promise<number> {
@@ -112,7 +121,9 @@ export async function run(argv: string[]): Promise<number> {
   try {
     const startMs = endMs - days * DAY_MS;
     const fleet: SimVehicle[] = planFleet({ vehicles, days, seed, startMs, scenario: 'demo' });
-    say(`demo: Quillmoor Provisions: ${fleet.length} vehicles, ${days} days from ${new Date(startMs).toISOString().slice(0, 10)}`);
+    say(
+      `demo: Quillmoor Provisions: ${fleet.length} vehicles, ${days} days from ${new Date(startMs).toISOString().slice(0, 10)}`,
+    );
 
     for (const v of fleet) {
       const { status } = await api(address, ingestKey, 'PUT', `/v1/vehicles/${v.vehicleId}`, {
@@ -141,24 +152,36 @@ export async function run(argv: string[]): Promise<number> {
           readings += n;
           done++;
           const rate = readings / ((performance.now() - ingestStart) / 1000);
-          say(`demo: ingest ${done}/${fleet.length} vehicles, ${readings.toLocaleString('en-US')} readings (${Math.round(rate).toLocaleString('en-US')}/s) [${elapsed()}]`);
+          say(
+            `demo: ingest ${done}/${fleet.length} vehicles, ${readings.toLocaleString('en-US')} readings (${Math.round(rate).toLocaleString('en-US')}/s) [${elapsed()}]`,
+          );
         }
       }),
     );
-    say(`demo: POST /v1/readings: ${totals.requests} uploads, ${totals.accepted.toLocaleString('en-US')} accepted, ${totals.duplicates} duplicates, ${totals.rejected} rejected, ${totals.retries} retries`);
+    say(
+      `demo: POST /v1/readings: ${totals.requests} uploads, ${totals.accepted.toLocaleString('en-US')} accepted, ${totals.duplicates} duplicates, ${totals.rejected} rejected, ${totals.retries} retries`,
+    );
 
     say('demo: analysing (POST /v1/analysis/runs?wait=true) …');
     const analysis = await api<Record<string, unknown>>(address, readKey, 'POST', '/v1/analysis/runs?wait=true');
-    if (analysis.status >= 300) throw new Error(`analysis answered ${analysis.status}: ${JSON.stringify(analysis.json)}`);
+    if (analysis.status >= 300)
+      throw new Error(`analysis answered ${analysis.status}: ${JSON.stringify(analysis.json)}`);
     say(`demo: analysis done: ${JSON.stringify(analysis.json)} [${elapsed()}]`);
     const atRisk = await api<{ vehicles: AtRiskVehicle[] }>(address, readKey, 'GET', '/v1/fleet/at-risk?limit=15');
     const ranked = atRisk.json.vehicles.filter((v) => v.riskScore > 0);
     const checks = new Map<string, string>();
     for (const v of ranked) {
-      const detail = await api<{ findings: Array<{ id: string; recommendedCheck: string }> }>(address, readKey, 'GET', `/v1/vehicles/${v.vehicleId}/findings`);
+      const detail = await api<{ findings: Array<{ id: string; recommendedCheck: string }> }>(
+        address,
+        readKey,
+        'GET',
+        `/v1/vehicles/${v.vehicleId}/findings`,
+      );
       for (const f of detail.json.findings ?? []) checks.set(f.id, f.recommendedCheck);
     }
-    process.stdout.write(`\nVehicles at risk — Quillmoor Provisions (${ranked.length} of ${fleet.length})\n\n${formatAtRiskTable(ranked, checks)}\n\n`);
+    process.stdout.write(
+      `\nVehicles at risk — Quillmoor Provisions (${ranked.length} of ${fleet.length})\n\n${formatAtRiskTable(ranked, checks)}\n\n`,
+    );
     process.stdout.write(`${SAFETY_CAUTION}\n\n`);
 
     const week = formatIsoWeek(lastCompleteIsoWeek(endMs, 'UTC'));
@@ -166,7 +189,9 @@ export async function run(argv: string[]): Promise<number> {
     await mkdir(outDir, { recursive: true });
     const written: string[] = [];
     for (const format of ['html', 'csv', 'json'] as const) {
-      const res = await fetch(`${address}/v1/reports/weekly?week=${week}&format=${format}`, { headers: { authorization: `Bearer ${readKey}` } });
+      const res = await fetch(`${address}/v1/reports/weekly?week=${week}&format=${format}`, {
+        headers: { authorization: `Bearer ${readKey}` },
+      });
       if (!res.ok) throw new Error(`weekly report (${format}) answered ${res.status}: ${await res.text()}`);
       const file = join(outDir, `weekly-report-${week}.${format}`);
       await writeFile(file, Buffer.from(await res.arrayBuffer()));
@@ -183,8 +208,10 @@ export async function run(argv: string[]): Promise<number> {
     await app.close();
     return 0;
   }
-  process.stdout.write(`\nWeb view for planners: ${address}/app/\n  sign in with the planner key below (demo fleet Quillmoor Provisions)\n`
-    + `Serving the API at ${address} — docs: ${address}/docs\nplanner key (read):    ${readKey}\ngateway key (ingest):  ${ingestKey}\nCtrl-C to stop.\n`);
+  process.stdout.write(
+    `\nWeb view for planners: ${address}/app/\n  sign in with the planner key below (demo fleet Quillmoor Provisions)\n` +
+      `Serving the API at ${address} — docs: ${address}/docs\nplanner key (read):    ${readKey}\ngateway key (ingest):  ${ingestKey}\nCtrl-C to stop.\n`,
+  );
   await new Promise<void>((resolveStop) => {
     const stop = () => void app.close().then(() => resolveStop());
     process.once('SIGINT', stop);

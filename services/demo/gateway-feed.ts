@@ -29,7 +29,11 @@ async function upload(url: string, key: string, body: Buffer, totals: FeedTotals
     let status = 0;
     let text = '';
     try {
-      const res = await fetch(url, { method: 'POST', headers: { authorization: `Bearer ${key}`, 'content-type': 'application/x-ndjson' }, body });
+      const res = await fetch(url, {
+        method: 'POST',
+        headers: { authorization: `Bearer ${key}`, 'content-type': 'application/x-ndjson' },
+        body,
+      });
       status = res.status;
       text = await res.text();
       if (res.ok) {

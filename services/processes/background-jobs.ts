@@ -21,16 +21,22 @@ export interface BackgroundJobs {
  * moment only replaces it.
  */
 export function startBackgroundJobs(config: Config, database: DatabaseHandle, logger: Logger): BackgroundJobs {
-  const worker = new Worker({ handle: database, pollMs: config.workerPollMs, leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize, logger });
+  const worker = new Worker({
+    handle: database,
+    pollMs: config.workerPollMs,
+    leaseMs: config.workerLeaseMs,
+    batchSize: config.workerBatchSize,
+    logger,
+  });
   worker.start();
   const reports = config.reportSchedule
     ? new WeeklyReportScheduler({
-      db: database.db,
-      weekday: config.reportWeekday,
-      hour: config.reportHour,
-      ...(config.reportDir ? { outDir: config.reportDir } : {}),
-      log: (message) => logger.info(message),
-    })
+        db: database.db,
+        weekday: config.reportWeekday,
+        hour: config.reportHour,
+        ...(config.reportDir ? { outDir: config.reportDir } : {}),
+        log: (message) => logger.info(message),
+      })
     : undefined;
   reports?.start();
   return {

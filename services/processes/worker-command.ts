@@ -23,26 +23,37 @@ REPORT_SCHEDULE, REPORT_WEEKDAY, REPORT_HOUR, REPORT_DIR (the weekly report is b
 `;
 
 export async function run(argv: string[]): Promise<number> {
-  const { values } = parseArgs({ args: argv, options: { once: { type: 'boolean' }, help: { type: 'boolean', short: 'h' } } });
+  const { values } = parseArgs({
+    args: argv,
+    options: { once: { type: 'boolean' }, help: { type: 'boolean', short: 'h' } },
+  });
   if (values.help) {
     process.stdout.write(HELP);
     return 0;
   }
   const config = loadConfig();
   if (!config.databaseUrl) {
-    process.stderr.write('thermocline worker: set DATABASE_URL; the embedded database is analysed by the worker inside `thermocline serve`\n');
+    process.stderr.write(
+      'thermocline worker: set DATABASE_URL; the embedded database is analysed by the worker inside `thermocline serve`\n',
+    );
     return 2;
   }
   const logger = pino({ level: config.logLevel });
   const database = await openDatabase({
-    databaseUrl: config.databaseUrl, pgliteDir: config.pgliteDir, poolSize: 3,
+    databaseUrl: config.databaseUrl,
+    pgliteDir: config.pgliteDir,
+    poolSize: 3,
     onPoolError: (err) => logger.warn({ err }, 'idle database connection failed; the pool replaces it'),
   });
   try {
     logger.info({ database: database.kind }, `thermocline worker starting on ${database.description}`);
     await migrateToLatest(database.db);
     if (values.once) {
-      const runs = new AnalysisRuns(database, { leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize, logger });
+      const runs = new AnalysisRuns(database, {
+        leaseMs: config.workerLeaseMs,
+        batchSize: config.workerBatchSize,
+        logger,
+      });
       const result = await runs.start(null).done;
       logger.info(result, 'analysis run finished');
       return result.status === 'succeeded' && result.vehiclesFailed === 0 ? 0 : 1;
@@ -52,7 +63,8 @@ export async function run(argv: string[]): Promise<number> {
       onStopSignal((signal) => {
         logger.info({ signal }, 'stopping: finishing the vehicle in hand, releasing the other leases');
         resolve();
-      }));
+      }),
+    );
     await jobs.stop();
     return 0;
   } finally {

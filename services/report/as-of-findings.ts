@@ -25,7 +25,11 @@ export interface FindingsAsOf {
  * stored one (rebuilt weekly; a past week is judged against the latest, a small approximation).
  */
 export async function findingsAsOf(
-  db: Kysely<Database>, vehicleIds: readonly string[], vehicles: ReadonlyMap<string, ReportVehicle>, stored: readonly StoredFinding[], asOfMs: number,
+  db: Kysely<Database>,
+  vehicleIds: readonly string[],
+  vehicles: ReadonlyMap<string, ReportVehicle>,
+  stored: readonly StoredFinding[],
+  asOfMs: number,
 ): Promise<FindingsAsOf> {
   const store = createAnalysisStore(db);
   const peers = new PeerBaselines(db);
@@ -40,13 +44,18 @@ export async function findingsAsOf(
     const runs = history.runs.filter((r) => !r.open && r.endMs < asOfMs);
     const openStarts = new Set(history.runs.filter((r) => r.open).map((r) => r.startMs));
     const profile = {
-      engineFamily: v.engineFamily, thermostatOpenC: v.thermostatOpenC, capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent,
+      engineFamily: v.engineFamily,
+      thermostatOpenC: v.thermostatOpenC,
+      capPressureKpa: v.capPressureKpa,
+      glycolPercent: v.glycolPercent,
       ...(v.atmosphericPressureKpa != null ? { atmosphericPressureKpa: v.atmosphericPressureKpa } : {}),
     };
     const peer = await peers.forAnalysis(v.engineFamily, asOfMs);
     const derived = deriveFindings(
-      { runs, days: history.days, sensorEvents: history.sensorEvents.filter((e) => !openStarts.has(e.runStartMs)) }, profile,
-      { now: asOfMs, peer, serviceEvents: history.serviceEvents.filter((e) => e.at <= asOfMs) }, cfg,
+      { runs, days: history.days, sensorEvents: history.sensorEvents.filter((e) => !openStarts.has(e.runStartMs)) },
+      profile,
+      { now: asOfMs, peer, serviceEvents: history.serviceEvents.filter((e) => e.at <= asOfMs) },
+      cfg,
     );
     risk.set(vehicleId, riskScore(derived, asOfMs, cfg.riskHalfLifeDays));
     for (const f of derived) unresolved.push(asStored(vehicleId, f, byKey.get(`${vehicleId} ${f.key}`), asOfMs));
@@ -55,11 +64,27 @@ export async function findingsAsOf(
 }
 
 function asStored(vehicleId: string, f: Finding, row: StoredFinding | undefined, asOfMs: number): StoredFinding {
-  const acknowledged = row?.acknowledgedMs !== null && row?.acknowledgedMs !== undefined && row.acknowledgedMs <= asOfMs;
+  const acknowledged =
+    row?.acknowledgedMs !== null && row?.acknowledgedMs !== undefined && row.acknowledgedMs <= asOfMs;
   return {
-    findingId: row?.findingId ?? f.key, vehicleId, kind: f.kind, severity: f.severity, confidence: f.confidence,
-    firstSeenMs: f.firstSeen, lastSeenMs: f.lastSeen, createdMs: row?.createdMs ?? asOfMs, status: acknowledged ? 'acknowledged' : 'open',
-    summary: f.summary, recommendedCheck: f.recommendedCheck, troubleCode: f.troubleCode, resolvedMs: null, resolvedReason: null,
-    deferredUntilMs: null, deferredReason: null, key: f.key, metrics: f.metrics, acknowledgedMs: acknowledged ? row!.acknowledgedMs : null,
+    findingId: row?.findingId ?? f.key,
+    vehicleId,
+    kind: f.kind,
+    severity: f.severity,
+    confidence: f.confidence,
+    firstSeenMs: f.firstSeen,
+    lastSeenMs: f.lastSeen,
+    createdMs: row?.createdMs ?? asOfMs,
+    status: acknowledged ? 'acknowledged' : 'open',
+    summary: f.summary,
+    recommendedCheck: f.recommendedCheck,
+    troubleCode: f.troubleCode,
+    resolvedMs: null,
+    resolvedReason: null,
+    deferredUntilMs: null,
+    deferredReason: null,
+    key: f.key,
+    metrics: f.metrics,
+    acknowledgedMs: acknowledged ? row!.acknowledgedMs : null,
   };
 }

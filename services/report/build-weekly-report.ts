@@ -9,7 +9,12 @@ import { summariseFindings } from './findings-summary.js';
 import { SILENT_LOOKBACK_DAYS, summariseFleet } from './fleet-summary.js';
 import { lastCompleteIsoWeek, parseIsoWeek, weekWindow, type WeekWindow } from '../time/iso-week.js';
 import { PEAK_CHART_DAYS } from './peak-chart-data.js';
-import { createReportRepository, type ReportRepository, type ReportVehicle, type StoredFinding } from '../db/weekly-report-repository.js';
+import {
+  createReportRepository,
+  type ReportRepository,
+  type ReportVehicle,
+  type StoredFinding,
+} from '../db/weekly-report-repository.js';
 import { recentWarmupCurves, vehicleChartsOf } from './vehicle-chart-data.js';
 import type { VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
 import { buildWorkList, unresolvedAt, withPlannerStatesAt } from './work-list.js';
@@ -68,12 +73,16 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
   // A past week is told as of its end throughout: the findings, texts and risk of every vehicle
   // analysed beyond the week are re-derived from what was stored by then. For the others the
   // stored findings already are the state at the week's end.
-  const later = new Set(stored.filter((v) => pastWeek && (v.lastReadingMs ?? -Infinity) > asOf).map((v) => v.vehicleId));
+  const later = new Set(
+    stored.filter((v) => pastWeek && (v.lastReadingMs ?? -Infinity) > asOf).map((v) => v.vehicleId),
+  );
   if (later.size > 0) {
     const rederive = [...new Set(unresolved.filter((f) => later.has(f.vehicleId)).map((f) => f.vehicleId))];
     const asOfFindings = await findingsAsOf(db, rederive, new Map(stored.map((v) => [v.vehicleId, v])), findings, asOf);
     unresolved = [...unresolved.filter((f) => !later.has(f.vehicleId)), ...asOfFindings.unresolved];
-    vehicles = stored.map((v) => (later.has(v.vehicleId) ? { ...v, riskScore: asOfFindings.risk.get(v.vehicleId) ?? 0 } : v));
+    vehicles = stored.map((v) =>
+      later.has(v.vehicleId) ? { ...v, riskScore: asOfFindings.risk.get(v.vehicleId) ?? 0 } : v,
+    );
   }
   // Planner decisions as they stood at the week's end: a deferral made later is not shown in a past week.
   if (pastWeek) unresolved = withPlannerStatesAt(unresolved, await repo.plannerStatesAt(fleet.fleetId, asOf), asOf);
@@ -93,8 +102,11 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
     formatVersion: 1,
     fleet,
     week: {
-      isoWeek: win.isoWeek, firstDay: win.dates[0]!, lastDay: win.dates[6]!,
-      start: new Date(win.startMs).toISOString(), end: new Date(win.endMs).toISOString(),
+      isoWeek: win.isoWeek,
+      firstDay: win.dates[0]!,
+      lastDay: win.dates[6]!,
+      start: new Date(win.startMs).toISOString(),
+      end: new Date(win.endMs).toISOString(),
     },
     generatedAt: new Date(now).toISOString(),
     asOf: new Date(asOf).toISOString(),
@@ -102,7 +114,16 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
     summary: summariseFleet(vehicles, weekDays, lastReadings, usualBreaks, asOf, toBook.length),
     findings: summariseFindings(findings, win.startMs, win.endMs),
     workList,
-    vehicles: await vehicleSections(repo, fleet.fleetId, toBook.slice(0, MAX_CHARTED_VEHICLES), byId, workList, unresolved, win, asOf),
+    vehicles: await vehicleSections(
+      repo,
+      fleet.fleetId,
+      toBook.slice(0, MAX_CHARTED_VEHICLES),
+      byId,
+      workList,
+      unresolved,
+      win,
+      asOf,
+    ),
     dataQuality: summariseDataQuality(sensorEvents, unresolved, weekDays, usualGaps),
     caution: SAFETY_CAUTION,
   };
@@ -110,15 +131,22 @@ export async function buildWeeklyReport(db: Kysely<Database>, options: BuildRepo
 
 /** Chart data of each charted vehicle: warm-ups against its healthy band, daily peaks with the trend. */
 async function vehicleSections(
-  repo: ReportRepository, fleetId: string, ids: readonly string[], byId: ReadonlyMap<string, ReportVehicle>,
-  workList: readonly WorkItem[], unresolved: readonly StoredFinding[], win: WeekWindow, asOf: number,
+  repo: ReportRepository,
+  fleetId: string,
+  ids: readonly string[],
+  byId: ReadonlyMap<string, ReportVehicle>,
+  workList: readonly WorkItem[],
+  unresolved: readonly StoredFinding[],
+  win: WeekWindow,
+  asOf: number,
 ): Promise<VehicleSection[]> {
   if (ids.length === 0) return [];
   // The band ends where warm-ups stopped being healthy; an overheating finding leaves warm-ups alone, so
   // without a warm-up finding the band is the history before the recent curves.
   const recentFrom = asOf - RECENT_COLD_START_DAYS * DAY_MS;
   const onsets = new Map<string, number>(ids.map((id) => [id, recentFrom]));
-  for (const f of unresolved) if (WARMUP_KINDS.has(f.kind)) onsets.set(f.vehicleId, Math.min(onsets.get(f.vehicleId) ?? Infinity, f.firstSeenMs));
+  for (const f of unresolved)
+    if (WARMUP_KINDS.has(f.kind)) onsets.set(f.vehicleId, Math.min(onsets.get(f.vehicleId) ?? Infinity, f.firstSeenMs));
   const earliestOnset = Math.min(...onsets.values());
   const services = await repo.lastServiceEvents(ids, asOf);
   const runs = await repo.coldStarts(ids, Math.min(earliestOnset - BASELINE_LOOKBACK_DAYS * DAY_MS, recentFrom), asOf);
@@ -136,14 +164,30 @@ async function vehicleSections(
     const row = workList.find((w) => w.vehicleId === id)!;
     const atmosphericPressureKpa = v.atmosphericPressureKpa ?? cfg.atmosphericPressureKpa;
     sections.push({
-      vehicleId: id, label: v.label, engineFamily: v.engineFamily, riskScore: v.riskScore, priority: row.priority,
-      capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent, atmosphericPressureKpa, defaultProfile: v.defaultProfile ?? false,
-      depot: v.depot ?? null, siteSource: v.siteSource ?? 'sea level',
-      findingIds: row.findings.map((f) => f.findingId), headline: row.why,
-      ...vehicleChartsOf({ ...v, atmosphericPressureKpa }, {
-        onsetMs: onset, bandFromMs: bandFrom, runs: own, curves, days: days.filter((d) => d.vehicleId === id).map((d) => d.metrics),
-        trendFinding: unresolved.find((f) => f.vehicleId === id && f.kind === 'overheating-trend'),
-      }),
+      vehicleId: id,
+      label: v.label,
+      engineFamily: v.engineFamily,
+      riskScore: v.riskScore,
+      priority: row.priority,
+      capPressureKpa: v.capPressureKpa,
+      glycolPercent: v.glycolPercent,
+      atmosphericPressureKpa,
+      defaultProfile: v.defaultProfile ?? false,
+      depot: v.depot ?? null,
+      siteSource: v.siteSource ?? 'sea level',
+      findingIds: row.findings.map((f) => f.findingId),
+      headline: row.why,
+      ...vehicleChartsOf(
+        { ...v, atmosphericPressureKpa },
+        {
+          onsetMs: onset,
+          bandFromMs: bandFrom,
+          runs: own,
+          curves,
+          days: days.filter((d) => d.vehicleId === id).map((d) => d.metrics),
+          trendFinding: unresolved.find((f) => f.vehicleId === id && f.kind === 'overheating-trend'),
+        },
+      ),
     });
   }
   return sections;

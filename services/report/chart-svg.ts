@@ -5,7 +5,16 @@ import { SVGRenderer } from 'echarts/renderers';
 
 // Apache ECharts renders SVG strings on the server without a DOM (its `ssr` mode); only the
 // parts the report uses are registered, which keeps the first render quick.
-echarts.use([LineChart, ScatterChart, CustomChart, GridComponent, LegendComponent, MarkLineComponent, MarkPointComponent, SVGRenderer]);
+echarts.use([
+  LineChart,
+  ScatterChart,
+  CustomChart,
+  GridComponent,
+  LegendComponent,
+  MarkLineComponent,
+  MarkPointComponent,
+  SVGRenderer,
+]);
 
 export type ChartOption = Parameters<echarts.ECharts['setOption']>[0];
 
@@ -19,7 +28,15 @@ export const CHART_FONT = 'system-ui, -apple-system, "Segoe UI", Roboto, "DejaVu
  * Legend layout: the server measures text with its own font metrics, which run narrower than
  * the browser's fonts, so entries get generous gaps to keep them from overlapping.
  */
-export const LEGEND = { top: 0, left: 0, right: 0, itemWidth: 18, itemHeight: 8, itemGap: 22, textStyle: { fontSize: 10 } } as const;
+export const LEGEND = {
+  top: 0,
+  left: 0,
+  right: 0,
+  itemWidth: 18,
+  itemHeight: 8,
+  itemGap: 22,
+  textStyle: { fontSize: 10 },
+} as const;
 
 /** Plot area: room above for a two-line legend, left for the rotated axis name. */
 export const GRID = { left: 56, right: 18, top: 58, bottom: 44 } as const;
@@ -30,7 +47,12 @@ export const Y_NAME = { nameLocation: 'middle', nameRotate: 90, nameGap: 34 } as
  * Renders one chart option to an inline SVG element (no animation, no namespace URLs: the
  * HTML parser puts inline `<svg>` in the SVG namespace by itself).
  */
-export function renderChartSvg(option: ChartOption, ariaLabel: string, width = CHART_WIDTH_PX, height = CHART_HEIGHT_PX): string {
+export function renderChartSvg(
+  option: ChartOption,
+  ariaLabel: string,
+  width = CHART_WIDTH_PX,
+  height = CHART_HEIGHT_PX,
+): string {
   const chart = echarts.init(null, null, { renderer: 'svg', ssr: true, width, height });
   try {
     chart.setOption({ animation: false, textStyle: { fontFamily: CHART_FONT }, ...option });

@@ -3,8 +3,27 @@ import type { WorkItem } from './weekly-report-schema.js';
 
 /** The CSV columns, named as the JSON work-list fields (one row per vehicle, as the JSON). */
 export const WORK_LIST_COLUMNS = [
-  'rank', 'vehicleId', 'label', 'riskScore', 'priority', 'severity', 'kind', 'status', 'since', 'lastSeen',
-  'confidence', 'troubleCode', 'why', 'check', 'caution', 'findingId', 'findingIds', 'findingCount', 'depot', 'defaultProfile', 'temperatureUnit',
+  'rank',
+  'vehicleId',
+  'label',
+  'riskScore',
+  'priority',
+  'severity',
+  'kind',
+  'status',
+  'since',
+  'lastSeen',
+  'confidence',
+  'troubleCode',
+  'why',
+  'check',
+  'caution',
+  'findingId',
+  'findingIds',
+  'findingCount',
+  'depot',
+  'defaultProfile',
+  'temperatureUnit',
 ] as const;
 
 type Column = (typeof WORK_LIST_COLUMNS)[number];

@@ -29,9 +29,12 @@ export const sensorEventLabel = (kind: string): string => SENSOR_EVENT_LABELS[ki
 /** Why a finding was resolved, in words: the analysis stores 'evidence-stopped', 'superseded' or 'service-event:<kind>'. */
 export function resolvedReasonLabel(reason: string | null): string | null {
   if (reason === null) return null;
-  if (reason === 'evidence-stopped') return `the evidence stopped (no new sign of it for ${DEFAULT_ANALYSIS_CONFIG.findingStaleDays} days)`;
-  if (reason === 'superseded') return 'superseded: the repair its baseline started at was deleted or moved, and the evidence now belongs to the earlier finding';
-  if (reason.startsWith('service-event:')) return `repair recorded: ${reason.slice('service-event:'.length).replace(/-/g, ' ')}`;
+  if (reason === 'evidence-stopped')
+    return `the evidence stopped (no new sign of it for ${DEFAULT_ANALYSIS_CONFIG.findingStaleDays} days)`;
+  if (reason === 'superseded')
+    return 'superseded: the repair its baseline started at was deleted or moved, and the evidence now belongs to the earlier finding';
+  if (reason.startsWith('service-event:'))
+    return `repair recorded: ${reason.slice('service-event:'.length).replace(/-/g, ' ')}`;
   return reason.replace(/-/g, ' ');
 }
 
@@ -74,7 +77,9 @@ export const SEVERITY_LEGEND: Readonly<Record<string, string>> = {
   advisory: 'an early or uncertain sign worth a look',
 };
 
-export const RISK_LEGEND = 'Risk 0–100 combines the vehicle\'s unresolved findings: each adds by its severity and confidence and fades '
-  + `as its last evidence ages (by half every ${DEFAULT_ANALYSIS_CONFIG.riskHalfLifeDays} days by default). Acknowledged and deferred findings still count; only a repair or quiet evidence removes them.`;
+export const RISK_LEGEND =
+  "Risk 0–100 combines the vehicle's unresolved findings: each adds by its severity and confidence and fades " +
+  `as its last evidence ages (by half every ${DEFAULT_ANALYSIS_CONFIG.riskHalfLifeDays} days by default). Acknowledged and deferred findings still count; only a repair or quiet evidence removes them.`;
 
-export const STATUS_LEGEND = 'Acknowledged: a planner has seen it, nothing is repaired yet. Deferred: the work is postponed until the date shown, for the reason given.';
+export const STATUS_LEGEND =
+  'Acknowledged: a planner has seen it, nothing is repaired yet. Deferred: the work is postponed until the date shown, for the reason given.';

@@ -27,17 +27,22 @@ export function summariseFindings(findings: readonly StoredFinding[], startMs: n
     if (!phase) continue;
     const key = `${f.kind}|${f.severity}`;
     let row = counts.get(key);
-    if (!row) counts.set(key, row = { kind: f.kind, severity: f.severity, new: 0, ongoing: 0, resolved: 0 });
+    if (!row) counts.set(key, (row = { kind: f.kind, severity: f.severity, new: 0, ongoing: 0, resolved: 0 }));
     row[phase]++;
     totals[phase]++;
     if (phase === 'resolved') {
       resolvedThisWeek.push({
-        findingId: f.findingId, vehicleId: f.vehicleId, kind: f.kind, severity: f.severity,
-        resolvedAt: new Date(f.resolvedMs!).toISOString(), reason: f.resolvedReason,
+        findingId: f.findingId,
+        vehicleId: f.vehicleId,
+        kind: f.kind,
+        severity: f.severity,
+        resolvedAt: new Date(f.resolvedMs!).toISOString(),
+        reason: f.resolvedReason,
       });
     }
   }
-  const byKindSeverity = [...counts.values()].sort((a, b) =>
-    a.kind.localeCompare(b.kind) || SEVERITIES.indexOf(a.severity) - SEVERITIES.indexOf(b.severity));
+  const byKindSeverity = [...counts.values()].sort(
+    (a, b) => a.kind.localeCompare(b.kind) || SEVERITIES.indexOf(a.severity) - SEVERITIES.indexOf(b.severity),
+  );
   return { totals, byKindSeverity, resolvedThisWeek };
 }

@@ -1,5 +1,12 @@
 import {
-  kindLabel, PRIORITY_LEGEND, relatedCodeLabel, resolvedReasonLabel, RISK_LEGEND, sensorEventLabel, SEVERITY_LEGEND, STATUS_LEGEND,
+  kindLabel,
+  PRIORITY_LEGEND,
+  relatedCodeLabel,
+  resolvedReasonLabel,
+  RISK_LEGEND,
+  sensorEventLabel,
+  SEVERITY_LEGEND,
+  STATUS_LEGEND,
 } from './finding-labels.js';
 import { escapeHtml as e } from './html-escape.js';
 import { badge, vehicleSectionHtml } from './html-vehicle-section.js';
@@ -7,8 +14,16 @@ import { REPORT_CSS } from './report-css.js';
 import type { WeeklyReport, WorkFinding, WorkItem } from './weekly-report-schema.js';
 
 const pct = (v: number) => `${Math.round(v * 100)} %`;
-const fmt = (v: number, digits = 0) => v.toLocaleString('en-GB', { maximumFractionDigits: digits, minimumFractionDigits: digits });
-const longDate = (day: string) => new Date(`${day}T12:00:00Z`).toLocaleDateString('en-GB', { weekday: 'short', day: 'numeric', month: 'short', year: 'numeric', timeZone: 'UTC' });
+const fmt = (v: number, digits = 0) =>
+  v.toLocaleString('en-GB', { maximumFractionDigits: digits, minimumFractionDigits: digits });
+const longDate = (day: string) =>
+  new Date(`${day}T12:00:00Z`).toLocaleDateString('en-GB', {
+    weekday: 'short',
+    day: 'numeric',
+    month: 'short',
+    year: 'numeric',
+    timeZone: 'UTC',
+  });
 
 function kpis(r: WeeklyReport): string {
   const s = r.summary;
@@ -16,7 +31,8 @@ function kpis(r: WeeklyReport): string {
   const week = r.workList.filter((w) => w.priority === 'book this week').length;
   const f = r.findings.totals;
   const unusual = s.silentGateways.filter((g) => g.unusual).length;
-  const box = (value: string, label: string, alert = false) => `<div class="kpi${alert ? ' alert' : ''}"><b>${value}</b>${label}</div>`;
+  const box = (value: string, label: string, alert = false) =>
+    `<div class="kpi${alert ? ' alert' : ''}"><b>${value}</b>${label}</div>`;
   return `<section class="kpis" aria-label="the week in figures">
 ${box(fmt(s.vehiclesToBook), `vehicles on the work list<br>${now} book now · ${week} this week`, s.vehiclesToBook > 0)}
 ${box(`${fmt(s.vehiclesReporting)} / ${fmt(s.vehicles)}`, 'vehicles reporting')}
@@ -30,7 +46,8 @@ ${box(`${f.new} / ${f.ongoing} / ${f.resolved}`, 'findings new / ongoing / resol
 /** How a planner's decision on the finding shows beside it. */
 function statusNote(f: WorkFinding): string {
   if (f.status === 'acknowledged') return ' <span class="note">(acknowledged, not yet repaired)</span>';
-  if (f.status === 'deferred') return ` <span class="note">(deferred until ${e(f.deferredUntil ?? '?')}${f.deferredReason ? `: ${e(f.deferredReason)}` : ''})</span>`;
+  if (f.status === 'deferred')
+    return ` <span class="note">(deferred until ${e(f.deferredUntil ?? '?')}${f.deferredReason ? `: ${e(f.deferredReason)}` : ''})</span>`;
   return '';
 }
 
@@ -42,9 +59,10 @@ function findingLine(f: WorkFinding): string {
 
 /** One row per vehicle: every finding, one combined list of checks, and the cautions beyond the general one. */
 function workListRow(w: WorkItem): string {
-  const label = (w.label ? `<br><span class="note">${e(w.label)}</span>` : '')
-    + (w.depot ? `<br><span class="note">depot ${e(w.depot)}</span>` : '')
-    + (w.defaultProfile ? '<br><span class="note">default profile: cap, glycol and thermostat assumed</span>' : '');
+  const label =
+    (w.label ? `<br><span class="note">${e(w.label)}</span>` : '') +
+    (w.depot ? `<br><span class="note">depot ${e(w.depot)}</span>` : '') +
+    (w.defaultProfile ? '<br><span class="note">default profile: cap, glycol and thermostat assumed</span>' : '');
   const extra = w.cautions.slice(1);
   return `<tr data-finding-id="${e(w.findingId)}" data-vehicle-id="${e(w.vehicleId)}">
 <td class="num">${w.rank}</td><td>${badge(w.priority)}</td>
@@ -55,7 +73,8 @@ function workListRow(w: WorkItem): string {
 }
 
 function workList(r: WeeklyReport): string {
-  if (r.workList.length === 0) return '<p class="empty">Nothing to book: no unresolved findings at the end of the week.</p>';
+  if (r.workList.length === 0)
+    return '<p class="empty">Nothing to book: no unresolved findings at the end of the week.</p>';
   return `<div class="caution" role="note">${e(r.caution)}</div>
 <table id="work-list-table"><thead><tr><th class="num">#</th><th>priority</th><th>vehicle</th><th class="num">risk</th><th>findings</th><th>what to check (one visit)</th><th>since</th><th class="num">confidence</th></tr></thead>
 <tbody>${r.workList.map(workListRow).join('\n')}</tbody></table>`;
@@ -63,18 +82,28 @@ function workList(r: WeeklyReport): string {
 
 /** What the booking words, severities, risk and statuses mean. */
 function legend(): string {
-  const rows = Object.entries(PRIORITY_LEGEND).map(([p, text]) => `<dt>${badge(p)}</dt><dd>${e(text)}</dd>`).join('');
-  const severities = Object.entries(SEVERITY_LEGEND).map(([s, text]) => `<b>${e(s)}</b>: ${e(text)}`).join('; ');
-  return `<aside id="legend" aria-label="legend"><h3>Legend</h3><dl class="legend">${rows}</dl>
-<p class="note"><b>Severity</b> — ${severities}. <b>Risk</b> — ${e(RISK_LEGEND)} ${e(STATUS_LEGEND)} `
-    + 'A related code is the standard trouble code that matches the finding, given as context: the vehicle did not necessarily report it.</p></aside>';
+  const rows = Object.entries(PRIORITY_LEGEND)
+    .map(([p, text]) => `<dt>${badge(p)}</dt><dd>${e(text)}</dd>`)
+    .join('');
+  const severities = Object.entries(SEVERITY_LEGEND)
+    .map(([s, text]) => `<b>${e(s)}</b>: ${e(text)}`)
+    .join('; ');
+  return (
+    `<aside id="legend" aria-label="legend"><h3>Legend</h3><dl class="legend">${rows}</dl>
+<p class="note"><b>Severity</b> — ${severities}. <b>Risk</b> — ${e(RISK_LEGEND)} ${e(STATUS_LEGEND)} ` +
+    'A related code is the standard trouble code that matches the finding, given as context: the vehicle did not necessarily report it.</p></aside>'
+  );
 }
 
 function findingsTable(r: WeeklyReport): string {
   const rows = r.findings.byKindSeverity;
   if (rows.length === 0) return '<p class="empty">No findings this week.</p>';
-  const resolved = r.findings.resolvedThisWeek.map((x) =>
-    `<li>${e(x.vehicleId)}: ${e(kindLabel(x.kind))} (${e(x.severity)}) resolved ${e(x.resolvedAt.slice(0, 10))}${x.reason ? ` — ${e(resolvedReasonLabel(x.reason) ?? '')}` : ''}</li>`).join('');
+  const resolved = r.findings.resolvedThisWeek
+    .map(
+      (x) =>
+        `<li>${e(x.vehicleId)}: ${e(kindLabel(x.kind))} (${e(x.severity)}) resolved ${e(x.resolvedAt.slice(0, 10))}${x.reason ? ` — ${e(resolvedReasonLabel(x.reason) ?? '')}` : ''}</li>`,
+    )
+    .join('');
   return `<table id="findings-table"><thead><tr><th>finding</th><th>severity</th><th class="num">new</th><th class="num">ongoing</th><th class="num">resolved</th></tr></thead><tbody>
 ${rows.map((x) => `<tr><td>${e(kindLabel(x.kind))}</td><td>${e(x.severity)}</td><td class="num">${x.new}</td><td class="num">${x.ongoing}</td><td class="num">${x.resolved}</td></tr>`).join('\n')}
 </tbody></table>${resolved ? `<p>Resolved this week:</p><ul>${resolved}</ul>` : ''}`;
@@ -82,18 +111,40 @@ ${rows.map((x) => `<tr><td>${e(kindLabel(x.kind))}</td><td>${e(x.severity)}</td>
 
 function dataQuality(r: WeeklyReport): string {
   const s = r.summary;
-  const silent = s.silentGateways.length === 0 ? `<p class="empty">Every gateway sent data within ${s.silentGatewayHours} h of the report time.</p>`
-    : `<table id="silent-table"><thead><tr><th>vehicle</th><th>last reading (UTC)</th><th class="num">silent for</th><th class="num">usual longest break</th><th>assessment</th></tr></thead><tbody>${s.silentGateways.map((g) =>
-      `<tr><td>${e(g.vehicleId)}${g.label ? ` <span class="note">${e(g.label)}</span>` : ''}</td><td>${g.lastReadingAt ? e(g.lastReadingAt.slice(0, 16).replace('T', ' ')) : 'none in 60 days'}</td>`
-      + `<td class="num">${g.silentHours === null ? '—' : `${fmt(g.silentHours)} h`}</td><td class="num">${g.usualLongestBreakHours === null ? '—' : `${fmt(g.usualLongestBreakHours)} h`}</td>`
-      + `<td>${g.unusual ? '<b>longer than usual: check the gateway or whether the vehicle is off the road</b>' : 'within its usual breaks (e.g. parked at weekends)'}</td></tr>`).join('')}</tbody></table>`;
+  const silent =
+    s.silentGateways.length === 0
+      ? `<p class="empty">Every gateway sent data within ${s.silentGatewayHours} h of the report time.</p>`
+      : `<table id="silent-table"><thead><tr><th>vehicle</th><th>last reading (UTC)</th><th class="num">silent for</th><th class="num">usual longest break</th><th>assessment</th></tr></thead><tbody>${s.silentGateways
+          .map(
+            (g) =>
+              `<tr><td>${e(g.vehicleId)}${g.label ? ` <span class="note">${e(g.label)}</span>` : ''}</td><td>${g.lastReadingAt ? e(g.lastReadingAt.slice(0, 16).replace('T', ' ')) : 'none in 60 days'}</td>` +
+              `<td class="num">${g.silentHours === null ? '—' : `${fmt(g.silentHours)} h`}</td><td class="num">${g.usualLongestBreakHours === null ? '—' : `${fmt(g.usualLongestBreakHours)} h`}</td>` +
+              `<td>${g.unusual ? '<b>longer than usual: check the gateway or whether the vehicle is off the road</b>' : 'within its usual breaks (e.g. parked at weekends)'}</td></tr>`,
+          )
+          .join('')}</tbody></table>`;
   const dq = r.dataQuality;
-  const sensors = dq.sensorFaults.length === 0 ? '<p class="empty">No implausible coolant readings this week.</p>'
-    : `<table id="sensor-table"><thead><tr><th>vehicle</th><th>runs with implausible readings, by kind</th><th>open sensor finding</th></tr></thead><tbody>${dq.sensorFaults.map((x) =>
-      `<tr><td>${e(x.vehicleId)}</td><td>${e(Object.entries(x.events).map(([k, n]) => `${sensorEventLabel(k)}: ${n}`).join(', ') || '—')}</td><td>${x.openFinding ? e(x.openFinding) : '—'}</td></tr>`).join('')}</tbody></table>`;
-  const gaps = dq.gaps.length === 0 ? '<p class="empty">No vehicle lost clearly more of its running time to gaps than in the four weeks before.</p>'
-    : `<table id="gaps-table"><thead><tr><th>vehicle</th><th class="num">days with data</th><th class="num">dropouts</th><th class="num">missing</th><th class="num">share of running time</th><th class="num">usual share</th></tr></thead><tbody>${dq.gaps.map((g) =>
-      `<tr><td>${e(g.vehicleId)}</td><td class="num">${g.daysWithData}</td><td class="num">${g.dropouts}</td><td class="num">${fmt(g.missingHours, 1)} h</td><td class="num">${pct(g.missingFraction)}</td><td class="num">${g.usualMissingFraction === null ? '—' : pct(g.usualMissingFraction)}</td></tr>`).join('')}</tbody></table>`;
+  const sensors =
+    dq.sensorFaults.length === 0
+      ? '<p class="empty">No implausible coolant readings this week.</p>'
+      : `<table id="sensor-table"><thead><tr><th>vehicle</th><th>runs with implausible readings, by kind</th><th>open sensor finding</th></tr></thead><tbody>${dq.sensorFaults
+          .map(
+            (x) =>
+              `<tr><td>${e(x.vehicleId)}</td><td>${e(
+                Object.entries(x.events)
+                  .map(([k, n]) => `${sensorEventLabel(k)}: ${n}`)
+                  .join(', ') || '—',
+              )}</td><td>${x.openFinding ? e(x.openFinding) : '—'}</td></tr>`,
+          )
+          .join('')}</tbody></table>`;
+  const gaps =
+    dq.gaps.length === 0
+      ? '<p class="empty">No vehicle lost clearly more of its running time to gaps than in the four weeks before.</p>'
+      : `<table id="gaps-table"><thead><tr><th>vehicle</th><th class="num">days with data</th><th class="num">dropouts</th><th class="num">missing</th><th class="num">share of running time</th><th class="num">usual share</th></tr></thead><tbody>${dq.gaps
+          .map(
+            (g) =>
+              `<tr><td>${e(g.vehicleId)}</td><td class="num">${g.daysWithData}</td><td class="num">${g.dropouts}</td><td class="num">${fmt(g.missingHours, 1)} h</td><td class="num">${pct(g.missingFraction)}</td><td class="num">${g.usualMissingFraction === null ? '—' : pct(g.usualMissingFraction)}</td></tr>`,
+          )
+          .join('')}</tbody></table>`;
   return `<h3>Silent gateways</h3>${silent}<h3>Coolant sensor</h3>${sensors}<h3>Gaps inside engine runs</h3>${gaps}`;
 }
 

@@ -27,25 +27,40 @@ export function peakCaption(v: VehicleSection, unit: TemperatureUnit = 'C'): str
   const t = p.trend;
   let trend = 'Too few days with driving for a trend.';
   if (t) {
-    if (t.daysToBoil === null) trend = `Peaks are not rising towards the boiling point (${t.senSlopeCPerDay.toFixed(2)} ${deg}/day).`;
+    if (t.daysToBoil === null)
+      trend = `Peaks are not rising towards the boiling point (${t.senSlopeCPerDay.toFixed(2)} ${deg}/day).`;
     else {
       const days = Math.round(t.daysToBoil);
-      trend = days < 1
-        ? `At ${round(t.senSlopeCPerDay, 2)} ${deg}/day from a level of ${t.levelC} ${deg}, the daily peaks already reach the boiling point (${p.boilingPointC} ${deg}).`
-        : `At ${round(t.senSlopeCPerDay, 2)} ${deg}/day from a level of ${t.levelC} ${deg}, the daily peak reaches the boiling point (${p.boilingPointC} ${deg}) `
-          + `around <b>${e(t.projectedBoilDate!)}</b>, in about ${days} day${days === 1 ? '' : 's'}.`;
-      if (t.daysToBoil > PROJECTION_DRAWN_DAYS) trend += ` (The dashed projection is drawn for the first ${PROJECTION_DRAWN_DAYS} days.)`;
+      trend =
+        days < 1
+          ? `At ${round(t.senSlopeCPerDay, 2)} ${deg}/day from a level of ${t.levelC} ${deg}, the daily peaks already reach the boiling point (${p.boilingPointC} ${deg}).`
+          : `At ${round(t.senSlopeCPerDay, 2)} ${deg}/day from a level of ${t.levelC} ${deg}, the daily peak reaches the boiling point (${p.boilingPointC} ${deg}) ` +
+            `around <b>${e(t.projectedBoilDate!)}</b>, in about ${days} day${days === 1 ? '' : 's'}.`;
+      if (t.daysToBoil > PROJECTION_DRAWN_DAYS)
+        trend += ` (The dashed projection is drawn for the first ${PROJECTION_DRAWN_DAYS} days.)`;
     }
   }
-  const from = v.siteSource === 'depot' ? ` (depot ${e(v.depot ?? '')})` : v.siteSource === 'sea level' ? ' (sea level: no site given)' : '';
-  const site = v.atmosphericPressureKpa !== undefined ? ` at ${round(v.atmosphericPressureKpa, 1)} kPa atmospheric pressure${from}` : '';
-  const assumed = v.defaultProfile ? ' These are the default profile values, not the vehicle\'s own: set its profile for a true figure.' : '';
+  const from =
+    v.siteSource === 'depot'
+      ? ` (depot ${e(v.depot ?? '')})`
+      : v.siteSource === 'sea level'
+        ? ' (sea level: no site given)'
+        : '';
+  const site =
+    v.atmosphericPressureKpa !== undefined
+      ? ` at ${round(v.atmosphericPressureKpa, 1)} kPa atmospheric pressure${from}`
+      : '';
+  const assumed = v.defaultProfile
+    ? " These are the default profile values, not the vehicle's own: set its profile for a true figure."
+    : '';
   return `${trend} Boiling point for a ${v.capPressureKpa} kPa cap and ${v.glycolPercent} % glycol by mass${site}.${assumed} Peaks climbing while ambient does not point to the cooling system, not the weather.`;
 }
 
 /** One at-risk vehicle: heading, the top finding, and its two charts. */
 export function vehicleSectionHtml(v: VehicleSection, timeZone: string, unit: TemperatureUnit = 'C'): string {
-  const label = (v.label ? ` <span class="note">${e(v.label)}</span>` : '') + (v.depot ? ` <span class="note">depot ${e(v.depot)}</span>` : '');
+  const label =
+    (v.label ? ` <span class="note">${e(v.label)}</span>` : '') +
+    (v.depot ? ` <span class="note">depot ${e(v.depot)}</span>` : '');
   return `<article class="vehicle" id="vehicle-${e(v.vehicleId)}" data-vehicle-id="${e(v.vehicleId)}">
 <h3>${e(v.vehicleId)}${label} ${badge(v.priority)} <span class="note">risk ${v.riskScore} · ${e(v.engineFamily)}</span></h3>
 <p class="headline">${e(v.headline)}</p>

@@ -20,7 +20,10 @@ export function trendLine(p: PeakChart): { fitted: [number, number][]; projected
   const t = p.trend;
   if (!t) return { fitted: [], projected: [] };
   const anchor = dayMs(t.anchorDay);
-  const at = (ms: number): [number, number] => [ms, Math.round((t.levelC + t.senSlopeCPerDay * (ms - anchor) / DAY_MS) * 10) / 10];
+  const at = (ms: number): [number, number] => [
+    ms,
+    Math.round((t.levelC + (t.senSlopeCPerDay * (ms - anchor)) / DAY_MS) * 10) / 10,
+  ];
   const fitted = [at(anchor - (t.windowDays - 1) * DAY_MS), at(anchor)];
   if (t.daysToBoil === null) return { fitted, projected: [] };
   const ahead = Math.min(t.daysToBoil, PROJECTION_DRAWN_DAYS);
@@ -35,35 +38,87 @@ export function peakChartSvg(p: PeakChart, vehicleId: string, unit: TemperatureU
   const deg = degreeSign(unit);
   const { fitted, projected } = trendLine(p);
   const t = p.trend;
-  const trendName = t ? `trend ${t.senSlopeCPerDay >= 0 ? '+' : ''}${t.senSlopeCPerDay.toFixed(2)} ${deg}/day` : 'trend';
-  const crossing = t?.daysToBoil !== null && t?.daysToBoil !== undefined && t.daysToBoil <= PROJECTION_DRAWN_DAYS ? projected[1] : undefined;
+  const trendName = t
+    ? `trend ${t.senSlopeCPerDay >= 0 ? '+' : ''}${t.senSlopeCPerDay.toFixed(2)} ${deg}/day`
+    : 'trend';
+  const crossing =
+    t?.daysToBoil !== null && t?.daysToBoil !== undefined && t.daysToBoil <= PROJECTION_DRAWN_DAYS
+      ? projected[1]
+      : undefined;
   const series = [
     {
-      name: 'daily peak coolant', type: 'line' as const, color: PEAK_COLOUR, symbol: 'circle', symbolSize: 5,
-      lineStyle: { width: 1.5 }, data: p.days.map((d) => [dayMs(d.day), d.peakCoolantC]), z: 3,
+      name: 'daily peak coolant',
+      type: 'line' as const,
+      color: PEAK_COLOUR,
+      symbol: 'circle',
+      symbolSize: 5,
+      lineStyle: { width: 1.5 },
+      data: p.days.map((d) => [dayMs(d.day), d.peakCoolantC]),
+      z: 3,
     },
     {
-      name: 'daily max ambient', type: 'line' as const, color: AMBIENT_COLOUR, symbol: 'triangle', symbolSize: 4,
-      lineStyle: { width: 1 }, data: p.days.filter((d) => d.ambientMaxC !== null).map((d) => [dayMs(d.day), d.ambientMaxC]), z: 2,
+      name: 'daily max ambient',
+      type: 'line' as const,
+      color: AMBIENT_COLOUR,
+      symbol: 'triangle',
+      symbolSize: 4,
+      lineStyle: { width: 1 },
+      data: p.days.filter((d) => d.ambientMaxC !== null).map((d) => [dayMs(d.day), d.ambientMaxC]),
+      z: 2,
     },
-    ...(fitted.length ? [{ name: trendName, type: 'line' as const, color: TREND_COLOUR, showSymbol: false, lineStyle: { width: 2 }, data: fitted, z: 4 }] : []),
-    ...(projected.length ? [{
-      name: 'projection', type: 'line' as const, color: TREND_COLOUR, showSymbol: false, lineStyle: { width: 2, type: 'dashed' as const }, data: projected, z: 4,
-      ...(crossing ? {
-        markPoint: {
-          symbol: 'pin', symbolSize: 34, itemStyle: { color: TREND_COLOUR },
-          label: { fontSize: 9, formatter: 'boil' },
-          data: [{ coord: crossing, value: 'boil' }],
-        },
-      } : {}),
-    }] : []),
+    ...(fitted.length
+      ? [
+          {
+            name: trendName,
+            type: 'line' as const,
+            color: TREND_COLOUR,
+            showSymbol: false,
+            lineStyle: { width: 2 },
+            data: fitted,
+            z: 4,
+          },
+        ]
+      : []),
+    ...(projected.length
+      ? [
+          {
+            name: 'projection',
+            type: 'line' as const,
+            color: TREND_COLOUR,
+            showSymbol: false,
+            lineStyle: { width: 2, type: 'dashed' as const },
+            data: projected,
+            z: 4,
+            ...(crossing
+              ? {
+                  markPoint: {
+                    symbol: 'pin',
+                    symbolSize: 34,
+                    itemStyle: { color: TREND_COLOUR },
+                    label: { fontSize: 9, formatter: 'boil' },
+                    data: [{ coord: crossing, value: 'boil' }],
+                  },
+                }
+              : {}),
+          },
+        ]
+      : []),
     {
-      name: 'limits', type: 'line' as const, data: [], silent: true,
+      name: 'limits',
+      type: 'line' as const,
+      data: [],
+      silent: true,
       markLine: {
-        symbol: 'none', silent: true, lineStyle: { color: '#555', type: 'dotted' as const },
+        symbol: 'none',
+        silent: true,
+        lineStyle: { color: '#555', type: 'dotted' as const },
         label: { position: 'insideStartTop' as const, fontSize: 10, color: '#333' },
         data: [
-          { yAxis: p.boilingPointC, label: { formatter: `boiling point at cap pressure ${p.boilingPointC} ${deg}` }, lineStyle: { color: TREND_COLOUR, type: 'solid' as const } },
+          {
+            yAxis: p.boilingPointC,
+            label: { formatter: `boiling point at cap pressure ${p.boilingPointC} ${deg}` },
+            lineStyle: { color: TREND_COLOUR, type: 'solid' as const },
+          },
           { yAxis: p.hotThresholdC, label: { formatter: `overheat threshold ${p.hotThresholdC} ${deg}` } },
         ],
       },
@@ -71,22 +126,37 @@ export function peakChartSvg(p: PeakChart, vehicleId: string, unit: TemperatureU
   ];
   const lows = p.days.flatMap((d) => (d.ambientMaxC === null ? [d.peakCoolantC] : [d.peakCoolantC, d.ambientMaxC]));
   const firstMs = p.days.length ? dayMs(p.days[0]!.day) : Date.now();
-  const lastMs = Math.max(p.days.length ? dayMs(p.days[p.days.length - 1]!.day) : firstMs, ...projected.map((q) => q[0]));
+  const lastMs = Math.max(
+    p.days.length ? dayMs(p.days[p.days.length - 1]!.day) : firstMs,
+    ...projected.map((q) => q[0]),
+  );
   const option: ChartOption = {
     grid: GRID,
     legend: { ...LEGEND, data: series.filter((s) => s.name !== 'limits').map((s) => s.name) },
     // A value axis with ticks on Mondays: the time axis adds month-start ticks that crowd the labels.
     xAxis: {
-      type: 'value', min: utcWeekStartMs(firstMs), max: lastMs + DAY_MS / 2, interval: 7 * DAY_MS,
-      name: 'date (UTC days; ticks on Mondays)', nameLocation: 'middle', nameGap: 26,
+      type: 'value',
+      min: utcWeekStartMs(firstMs),
+      max: lastMs + DAY_MS / 2,
+      interval: 7 * DAY_MS,
+      name: 'date (UTC days; ticks on Mondays)',
+      nameLocation: 'middle',
+      nameGap: 26,
       axisLabel: { formatter: (v: number) => dayLabel(v), showMaxLabel: false },
       splitLine: { show: true, lineStyle: { color: '#eee' } },
     },
     yAxis: {
-      type: 'value', name: `temperature ${deg}`, ...Y_NAME, interval: Y_STEP_C,
-      min: Math.floor((Math.min(...lows, 0) - 2) / Y_STEP_C) * Y_STEP_C, max: Math.ceil((p.boilingPointC + 6) / Y_STEP_C) * Y_STEP_C,
+      type: 'value',
+      name: `temperature ${deg}`,
+      ...Y_NAME,
+      interval: Y_STEP_C,
+      min: Math.floor((Math.min(...lows, 0) - 2) / Y_STEP_C) * Y_STEP_C,
+      max: Math.ceil((p.boilingPointC + 6) / Y_STEP_C) * Y_STEP_C,
     },
     series,
   };
-  return renderChartSvg(option, `${vehicleId}: daily peak coolant temperature against ambient, with the trend towards the boiling point`);
+  return renderChartSvg(
+    option,
+    `${vehicleId}: daily peak coolant temperature against ambient, with the trend towards the boiling point`,
+  );
 }

@@ -19,12 +19,23 @@ tables, writes it to DIR and archives it in the database (re-running a week repl
 
 /** `thermocline report weekly …`: exit 0 on success, 1 on failure, 2 on a usage error. */
 export async function run(argv: string[]): Promise<number> {
-  let values: { week?: string | undefined; fleet?: string | undefined; out?: string | undefined; help?: boolean | undefined };
+  let values: {
+    week?: string | undefined;
+    fleet?: string | undefined;
+    out?: string | undefined;
+    help?: boolean | undefined;
+  };
   let positionals: string[];
   try {
     ({ values, positionals } = parseArgs({
-      args: argv, allowPositionals: true,
-      options: { week: { type: 'string' }, fleet: { type: 'string' }, out: { type: 'string', default: 'reports' }, help: { type: 'boolean', short: 'h' } },
+      args: argv,
+      allowPositionals: true,
+      options: {
+        week: { type: 'string' },
+        fleet: { type: 'string' },
+        out: { type: 'string', default: 'reports' },
+        help: { type: 'boolean', short: 'h' },
+      },
     }));
   } catch (err) {
     process.stderr.write(`${err instanceof Error ? err.message : String(err)}\n\n${USAGE}`);
@@ -52,18 +63,29 @@ export async function run(argv: string[]): Promise<number> {
   try {
     progress(`report: using ${database.description}`);
     await migrateToLatest(database.db);
-    const fleets = values.fleet ? [values.fleet] : (await createReportRepository(database.db).fleets()).map((f) => f.fleetId);
+    const fleets = values.fleet
+      ? [values.fleet]
+      : (await createReportRepository(database.db).fleets()).map((f) => f.fleetId);
     if (fleets.length === 0) {
       progress('no fleets in the database: nothing to report');
       return 1;
     }
     for (const fleetId of fleets) {
-      const written = await writeWeeklyReport(database.db, { fleetId, ...(values.week ? { week: values.week } : {}), outDir: values.out!, onProgress: progress });
+      const written = await writeWeeklyReport(database.db, {
+        fleetId,
+        ...(values.week ? { week: values.week } : {}),
+        outDir: values.out!,
+        onProgress: progress,
+      });
       process.stdout.write(`${written.htmlPath}\n`);
     }
     return 0;
   } catch (err) {
-    progress(err instanceof UnknownFleetError ? err.message : `report failed: ${err instanceof Error ? (err.stack ?? err.message) : String(err)}`);
+    progress(
+      err instanceof UnknownFleetError
+        ? err.message
+        : `report failed: ${err instanceof Error ? (err.stack ?? err.message) : String(err)}`,
+    );
     return 1;
   } finally {
     await database.close();

@@ -20,17 +20,28 @@ export function weekDataStamp(data: WeekData): string {
  */
 export function reportCoverage(data: WeekData, vehicles: number, weekEnded: boolean): WeeklyReport['coverage'] {
   const complete = weekEnded && data.pendingVehicles === 0;
-  const span = data.firstReadingMs !== null && data.lastReadingMs !== null ? `, ${utcText(data.firstReadingMs)} to ${utcText(data.lastReadingMs)}` : '';
-  const what = data.readings === 0 ? 'No readings of this week have been analysed'
-    : `Covers ${fmt(data.readings)} analysed readings from ${fmt(data.vehiclesWithData)} of ${fmt(vehicles)} vehicles (${fmt(data.vehicleDays)} vehicle-days)${span}`;
-  const state = !weekEnded ? 'the week has not ended, so this report will change.'
+  const span =
+    data.firstReadingMs !== null && data.lastReadingMs !== null
+      ? `, ${utcText(data.firstReadingMs)} to ${utcText(data.lastReadingMs)}`
+      : '';
+  const what =
+    data.readings === 0
+      ? 'No readings of this week have been analysed'
+      : `Covers ${fmt(data.readings)} analysed readings from ${fmt(data.vehiclesWithData)} of ${fmt(vehicles)} vehicles (${fmt(data.vehicleDays)} vehicle-days)${span}`;
+  const state = !weekEnded
+    ? 'the week has not ended, so this report will change.'
     : data.pendingVehicles > 0
       ? `${fmt(data.pendingVehicles)} vehicle${data.pendingVehicles > 1 ? 's have' : ' has'} readings of the week still waiting for analysis; the report is built again when they are analysed.`
       : 'analysis is complete for every vehicle; readings of this week that arrive later make the report be built again.';
   return {
-    vehiclesWithData: data.vehiclesWithData, vehicleDays: data.vehicleDays, readings: data.readings,
+    vehiclesWithData: data.vehiclesWithData,
+    vehicleDays: data.vehicleDays,
+    readings: data.readings,
     firstReadingAt: data.firstReadingMs === null ? null : new Date(data.firstReadingMs).toISOString(),
     lastReadingAt: data.lastReadingMs === null ? null : new Date(data.lastReadingMs).toISOString(),
-    pendingVehicles: data.pendingVehicles, complete, stamp: weekDataStamp(data), statement: `${what}; ${state}`,
+    pendingVehicles: data.pendingVehicles,
+    complete,
+    stamp: weekDataStamp(data),
+    statement: `${what}; ${state}`,
   };
 }

@@ -19,12 +19,14 @@ const MIN_CURVE_RUN_S = 600;
 const BAND_LOW_Q = 0.1;
 const BAND_HIGH_Q = 0.9;
 
-
 /**
  * A run's first-order warm-up model at `tS` seconds, capped at its settled (plateau)
  * temperature or the thermostat rating: the fit describes the closed-thermostat phase only.
  */
-export function newtonCurveC(run: Pick<RunMetrics, 'newtonTauS' | 'newtonTInfC' | 'newtonT0C' | 'plateauC' | 'thermostatOpenC'>, tS: number): number | null {
+export function newtonCurveC(
+  run: Pick<RunMetrics, 'newtonTauS' | 'newtonTInfC' | 'newtonT0C' | 'plateauC' | 'thermostatOpenC'>,
+  tS: number,
+): number | null {
   const { newtonTauS: tau, newtonTInfC: tInf, newtonT0C: t0 } = run;
   if (tau === null || tInf === null || t0 === null) return null;
   const t = tInf - (tInf - t0) * Math.exp(-tS / tau);
@@ -55,7 +57,10 @@ export function baselineBand(healthy: readonly RunMetrics[]): { band: WarmupChar
 
 /** Cold starts worth drawing: long enough and with a sensor that can be believed. */
 export function drawableColdStarts(runs: readonly RunMetrics[]): RunMetrics[] {
-  return runs.filter((r) => r.startKind === 'cold' && !r.truncatedStart && !r.excludedForSensor && r.durationS >= MIN_CURVE_RUN_S)
+  return runs
+    .filter(
+      (r) => r.startKind === 'cold' && !r.truncatedStart && !r.excludedForSensor && r.durationS >= MIN_CURVE_RUN_S,
+    )
     .slice(-WARMUP_CURVES_MAX);
 }
 

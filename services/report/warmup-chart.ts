@@ -24,8 +24,17 @@ function withBreaks(points: ReadonlyArray<readonly [number, number]>): (readonly
 
 /** A cold start's legend entry: local day and time in the fleet's zone, and the ambient at start. */
 export function curveName(curve: WarmupChart['curves'][number], timeZone: string, unit: TemperatureUnit = 'C'): string {
-  const local = new Intl.DateTimeFormat('en-GB', { timeZone, weekday: 'short', day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit', hourCycle: 'h23' })
-    .format(new Date(curve.runStart)).replace(',', '');
+  const local = new Intl.DateTimeFormat('en-GB', {
+    timeZone,
+    weekday: 'short',
+    day: 'numeric',
+    month: 'short',
+    hour: '2-digit',
+    minute: '2-digit',
+    hourCycle: 'h23',
+  })
+    .format(new Date(curve.runStart))
+    .replace(',', '');
   return curve.startAmbientC === null ? local : `${local} (${Math.round(curve.startAmbientC)} ${degreeSign(unit)})`;
 }
 
@@ -33,7 +42,12 @@ export function curveName(curve: WarmupChart['curves'][number], timeZone: string
  * The warm-up chart: the recent cold starts' coolant temperature against minutes since start,
  * over the vehicle's healthy band, with the warm-up target and the thermostat rating.
  */
-export function warmupChartSvg(w: WarmupChart, timeZone: string, vehicleId: string, unit: TemperatureUnit = 'C'): string {
+export function warmupChartSvg(
+  w: WarmupChart,
+  timeZone: string,
+  vehicleId: string,
+  unit: TemperatureUnit = 'C',
+): string {
   const deg = degreeSign(unit);
   const curveSeries = w.curves.map((c, i) => ({
     name: curveName(c, timeZone, unit),
@@ -44,33 +58,56 @@ export function warmupChartSvg(w: WarmupChart, timeZone: string, vehicleId: stri
     color: CURVE_COLOURS[Math.max(0, CURVE_COLOURS.length - w.curves.length + i)]!,
     z: 3,
   }));
-  const polygon = [...w.band.map((b) => [b.minute, b.lowC]), ...w.band.slice().reverse().map((b) => [b.minute, b.highC])];
-  const bandSeries = w.band.length === 0 ? [] : [
-    {
-      name: 'healthy range',
-      type: 'custom' as const,
-      color: BAND_FILL,
-      data: [0],
-      renderItem: (_params: unknown, api: { coord: (p: number[]) => number[] }) => ({
-        type: 'polygon',
-        shape: { points: polygon.map((p) => api.coord(p)) },
-        style: { fill: BAND_FILL, stroke: 'none' },
-      }),
-      z: 1,
-    },
-    {
-      name: 'healthy median', type: 'line' as const, showSymbol: false, color: BAND_LINE,
-      lineStyle: { type: 'dashed' as const, width: 1.5 }, data: w.band.map((b) => [b.minute, b.medianC]), z: 2,
-    },
+  const polygon = [
+    ...w.band.map((b) => [b.minute, b.lowC]),
+    ...w.band
+      .slice()
+      .reverse()
+      .map((b) => [b.minute, b.highC]),
   ];
+  const bandSeries =
+    w.band.length === 0
+      ? []
+      : [
+          {
+            name: 'healthy range',
+            type: 'custom' as const,
+            color: BAND_FILL,
+            data: [0],
+            renderItem: (_params: unknown, api: { coord: (p: number[]) => number[] }) => ({
+              type: 'polygon',
+              shape: { points: polygon.map((p) => api.coord(p)) },
+              style: { fill: BAND_FILL, stroke: 'none' },
+            }),
+            z: 1,
+          },
+          {
+            name: 'healthy median',
+            type: 'line' as const,
+            showSymbol: false,
+            color: BAND_LINE,
+            lineStyle: { type: 'dashed' as const, width: 1.5 },
+            data: w.band.map((b) => [b.minute, b.medianC]),
+            z: 2,
+          },
+        ];
   const limits = {
-    name: 'limits', type: 'line' as const, data: [], silent: true,
+    name: 'limits',
+    type: 'line' as const,
+    data: [],
+    silent: true,
     markLine: {
-      symbol: 'none', silent: true, lineStyle: { color: '#555', type: 'dotted' as const },
+      symbol: 'none',
+      silent: true,
+      lineStyle: { color: '#555', type: 'dotted' as const },
       label: { position: 'insideEndTop' as const, fontSize: 10, color: '#333' },
       data: [
         { yAxis: w.warmupTargetC, name: 'target', label: { formatter: `warm-up target ${w.warmupTargetC} ${deg}` } },
-        { yAxis: w.thermostatOpenC, name: 'thermostat', label: { formatter: `thermostat opens ${w.thermostatOpenC} ${deg}`, position: 'insideStartTop' as const } },
+        {
+          yAxis: w.thermostatOpenC,
+          name: 'thermostat',
+          label: { formatter: `thermostat opens ${w.thermostatOpenC} ${deg}`, position: 'insideStartTop' as const },
+        },
       ],
     },
   };
@@ -78,10 +115,22 @@ export function warmupChartSvg(w: WarmupChart, timeZone: string, vehicleId: stri
   const option: ChartOption = {
     grid: GRID,
     legend: { ...LEGEND, data: [...bandSeries, ...curveSeries].map((x) => x.name) },
-    xAxis: { type: 'value', min: 0, max: WARMUP_CHART_MIN, interval: 5, name: 'minutes since engine start', nameLocation: 'middle', nameGap: 26 },
+    xAxis: {
+      type: 'value',
+      min: 0,
+      max: WARMUP_CHART_MIN,
+      interval: 5,
+      name: 'minutes since engine start',
+      nameLocation: 'middle',
+      nameGap: 26,
+    },
     yAxis: {
-      type: 'value', name: `coolant ${deg}`, ...Y_NAME, interval: Y_STEP_C,
-      min: Math.floor((Math.min(...lows, w.warmupTargetC) - 2) / Y_STEP_C) * Y_STEP_C, max: Math.ceil((w.thermostatOpenC + 12) / Y_STEP_C) * Y_STEP_C,
+      type: 'value',
+      name: `coolant ${deg}`,
+      ...Y_NAME,
+      interval: Y_STEP_C,
+      min: Math.floor((Math.min(...lows, w.warmupTargetC) - 2) / Y_STEP_C) * Y_STEP_C,
+      max: Math.ceil((w.thermostatOpenC + 12) / Y_STEP_C) * Y_STEP_C,
     },
     series: [...bandSeries, ...curveSeries, limits],
   };

@@ -1,7 +1,11 @@
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Kysely } from 'kysely';
-import { convertTemperatures, TEMPERATURE_SENTENCE_FIELDS, type TemperatureUnit } from '../analysis/physics/temperature-unit.js';
+import {
+  convertTemperatures,
+  TEMPERATURE_SENTENCE_FIELDS,
+  type TemperatureUnit,
+} from '../analysis/physics/temperature-unit.js';
 import type { Database } from '../db/schema.js';
 import { type BuildReportOptions, buildWeeklyReport } from './build-weekly-report.js';
 import { renderWorkListCsv } from './csv-work-list.js';
@@ -24,7 +28,12 @@ export interface GenerateOptions extends BuildReportOptions {
 
 /** Renders the report object as JSON, HTML and the CSV work list. */
 export function renderWeeklyReport(report: WeeklyReport): RenderedReport {
-  return { report, json: `${JSON.stringify(report, null, 2)}\n`, html: renderReportHtml(report), csv: renderWorkListCsv(report.workList, report.unit ?? 'C') };
+  return {
+    report,
+    json: `${JSON.stringify(report, null, 2)}\n`,
+    html: renderReportHtml(report),
+    csv: renderWorkListCsv(report.workList, report.unit ?? 'C'),
+  };
 }
 
 /**
@@ -43,9 +52,18 @@ export async function generateWeeklyReport(db: Kysely<Database>, options: Genera
   const progress = options.onProgress ?? (() => {});
   progress(`gathering ${options.fleetId} ${options.week ?? '(last complete week)'} from the analysis tables`);
   const report = await buildWeeklyReport(db, options);
-  progress(`${report.week.isoWeek}: ${report.summary.vehiclesReporting}/${report.summary.vehicles} vehicles reporting, ${report.workList.length} work items on ${report.summary.vehiclesToBook} vehicles; drawing ${report.vehicles.length * 2} charts`);
+  progress(
+    `${report.week.isoWeek}: ${report.summary.vehiclesReporting}/${report.summary.vehicles} vehicles reporting, ${report.workList.length} work items on ${report.summary.vehiclesToBook} vehicles; drawing ${report.vehicles.length * 2} charts`,
+  );
   const rendered = renderWeeklyReport(report);
-  await createReportRepository(db).archive(report.fleet.fleetId, report.week.isoWeek, report, rendered.html, rendered.csv, new Date(report.generatedAt));
+  await createReportRepository(db).archive(
+    report.fleet.fleetId,
+    report.week.isoWeek,
+    report,
+    rendered.html,
+    rendered.csv,
+    new Date(report.generatedAt),
+  );
   progress(`archived ${report.fleet.fleetId} ${report.week.isoWeek} in weekly_reports`);
   return rendered;
 }
@@ -66,7 +84,10 @@ export const reportBaseName = (fleetId: string, isoWeek: string) => `weekly-repo
  * The week defaults to the last complete ISO week in the fleet's time zone.
  * @example const { htmlPath } = await writeWeeklyReport(db, { fleetId: 'quillmoor', outDir: 'reports' })
  */
-export async function writeWeeklyReport(db: Kysely<Database>, options: GenerateOptions & { outDir: string }): Promise<WrittenReport> {
+export async function writeWeeklyReport(
+  db: Kysely<Database>,
+  options: GenerateOptions & { outDir: string },
+): Promise<WrittenReport> {
   const rendered = await generateWeeklyReport(db, options);
   const { report } = rendered;
   await mkdir(options.outDir, { recursive: true });

@@ -48,8 +48,10 @@ export class WeeklyReportScheduler {
   constructor(private readonly options: WeeklyReportSchedulerOptions) {
     this.weekday = options.weekday ?? DEFAULT_REPORT_WEEKDAY;
     this.hour = options.hour ?? DEFAULT_REPORT_HOUR;
-    if (!Number.isInteger(this.weekday) || this.weekday < 1 || this.weekday > 7) throw new RangeError(`weekday must be 1 (Monday) to 7 (Sunday), got ${this.weekday}`);
-    if (!Number.isInteger(this.hour) || this.hour < 0 || this.hour > 23) throw new RangeError(`hour must be 0 to 23, got ${this.hour}`);
+    if (!Number.isInteger(this.weekday) || this.weekday < 1 || this.weekday > 7)
+      throw new RangeError(`weekday must be 1 (Monday) to 7 (Sunday), got ${this.weekday}`);
+    if (!Number.isInteger(this.hour) || this.hour < 0 || this.hour > 23)
+      throw new RangeError(`hour must be 0 to 23, got ${this.hour}`);
     this.log = options.log ?? (() => {});
   }
 
@@ -66,7 +68,9 @@ export class WeeklyReportScheduler {
    */
   tick(now: number = Date.now()): Promise<string[]> {
     // A tick still running (a slow database) is joined rather than doubled.
-    this.running ??= this.check(now).finally(() => { this.running = undefined; });
+    this.running ??= this.check(now).finally(() => {
+      this.running = undefined;
+    });
     return this.running;
   }
 
@@ -78,22 +82,32 @@ export class WeeklyReportScheduler {
       const due = this.dueAt(now, timeZone);
       if (now < due) continue;
       const dueWeek = formatIsoWeek(lastCompleteIsoWeek(now, timeZone));
-      const weeks = new Set([dueWeek, ...await repo.archivedWeeks(fleet.fleetId, now - REBUILD_LOOKBACK_WEEKS * WEEK_MS)]);
+      const weeks = new Set([
+        dueWeek,
+        ...(await repo.archivedWeeks(fleet.fleetId, now - REBUILD_LOOKBACK_WEEKS * WEEK_MS)),
+      ]);
       for (const isoWeek of weeks) {
         const state = await archiveState(this.options.db, fleet.fleetId, isoWeek, timeZone);
         if (state.fresh) continue;
         if (state.data.pendingVehicles > 0 && (state.archived !== undefined || now < due + MAX_ANALYSIS_WAIT_MS)) {
-          this.log(`weekly report ${fleet.fleetId} ${isoWeek} waits for the analysis of ${state.data.pendingVehicles} vehicle(s)`);
+          this.log(
+            `weekly report ${fleet.fleetId} ${isoWeek} waits for the analysis of ${state.data.pendingVehicles} vehicle(s)`,
+          );
           continue;
         }
         try {
           const options = { fleetId: fleet.fleetId, week: isoWeek, now };
-          if (this.options.outDir) await writeWeeklyReport(this.options.db, { ...options, outDir: this.options.outDir });
+          if (this.options.outDir)
+            await writeWeeklyReport(this.options.db, { ...options, outDir: this.options.outDir });
           else await generateWeeklyReport(this.options.db, options);
           built.push(`${fleet.fleetId}/${isoWeek}`);
-          this.log(`weekly report ${fleet.fleetId} ${isoWeek} ${state.archived ? 'rebuilt: its data changed since it was archived' : 'built'}`);
+          this.log(
+            `weekly report ${fleet.fleetId} ${isoWeek} ${state.archived ? 'rebuilt: its data changed since it was archived' : 'built'}`,
+          );
         } catch (err) {
-          this.log(`weekly report ${fleet.fleetId} ${isoWeek} failed: ${err instanceof Error ? err.message : String(err)}`);
+          this.log(
+            `weekly report ${fleet.fleetId} ${isoWeek} failed: ${err instanceof Error ? err.message : String(err)}`,
+          );
         }
       }
     }
@@ -103,7 +117,9 @@ export class WeeklyReportScheduler {
   /** Checks now and then every `intervalMs`. */
   start(): void {
     if (this.timer) return;
-    const run = () => { void this.tick().catch((err: unknown) => this.log(`weekly report check failed: ${String(err)}`)); };
+    const run = () => {
+      void this.tick().catch((err: unknown) => this.log(`weekly report check failed: ${String(err)}`));
+    };
     this.timer = setInterval(run, this.options.intervalMs ?? DEFAULT_SCHEDULER_INTERVAL_MS);
     this.timer.unref();
     run();

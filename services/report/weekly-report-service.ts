@@ -15,7 +15,12 @@ export interface ArchiveState {
 }
 
 /** The archive of a fleet's week checked against what the analysis tables hold now. */
-export async function archiveState(db: Kysely<Database>, fleetId: string, isoWeek: string, timeZone: string): Promise<ArchiveState> {
+export async function archiveState(
+  db: Kysely<Database>,
+  fleetId: string,
+  isoWeek: string,
+  timeZone: string,
+): Promise<ArchiveState> {
   const repo = createReportRepository(db);
   const win = weekWindow(parseIsoWeek(isoWeek), timeZone);
   const archived = await repo.archived(fleetId, isoWeek);
@@ -25,7 +30,12 @@ export async function archiveState(db: Kysely<Database>, fleetId: string, isoWee
   return { archived, data, fresh };
 }
 
-export interface ServedReport { json: WeeklyReport; html: string; csv: string; source: 'archive' | 'built' }
+export interface ServedReport {
+  json: WeeklyReport;
+  html: string;
+  csv: string;
+  source: 'archive' | 'built';
+}
 
 /**
  * The report of a fleet's week as the API serves it: the archived copy while it is fresh (built
@@ -33,10 +43,19 @@ export interface ServedReport { json: WeeklyReport; html: string; csv: string; s
  * past week whose readings arrived after it was archived (a back-fill, gateways that were
  * offline) is so built again instead of being served stale.
  */
-export async function currentWeeklyReport(db: Kysely<Database>, o: { fleetId: string; isoWeek: string; timeZone: string; refresh: boolean }): Promise<ServedReport> {
+export async function currentWeeklyReport(
+  db: Kysely<Database>,
+  o: { fleetId: string; isoWeek: string; timeZone: string; refresh: boolean },
+): Promise<ServedReport> {
   if (!o.refresh) {
     const state = await archiveState(db, o.fleetId, o.isoWeek, o.timeZone);
-    if (state.fresh && state.archived) return { json: state.archived.json as WeeklyReport, html: state.archived.html, csv: state.archived.csv, source: 'archive' };
+    if (state.fresh && state.archived)
+      return {
+        json: state.archived.json as WeeklyReport,
+        html: state.archived.html,
+        csv: state.archived.csv,
+        source: 'archive',
+      };
   }
   const rendered = await generateWeeklyReport(db, { fleetId: o.fleetId, week: formatIsoWeek(parseIsoWeek(o.isoWeek)) });
   return { json: rendered.report, html: rendered.html, csv: rendered.csv, source: 'built' };

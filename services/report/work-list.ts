@@ -6,7 +6,11 @@ import type { PlannerStateAt, ReportVehicle, StoredFinding } from '../db/weekly-
 import type { Priority, WorkFinding, WorkItem } from './weekly-report-schema.js';
 
 const SEVERITY_RANK: Readonly<Record<Severity, number>> = { critical: 0, warning: 1, advisory: 2 };
-export const PRIORITY_OF: Readonly<Record<Severity, Priority>> = { critical: 'book now', warning: 'book this week', advisory: 'at next service' };
+export const PRIORITY_OF: Readonly<Record<Severity, Priority>> = {
+  critical: 'book now',
+  warning: 'book this week',
+  advisory: 'at next service',
+};
 
 /** The check without the safety caution the analysis appends (the report states the cautions once per vehicle). */
 export function checkWithoutCaution(check: string): string {
@@ -24,24 +28,51 @@ export function unresolvedAt(findings: readonly StoredFinding[], asOfMs: number)
  * undone after it is. A finding with no planner action by then was open, unless it was
  * acknowledged by then before the audit existed.
  */
-export function withPlannerStatesAt(findings: readonly StoredFinding[], states: ReadonlyMap<string, PlannerStateAt>, asOfMs: number): StoredFinding[] {
+export function withPlannerStatesAt(
+  findings: readonly StoredFinding[],
+  states: ReadonlyMap<string, PlannerStateAt>,
+  asOfMs: number,
+): StoredFinding[] {
   return findings.map((f) => {
     const s = states.get(f.findingId);
-    if (s) return { ...f, status: s.status, deferredUntilMs: s.deferredUntilMs, deferredReason: s.deferredReason, acknowledgedMs: s.acknowledged ? f.acknowledgedMs : null };
+    if (s)
+      return {
+        ...f,
+        status: s.status,
+        deferredUntilMs: s.deferredUntilMs,
+        deferredReason: s.deferredReason,
+        acknowledgedMs: s.acknowledged ? f.acknowledgedMs : null,
+      };
     const acknowledged = f.acknowledgedMs !== null && f.acknowledgedMs <= asOfMs;
-    return { ...f, status: acknowledged ? 'acknowledged' : 'open', deferredUntilMs: null, deferredReason: null, acknowledgedMs: acknowledged ? f.acknowledgedMs : null };
+    return {
+      ...f,
+      status: acknowledged ? 'acknowledged' : 'open',
+      deferredUntilMs: null,
+      deferredReason: null,
+      acknowledgedMs: acknowledged ? f.acknowledgedMs : null,
+    };
   });
 }
 
-const statusOf = (f: StoredFinding): WorkFinding['status'] => (f.status === 'acknowledged' || f.status === 'deferred' ? f.status : 'open');
+const statusOf = (f: StoredFinding): WorkFinding['status'] =>
+  f.status === 'acknowledged' || f.status === 'deferred' ? f.status : 'open';
 
 function workFinding(f: StoredFinding, defaultProfile: boolean): WorkFinding {
   const deferred = f.status === 'deferred';
   return {
-    findingId: f.findingId, kind: f.kind, severity: f.severity, status: statusOf(f), priority: PRIORITY_OF[f.severity],
-    why: f.summary, check: checkWithoutCaution(f.recommendedCheck), since: utcDay(f.firstSeenMs), lastSeen: utcDay(f.lastSeenMs),
-    confidence: round(f.confidence, 3), troubleCode: f.troubleCode,
-    deferredUntil: deferred && f.deferredUntilMs !== null ? utcDay(f.deferredUntilMs) : null, deferredReason: deferred ? f.deferredReason : null,
+    findingId: f.findingId,
+    kind: f.kind,
+    severity: f.severity,
+    status: statusOf(f),
+    priority: PRIORITY_OF[f.severity],
+    why: f.summary,
+    check: checkWithoutCaution(f.recommendedCheck),
+    since: utcDay(f.firstSeenMs),
+    lastSeen: utcDay(f.lastSeenMs),
+    confidence: round(f.confidence, 3),
+    troubleCode: f.troubleCode,
+    deferredUntil: deferred && f.deferredUntilMs !== null ? utcDay(f.deferredUntilMs) : null,
+    deferredReason: deferred ? f.deferredReason : null,
     profileNote: defaultProfileNote(f.kind, defaultProfile),
   };
 }
@@ -53,14 +84,23 @@ function workFinding(f: StoredFinding, defaultProfile: boolean): WorkFinding {
  * cautions those checks call for. The row's finding fields (findingId, kind, why, …) are those of
  * its most severe finding, so clients that read one finding per row still get the first thing to do.
  */
-export function buildWorkList(unresolved: readonly StoredFinding[], vehicles: ReadonlyMap<string, ReportVehicle>): WorkItem[] {
+export function buildWorkList(
+  unresolved: readonly StoredFinding[],
+  vehicles: ReadonlyMap<string, ReportVehicle>,
+): WorkItem[] {
   const risk = (id: string) => vehicles.get(id)?.riskScore ?? 0;
   const byVehicle = new Map<string, StoredFinding[]>();
   for (const f of unresolved) byVehicle.set(f.vehicleId, [...(byVehicle.get(f.vehicleId) ?? []), f]);
   const ids = [...byVehicle.keys()].sort((a, b) => risk(b) - risk(a) || a.localeCompare(b));
   return ids.map((vehicleId, i) => {
-    const own = byVehicle.get(vehicleId)!.sort((a, b) =>
-      SEVERITY_RANK[a.severity] - SEVERITY_RANK[b.severity] || b.confidence - a.confidence || a.findingId.localeCompare(b.findingId));
+    const own = byVehicle
+      .get(vehicleId)!
+      .sort(
+        (a, b) =>
+          SEVERITY_RANK[a.severity] - SEVERITY_RANK[b.severity] ||
+          b.confidence - a.confidence ||
+          a.findingId.localeCompare(b.findingId),
+      );
     const defaultProfile = vehicles.get(vehicleId)?.defaultProfile ?? false;
     const findings = own.map((f) => workFinding(f, defaultProfile));
     const worst = findings[0]!;
@@ -96,6 +136,9 @@ export function buildWorkList(unresolved: readonly StoredFinding[], vehicles: Re
 
 /** The most urgent priority among a vehicle's findings. */
 export function vehiclePriority(items: ReadonlyArray<{ severity: Severity }>): Priority {
-  const worst = items.reduce<Severity>((w, item) => (SEVERITY_RANK[item.severity] < SEVERITY_RANK[w] ? item.severity : w), 'advisory');
+  const worst = items.reduce<Severity>(
+    (w, item) => (SEVERITY_RANK[item.severity] < SEVERITY_RANK[w] ? item.severity : w),
+    'advisory',
+  );
   return PRIORITY_OF[worst];
 }

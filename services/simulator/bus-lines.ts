@@ -18,7 +18,15 @@ export type GatewayEncoding = 'readings' | 'j1939' | 'obd';
 export function busLines(vehicleId: string, c: SampleChunk, as: 'j1939' | 'obd'): string {
   const out: string[] = [];
   const head = `{"vehicleId":${JSON.stringify(vehicleId)},"ts":`;
-  const r: BusReading = { coolantC: NaN, ambientC: NaN, speedKph: NaN, rpm: NaN, barometricKpa: NaN, coolantLevelPct: NaN, coolantPressureKpa: NaN };
+  const r: BusReading = {
+    coolantC: NaN,
+    ambientC: NaN,
+    speedKph: NaN,
+    rpm: NaN,
+    barometricKpa: NaN,
+    coolantLevelPct: NaN,
+    coolantPressureKpa: NaN,
+  };
   for (let i = 0; i < c.length; i++) {
     r.coolantC = c.coolant[i]!;
     r.ambientC = c.ambient[i]!;

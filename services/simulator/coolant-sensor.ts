@@ -53,7 +53,8 @@ export class CoolantSensor {
   /** Call at every engine start. */
   startRun(tMs: number): void {
     const s = this.stuck;
-    this.stuckThisRun = s !== undefined && tMs >= s.onsetMs && this.rng.chance((0.3 + 0.7 * s.severity) * faultRamp(s, tMs));
+    this.stuckThisRun =
+      s !== undefined && tMs >= s.onsetMs && this.rng.chance((0.3 + 0.7 * s.severity) * faultRamp(s, tMs));
     this.stuckValue = Number.NaN;
   }
 
@@ -63,7 +64,10 @@ export class CoolantSensor {
     let v = trueC + SENSOR_NOISE_SD_C * rng.normal();
     const b = this.bias;
     if (b !== undefined && tMs >= b.onsetMs) {
-      v += this.biasSign * (4 + 10 * b.severity) * Math.min(1, (tMs - b.onsetMs) / Math.max(BIAS_RAMP_MS, (b.rampDays ?? 0) * 86_400_000));
+      v +=
+        this.biasSign *
+        (4 + 10 * b.severity) *
+        Math.min(1, (tMs - b.onsetMs) / Math.max(BIAS_RAMP_MS, (b.rampDays ?? 0) * 86_400_000));
     }
     const sp = this.spikes;
     if (sp !== undefined && tMs >= sp.onsetMs && rng.chance((0.005 + 0.03 * sp.severity) * faultRamp(sp, tMs))) {
@@ -76,7 +80,8 @@ export class CoolantSensor {
     }
     const d = this.dropouts;
     if (d !== undefined && tMs >= d.onsetMs) {
-      if (this.burstLeft === 0 && rng.chance((0.003 + 0.02 * d.severity) * faultRamp(d, tMs))) this.burstLeft = rng.int(2, 12);
+      if (this.burstLeft === 0 && rng.chance((0.003 + 0.02 * d.severity) * faultRamp(d, tMs)))
+        this.burstLeft = rng.int(2, 12);
       if (this.burstLeft > 0) {
         this.burstLeft--;
         if (rng.chance(0.6)) return Number.NaN;

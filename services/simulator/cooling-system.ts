@@ -119,7 +119,11 @@ function airSpeedMps(speedMps: number, fanAirMps: number): number {
  * Derives thermal parameters from an engine family, sizing the radiator so that the rated
  * coolant heat `ratedHeatW` is rejected at (rating + DESIGN_MARGIN_C) in DESIGN_AMBIENT_C air.
  */
-export function thermalParamsFor(f: EngineFamily, ratedHeatW: number, thermostatOpenC = f.thermostatOpenC): ThermalParams {
+export function thermalParamsFor(
+  f: EngineFamily,
+  ratedHeatW: number,
+  thermostatOpenC = f.thermostatOpenC,
+): ThermalParams {
   const rhoCp = coolantDensityKgPerL(f.glycolPercent) * coolantSpecificHeatJPerKgK(f.glycolPercent);
   const pump = rhoCp * f.pumpFlowLps;
   const needed = (DESIGN_HEAT_FRACTION * ratedHeatW) / (thermostatOpenC + DESIGN_MARGIN_C - DESIGN_AMBIENT_C);

@@ -20,8 +20,16 @@ export const DEMO_DEPOTS: readonly Depot[] = [
 
 /** Duty mix of the demo fleet, repeated: mostly vans on delivery rounds. */
 const DUTY_CYCLE: readonly Duty[] = [
-  'urban-delivery', 'long-haul', 'urban-delivery', 'service-van', 'urban-delivery',
-  'long-haul', 'urban-delivery', 'bus', 'urban-delivery', 'service-van',
+  'urban-delivery',
+  'long-haul',
+  'urban-delivery',
+  'service-van',
+  'urban-delivery',
+  'long-haul',
+  'urban-delivery',
+  'bus',
+  'urban-delivery',
+  'service-van',
 ];
 
 interface DemoFault {
@@ -35,13 +43,43 @@ interface DemoFault {
 
 /** The faults of the demo story, each placed on a vehicle where it shows. */
 const DEMO_FAULTS: readonly DemoFault[] = [
-  { kind: 'thermostat-stuck-open', climates: ['cold'], duties: ['urban-delivery', 'service-van'], severity: 0.8, onsetFraction: 0.45 },
+  {
+    kind: 'thermostat-stuck-open',
+    climates: ['cold'],
+    duties: ['urban-delivery', 'service-van'],
+    severity: 0.8,
+    onsetFraction: 0.45,
+  },
   { kind: 'radiator-fouling', climates: ['hot'], duties: ['long-haul'], severity: 0.9, onsetFraction: 0.35 },
   { kind: 'fan-failure', climates: ['hot'], duties: ['bus', 'urban-delivery'], severity: 1, onsetFraction: 0.55 },
-  { kind: 'coolant-loss', climates: ['hot', 'temperate'], duties: ['long-haul', 'urban-delivery'], severity: 0.8, onsetFraction: 0.4 },
-  { kind: 'thermostat-sticking', climates: ['temperate'], duties: ['urban-delivery', 'service-van'], severity: 0.7, onsetFraction: 0.5 },
-  { kind: 'sensor-spikes', climates: ['temperate'], duties: ['service-van', 'urban-delivery'], severity: 0.6, onsetFraction: 0.5 },
-  { kind: 'sensor-bias', climates: ['cold'], duties: ['long-haul', 'urban-delivery'], severity: 0.7, onsetFraction: 0.5 },
+  {
+    kind: 'coolant-loss',
+    climates: ['hot', 'temperate'],
+    duties: ['long-haul', 'urban-delivery'],
+    severity: 0.8,
+    onsetFraction: 0.4,
+  },
+  {
+    kind: 'thermostat-sticking',
+    climates: ['temperate'],
+    duties: ['urban-delivery', 'service-van'],
+    severity: 0.7,
+    onsetFraction: 0.5,
+  },
+  {
+    kind: 'sensor-spikes',
+    climates: ['temperate'],
+    duties: ['service-van', 'urban-delivery'],
+    severity: 0.6,
+    onsetFraction: 0.5,
+  },
+  {
+    kind: 'sensor-bias',
+    climates: ['cold'],
+    duties: ['long-haul', 'urban-delivery'],
+    severity: 0.7,
+    onsetFraction: 0.5,
+  },
 ];
 
 const DAY_MS = 86_400_000;
@@ -61,7 +99,9 @@ export function planDemoFleet(opts: { startMs: number; days: number; seed: numbe
     const healthy = fleet.filter((v) => v.faults.length === 0);
     // Preference order: the first listed climate and duty where the fault shows best.
     const host =
-      f.climates.flatMap((c) => f.duties.map((d) => healthy.find((v) => v.climate === c && v.duty === d))).find((v) => v !== undefined) ??
+      f.climates
+        .flatMap((c) => f.duties.map((d) => healthy.find((v) => v.climate === c && v.duty === d)))
+        .find((v) => v !== undefined) ??
       healthy.find((v) => f.climates.includes(v.climate)) ??
       healthy[0];
     if (!host) break;

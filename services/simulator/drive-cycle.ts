@@ -112,7 +112,7 @@ export class DriveCycle {
       this.finishing = true;
       this.endsWithStop = true;
       this.stopS = dtS;
-      this.remainM = Math.min(this.remainM, (v * v) / (2 * p.decelMps2) * 1.3 + 30);
+      this.remainM = Math.min(this.remainM, ((v * v) / (2 * p.decelMps2)) * 1.3 + 30);
     }
     this.wanderS -= dtS;
     if (this.wanderS <= 0) {
@@ -148,7 +148,8 @@ export class DriveCycle {
 
   private newSegment(): void {
     const rng = this.rng;
-    if (this.jamLeftS <= 0 && rng.chance(this.profile.jamChance)) this.jamLeftS = rng.uniform(this.profile.jamS[0], this.profile.jamS[1]);
+    if (this.jamLeftS <= 0 && rng.chance(this.profile.jamChance))
+      this.jamLeftS = rng.uniform(this.profile.jamS[0], this.profile.jamS[1]);
     if (this.jamLeftS > 0) {
       this.baseMps = rng.uniform(CRAWL_MPS[0], CRAWL_MPS[1]);
       this.cruiseMps = this.baseMps;

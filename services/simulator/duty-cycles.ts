@@ -34,8 +34,22 @@ const URBAN_DRIVE: DriveProfile = {
   jamS: [180, 1200],
   roads: {
     urban: { weight: 0.65, speedKph: [25, 50], lengthM: [150, 700], stopChance: 0.55, stopS: [5, 60], gradeSd: 0.015 },
-    arterial: { weight: 0.3, speedKph: [50, 70], lengthM: [500, 2500], stopChance: 0.3, stopS: [10, 70], gradeSd: 0.015 },
-    highway: { weight: 0.05, speedKph: [80, 100], lengthM: [3000, 12000], stopChance: 0.02, stopS: [5, 30], gradeSd: 0.012 },
+    arterial: {
+      weight: 0.3,
+      speedKph: [50, 70],
+      lengthM: [500, 2500],
+      stopChance: 0.3,
+      stopS: [10, 70],
+      gradeSd: 0.015,
+    },
+    highway: {
+      weight: 0.05,
+      speedKph: [80, 100],
+      lengthM: [3000, 12000],
+      stopChance: 0.02,
+      stopS: [5, 30],
+      gradeSd: 0.012,
+    },
   },
 };
 const LONG_HAUL_DRIVE: DriveProfile = {
@@ -45,8 +59,22 @@ const LONG_HAUL_DRIVE: DriveProfile = {
   jamS: [300, 1500],
   roads: {
     urban: { weight: 0.04, speedKph: [25, 45], lengthM: [300, 1000], stopChance: 0.5, stopS: [10, 60], gradeSd: 0.01 },
-    arterial: { weight: 0.11, speedKph: [55, 75], lengthM: [1000, 5000], stopChance: 0.25, stopS: [10, 60], gradeSd: 0.015 },
-    highway: { weight: 0.85, speedKph: [78, 89], lengthM: [5000, 40000], stopChance: 0.01, stopS: [10, 60], gradeSd: 0.012 },
+    arterial: {
+      weight: 0.11,
+      speedKph: [55, 75],
+      lengthM: [1000, 5000],
+      stopChance: 0.25,
+      stopS: [10, 60],
+      gradeSd: 0.015,
+    },
+    highway: {
+      weight: 0.85,
+      speedKph: [78, 89],
+      lengthM: [5000, 40000],
+      stopChance: 0.01,
+      stopS: [10, 60],
+      gradeSd: 0.012,
+    },
   },
 };
 const BUS_DRIVE: DriveProfile = {
@@ -56,7 +84,14 @@ const BUS_DRIVE: DriveProfile = {
   jamS: [180, 900],
   roads: {
     urban: { weight: 0.8, speedKph: [30, 50], lengthM: [250, 600], stopChance: 0.85, stopS: [15, 45], gradeSd: 0.012 },
-    arterial: { weight: 0.2, speedKph: [45, 65], lengthM: [600, 2000], stopChance: 0.6, stopS: [15, 40], gradeSd: 0.012 },
+    arterial: {
+      weight: 0.2,
+      speedKph: [45, 65],
+      lengthM: [600, 2000],
+      stopChance: 0.6,
+      stopS: [15, 40],
+      gradeSd: 0.012,
+    },
     highway: { weight: 0, speedKph: [70, 80], lengthM: [2000, 5000], stopChance: 0.1, stopS: [10, 30], gradeSd: 0.01 },
   },
 };
@@ -67,8 +102,22 @@ const SERVICE_DRIVE: DriveProfile = {
   jamS: [180, 1200],
   roads: {
     urban: { weight: 0.35, speedKph: [25, 50], lengthM: [200, 800], stopChance: 0.5, stopS: [5, 50], gradeSd: 0.015 },
-    arterial: { weight: 0.4, speedKph: [50, 75], lengthM: [800, 3000], stopChance: 0.3, stopS: [10, 60], gradeSd: 0.015 },
-    highway: { weight: 0.25, speedKph: [85, 110], lengthM: [4000, 20000], stopChance: 0.02, stopS: [5, 30], gradeSd: 0.012 },
+    arterial: {
+      weight: 0.4,
+      speedKph: [50, 75],
+      lengthM: [800, 3000],
+      stopChance: 0.3,
+      stopS: [10, 60],
+      gradeSd: 0.015,
+    },
+    highway: {
+      weight: 0.25,
+      speedKph: [85, 110],
+      lengthM: [4000, 20000],
+      stopChance: 0.02,
+      stopS: [5, 30],
+      gradeSd: 0.012,
+    },
   },
 };
 
@@ -127,14 +176,19 @@ export function planDay(duty: Duty, shiftStartS: number, rng: Rng): EngineRun[] 
       for (let b = 0; b < blocks; b++) {
         const legs: Leg[] = [];
         const loops = rng.int(3, 5);
-        for (let i = 0; i < loops; i++) legs.push({ idleS: (i === 0 ? rng.uniform(2, 6) : rng.uniform(3, 9)) * MIN_S, driveS: rng.uniform(35, 55) * MIN_S });
+        for (let i = 0; i < loops; i++)
+          legs.push({
+            idleS: (i === 0 ? rng.uniform(2, 6) : rng.uniform(3, 9)) * MIN_S,
+            driveS: rng.uniform(35, 55) * MIN_S,
+          });
         add(legs, rng.uniform(40, 90) * MIN_S);
       }
       break;
     }
     case 'service-van': {
       const jobs = rng.int(4, 7);
-      for (let i = 0; i < jobs; i++) add([{ idleS: rng.uniform(15, 90), driveS: rng.uniform(12, 45) * MIN_S }], rng.uniform(30, 100) * MIN_S);
+      for (let i = 0; i < jobs; i++)
+        add([{ idleS: rng.uniform(15, 90), driveS: rng.uniform(12, 45) * MIN_S }], rng.uniform(30, 100) * MIN_S);
       break;
     }
   }
@@ -146,6 +200,12 @@ export function planDay(duty: Duty, shiftStartS: number, rng: Rng): EngineRun[] 
 /** Usual shift start for a duty, s after local midnight, drawn once per vehicle. */
 export function usualShiftStartS(duty: Duty, rng: Rng): number {
   const [lo, hi] =
-    duty === 'long-haul' ? [4.5, 6.5] : duty === 'bus' ? [5.0, 6.5] : duty === 'urban-delivery' ? [6.0, 7.5] : [7.5, 8.5];
+    duty === 'long-haul'
+      ? [4.5, 6.5]
+      : duty === 'bus'
+        ? [5.0, 6.5]
+        : duty === 'urban-delivery'
+          ? [6.0, 7.5]
+          : [7.5, 8.5];
   return rng.uniform(lo, hi) * HOUR_S;
 }

@@ -27,8 +27,14 @@ const HOT_DUTIES: readonly Duty[] = ['urban-delivery', 'bus', 'service-van'];
 
 /** Where each fault kind is placed so that its signature can show (climates, duties rotated). */
 const FAULT_PLACEMENT: Readonly<Record<FaultKind, { climates: readonly Climate[]; duties: readonly Duty[] }>> = {
-  'thermostat-stuck-open': { climates: ['cold', 'cold', 'temperate'], duties: ['urban-delivery', 'long-haul', 'service-van'] },
-  'thermostat-sticking': { climates: ['cold', 'temperate', 'hot'], duties: ['urban-delivery', 'service-van', 'bus', 'long-haul'] },
+  'thermostat-stuck-open': {
+    climates: ['cold', 'cold', 'temperate'],
+    duties: ['urban-delivery', 'long-haul', 'service-van'],
+  },
+  'thermostat-sticking': {
+    climates: ['cold', 'temperate', 'hot'],
+    duties: ['urban-delivery', 'service-van', 'bus', 'long-haul'],
+  },
   // Progressive faults show where the cooling system works hardest: heavy vehicles in the heat
   // (long-haul tractors on grades, buses crawling and idling at layovers with the A/C on).
   'radiator-fouling': { climates: ['hot'], duties: ['long-haul', 'bus'] },
@@ -61,12 +67,18 @@ function healthyCount(n: number): number {
 
 /** Onset day for a run of `days`: after 3 weeks where possible, else in the middle. */
 function onsetDay(days: number, rng: Rng): number {
-  if (days >= MIN_HEALTHY_HISTORY_DAYS + MIN_FAULT_DAYS) return rng.uniform(MIN_HEALTHY_HISTORY_DAYS, days - MIN_FAULT_DAYS);
+  if (days >= MIN_HEALTHY_HISTORY_DAYS + MIN_FAULT_DAYS)
+    return rng.uniform(MIN_HEALTHY_HISTORY_DAYS, days - MIN_FAULT_DAYS);
   return rng.uniform(0.45, 0.6) * days;
 }
 
 /** Plans the evaluation fleet (vehicle ids EV-001, EV-002, …). */
-export function planEvaluationFleet(opts: { startMs: number; days: number; seed: number; vehicles: number }): SimVehicle[] {
+export function planEvaluationFleet(opts: {
+  startMs: number;
+  days: number;
+  seed: number;
+  vehicles: number;
+}): SimVehicle[] {
   const rng = new Rng(hashSeed(opts.seed, 'fleet:evaluation'));
   const fleet: SimVehicle[] = [];
   const id = (): string => `EV-${String(fleet.length + 1).padStart(3, '0')}`;
@@ -74,10 +86,13 @@ export function planEvaluationFleet(opts: { startMs: number; days: number; seed:
   for (let i = 0; i < healthy; i++) {
     const group = HEALTHY_GROUPS[i % HEALTHY_GROUPS.length] as (typeof HEALTHY_GROUPS)[number];
     const round = Math.floor(i / HEALTHY_GROUPS.length);
-    if (group === 'heavy-load') fleet.push(buildVehicle(id(), EVALUATION_FLEET_ID, EVALUATION_DEPOTS.hot, 'long-haul', rng));
+    if (group === 'heavy-load')
+      fleet.push(buildVehicle(id(), EVALUATION_FLEET_ID, EVALUATION_DEPOTS.hot, 'long-haul', rng));
     else {
       const duties = group === 'hot' ? HOT_DUTIES : LIGHT_DUTIES;
-      fleet.push(buildVehicle(id(), EVALUATION_FLEET_ID, EVALUATION_DEPOTS[group], duties[round % duties.length] as Duty, rng));
+      fleet.push(
+        buildVehicle(id(), EVALUATION_FLEET_ID, EVALUATION_DEPOTS[group], duties[round % duties.length] as Duty, rng),
+      );
     }
   }
   const seen = new Map<FaultKind, number>();
@@ -90,7 +105,9 @@ export function planEvaluationFleet(opts: { startMs: number; days: number; seed:
     const duty = place.duties[k % place.duties.length] as Duty;
     const onsetMs = opts.startMs + Math.round(onsetDay(opts.days, rng) * 24) * (DAY_MS / 24);
     const severity = Math.round(rng.uniform(0.5, 1) * 100) / 100;
-    fleet.push(buildVehicle(id(), EVALUATION_FLEET_ID, EVALUATION_DEPOTS[climate], duty, rng, [{ kind, onsetMs, severity }]));
+    fleet.push(
+      buildVehicle(id(), EVALUATION_FLEET_ID, EVALUATION_DEPOTS[climate], duty, rng, [{ kind, onsetMs, severity }]),
+    );
   }
   return fleet;
 }

@@ -83,12 +83,16 @@ export const FOULING_RAMP_WEEKS = 2;
 export const COOLANT_LOSS_PER_WEEK = 0.16;
 export const COOLANT_LOSS_MAX = 0.5;
 
-
 /**
  * Sets the cooling system's fault multipliers for time tMs (epoch ms); `healthyAirFactor` is the
  * radiator air side of the vehicle without faults (1 = as designed).
  */
-export function applyPhysicalFaults(cs: CoolingSystem, faults: readonly FaultSpec[], tMs: number, healthyAirFactor = 1): void {
+export function applyPhysicalFaults(
+  cs: CoolingSystem,
+  faults: readonly FaultSpec[],
+  tMs: number,
+  healthyAirFactor = 1,
+): void {
   let stuckOpen = 0;
   let late = 0;
   let air = healthyAirFactor;

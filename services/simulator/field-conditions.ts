@@ -49,7 +49,10 @@ export class FieldConditions {
     const hilly = r.chance(this.v.hillyDayChance);
     const idle = r.chance(this.v.idleDayChance);
     const idleS = r.uniform(IDLE_SPELL_H[0], IDLE_SPELL_H[1]) * 3600;
-    return { gradeScale: hilly ? this.v.hillGradeScale : 1, idleSpell: idle ? { idleS, ptoW: this.v.ptoPowerShare * this.ratedPowerW } : null };
+    return {
+      gradeScale: hilly ? this.v.hillGradeScale : 1,
+      idleSpell: idle ? { idleS, ptoW: this.v.ptoPowerShare * this.ratedPowerW } : null,
+    };
   }
 
   /** Where the engine soaks before the day's first run: a depot hall is kept at `hallC` when colder outside. */

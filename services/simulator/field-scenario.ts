@@ -82,7 +82,12 @@ export function planFieldFleet(opts: FieldFleetOptions): SimVehicle[] {
       const onsetMs = opts.startMs + Math.round(onsetDay(opts.days, rng) * 24) * (DAY_MS / 24);
       const severity = Math.round(rng.uniform(0.5, 1) * 100) / 100;
       const ramp = rng.uniform(RAMP_DAYS[0], RAMP_DAYS[1]);
-      faults.push({ kind, onsetMs, severity, ...(on.gradualFaults && rng.chance(GRADUAL_SHARE) ? { rampDays: Math.round(ramp) } : {}) });
+      faults.push({
+        kind,
+        onsetMs,
+        severity,
+        ...(on.gradualFaults && rng.chance(GRADUAL_SHARE) ? { rampDays: Math.round(ramp) } : {}),
+      });
     }
     const v = buildVehicle(id, fleetId, depots[climate], duty, rng, faults);
     v.variation = drawVariation(varRng, v, on);

@@ -68,7 +68,14 @@ export interface VariationSwitches {
   gradualFaults: boolean;
 }
 
-export const ALL_VARIATION: Readonly<VariationSwitches> = Object.freeze({ soak: true, profiles: true, duty: true, weather: true, sampling: true, gradualFaults: true });
+export const ALL_VARIATION: Readonly<VariationSwitches> = Object.freeze({
+  soak: true,
+  profiles: true,
+  duty: true,
+  weather: true,
+  sampling: true,
+  gradualFaults: true,
+});
 
 /** Sample periods a gateway is configured with, s, and how common each is. */
 const SAMPLE_PERIODS_S = [1, 2, 5, 10, 15, 30, 60] as const;
@@ -98,7 +105,11 @@ function pick<T>(values: readonly T[], weights: readonly number[], rng: Rng): T 
  * group off leaves the others' draws unchanged.
  * @example drawVariation(rng, { climate: 'cold', duty: 'bus', engineFamily: 'Halvern M7' }, ALL_VARIATION)
  */
-export function drawVariation(rng: Rng, v: { climate: Climate; duty: Duty; engineFamily: string }, on: VariationSwitches): FieldVariation {
+export function drawVariation(
+  rng: Rng,
+  v: { climate: Climate; duty: Duty; engineFamily: string },
+  on: VariationSwitches,
+): FieldVariation {
   const heavy = v.duty === 'long-haul' || v.duty === 'bus';
   const hotHeavy = heavy && v.climate === 'hot';
   const soakH = heavy ? rng.uniform(3, 6) : rng.uniform(1.5, 3.5);
@@ -127,7 +138,13 @@ export function drawVariation(rng: Rng, v: { climate: Climate; duty: Duty; engin
     ambientHeatSoakC: on.soak ? heatSoak : 0,
     ambientSunC: on.soak && v.climate !== 'cold' ? sun : 0,
     thermostatOffsetC: on.profiles ? offset : 0,
-    profile: !on.profiles ? 'exact' : p < NO_PROFILE_SHARE ? 'none' : p < NO_PROFILE_SHARE + WRONG_FAMILY_SHARE ? 'wrong-family' : 'exact',
+    profile: !on.profiles
+      ? 'exact'
+      : p < NO_PROFILE_SHARE
+        ? 'none'
+        : p < NO_PROFILE_SHARE + WRONG_FAMILY_SHARE
+          ? 'wrong-family'
+          : 'exact',
     registeredFamily: on.profiles ? wrong : v.engineFamily,
     payloadFullRange: on.duty,
     hillyDayChance: on.duty ? hilly : 0,

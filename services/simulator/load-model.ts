@@ -50,7 +50,9 @@ export class LoadModel {
     const f = this.f;
     const m = this.massKg;
     const force =
-      m * GRAVITY_MPS2 * (f.rollingResistance + grade) + 0.5 * AIR_DENSITY_KG_M3 * f.dragAreaM2 * speedMps * speedMps + m * accelMps2;
+      m * GRAVITY_MPS2 * (f.rollingResistance + grade) +
+      0.5 * AIR_DENSITY_KG_M3 * f.dragAreaM2 * speedMps * speedMps +
+      m * accelMps2;
     const acc = f.accessoryPowerW + (acOn ? f.acPowerW : 0);
     let traction = speedMps > 0 ? (force * speedMps) / DRIVELINE_EFFICIENCY : 0;
     if (traction < 0) traction = 0;

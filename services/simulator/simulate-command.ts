@@ -73,7 +73,12 @@ export async function writeSimulation(
   outDir: string,
   onProgress: (line: string) => void = () => {},
 ): Promise<SimulateResult> {
-  const opts = { startMs: req.startMs, days: req.days, seed: req.seed, samplePeriodS: req.samplePeriodS ?? DEFAULT_SAMPLE_PERIOD_S };
+  const opts = {
+    startMs: req.startMs,
+    days: req.days,
+    seed: req.seed,
+    samplePeriodS: req.samplePeriodS ?? DEFAULT_SAMPLE_PERIOD_S,
+  };
   const fleet = planFleet({ ...opts, vehicles: req.vehicles, scenario: req.scenario ?? 'demo' });
   await mkdir(outDir, { recursive: true });
   await writeFile(join(outDir, 'vehicles.json'), `${JSON.stringify(fleet.map(profileOf), null, 2)}\n`);
@@ -99,7 +104,9 @@ export async function writeSimulation(
     if (now - lastProgress >= PROGRESS_EVERY_MS || i === fleet.length - 1) {
       lastProgress = now;
       const rate = Math.round(readings / ((now - t0) / 1000));
-      onProgress(`simulate: ${i + 1}/${fleet.length} vehicles, ${readings.toLocaleString('en')} readings, ${rate.toLocaleString('en')} readings/s`);
+      onProgress(
+        `simulate: ${i + 1}/${fleet.length} vehicles, ${readings.toLocaleString('en')} readings, ${rate.toLocaleString('en')} readings/s`,
+      );
     }
   }
   out.end();
@@ -164,9 +171,11 @@ export async function run(argv: string[]): Promise<number> {
     const startMs = /^\d{4}-\d{2}-\d{2}$/.test(start) ? Date.parse(`${start}T00:00:00Z`) : Number.NaN;
     if (Number.isNaN(startMs)) throw new RangeError(`--start must be a date YYYY-MM-DD, got '${start}'`);
     const scenario = values.scenario ?? 'demo';
-    if (scenario !== 'demo' && scenario !== 'evaluation') throw new RangeError(`--scenario must be demo or evaluation, got '${scenario}'`);
+    if (scenario !== 'demo' && scenario !== 'evaluation')
+      throw new RangeError(`--scenario must be demo or evaluation, got '${scenario}'`);
     const as = values.as ?? 'readings';
-    if (as !== 'readings' && as !== 'j1939' && as !== 'obd') throw new RangeError(`--as must be readings, j1939 or obd, got '${as}'`);
+    if (as !== 'readings' && as !== 'j1939' && as !== 'obd')
+      throw new RangeError(`--as must be readings, j1939 or obd, got '${as}'`);
     const req: SimulateRequest = {
       as,
       vehicles: positiveNumber('vehicles', values.vehicles, 36, true),

@@ -79,14 +79,23 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
   const linkRng = new Rng(hashSeed(opts.seed, `link:${key}`));
   const offsetMs = (v.utcOffsetHours ?? 0) * HOUR_MS;
   const fv = v.variation;
-  const anomalies = fv?.weatherEvents ? drawWeatherEvents(v.climate, opts.startMs, opts.days, new Rng(hashSeed(opts.seed, `weather-events:${v.depot}`))) : [];
-  const weather = new AmbientModel(v.climate, v.utcOffsetHours ?? 0, hashSeed(opts.seed, `weather:${v.depot}`), anomalies);
+  const anomalies = fv?.weatherEvents
+    ? drawWeatherEvents(v.climate, opts.startMs, opts.days, new Rng(hashSeed(opts.seed, `weather-events:${v.depot}`)))
+    : [];
+  const weather = new AmbientModel(
+    v.climate,
+    v.utcOffsetHours ?? 0,
+    hashSeed(opts.seed, `weather:${v.depot}`),
+    anomalies,
+  );
   const load = new LoadModel(family, family.vehicleMassKg);
   const params = thermalParamsFor(family, ratedCoolantHeatW(family), v.thermostatOpenC);
   if (fv) {
     // The valve opens off its rating; the fan setpoints and the radiator stay as designed.
     params.thermostatOpenC += fv.thermostatOffsetC;
-    if (fv.soakTimeConstantH !== null) params.soakLossWPerK = (params.metalHeatCapacityJPerK + params.coolantHeatCapacityJPerK) / (fv.soakTimeConstantH * 3600);
+    if (fv.soakTimeConstantH !== null)
+      params.soakLossWPerK =
+        (params.metalHeatCapacityJPerK + params.coolantHeatCapacityJPerK) / (fv.soakTimeConstantH * 3600);
   }
   const cs = new CoolingSystem(params, weather.at(opts.startMs));
   const drive = new DriveCycle(DRIVE_PROFILES[v.duty], driveRng);
@@ -95,7 +104,12 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
   const ambientBiasC = sensorRng.uniform(-0.5, 0.5);
   const shiftStartS = usualShiftStartS(v.duty, scheduleRng);
   const field = fv
-    ? new FieldConditions(fv, new Rng(hashSeed(opts.seed, `field-day:${key}`)), new Rng(hashSeed(opts.seed, `clock:${key}`)), family.ratedPowerW)
+    ? new FieldConditions(
+        fv,
+        new Rng(hashSeed(opts.seed, `field-day:${key}`)),
+        new Rng(hashSeed(opts.seed, `clock:${key}`)),
+        family.ratedPowerW,
+      )
     : undefined;
   const healthyAirFactor = fv?.radiatorAirFactor ?? 1;
 
@@ -118,12 +132,15 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
     const dayOfWeek = new Date(midnight + offsetMs).getUTCDay();
     const today = field?.day();
     if (!worksOn(v.duty, dayOfWeek, scheduleRng)) continue;
-    load.massKg = family.vehicleMassKg + family.payloadMaxKg * (fv?.payloadFullRange ? scheduleRng.uniform(0, 1) : scheduleRng.uniform(0.2, 1));
+    load.massKg =
+      family.vehicleMassKg +
+      family.payloadMaxKg * (fv?.payloadFullRange ? scheduleRng.uniform(0, 1) : scheduleRng.uniform(0.2, 1));
     drive.gradeScale = today?.gradeScale ?? 1;
     const runs = planDay(v.duty, shiftStartS, scheduleRng);
     const spell = today?.idleSpell;
     const middle = runs[runs.length >> 1];
-    if (spell && middle?.legs[0]) middle.legs[0] = { ...middle.legs[0], idleS: middle.legs[0].idleS + spell.idleS, ptoW: spell.ptoW };
+    if (spell && middle?.legs[0])
+      middle.legs[0] = { ...middle.legs[0], idleS: middle.legs[0].idleS + spell.idleS, ptoW: spell.ptoW };
     let firstOfDay = true;
     for (const run of runs) {
       const startMs = Math.round((midnight + run.startS * 1000) / 1000) * 1000;
@@ -161,14 +178,19 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
           const speed = driving ? drive.speedMps : 0;
           const acOn = ambientC > AC_ON_ABOVE_C;
           const rpm = load.rpm(speed);
-          const shaft = driving ? load.shaftPowerW(speed, drive.accelMps2, drive.grade, acOn) : load.shaftPowerW(0, 0, 0, acOn) + (leg.ptoW ?? 0);
+          const shaft = driving
+            ? load.shaftPowerW(speed, drive.accelMps2, drive.grade, acOn)
+            : load.shaftPowerW(0, 0, 0, acOn) + (leg.ptoW ?? 0);
           const coolantC = cs.run(dtS, load.heatToCoolantW(rpm, shaft), speed, rpm, ambientC, acOn);
           tMs += dtMs;
           if (++stepIndex % stepsPerSample !== 0) continue;
           if (link.lost(tMs, periodS)) continue;
           const pickup = speed < 8 ? AMBIENT_HEAT_PICKUP_C * (1 - speed / 8) * clamp01((coolantC - ambientC) / 60) : 0;
           // Drawn before the sensor may drop the sample, so the clock stream does not depend on faults.
-          const airC = field ? field.ambientSensorC(ambientC, pickup, speed, localHour(tMs, v.utcOffsetHours ?? 0), periodS) + ambientBiasC : ambientC + ambientBiasC + pickup;
+          const airC = field
+            ? field.ambientSensorC(ambientC, pickup, speed, localHour(tMs, v.utcOffsetHours ?? 0), periodS) +
+              ambientBiasC
+            : ambientC + ambientBiasC + pickup;
           const ts = field ? field.timestamp(tMs, periodS) : tMs;
           const reported = sensor.read(coolantC, tMs);
           if (reported !== reported) continue; // NaN: the ECU flagged the value, no sample
@@ -178,7 +200,8 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
           buf.speedKph[n] = Math.round(speed * 3.6);
           buf.rpm[n] = Math.round(speed > 0 ? rpm : rpm + RPM_JITTER_SD * sensorRng.normal());
           buf.coolantTrue[n] = coolantC;
-          buf.coolantLevelPct![n] = Math.round((cs.coolantLevel * 100) / COOLANT_LEVEL_RESOLUTION_PCT) * COOLANT_LEVEL_RESOLUTION_PCT;
+          buf.coolantLevelPct![n] =
+            Math.round((cs.coolantLevel * 100) / COOLANT_LEVEL_RESOLUTION_PCT) * COOLANT_LEVEL_RESOLUTION_PCT;
           if (++n === CHUNK_SAMPLES) {
             yield buf;
             buf = newChunk(CHUNK_SAMPLES);
@@ -192,7 +215,13 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
 }
 
 /** Parks the engine from fromMs to toMs (epoch ms), soaking towards `sink(air)` (default the air); returns toMs. */
-function soakUntil(cs: CoolingSystem, weather: AmbientModel, fromMs: number, toMs: number, sink?: (airC: number) => number): number {
+function soakUntil(
+  cs: CoolingSystem,
+  weather: AmbientModel,
+  fromMs: number,
+  toMs: number,
+  sink?: (airC: number) => number,
+): number {
   let t = fromMs;
   while (t < toMs) {
     const stepS = Math.min(SOAK_STEP_S, (toMs - t) / 1000);

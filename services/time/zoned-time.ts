@@ -21,8 +21,15 @@ function formatter(timeZone: string): Intl.DateTimeFormat {
   let f = formatters.get(timeZone);
   if (!f) {
     f = new Intl.DateTimeFormat('en-US', {
-      timeZone, hourCycle: 'h23', weekday: 'short',
-      year: 'numeric', month: 'numeric', day: 'numeric', hour: 'numeric', minute: 'numeric', second: 'numeric',
+      timeZone,
+      hourCycle: 'h23',
+      weekday: 'short',
+      year: 'numeric',
+      month: 'numeric',
+      day: 'numeric',
+      hour: 'numeric',
+      minute: 'numeric',
+      second: 'numeric',
     });
     formatters.set(timeZone, f);
   }
@@ -44,8 +51,12 @@ export function zonedParts(ms: number, timeZone: string): ZonedParts {
   const out: Record<string, string> = {};
   for (const p of formatter(timeZone).formatToParts(new Date(ms))) out[p.type] = p.value;
   return {
-    year: Number(out.year), month: Number(out.month), day: Number(out.day),
-    hour: Number(out.hour), minute: Number(out.minute), second: Number(out.second),
+    year: Number(out.year),
+    month: Number(out.month),
+    day: Number(out.day),
+    hour: Number(out.hour),
+    minute: Number(out.minute),
+    second: Number(out.second),
     weekday: WEEKDAYS[out.weekday ?? ''] ?? 0,
   };
 }

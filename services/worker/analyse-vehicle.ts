@@ -89,21 +89,36 @@ export interface PreparedVehicle {
 }
 
 /** Step 1 of a pass, for a batch of leased vehicles at once: each one's window and the readings that bound it. */
-export async function prepareVehicles(handle: DatabaseHandle, leases: readonly Lease[], nowMs: number): Promise<PreparedVehicle[]> {
+export async function prepareVehicles(
+  handle: DatabaseHandle,
+  leases: readonly Lease[],
+  nowMs: number,
+): Promise<PreparedVehicle[]> {
   const startedAt = Date.now();
   const store = createAnalysisStore(handle.db);
   const states = await store.vehicleStates(leases.map((l) => l.vehicleId));
-  const starts = await store.extendOverStoredRuns(leases.map((lease, k) => {
-    const state = states[k]!;
-    const dirtyDay = Number.isFinite(lease.windowFromMs) ? utcDayStartMs(lease.windowFromMs) : Infinity;
-    let fromMs = Math.min(state.resumeFromMs ?? Infinity, dirtyDay);
-    if (!Number.isFinite(fromMs)) fromMs = utcDayStartMs(state.lastReadingMs ?? nowMs);
-    return { vehicleId: lease.vehicleId, fromMs, gapMs: resolveConfig(state.profile.engineFamily).runGapS * 1000 };
-  }));
-  const bounds = await windowBounds(handle, leases.map((lease, k) => ({ vehicleId: lease.vehicleId, fromMs: starts[k]! })));
+  const starts = await store.extendOverStoredRuns(
+    leases.map((lease, k) => {
+      const state = states[k]!;
+      const dirtyDay = Number.isFinite(lease.windowFromMs) ? utcDayStartMs(lease.windowFromMs) : Infinity;
+      let fromMs = Math.min(state.resumeFromMs ?? Infinity, dirtyDay);
+      if (!Number.isFinite(fromMs)) fromMs = utcDayStartMs(state.lastReadingMs ?? nowMs);
+      return { vehicleId: lease.vehicleId, fromMs, gapMs: resolveConfig(state.profile.engineFamily).runGapS * 1000 };
+    }),
+  );
+  const bounds = await windowBounds(
+    handle,
+    leases.map((lease, k) => ({ vehicleId: lease.vehicleId, fromMs: starts[k]! })),
+  );
   return leases.map((_, k) => {
     const { lastMs, beforeMs } = bounds[k]!;
-    return { startedAt, state: states[k]!, windowFromMs: starts[k]!, lastMs, previousRunEndMs: lastMs === undefined ? undefined : beforeMs };
+    return {
+      startedAt,
+      state: states[k]!,
+      windowFromMs: starts[k]!,
+      lastMs,
+      previousRunEndMs: lastMs === undefined ? undefined : beforeMs,
+    };
   });
 }
 
@@ -132,7 +147,11 @@ export class WindowAnalysis {
    *   midnights); memory is bounded by one slice of readings. Doubled when one run outlasts it.
    * @param nowMs wall clock: a trailing run quiet for longer than the run gap is closed.
    */
-  constructor(private readonly p: PreparedVehicle, private sliceMs: number, private readonly nowMs: number) {
+  constructor(
+    private readonly p: PreparedVehicle,
+    private sliceMs: number,
+    private readonly nowMs: number,
+  ) {
     this.from = p.windowFromMs;
     this.readFrom = p.windowFromMs;
     this.previousRunEndMs = p.previousRunEndMs;
@@ -147,7 +166,11 @@ export class WindowAnalysis {
    */
   nextSlice(): { fromMs: number; toMs: number; prefix?: SampleArrays } | undefined {
     if (this.done) return undefined;
-    return { fromMs: this.readFrom, toMs: sliceEnd(this.from, this.sliceMs, this.p.lastMs!), ...(this.carry ? { prefix: this.carry } : {}) };
+    return {
+      fromMs: this.readFrom,
+      toMs: sliceEnd(this.from, this.sliceMs, this.p.lastMs!),
+      ...(this.carry ? { prefix: this.carry } : {}),
+    };
   }
 
   /**
@@ -162,7 +185,15 @@ export class WindowAnalysis {
     this.carry = undefined;
     this.readFrom = toMs;
     const previousRunEndMs = this.previousRunEndMs;
-    const a = analyseSamples({ ...arrays, ...(previousRunEndMs !== undefined ? { previousRunEndMs } : {}), ...(last ? { nowMs: this.nowMs } : {}) }, this.p.state.profile, this.cfg);
+    const a = analyseSamples(
+      {
+        ...arrays,
+        ...(previousRunEndMs !== undefined ? { previousRunEndMs } : {}),
+        ...(last ? { nowMs: this.nowMs } : {}),
+      },
+      this.p.state.profile,
+      this.cfg,
+    );
     const stored = (x: { truncatedStart: boolean }) => !x.truncatedStart;
     if (last) {
       this.fresh.runs.push(...a.runs.filter(stored));
@@ -209,7 +240,12 @@ function sliceEnd(fromMs: number, sliceMs: number, lastMs: number): number {
 }
 
 /** Steps 3 and 4 of a pass, once the window has been analysed. */
-export async function writeVehicle(ctx: AnalyseContext, lease: Lease, p: PreparedVehicle, analysis: WindowAnalysis): Promise<VehicleOutcome> {
+export async function writeVehicle(
+  ctx: AnalyseContext,
+  lease: Lease,
+  p: PreparedVehicle,
+  analysis: WindowAnalysis,
+): Promise<VehicleOutcome> {
   const { handle, queue, workerId } = ctx;
   const store = createAnalysisStore(handle.db);
   const { state, lastMs } = p;
@@ -223,23 +259,53 @@ export async function writeVehicle(ctx: AnalyseContext, lease: Lease, p: Prepare
   const runs = [...history.runs, ...fresh.runs].filter(closed);
   const openRunStarts = new Set([...history.runs, ...fresh.runs].filter((r) => r.open).map((r) => r.startMs));
   const days: DayAggregate[] = [...history.days, ...fresh.days];
-  const sensorEvents: SensorEvent[] = [...history.sensorEvents, ...fresh.sensorEvents].filter((e) => !openRunStarts.has(e.runStartMs));
+  const sensorEvents: SensorEvent[] = [...history.sensorEvents, ...fresh.sensorEvents].filter(
+    (e) => !openRunStarts.has(e.runStartMs),
+  );
   const peer = asOfMs === null ? null : await ctx.peers.forAnalysis(state.profile.engineFamily, asOfMs);
-  const derived = asOfMs === null ? [] : deriveFindings({ runs, days, sensorEvents }, state.profile, { now: asOfMs, peer, serviceEvents: history.serviceEvents }, cfg);
+  const derived =
+    asOfMs === null
+      ? []
+      : deriveFindings(
+          { runs, days, sensorEvents },
+          state.profile,
+          { now: asOfMs, peer, serviceEvents: history.serviceEvents },
+          cfg,
+        );
   const lastClosed = runs.length > 0 ? runs[runs.length - 1]!.endMs : null;
 
   return handle.db.transaction().execute(async (trx) => {
     if (!(await queue.holds(workerId, lease.vehicleId, trx))) throw new LeaseLostError(lease.vehicleId);
     await store.replaceFrom(trx, lease.vehicleId, windowFrom, fresh);
     if (asOfMs !== null) {
-      await syncFindings(trx, { vehicleId: lease.vehicleId, fleetId: lease.fleetId, asOfMs, derived, quietPeriodMs: cfg.findingStaleDays * DAY_MS });
+      await syncFindings(trx, {
+        vehicleId: lease.vehicleId,
+        fleetId: lease.fleetId,
+        asOfMs,
+        derived,
+        quietPeriodMs: cfg.findingStaleDays * DAY_MS,
+      });
     }
     await store.recordPass(trx, {
-      vehicleId: lease.vehicleId, fleetId: lease.fleetId, resumeFromMs, lastRunEndMs: lastClosed, lastReadingMs: asOfMs, readings,
+      vehicleId: lease.vehicleId,
+      fleetId: lease.fleetId,
+      resumeFromMs,
+      lastRunEndMs: lastClosed,
+      lastReadingMs: asOfMs,
+      readings,
     });
     const riskScore = (await refreshVehicleRisk(trx, lease.vehicleId)) ?? 0;
     const finished = await queue.finish(workerId, lease, trx);
     if (finished === 'lost') throw new LeaseLostError(lease.vehicleId);
-    return { vehicleId: lease.vehicleId, fleetId: lease.fleetId, readings, windowFromMs: windowFrom, asOfMs, findings: derived.length, riskScore, queue: finished };
+    return {
+      vehicleId: lease.vehicleId,
+      fleetId: lease.fleetId,
+      readings,
+      windowFromMs: windowFrom,
+      asOfMs,
+      findings: derived.length,
+      riskScore,
+      queue: finished,
+    };
   });
 }

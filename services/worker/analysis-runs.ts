@@ -45,7 +45,10 @@ export class AnalysisRuns {
   private readonly queue;
   private readonly peers;
 
-  constructor(private readonly handle: DatabaseHandle, private readonly options: { leaseMs: number; batchSize: number; logger?: WorkerLogger }) {
+  constructor(
+    private readonly handle: DatabaseHandle,
+    private readonly options: { leaseMs: number; batchSize: number; logger?: WorkerLogger },
+  ) {
     this.queue = createQueueRepository(handle.db);
     this.peers = new PeerBaselines(handle.db);
   }
@@ -53,8 +56,17 @@ export class AnalysisRuns {
   /** Starts a run; `done` settles when it has finished (it never rejects: failures are in the run). */
   start(fleetId: string | null): { run: AnalysisRun; done: Promise<AnalysisRun> } {
     const run: AnalysisRun = {
-      runId: randomUUID(), fleetId, status: 'running', startedAt: new Date().toISOString(), finishedAt: null,
-      vehiclesAnalysed: 0, readingsAnalysed: 0, vehiclesFailed: 0, failures: [], openFindings: null, error: null,
+      runId: randomUUID(),
+      fleetId,
+      status: 'running',
+      startedAt: new Date().toISOString(),
+      finishedAt: null,
+      vehiclesAnalysed: 0,
+      readingsAnalysed: 0,
+      vehiclesFailed: 0,
+      failures: [],
+      openFindings: null,
+      error: null,
     };
     this.runs.set(run.runId, run);
     while (this.runs.size > KEPT_RUNS) this.runs.delete(this.runs.keys().next().value!);
@@ -83,10 +95,17 @@ export class AnalysisRuns {
     try {
       const waitUntil = Date.now() + this.options.leaseMs;
       while (!this.closing) {
-        const leased = await this.queue.lease(workerId, this.options.batchSize, this.options.leaseMs, { ...(fleet ? { fleetId: fleet } : {}), ignoreBackoff: true });
+        const leased = await this.queue.lease(workerId, this.options.batchSize, this.options.leaseMs, {
+          ...(fleet ? { fleetId: fleet } : {}),
+          ignoreBackoff: true,
+        });
         const over = leased.filter((l) => (passes.get(l.vehicleId) ?? 0) >= MAX_PASSES_PER_VEHICLE);
         const leases = leased.filter((l) => !over.includes(l));
-        if (over.length > 0) await this.queue.release(workerId, over.map((l) => l.vehicleId));
+        if (over.length > 0)
+          await this.queue.release(
+            workerId,
+            over.map((l) => l.vehicleId),
+          );
         if (leases.length === 0) {
           if (over.length > 0) break;
           // Nothing leasable: wait for vehicles of this fleet that other workers hold right now.
@@ -95,9 +114,19 @@ export class AnalysisRuns {
           await delay(OTHERS_POLL_MS);
           continue;
         }
-        const summary = await processLeases({
-          handle: this.handle, queue: this.queue, peers: this.peers, workerId, leaseMs: this.options.leaseMs, logger, stopRequested: () => this.closing, buffers,
-        }, leases);
+        const summary = await processLeases(
+          {
+            handle: this.handle,
+            queue: this.queue,
+            peers: this.peers,
+            workerId,
+            leaseMs: this.options.leaseMs,
+            logger,
+            stopRequested: () => this.closing,
+            buffers,
+          },
+          leases,
+        );
         for (const l of leases) passes.set(l.vehicleId, (passes.get(l.vehicleId) ?? 0) + 1);
         for (const failed of summary.failed) passes.set(failed.vehicleId, MAX_PASSES_PER_VEHICLE);
         run.vehiclesAnalysed += summary.analysed.length;
@@ -106,7 +135,9 @@ export class AnalysisRuns {
         run.failures.push(...summary.failed);
       }
       const open = await sql<{ n: number }>`
-        select count(*)::int as n from findings where status = 'open' and (${fleet ?? null}::text is null or fleet_id = ${fleet ?? null})`.execute(this.handle.db);
+        select count(*)::int as n from findings where status = 'open' and (${fleet ?? null}::text is null or fleet_id = ${fleet ?? null})`.execute(
+        this.handle.db,
+      );
       run.openFindings = open.rows[0]?.n ?? 0;
       run.status = 'succeeded';
     } catch (err) {

@@ -1,5 +1,13 @@
 import type { DatabaseHandle } from '../db/database.js';
-import { LeaseLostError, prepareVehicles, WindowAnalysis, WINDOW_SLICE_DAYS, writeVehicle, type PreparedVehicle, type VehicleOutcome } from './analyse-vehicle.js';
+import {
+  LeaseLostError,
+  prepareVehicles,
+  WindowAnalysis,
+  WINDOW_SLICE_DAYS,
+  writeVehicle,
+  type PreparedVehicle,
+  type VehicleOutcome,
+} from './analyse-vehicle.js';
 import type { PeerBaselines } from '../db/peer-baselines-repository.js';
 import type { Lease, QueueRepository } from '../db/analysis-queue-repository.js';
 import { WindowBuffers } from '../db/pg-wire/binary-window-decoder.js';
@@ -81,16 +89,29 @@ export async function processLeases(ctx: ProcessContext, leases: readonly Lease[
       ctx.logger.warn({ workerId: ctx.workerId, vehicleId: lease.vehicleId }, err.message);
       return;
     }
-    ctx.logger.error({ err, workerId: ctx.workerId, vehicleId: lease.vehicleId, attempts: lease.attempts }, 'vehicle analysis failed; retrying after backoff');
-    await ctx.queue.fail(ctx.workerId, lease.vehicleId, message(err)).catch((e: unknown) =>
-      ctx.logger.error({ err: e, vehicleId: lease.vehicleId }, 'could not record the failure; the lease will expire instead'));
+    ctx.logger.error(
+      { err, workerId: ctx.workerId, vehicleId: lease.vehicleId, attempts: lease.attempts },
+      'vehicle analysis failed; retrying after backoff',
+    );
+    await ctx.queue
+      .fail(ctx.workerId, lease.vehicleId, message(err))
+      .catch((e: unknown) =>
+        ctx.logger.error(
+          { err: e, vehicleId: lease.vehicleId },
+          'could not record the failure; the lease will expire instead',
+        ),
+      );
   };
   // Leases are extended when a quarter of the lease period has passed since the last extension.
   let extendedAt = -Infinity;
   const heartbeat = async (passes: readonly { lease: Lease }[]) => {
     if (Date.now() - extendedAt < ctx.leaseMs / 4) return;
     extendedAt = Date.now();
-    await ctx.queue.extend(ctx.workerId, passes.map((p) => p.lease.vehicleId), ctx.leaseMs);
+    await ctx.queue.extend(
+      ctx.workerId,
+      passes.map((p) => p.lease.vehicleId),
+      ctx.leaseMs,
+    );
   };
 
   if (ctx.stopRequested()) {
@@ -106,9 +127,15 @@ export async function processLeases(ctx: ProcessContext, leases: readonly Lease[
     for (const lease of leases) await failed(lease, err);
   }
   const reading = prepared.filter((p) => p.prepared.lastMs !== undefined).length;
-  const sliceDays = Math.max(1, Math.min(WINDOW_SLICE_DAYS, Math.floor(BATCH_READ_VEHICLE_DAYS / Math.max(1, reading))));
+  const sliceDays = Math.max(
+    1,
+    Math.min(WINDOW_SLICE_DAYS, Math.floor(BATCH_READ_VEHICLE_DAYS / Math.max(1, reading))),
+  );
   const groupSize = Math.max(1, Math.floor(BATCH_READ_VEHICLE_DAYS / sliceDays));
-  let open: Pass[] = prepared.map((p) => ({ ...p, analysis: new WindowAnalysis(p.prepared, sliceDays * DAY_MS, nowMs) }));
+  let open: Pass[] = prepared.map((p) => ({
+    ...p,
+    analysis: new WindowAnalysis(p.prepared, sliceDays * DAY_MS, nowMs),
+  }));
   // Each round's arrays are analysed before the next round reads: one set of buffers serves them all.
   const buffers = ctx.buffers ?? new WindowBuffers();
 
@@ -127,7 +154,11 @@ export async function processLeases(ctx: ProcessContext, leases: readonly Lease[
     for (let g = 0; g < round.length; g += groupSize) {
       const group = round.slice(g, g + groupSize);
       try {
-        const arrays = await readWindows(ctx.handle, group.map((r) => r.window), buffers);
+        const arrays = await readWindows(
+          ctx.handle,
+          group.map((r) => r.window),
+          buffers,
+        );
         group.forEach(({ pass }, k) => {
           try {
             pass.analysis.consume(arrays[k]!);
@@ -151,12 +182,26 @@ export async function processLeases(ctx: ProcessContext, leases: readonly Lease[
     }
     await heartbeat(open.slice(i));
     try {
-      const outcome = await writeVehicle({ handle: ctx.handle, queue: ctx.queue, peers: ctx.peers, workerId: ctx.workerId, nowMs }, lease, p, analysis);
+      const outcome = await writeVehicle(
+        { handle: ctx.handle, queue: ctx.queue, peers: ctx.peers, workerId: ctx.workerId, nowMs },
+        lease,
+        p,
+        analysis,
+      );
       summary.analysed.push(outcome);
-      ctx.logger.info({
-        workerId: ctx.workerId, vehicleId: lease.vehicleId, startedAt: p.startedAt, finishedAt: Date.now(), readings: outcome.readings,
-        findings: outcome.findings, riskScore: outcome.riskScore, queue: outcome.queue,
-      }, 'vehicle analysed');
+      ctx.logger.info(
+        {
+          workerId: ctx.workerId,
+          vehicleId: lease.vehicleId,
+          startedAt: p.startedAt,
+          finishedAt: Date.now(),
+          readings: outcome.readings,
+          findings: outcome.findings,
+          riskScore: outcome.riskScore,
+          queue: outcome.queue,
+        },
+        'vehicle analysed',
+      );
     } catch (err) {
       await failed(lease, err);
     }

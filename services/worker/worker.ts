@@ -52,7 +52,15 @@ export class Worker {
 
   start(): void {
     if (this.loopDone) return;
-    this.logger.info({ workerId: this.id, pollMs: this.options.pollMs, leaseMs: this.options.leaseMs, batchSize: this.options.batchSize }, 'analysis worker started');
+    this.logger.info(
+      {
+        workerId: this.id,
+        pollMs: this.options.pollMs,
+        leaseMs: this.options.leaseMs,
+        batchSize: this.options.batchSize,
+      },
+      'analysis worker started',
+    );
     this.loopDone = this.loop();
   }
 
@@ -92,7 +100,8 @@ export class Worker {
         if (Date.now() - this.lastSweepMs >= leaseMs) {
           this.lastSweepMs = Date.now();
           const freed = await this.queue.sweepExpired();
-          if (freed.length > 0) this.logger.warn({ workerId: this.id, vehicles: freed }, 'released expired leases of stopped workers');
+          if (freed.length > 0)
+            this.logger.warn({ workerId: this.id, vehicles: freed }, 'released expired leases of stopped workers');
         }
         const leases = await this.queue.lease(this.id, batchSize, leaseMs);
         if (leases.length === 0) {
@@ -101,10 +110,19 @@ export class Worker {
           continue;
         }
         this.buffers ??= new WindowBuffers();
-        await processLeases({
-          handle, queue: this.queue, peers: this.peers, workerId: this.id, leaseMs, logger: this.logger,
-          stopRequested: () => this.stopping, buffers: this.buffers,
-        }, leases);
+        await processLeases(
+          {
+            handle,
+            queue: this.queue,
+            peers: this.peers,
+            workerId: this.id,
+            leaseMs,
+            logger: this.logger,
+            stopRequested: () => this.stopping,
+            buffers: this.buffers,
+          },
+          leases,
+        );
       } catch (err) {
         // The database is down or a query failed outside a vehicle: wait a poll period and retry.
         this.logger.error({ err, workerId: this.id }, 'analysis worker loop failed; retrying after the poll interval');

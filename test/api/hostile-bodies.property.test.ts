@@ -17,7 +17,14 @@ afterAll(async () => {
   expect(await serve?.stop()).toBe(0);
 });
 
-const CONTENT_TYPES = ['application/json', 'application/x-ndjson', 'text/csv', 'text/csv; charset=utf-8', 'application/xml', ''];
+const CONTENT_TYPES = [
+  'application/json',
+  'application/x-ndjson',
+  'text/csv',
+  'text/csv; charset=utf-8',
+  'application/xml',
+  '',
+];
 const line = fc.oneof(
   fc.constant(`{"vehicleId":"H-1","ts":${Date.now() - 3_600_000},"coolant":70}`),
   fc.constant('vehicleId,ts,coolant'),
@@ -39,7 +46,10 @@ const body = fc.record({
   contentType: fc.constantFrom(...CONTENT_TYPES),
 });
 
-function encode(b: { text: string; encoding: string; cut: number; flip: number }): { bytes: Buffer; header: string | undefined } {
+function encode(b: { text: string; encoding: string; cut: number; flip: number }): {
+  bytes: Buffer;
+  header: string | undefined;
+} {
   const plain = Buffer.from(b.text);
   if (b.encoding === 'identity') return { bytes: plain, header: undefined };
   const gz = gzipSync(plain);
@@ -66,7 +76,8 @@ describe('hostile ingest bodies', () => {
         const res = await request(serve.url, 'POST', `/v1/readings?fleet=${serve.fleetId}`, headers, bytes);
         expect(res.status, res.text).toBeGreaterThanOrEqual(200);
         expect(res.status, res.text).toBeLessThan(500);
-        if (res.status >= 400) expect(res.json).toEqual({ error: { code: expect.any(String), message: expect.any(String) } });
+        if (res.status >= 400)
+          expect(res.json).toEqual({ error: { code: expect.any(String), message: expect.any(String) } });
         expect(serve.alive, serve.stderr).toBe(true);
       }),
       {
@@ -76,8 +87,24 @@ describe('hostile ingest bodies', () => {
         examples: [
           [{ text: 'a,b\n1,2\n', encoding: 'gzip-truncated', cut: 0.86, flip: 0, contentType: 'text/csv' }],
           [{ text: 'a,b\n1,2\n'.repeat(50), encoding: 'gzip-truncated', cut: 0.5, flip: 0, contentType: 'text/csv' }],
-          [{ text: `x${'{"a":1}\n'.repeat(50)}`, encoding: 'gzip-truncated', cut: 0.6, flip: 0, contentType: 'application/json' }],
-          [{ text: `${'y'.repeat(300_000)}\n`, encoding: 'gzip-truncated', cut: 0.9, flip: 0, contentType: 'application/x-ndjson' }],
+          [
+            {
+              text: `x${'{"a":1}\n'.repeat(50)}`,
+              encoding: 'gzip-truncated',
+              cut: 0.6,
+              flip: 0,
+              contentType: 'application/json',
+            },
+          ],
+          [
+            {
+              text: `${'y'.repeat(300_000)}\n`,
+              encoding: 'gzip-truncated',
+              cut: 0.9,
+              flip: 0,
+              contentType: 'application/x-ndjson',
+            },
+          ],
         ],
       },
     );

@@ -13,16 +13,24 @@ beforeAll(async () => {
 });
 
 const BASE_MS = Math.floor((Date.now() - 3 * 86_400_000) / 60_000) * 60_000;
-const line = (vehicleId: string, k: number) => `{"vehicleId":"${vehicleId}","ts":${BASE_MS + k * 10_000},"coolant":${20 + (k % 70)}}`;
+const line = (vehicleId: string, k: number) =>
+  `{"vehicleId":"${vehicleId}","ts":${BASE_MS + k * 10_000},"coolant":${20 + (k % 70)}}`;
 
 async function post(lines: string[]) {
-  const res = await t.app.inject({ method: 'POST', url: '/v1/readings', headers: { ...t.auth(key), 'content-type': 'application/x-ndjson' }, payload: lines.join('\n') });
+  const res = await t.app.inject({
+    method: 'POST',
+    url: '/v1/readings',
+    headers: { ...t.auth(key), 'content-type': 'application/x-ndjson' },
+    payload: lines.join('\n'),
+  });
   expect(res.statusCode).toBe(200);
   return res.json() as { accepted: number; duplicates: number; rejected: unknown[] };
 }
 
 async function dirtyFrom(vehicleId: string): Promise<number | undefined> {
-  const r = await sql<{ dirty_from: Date }>`select dirty_from from analysis_queue where vehicle_id = ${vehicleId}`.execute(t.tdb.handle.db);
+  const r = await sql<{
+    dirty_from: Date;
+  }>`select dirty_from from analysis_queue where vehicle_id = ${vehicleId}`.execute(t.tdb.handle.db);
   return r.rows[0]?.dirty_from.getTime();
 }
 

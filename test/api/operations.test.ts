@@ -17,7 +17,10 @@ beforeAll(async () => {
 
 const HOUR_AGO_MS = Date.now() - 3_600_000;
 const ndjsonLines = (vehicleId: string, from: number, count: number) =>
-  Array.from({ length: count }, (_, i) => `{"vehicleId":"${vehicleId}","ts":${HOUR_AGO_MS + (from + i) * 100},"coolant":85}\n`).join('');
+  Array.from(
+    { length: count },
+    (_, i) => `{"vehicleId":"${vehicleId}","ts":${HOUR_AGO_MS + (from + i) * 100},"coolant":85}\n`,
+  ).join('');
 
 /** Prometheus text exposition format (prometheus.io, "Exposition formats"): sample lines by series. */
 function parseMetrics(text: string): Map<string, number> {
@@ -45,9 +48,19 @@ describe('GET /metrics', () => {
     const before = parseMetrics((await t.app.inject({ method: 'GET', url: '/metrics' })).body);
     const delta = (after: Map<string, number>, series: string) => (after.get(series) ?? 0) - (before.get(series) ?? 0);
     const body = `${ndjsonLines('M-1', 0, 3)}${ndjsonLines('M-1', 0, 1)}{"vehicleId":"M-1"}\n`;
-    const ok = await t.app.inject({ method: 'POST', url: '/v1/readings', headers: { ...t.auth(key), 'content-type': 'application/x-ndjson' }, payload: body });
+    const ok = await t.app.inject({
+      method: 'POST',
+      url: '/v1/readings',
+      headers: { ...t.auth(key), 'content-type': 'application/x-ndjson' },
+      payload: body,
+    });
     expect(ok.json()).toMatchObject({ accepted: 3, duplicates: 1 });
-    const refused = await t.app.inject({ method: 'POST', url: '/v1/readings', headers: { ...t.auth(key), 'content-type': 'text/plain' }, payload: 'x' });
+    const refused = await t.app.inject({
+      method: 'POST',
+      url: '/v1/readings',
+      headers: { ...t.auth(key), 'content-type': 'text/plain' },
+      payload: 'x',
+    });
     expect(refused.statusCode).toBe(415);
 
     const res = await t.app.inject({ method: 'GET', url: '/metrics' });
@@ -63,7 +76,9 @@ describe('GET /metrics', () => {
 
     // The histogram's buckets are cumulative and end at +Inf = _count.
     const series = 'method="POST",route="/v1/readings",status="200"';
-    const buckets = [...after].filter(([k]) => k.startsWith(`thermocline_http_request_duration_seconds_bucket{${series},`)).map(([, v]) => v);
+    const buckets = [...after]
+      .filter(([k]) => k.startsWith(`thermocline_http_request_duration_seconds_bucket{${series},`))
+      .map(([, v]) => v);
     expect(buckets.length).toBeGreaterThan(1);
     expect(buckets).toEqual([...buckets].sort((a, b) => a - b));
     expect(buckets.at(-1)).toBe(after.get(`thermocline_http_request_duration_seconds_count{${series}}`));
@@ -82,7 +97,12 @@ interface Operation {
 }
 
 describe('API documentation', () => {
-  let spec: { openapi: string; tags: Array<{ name: string }>; paths: Record<string, Record<string, Operation>>; components: { schemas: Record<string, unknown> } };
+  let spec: {
+    openapi: string;
+    tags: Array<{ name: string }>;
+    paths: Record<string, Record<string, Operation>>;
+    components: { schemas: Record<string, unknown> };
+  };
   beforeAll(async () => {
     const res = await t.app.inject({ method: 'GET', url: '/openapi.json' });
     expect(res.statusCode).toBe(200);
@@ -91,7 +111,9 @@ describe('API documentation', () => {
 
   it('describes every operation with tags, a summary, a success response and its parameters', () => {
     const declaredTags = new Set(spec.tags.map((tag) => tag.name));
-    const operations = Object.entries(spec.paths).flatMap(([path, methods]) => Object.entries(methods).map(([method, op]) => ({ path, method, op })));
+    const operations = Object.entries(spec.paths).flatMap(([path, methods]) =>
+      Object.entries(methods).map(([method, op]) => ({ path, method, op })),
+    );
     expect(operations.length).toBeGreaterThanOrEqual(6);
     for (const { path, method, op } of operations) {
       const where = `${method.toUpperCase()} ${path}`;
@@ -99,18 +121,28 @@ describe('API documentation', () => {
       for (const tag of op.tags!) expect(declaredTags.has(tag), `${where} tag ${tag}`).toBe(true);
       expect(op.summary, `${where} summary`).toBeTruthy();
       const statuses = Object.keys(op.responses);
-      expect(statuses.some((s) => /^2\d\d$/.test(s)), `${where} 2xx`).toBe(true);
+      expect(
+        statuses.some((s) => /^2\d\d$/.test(s)),
+        `${where} 2xx`,
+      ).toBe(true);
       for (const pathParam of path.match(/\{[^}]+\}/g) ?? []) {
         const name = pathParam.slice(1, -1);
-        expect(op.parameters?.find((p) => p.in === 'path' && p.name === name)?.schema, `${where} path parameter ${name}`).toBeDefined();
+        expect(
+          op.parameters?.find((p) => p.in === 'path' && p.name === name)?.schema,
+          `${where} path parameter ${name}`,
+        ).toBeDefined();
       }
-      if (op.requestBody) for (const [type, media] of Object.entries(op.requestBody.content)) expect(media.schema, `${where} body ${type}`).toBeDefined();
+      if (op.requestBody)
+        for (const [type, media] of Object.entries(op.requestBody.content))
+          expect(media.schema, `${where} body ${type}`).toBeDefined();
       if (op.security) {
         // An authenticated route can fail authentication, authorisation, the rate limit and the database.
         for (const s of ['401', '403', '429', '503']) expect(statuses, `${where} responses`).toContain(s);
       }
       for (const s of statuses.filter((x) => /^[45]/.test(x) && path !== '/readyz')) {
-        expect(op.responses[s]!.content?.['application/json']?.schema?.$ref, `${where} ${s} error body`).toMatch(/ErrorBody$/);
+        expect(op.responses[s]!.content?.['application/json']?.schema?.$ref, `${where} ${s} error body`).toMatch(
+          /ErrorBody$/,
+        );
       }
     }
     expect(spec.components.schemas.ErrorBody).toBeDefined();
@@ -118,18 +150,36 @@ describe('API documentation', () => {
 
   it('documents the bodies and queries of the ingest and vehicle routes', () => {
     const ingest = spec.paths['/v1/readings']!.post!;
-    expect(Object.keys(ingest.requestBody!.content).sort()).toEqual(['application/json', 'application/x-ndjson', 'text/csv']);
-    expect(Object.keys(ingest.responses)).toEqual(expect.arrayContaining(['200', '400', '401', '403', '413', '415', '429', '503']));
-    expect(ingest.parameters!.filter((p) => p.in === 'query').map((p) => p.name).sort()).toEqual(['fleet', 'unit']);
+    expect(Object.keys(ingest.requestBody!.content).sort()).toEqual([
+      'application/json',
+      'application/x-ndjson',
+      'text/csv',
+    ]);
+    expect(Object.keys(ingest.responses)).toEqual(
+      expect.arrayContaining(['200', '400', '401', '403', '413', '415', '429', '503']),
+    );
+    expect(
+      ingest
+        .parameters!.filter((p) => p.in === 'query')
+        .map((p) => p.name)
+        .sort(),
+    ).toEqual(['fleet', 'unit']);
     expect(spec.paths['/v1/vehicles/{vehicleId}']!.put!.requestBody).toBeDefined();
-    expect(Object.keys(spec.paths['/v1/vehicles/{vehicleId}']!.put!.responses)).toEqual(expect.arrayContaining(['200', '201', '400']));
-    expect(spec.paths['/v1/vehicles']!.get!.parameters!.filter((p) => p.in === 'query').map((p) => p.name).sort()).toEqual(['after', 'cursor', 'depot', 'fleet', 'limit', 'unit']);
+    expect(Object.keys(spec.paths['/v1/vehicles/{vehicleId}']!.put!.responses)).toEqual(
+      expect.arrayContaining(['200', '201', '400']),
+    );
+    expect(
+      spec.paths['/v1/vehicles']!.get!.parameters!.filter((p) => p.in === 'query')
+        .map((p) => p.name)
+        .sort(),
+    ).toEqual(['after', 'cursor', 'depot', 'fleet', 'limit', 'unit']);
     expect(Object.keys(spec.paths['/readyz']!.get!.responses).sort()).toEqual(['200', '503']);
   });
 
   it('serves the interactive documentation as HTML at /docs', async () => {
     let res = await t.app.inject({ method: 'GET', url: '/docs' });
-    if (res.statusCode >= 300 && res.statusCode < 400) res = await t.app.inject({ method: 'GET', url: res.headers.location as string });
+    if (res.statusCode >= 300 && res.statusCode < 400)
+      res = await t.app.inject({ method: 'GET', url: res.headers.location as string });
     expect(res.statusCode).toBe(200);
     expect(res.headers['content-type']).toMatch(/text\/html/);
     expect(res.body).toMatch(/<html/i);
@@ -151,7 +201,12 @@ describe('database outage during an ingest', () => {
     try {
       const k = await outage.createKey('fleet-o', ['ingest']);
       const headers = { ...outage.auth(k), 'content-type': 'application/x-ndjson' };
-      const committed = await outage.app.inject({ method: 'POST', url: '/v1/readings', headers, payload: ndjsonLines('O-1', 0, 10) });
+      const committed = await outage.app.inject({
+        method: 'POST',
+        url: '/v1/readings',
+        headers,
+        payload: ndjsonLines('O-1', 0, 10),
+      });
       expect(committed.json().accepted).toBe(10);
 
       let reply: Promise<LightMyRequestResponse>;
@@ -163,22 +218,36 @@ describe('database outage during an ingest', () => {
         if (!body.write(ndjsonLines('O-2', 0, 12_000))) await once(body, 'drain');
         const admin = new pg.Client({ connectionString: tdb.url });
         await admin.connect();
-        await admin.query('select pg_terminate_backend(pid) from pg_stat_activity where datname = current_database() and pid <> pg_backend_pid()');
+        await admin.query(
+          'select pg_terminate_backend(pid) from pg_stat_activity where datname = current_database() and pid <> pg_backend_pid()',
+        );
         await admin.end();
         body.end(ndjsonLines('O-2', 12_000, 100));
       } else {
         // PGlite's close() waits for a running transaction, so the embedded database cannot vanish
         // in the middle of one: here it is gone when the batch arrives.
         await tdb.handle.close();
-        reply = outage.app.inject({ method: 'POST', url: '/v1/readings', headers, payload: ndjsonLines('O-2', 0, 12_000) });
+        reply = outage.app.inject({
+          method: 'POST',
+          url: '/v1/readings',
+          headers,
+          payload: ndjsonLines('O-2', 0, 12_000),
+        });
       }
       const res = await reply;
       expect(res.statusCode).toBe(503);
-      expect(res.json()).toEqual({ error: { code: 'database_unavailable', message: expect.stringMatching(/nothing was stored/) } });
+      expect(res.json()).toEqual({
+        error: { code: 'database_unavailable', message: expect.stringMatching(/nothing was stored/) },
+      });
 
       if (tdb.url) {
         // The pool replaces the dead connections: the gateway's retry succeeds.
-        const retry = await outage.app.inject({ method: 'POST', url: '/v1/readings', headers, payload: ndjsonLines('O-3', 0, 5) });
+        const retry = await outage.app.inject({
+          method: 'POST',
+          url: '/v1/readings',
+          headers,
+          payload: ndjsonLines('O-3', 0, 5),
+        });
         expect(retry.json().accepted).toBe(5);
         expect(await countStored()).toBe(15);
       } else {

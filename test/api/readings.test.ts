@@ -16,8 +16,18 @@ interface IngestReply {
   rejected: Array<{ index: number; reason: string }>;
 }
 
-async function post(body: string | Buffer, contentType = 'application/json', extra: Record<string, string> = {}, query = '') {
-  return t.app.inject({ method: 'POST', url: `/v1/readings${query}`, headers: { ...t.auth(key), 'content-type': contentType, ...extra }, payload: body });
+async function post(
+  body: string | Buffer,
+  contentType = 'application/json',
+  extra: Record<string, string> = {},
+  query = '',
+) {
+  return t.app.inject({
+    method: 'POST',
+    url: `/v1/readings${query}`,
+    headers: { ...t.auth(key), 'content-type': contentType, ...extra },
+    payload: body,
+  });
 }
 
 function json(readings: unknown[], unit?: string): string {
@@ -34,7 +44,12 @@ const iso = (offsetS: number) => new Date(BASE_MS + offsetS * 1000).toISOString(
 
 describe('POST /v1/readings body formats', () => {
   it('stores a JSON batch and answers with the accepted count after commit', async () => {
-    const res = await post(json([{ vehicleId: 'J-1', ts: iso(0), coolant: 20.5, ambient: 4, speedKph: 0, rpm: 800 }, { vehicleId: 'J-1', ts: iso(10), coolant: 25 }]));
+    const res = await post(
+      json([
+        { vehicleId: 'J-1', ts: iso(0), coolant: 20.5, ambient: 4, speedKph: 0, rpm: 800 },
+        { vehicleId: 'J-1', ts: iso(10), coolant: 25 },
+      ]),
+    );
     expect(res.statusCode).toBe(200);
     expect(res.json()).toEqual({ accepted: 2, duplicates: 0, rejected: [] });
     const rows = await storedRows('J-1');
@@ -123,7 +138,11 @@ describe('units and timestamps', () => {
       { vehicleId: 'T-1', ts: String(BASE_MS + 9_000), coolant: 62 },
     ]);
     expect((await post(body)).json().accepted).toBe(3);
-    expect((await storedRows('T-1')).map((r) => r.ts.getTime())).toEqual([BASE_MS + 7_000, BASE_MS + 8_000, BASE_MS + 9_000]);
+    expect((await storedRows('T-1')).map((r) => r.ts.getTime())).toEqual([
+      BASE_MS + 7_000,
+      BASE_MS + 8_000,
+      BASE_MS + 9_000,
+    ]);
   });
 });
 
@@ -219,7 +238,10 @@ describe('malformed and oversized requests', () => {
     ['an array instead of an object', `[{"vehicleId":"M-1","ts":"${iso(0)}","coolant":70}]`],
     ['readings that are not an array', `{"readings":5}`],
     ['no readings field', `{"unit":"C"}`],
-    ['a field name with an escape JSON does not allow', `{"\\q":1,"readings":[{"vehicleId":"M-1","ts":"${iso(0)}","coolant":70}]}`],
+    [
+      'a field name with an escape JSON does not allow',
+      `{"\\q":1,"readings":[{"vehicleId":"M-1","ts":"${iso(0)}","coolant":70}]}`,
+    ],
     ['text after the object', `{"readings":[{"vehicleId":"M-1","ts":"${iso(0)}","coolant":70}]} trailing`],
   ])('answers 400 with the uniform body for %s and stores nothing', async (_name, body) => {
     const res = await post(body);
@@ -246,7 +268,10 @@ describe('malformed and oversized requests', () => {
   });
 
   it('answers 413 for more readings than one request may carry', async () => {
-    const body = Array.from({ length: t.config.maxReadingsPerRequest + 1 }, (_, i) => `L-2,${BASE_MS + i * 1000},80`).join('\n');
+    const body = Array.from(
+      { length: t.config.maxReadingsPerRequest + 1 },
+      (_, i) => `L-2,${BASE_MS + i * 1000},80`,
+    ).join('\n');
     const res = await post(`vehicleId,ts,coolant\n${body}\n`, 'text/csv');
     expect(res.statusCode).toBe(413);
     expect(await t.countReadings(['L-2'])).toBe(0);
@@ -265,19 +290,35 @@ describe('malformed and oversized requests', () => {
 });
 
 describe('side effects of an ingest', () => {
-  it('registers an unknown vehicle to the key\'s fleet with the default profile', async () => {
+  it("registers an unknown vehicle to the key's fleet with the default profile", async () => {
     await post(json([{ vehicleId: 'NEW-1', ts: iso(0), coolant: 70 }]));
-    const v = await t.tdb.handle.db.selectFrom('vehicles').selectAll().where('vehicle_id', '=', 'NEW-1').executeTakeFirstOrThrow();
-    expect([v.fleet_id, v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent]).toEqual(['fleet-r', 'unknown', 88, 100, 50]);
+    const v = await t.tdb.handle.db
+      .selectFrom('vehicles')
+      .selectAll()
+      .where('vehicle_id', '=', 'NEW-1')
+      .executeTakeFirstOrThrow();
+    expect([v.fleet_id, v.engine_family, v.thermostat_open_c, v.cap_pressure_kpa, v.glycol_percent]).toEqual([
+      'fleet-r',
+      'unknown',
+      88,
+      100,
+      50,
+    ]);
   });
 
   it('marks the vehicle for analysis from its earliest new reading, ignoring duplicates', async () => {
-    const queue = () => t.tdb.handle.db.selectFrom('analysis_queue').selectAll().where('vehicle_id', '=', 'Q-1').executeTakeFirst();
+    const queue = () =>
+      t.tdb.handle.db.selectFrom('analysis_queue').selectAll().where('vehicle_id', '=', 'Q-1').executeTakeFirst();
     await post(json([3, 1, 2].map((s) => ({ vehicleId: 'Q-1', ts: iso(s * 60), coolant: 70 }))));
     expect((await queue())?.dirty_from.toISOString()).toBe(iso(60));
     // The worker has analysed it; a retry of an old reading plus one new reading follows.
     await t.tdb.handle.db.deleteFrom('analysis_queue').where('vehicle_id', '=', 'Q-1').execute();
-    await post(json([{ vehicleId: 'Q-1', ts: iso(60), coolant: 70 }, { vehicleId: 'Q-1', ts: iso(240), coolant: 71 }]));
+    await post(
+      json([
+        { vehicleId: 'Q-1', ts: iso(60), coolant: 70 },
+        { vehicleId: 'Q-1', ts: iso(240), coolant: 71 },
+      ]),
+    );
     expect((await queue())?.dirty_from.toISOString()).toBe(iso(240));
     // Only duplicates: nothing new to analyse.
     await t.tdb.handle.db.deleteFrom('analysis_queue').where('vehicle_id', '=', 'Q-1').execute();
@@ -289,10 +330,21 @@ describe('side effects of an ingest', () => {
     const body = `{"vehicleId":"A-1","ts":"${iso(0)}","coolant":70}\n{"vehicleId":"A-2","ts":"${iso(0)}","coolant":70}\n{"vehicleId":"A-1","ts":"${iso(0)}","coolant":70}\nnope\n`;
     await post(body, 'application/x-ndjson');
     const keyId = key.split('_')[1];
-    const audit = await t.tdb.handle.db.selectFrom('ingest_audit').selectAll().where('key_id', '=', keyId!).orderBy('audit_id', 'desc').executeTakeFirstOrThrow();
-    expect([audit.fleet_id, audit.content_type, audit.accepted, audit.duplicates, audit.rejected, audit.vehicles, Number(audit.body_bytes)]).toEqual([
-      'fleet-r', 'ndjson', 2, 1, 1, 2, Buffer.byteLength(body),
-    ]);
+    const audit = await t.tdb.handle.db
+      .selectFrom('ingest_audit')
+      .selectAll()
+      .where('key_id', '=', keyId!)
+      .orderBy('audit_id', 'desc')
+      .executeTakeFirstOrThrow();
+    expect([
+      audit.fleet_id,
+      audit.content_type,
+      audit.accepted,
+      audit.duplicates,
+      audit.rejected,
+      audit.vehicles,
+      Number(audit.body_bytes),
+    ]).toEqual(['fleet-r', 'ndjson', 2, 1, 1, 2, Buffer.byteLength(body)]);
   });
 
   it('creates the partition of a back-filled old month and stores the reading in it', async () => {
@@ -301,29 +353,52 @@ describe('side effects of an ingest', () => {
     old.setUTCMonth(old.getUTCMonth() - 20, 14);
     const res = await post(json([{ vehicleId: 'B-1', ts: old.toISOString(), coolant: 20 }]));
     expect(res.json().accepted).toBe(1);
-    const part = await sql<{ part: string }>`select tableoid::regclass::text as part from readings where vehicle_id = 'B-1'`.execute(t.tdb.handle.db);
-    expect(part.rows).toEqual([{ part: `readings_y${old.getUTCFullYear()}m${String(old.getUTCMonth() + 1).padStart(2, '0')}` }]);
+    const part = await sql<{
+      part: string;
+    }>`select tableoid::regclass::text as part from readings where vehicle_id = 'B-1'`.execute(t.tdb.handle.db);
+    expect(part.rows).toEqual([
+      { part: `readings_y${old.getUTCFullYear()}m${String(old.getUTCMonth() + 1).padStart(2, '0')}` },
+    ]);
   });
 
   it('rejects, one by one, readings older than INGEST_MAX_AGE_DAYS and creates no partition for them', async () => {
-    const partitionsBefore = await sql<{ n: number }>`select count(*)::int as n from pg_inherits where inhparent = 'readings'::regclass`.execute(t.tdb.handle.db);
-    const readings = Array.from({ length: 40 }, (_, i) => ({ vehicleId: 'B-2', ts: Date.UTC(2001 + Math.floor(i / 12), i % 12, 15), coolant: 20 }));
+    const partitionsBefore = await sql<{
+      n: number;
+    }>`select count(*)::int as n from pg_inherits where inhparent = 'readings'::regclass`.execute(t.tdb.handle.db);
+    const readings = Array.from({ length: 40 }, (_, i) => ({
+      vehicleId: 'B-2',
+      ts: Date.UTC(2001 + Math.floor(i / 12), i % 12, 15),
+      coolant: 20,
+    }));
     readings.push({ vehicleId: 'B-2', ts: BASE_MS, coolant: 20 });
     const reply = (await post(json(readings))).json() as IngestReply;
     expect(reply.accepted).toBe(1);
     expect(reply.rejected).toHaveLength(40);
     expect(reply.rejected[0]!.reason).toMatch(/more than 730 days old/);
-    const partitionsAfter = await sql<{ n: number }>`select count(*)::int as n from pg_inherits where inhparent = 'readings'::regclass`.execute(t.tdb.handle.db);
+    const partitionsAfter = await sql<{
+      n: number;
+    }>`select count(*)::int as n from pg_inherits where inhparent = 'readings'::regclass`.execute(t.tdb.handle.db);
     expect(partitionsAfter.rows[0]!.n).toBe(partitionsBefore.rows[0]!.n);
   });
 
   it('stores exactly the readings it accepted across many vehicles', async () => {
-    const readings = Array.from({ length: 600 }, (_, i) => ({ vehicleId: `E-${i % 7}`, ts: BASE_MS - i * 1000, coolant: i % 50 === 0 ? 999 : 60 + (i % 40) }));
+    const readings = Array.from({ length: 600 }, (_, i) => ({
+      vehicleId: `E-${i % 7}`,
+      ts: BASE_MS - i * 1000,
+      coolant: i % 50 === 0 ? 999 : 60 + (i % 40),
+    }));
     const reply = (await post(json(readings))).json() as IngestReply;
     const rejected = new Set(reply.rejected.map((r) => r.index));
-    const expected = readings.filter((_, i) => !rejected.has(i)).map((r) => `${r.vehicleId}@${r.ts}`).sort();
+    const expected = readings
+      .filter((_, i) => !rejected.has(i))
+      .map((r) => `${r.vehicleId}@${r.ts}`)
+      .sort();
     const ids = Array.from({ length: 7 }, (_, i) => `E-${i}`);
-    const rows = await t.tdb.handle.db.selectFrom('readings').select(['vehicle_id', 'ts']).where('vehicle_id', 'in', ids).execute();
+    const rows = await t.tdb.handle.db
+      .selectFrom('readings')
+      .select(['vehicle_id', 'ts'])
+      .where('vehicle_id', 'in', ids)
+      .execute();
     expect(rejected.size).toBe(12);
     expect(reply.accepted).toBe(588);
     expect(rows.map((r) => `${r.vehicle_id}@${r.ts.getTime()}`).sort()).toEqual(expected);

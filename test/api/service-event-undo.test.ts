@@ -22,8 +22,18 @@ const api = (method: 'GET' | 'POST' | 'PATCH' | 'DELETE', url: string, body?: Re
 
 function finding(kind: Finding['kind'], baseline: string, firstSeen: number, lastSeen: number): Finding {
   return {
-    key: `${kind}@${baseline}`, kind, subKind: null, severity: 'warning', confidence: 0.8, firstSeen, lastSeen,
-    summary: `${kind} seen`, recommendedCheck: 'Check it.', troubleCode: null, metrics: {}, evidence: [],
+    key: `${kind}@${baseline}`,
+    kind,
+    subKind: null,
+    severity: 'warning',
+    confidence: 0.8,
+    firstSeen,
+    lastSeen,
+    summary: `${kind} seen`,
+    recommendedCheck: 'Check it.',
+    troubleCode: null,
+    metrics: {},
+    evidence: [],
   };
 }
 
@@ -35,7 +45,8 @@ async function sync(vehicleId: string, derived: Finding[]): Promise<void> {
 }
 
 type View = { id: string; key: string; kind: string; status: string; resolvedReason: string | null };
-const findingsOf = async (vehicleId: string) => (await api('GET', `/v1/vehicles/${vehicleId}/findings`)).json().findings as View[];
+const findingsOf = async (vehicleId: string) =>
+  (await api('GET', `/v1/vehicles/${vehicleId}/findings`)).json().findings as View[];
 const byKey = async (vehicleId: string) => Object.fromEntries((await findingsOf(vehicleId)).map((f) => [f.key, f]));
 /** The finding's audit trail through the API. */
 const auditOf = async (findingId: string) => {
@@ -49,14 +60,22 @@ beforeAll(async () => {
   const db = t.tdb.handle.db;
   for (const id of ['UN-1', 'UN-2']) {
     await sql`insert into vehicles (vehicle_id, fleet_id) values (${id}, 'fleet-undo')`.execute(db);
-    await sql`insert into vehicle_analysis (vehicle_id, fleet_id, last_reading_at) values (${id}, 'fleet-undo', to_timestamp(${T / 1000}))`.execute(db);
+    await sql`insert into vehicle_analysis (vehicle_id, fleet_id, last_reading_at) values (${id}, 'fleet-undo', to_timestamp(${T / 1000}))`.execute(
+      db,
+    );
     // The trend is still seen at T; the boil margin was last seen long before (its evidence has stopped).
-    await sync(id, [finding('overheating-trend', HISTORY, T - 60 * DAY_MS, T), finding('boil-margin', HISTORY, T - 70 * DAY_MS, T - QUIET_MS - 5 * DAY_MS)]);
+    await sync(id, [
+      finding('overheating-trend', HISTORY, T - 60 * DAY_MS, T),
+      finding('boil-margin', HISTORY, T - 70 * DAY_MS, T - QUIET_MS - 5 * DAY_MS),
+    ]);
   }
 });
 
 async function recordCapRepair(vehicleId: string): Promise<string> {
-  const res = await api('POST', `/v1/vehicles/${vehicleId}/service-events`, { kind: 'pressure-cap-replaced', at: new Date(EVENT_AT).toISOString() });
+  const res = await api('POST', `/v1/vehicles/${vehicleId}/service-events`, {
+    kind: 'pressure-cap-replaced',
+    at: new Date(EVENT_AT).toISOString(),
+  });
   expect(res.statusCode, res.body).toBe(201);
   expect(res.json().resolvedFindings).toHaveLength(2);
   // The worker's next pass: the trend shows again under the baseline the repair started.
@@ -75,7 +94,12 @@ describe('deleting a service event', () => {
 
     const res = await api('DELETE', `/v1/vehicles/UN-1/service-events/${eventId}`);
     expect(res.statusCode, res.body).toBe(200);
-    expect(res.json()).toEqual({ deleted: eventId, reopenedFindings: [trend.id], evidenceStoppedFindings: [margin.id], supersededFindings: [underRepair.id] });
+    expect(res.json()).toEqual({
+      deleted: eventId,
+      reopenedFindings: [trend.id],
+      evidenceStoppedFindings: [margin.id],
+      supersededFindings: [underRepair.id],
+    });
 
     const after = await byKey('UN-1');
     expect(after[trend.key]).toMatchObject({ status: 'open', resolvedReason: null });
@@ -84,15 +108,37 @@ describe('deleting a service event', () => {
     // Nothing the deleted repair did is left standing as resolved by it.
     expect(Object.values(after).some((f) => f.resolvedReason?.startsWith('service-event:'))).toBe(false);
 
-    for (const [f, status] of [[trend, 'reopened'], [margin, 'resolved'], [underRepair, 'resolved']] as const) {
+    for (const [f, status] of [
+      [trend, 'reopened'],
+      [margin, 'resolved'],
+      [underRepair, 'resolved'],
+    ] as const) {
       const audit = await auditOf(f.id);
       expect(audit).toHaveLength(1);
-      expect(audit[0]).toMatchObject({ action: 'service-event-delete', after: { serviceEvent: eventId, eventAction: 'delete', status } });
+      expect(audit[0]).toMatchObject({
+        action: 'service-event-delete',
+        after: { serviceEvent: eventId, eventAction: 'delete', status },
+      });
     }
-    const history = (await t.tdb.handle.db.selectFrom('planner_actions').select(['action', 'after']).where('subject_id', '=', eventId).execute());
-    expect(history).toEqual([{ action: 'delete', after: { reopenedFindings: [trend.id], evidenceStoppedFindings: [margin.id], supersededFindings: [underRepair.id] } }]);
+    const history = await t.tdb.handle.db
+      .selectFrom('planner_actions')
+      .select(['action', 'after'])
+      .where('subject_id', '=', eventId)
+      .execute();
+    expect(history).toEqual([
+      {
+        action: 'delete',
+        after: {
+          reopenedFindings: [trend.id],
+          evidenceStoppedFindings: [margin.id],
+          supersededFindings: [underRepair.id],
+        },
+      },
+    ]);
     const other = await t.createKey('fleet-undo-other', ['read']);
-    expect((await t.app.inject({ method: 'GET', url: `/v1/findings/${trend.id}`, headers: t.auth(other) })).statusCode).toBe(403);
+    expect(
+      (await t.app.inject({ method: 'GET', url: `/v1/findings/${trend.id}`, headers: t.auth(other) })).statusCode,
+    ).toBe(403);
     expect((await api('GET', '/v1/findings/no-such-finding')).statusCode).toBe(404);
   });
 
@@ -115,19 +161,33 @@ describe('correcting a service event', () => {
     const underRepairKey = `overheating-trend@${new Date(EVENT_AT).toISOString()}`;
     const notes = await api('PATCH', `/v1/vehicles/UN-2/service-events/${eventId}`, { notes: 'cap held 60 kPa' });
     expect(notes.statusCode).toBe(200);
-    expect(Object.values(await byKey('UN-2')).map((f) => `${f.kind} ${f.status}`).sort()).toEqual(['boil-margin resolved', 'overheating-trend open', 'overheating-trend resolved']);
+    expect(
+      Object.values(await byKey('UN-2'))
+        .map((f) => `${f.kind} ${f.status}`)
+        .sort(),
+    ).toEqual(['boil-margin resolved', 'overheating-trend open', 'overheating-trend resolved']);
 
     // Recorded 40 days too early: the repair was done after the trend began, and after the margin's evidence had stopped.
-    const moved = await api('PATCH', `/v1/vehicles/UN-2/service-events/${eventId}`, { at: new Date(T - 2 * DAY_MS).toISOString() });
+    const moved = await api('PATCH', `/v1/vehicles/UN-2/service-events/${eventId}`, {
+      at: new Date(T - 2 * DAY_MS).toISOString(),
+    });
     expect(moved.statusCode, moved.body).toBe(200);
     const after = await byKey('UN-2');
     expect(after[underRepairKey]).toMatchObject({ status: 'resolved', resolvedReason: 'superseded' });
     expect(after[`boil-margin@${HISTORY}`]).toMatchObject({ status: 'resolved' });
     // The trend began before the corrected time: the corrected repair resolves it again.
-    expect(after[`overheating-trend@${HISTORY}`]).toMatchObject({ status: 'resolved', resolvedReason: 'service-event:pressure-cap-replaced' });
+    expect(after[`overheating-trend@${HISTORY}`]).toMatchObject({
+      status: 'resolved',
+      resolvedReason: 'service-event:pressure-cap-replaced',
+    });
     const audit = await auditOf(after[underRepairKey]!.id);
     expect(audit.map((a) => a.action)).toEqual(['service-event-correct']);
-    const eventAudit = await t.tdb.handle.db.selectFrom('planner_actions').select(['action', 'after']).where('subject_id', '=', eventId).orderBy('at').execute();
+    const eventAudit = await t.tdb.handle.db
+      .selectFrom('planner_actions')
+      .select(['action', 'after'])
+      .where('subject_id', '=', eventId)
+      .orderBy('at')
+      .execute();
     expect(eventAudit.map((a) => a.action)).toEqual(['correct', 'correct']);
     expect(eventAudit[1]!.after).toMatchObject({ supersededFindings: [after[underRepairKey]!.id] });
   });

@@ -27,7 +27,8 @@ const T0_MS = Date.now() - 7 * 86_400_000;
 /** NDJSON lines [from, to) of a vehicle, one reading per second. */
 function lines(vehicleId: string, from: number, to: number): string {
   let out = '';
-  for (let i = from; i < to; i++) out += `{"vehicleId":"${vehicleId}","ts":${T0_MS + i * 1000},"coolant":${60 + (i % 300) / 10},"ambient":12.5}\n`;
+  for (let i = from; i < to; i++)
+    out += `{"vehicleId":"${vehicleId}","ts":${T0_MS + i * 1000},"coolant":${60 + (i % 300) / 10},"ambient":12.5}\n`;
   return out;
 }
 
@@ -38,14 +39,27 @@ interface Posted {
 }
 
 /** Starts a streaming POST /v1/readings; the caller writes the body and ends `req`. */
-function startPost(url: string, apiKey: string, headers: Record<string, string> = {}): { req: http.ClientRequest; reply: Promise<Posted> } {
-  const req = http.request(`${url}/v1/readings`, { method: 'POST', headers: { authorization: `Bearer ${apiKey}`, 'content-type': 'application/x-ndjson', ...headers } });
+function startPost(
+  url: string,
+  apiKey: string,
+  headers: Record<string, string> = {},
+): { req: http.ClientRequest; reply: Promise<Posted> } {
+  const req = http.request(`${url}/v1/readings`, {
+    method: 'POST',
+    headers: { authorization: `Bearer ${apiKey}`, 'content-type': 'application/x-ndjson', ...headers },
+  });
   const reply = new Promise<Posted>((resolve, reject) => {
     req.on('error', reject);
     req.on('response', (res) => {
       const parts: Buffer[] = [];
       res.on('data', (c: Buffer) => parts.push(c));
-      res.on('end', () => resolve({ status: res.statusCode ?? 0, connection: res.headers.connection, body: JSON.parse(Buffer.concat(parts).toString('utf8')) as Posted['body'] }));
+      res.on('end', () =>
+        resolve({
+          status: res.statusCode ?? 0,
+          connection: res.headers.connection,
+          body: JSON.parse(Buffer.concat(parts).toString('utf8')) as Posted['body'],
+        }),
+      );
       res.on('error', reject);
     });
   });
@@ -71,7 +85,8 @@ describe('streaming ingest over a socket', () => {
     }, 25);
     try {
       const { req, reply } = startPost(base, key);
-      for (let i = 0; i < LINES; i += PER_WRITE) await write(req, lines(`S-${Math.floor(i / 50_000)}`, i, i + PER_WRITE));
+      for (let i = 0; i < LINES; i += PER_WRITE)
+        await write(req, lines(`S-${Math.floor(i / 50_000)}`, i, i + PER_WRITE));
       req.end();
       const res = await reply;
       expect(res).toMatchObject({ status: 200, body: { accepted: LINES, duplicates: 0, rejected: [] } });
@@ -84,7 +99,9 @@ describe('streaming ingest over a socket', () => {
     // honest measure on both databases (measured: under 40 MB of growth). RSS is checked on the
     // server database only: PGlite runs inside this process, and its WebAssembly memory grows with
     // the pages it caches and never shrinks, which says nothing about request buffering.
-    console.log(`streaming 200k lines: heap +${((heapPeak - before.heapUsed) / 2 ** 20).toFixed(0)} MB, rss +${((rssPeak - before.rss) / 2 ** 20).toFixed(0)} MB`);
+    console.log(
+      `streaming 200k lines: heap +${((heapPeak - before.heapUsed) / 2 ** 20).toFixed(0)} MB, rss +${((rssPeak - before.rss) / 2 ** 20).toFixed(0)} MB`,
+    );
     expect((heapPeak - before.heapUsed) / 2 ** 20).toBeLessThan(80);
     if (testDatabaseKind() === 'postgres') expect((rssPeak - before.rss) / 2 ** 20).toBeLessThan(150);
   });
@@ -153,7 +170,11 @@ describe('graceful shutdown', () => {
       for (let i = 1000; i < 5000; i += 1000) await write(req, lines('SD-1', i, i + 1000));
       req.end();
       // Its connection closes with the reply, so the close need not wait for the keep-alive timeout.
-      expect(await reply).toMatchObject({ status: 200, connection: 'close', body: { accepted: 5000, duplicates: 0, rejected: [] } });
+      expect(await reply).toMatchObject({
+        status: 200,
+        connection: 'close',
+        body: { accepted: 5000, duplicates: 0, rejected: [] },
+      });
       await closing;
       app = undefined;
       expect(await countStoredReadings(tdb)).toBe(5000);
@@ -170,7 +191,9 @@ describe('thermocline serve', () => {
     let stored = -1;
     let code: number | null;
     try {
-      expect(serve.logs[0]).toMatch(testDatabaseKind() === 'postgres' ? /starting on PostgreSQL/ : /starting on embedded PostgreSQL \(PGlite\)/);
+      expect(serve.logs[0]).toMatch(
+        testDatabaseKind() === 'postgres' ? /starting on PostgreSQL/ : /starting on embedded PostgreSQL \(PGlite\)/,
+      );
       const res = await fetch(`${serve.url}/v1/readings?fleet=${serve.fleetId}`, {
         method: 'POST',
         headers: { authorization: `Bearer ${serve.adminKey}`, 'content-type': 'application/x-ndjson' },

@@ -15,18 +15,31 @@ beforeAll(async () => {
   const items: string[] = [];
   for (let i = 0; i < N; i++) {
     const coolant = i === SPIKE_AT ? 118 : i === DIP_AT ? 61 : 90;
-    items.push(`{"vehicleId":"C-1","ts":${START + i * 1000},"coolant":${coolant},"ambient":${10 + (i % 2)},"speedKph":50,"rpm":1500}`);
+    items.push(
+      `{"vehicleId":"C-1","ts":${START + i * 1000},"coolant":${coolant},"ambient":${10 + (i % 2)},"speedKph":50,"rpm":1500}`,
+    );
   }
   expect(await postReadings(t, key, items)).toBe(N);
 });
 
-const get = (query: string) => t.app.inject({ method: 'GET', url: `/v1/vehicles/C-1/readings${query}`, headers: t.auth(key) });
+const get = (query: string) =>
+  t.app.inject({ method: 'GET', url: `/v1/vehicles/C-1/readings${query}`, headers: t.auth(key) });
 
 describe('GET /v1/vehicles/{vehicleId}/readings', () => {
   it('downsamples into at most maxPoints buckets and keeps the single-sample peak and dip', async () => {
     const res = await get(`?from=${START}&to=${START + N * 1000}&maxPoints=7`);
     expect(res.statusCode).toBe(200);
-    const body = res.json() as { bucketMs: number; points: Array<{ t: string; n: number; coolantMinC: number; coolantMaxC: number; coolantMeanC: number; ambientC: number }> };
+    const body = res.json() as {
+      bucketMs: number;
+      points: Array<{
+        t: string;
+        n: number;
+        coolantMinC: number;
+        coolantMaxC: number;
+        coolantMeanC: number;
+        ambientC: number;
+      }>;
+    };
     expect(body.points.length).toBeLessThanOrEqual(7);
     expect(body.bucketMs).toBe(Math.ceil((N * 1000) / 7));
     expect(body.points.reduce((s, p) => s + p.n, 0)).toBe(N);
@@ -43,7 +56,9 @@ describe('GET /v1/vehicles/{vehicleId}/readings', () => {
     const res = await get('?maxPoints=100');
     expect(res.json().to).toBe(new Date(START + (N - 1) * 1000 + 1).toISOString());
     expect(res.json().points.reduce((s: number, p: { n: number }) => s + p.n, 0)).toBe(N);
-    const iso = await get(`?from=${new Date(START).toISOString()}&to=${new Date(START + 60_000).toISOString()}&maxPoints=60`);
+    const iso = await get(
+      `?from=${new Date(START).toISOString()}&to=${new Date(START + 60_000).toISOString()}&maxPoints=60`,
+    );
     expect(iso.json().points).toHaveLength(60);
   });
 

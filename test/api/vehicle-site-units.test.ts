@@ -9,7 +9,8 @@ beforeAll(async () => {
   key = await t.createKey('fleet-site', ['ingest', 'read']);
 });
 
-const put = (vehicleId: string, payload: object) => t.app.inject({ method: 'PUT', url: `/v1/vehicles/${vehicleId}`, headers: t.auth(key), payload });
+const put = (vehicleId: string, payload: object) =>
+  t.app.inject({ method: 'PUT', url: `/v1/vehicles/${vehicleId}`, headers: t.auth(key), payload });
 
 describe('vehicle site and units', () => {
   it('flags a vehicle registered by its readings as running on the default profile until a profile is set', async () => {
@@ -21,9 +22,17 @@ describe('vehicle site and units', () => {
   });
 
   it('takes the cap in psi or bar and stores kPa', async () => {
-    expect((await put('SITE-1', { capPressure: 15, capPressureUnit: 'psi' })).json().capPressureKpa).toBeCloseTo(103.42, 2);
-    expect((await put('SITE-1', { capPressure: 1.1, capPressureUnit: 'bar' })).json().capPressureKpa).toBeCloseTo(110, 6);
-    expect((await put('SITE-1', { capPressure: 1.1, capPressureUnit: 'bar', capPressureKpa: 110 })).statusCode).toBe(400);
+    expect((await put('SITE-1', { capPressure: 15, capPressureUnit: 'psi' })).json().capPressureKpa).toBeCloseTo(
+      103.42,
+      2,
+    );
+    expect((await put('SITE-1', { capPressure: 1.1, capPressureUnit: 'bar' })).json().capPressureKpa).toBeCloseTo(
+      110,
+      6,
+    );
+    expect((await put('SITE-1', { capPressure: 1.1, capPressureUnit: 'bar', capPressureKpa: 110 })).statusCode).toBe(
+      400,
+    );
     expect((await put('SITE-1', { capPressure: 40, capPressureUnit: 'psi' })).statusCode).toBe(400);
   });
 
@@ -32,7 +41,10 @@ describe('vehicle site and units', () => {
     expect(res.glycolPercent).toBeCloseTo(52.72, 1);
     expect(res.glycolPercentByVolume).toBeCloseTo(50, 1);
     expect(res.glycolBasis).toBe('volume');
-    expect((await put('SITE-2', { glycolPercent: 40 })).json()).toMatchObject({ glycolPercent: 40, glycolBasis: 'mass' });
+    expect((await put('SITE-2', { glycolPercent: 40 })).json()).toMatchObject({
+      glycolPercent: 40,
+      glycolBasis: 'mass',
+    });
     expect((await put('SITE-2', { glycolPercent: 69, glycolBasis: 'volume' })).statusCode).toBe(400);
   });
 
@@ -48,6 +60,14 @@ describe('vehicle site and units', () => {
 
   it('documents the new profile fields in the OpenAPI document', async () => {
     const doc = JSON.stringify((await t.app.inject({ method: 'GET', url: '/openapi.json' })).json());
-    for (const field of ['glycolBasis', 'capPressureUnit', 'siteAltitudeM', 'atmosphericPressureKpa', 'defaultProfile', 'depot']) expect(doc).toContain(field);
+    for (const field of [
+      'glycolBasis',
+      'capPressureUnit',
+      'siteAltitudeM',
+      'atmosphericPressureKpa',
+      'defaultProfile',
+      'depot',
+    ])
+      expect(doc).toContain(field);
   });
 });

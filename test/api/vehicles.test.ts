@@ -11,19 +11,41 @@ beforeAll(async () => {
 });
 
 const put = (vehicleId: string, payload: unknown, k = key, query = '') =>
-  t.app.inject({ method: 'PUT', url: `/v1/vehicles/${vehicleId}${query}`, headers: t.auth(k), payload: payload as object });
+  t.app.inject({
+    method: 'PUT',
+    url: `/v1/vehicles/${vehicleId}${query}`,
+    headers: t.auth(k),
+    payload: payload as object,
+  });
 const get = (url: string) => t.app.inject({ method: 'GET', url, headers: t.auth(key) });
 
 describe('PUT /v1/vehicles/{vehicleId}', () => {
   it('creates a vehicle with 201, filling the defaults, and updates it with 200 keeping unnamed fields', async () => {
     const created = await put('V-1', { engineFamily: 'diesel-13l', thermostatOpenC: 82 });
     expect(created.statusCode).toBe(201);
-    expect(created.json()).toMatchObject({ vehicleId: 'V-1', fleetId: 'fleet-v', engineFamily: 'diesel-13l', thermostatOpenC: 82, capPressureKpa: 100, glycolPercent: 50, label: null });
+    expect(created.json()).toMatchObject({
+      vehicleId: 'V-1',
+      fleetId: 'fleet-v',
+      engineFamily: 'diesel-13l',
+      thermostatOpenC: 82,
+      capPressureKpa: 100,
+      glycolPercent: 50,
+      label: null,
+    });
     const updated = await put('V-1', { capPressureKpa: 103.5, label: 'depot north' });
     expect(updated.statusCode).toBe(200);
-    expect(updated.json()).toMatchObject({ engineFamily: 'diesel-13l', thermostatOpenC: 82, capPressureKpa: 103.5, label: 'depot north' });
+    expect(updated.json()).toMatchObject({
+      engineFamily: 'diesel-13l',
+      thermostatOpenC: 82,
+      capPressureKpa: 103.5,
+      label: 'depot north',
+    });
     expect(Date.parse(updated.json().updatedAt)).toBeGreaterThanOrEqual(Date.parse(created.json().updatedAt));
-    const stored = await t.tdb.handle.db.selectFrom('vehicles').selectAll().where('vehicle_id', '=', 'V-1').executeTakeFirstOrThrow();
+    const stored = await t.tdb.handle.db
+      .selectFrom('vehicles')
+      .selectAll()
+      .where('vehicle_id', '=', 'V-1')
+      .executeTakeFirstOrThrow();
     expect([stored.thermostat_open_c, stored.cap_pressure_kpa, stored.label]).toEqual([82, 103.5, 'depot north']);
   });
 
@@ -46,11 +68,18 @@ describe('PUT /v1/vehicles/{vehicleId}', () => {
     const res = await put('V-BAD', payload);
     expect(res.statusCode).toBe(400);
     expect(res.json()).toEqual({ error: { code: 'validation_failed', message: expect.any(String) } });
-    expect(await t.tdb.handle.db.selectFrom('vehicles').select('vehicle_id').where('vehicle_id', '=', 'V-BAD').execute()).toEqual([]);
+    expect(
+      await t.tdb.handle.db.selectFrom('vehicles').select('vehicle_id').where('vehicle_id', '=', 'V-BAD').execute(),
+    ).toEqual([]);
   });
 
   it('answers 400 for a malformed JSON body and for a vehicle id outside the allowed characters', async () => {
-    const malformed = await t.app.inject({ method: 'PUT', url: '/v1/vehicles/V-2', headers: { ...t.auth(key), 'content-type': 'application/json' }, payload: '{"label":' });
+    const malformed = await t.app.inject({
+      method: 'PUT',
+      url: '/v1/vehicles/V-2',
+      headers: { ...t.auth(key), 'content-type': 'application/json' },
+      payload: '{"label":',
+    });
     expect(malformed.statusCode).toBe(400);
     expect(malformed.json().error.code).toBe('bad_request');
     const badId = await put('bad%20id', {});
@@ -70,7 +99,9 @@ describe('PUT /v1/vehicles/{vehicleId}', () => {
 describe('GET /v1/vehicles', () => {
   it('pages through the fleet in vehicle id order with nextAfter', async () => {
     for (const id of ['P-3', 'P-1', 'P-5', 'P-2', 'P-4']) expect((await put(id, {})).statusCode).toBe(201);
-    const all = (await get('/v1/vehicles?limit=1000')).json().vehicles.map((v: { vehicleId: string }) => v.vehicleId) as string[];
+    const all = (await get('/v1/vehicles?limit=1000'))
+      .json()
+      .vehicles.map((v: { vehicleId: string }) => v.vehicleId) as string[];
     const seen: string[] = [];
     let after: string | null = null;
     let pages = 0;
@@ -101,7 +132,13 @@ describe('GET /v1/vehicles/{vehicleId}', () => {
     await put('G-1', { engineFamily: 'petrol-2l', glycolPercent: 40 });
     const res = await get('/v1/vehicles/G-1');
     expect(res.statusCode).toBe(200);
-    expect(res.json()).toMatchObject({ vehicleId: 'G-1', fleetId: 'fleet-v', engineFamily: 'petrol-2l', glycolPercent: 40, thermostatOpenC: 88 });
+    expect(res.json()).toMatchObject({
+      vehicleId: 'G-1',
+      fleetId: 'fleet-v',
+      engineFamily: 'petrol-2l',
+      glycolPercent: 40,
+      thermostatOpenC: 88,
+    });
   });
 
   it('answers 404 with the uniform error body for an unknown vehicle', async () => {

@@ -1,9 +1,20 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { alignReadings, type DerivedReadings, emptyDerivedReadings } from '../../services/bus-decoding/align-readings.js';
+import {
+  alignReadings,
+  type DerivedReadings,
+  emptyDerivedReadings,
+} from '../../services/bus-decoding/align-readings.js';
 import { j1939Identifier } from '../../services/bus-decoding/j1939-identifier.js';
 import { FrameCollector } from '../../services/bus-decoding/frame-collector.js';
-import { PGN_AMB, PGN_CCVS1, PGN_EEC1, PGN_EFLP1, PGN_ET1, PGN_ET3 } from '../../services/bus-decoding/j1939-parameters.js';
+import {
+  PGN_AMB,
+  PGN_CCVS1,
+  PGN_EEC1,
+  PGN_EFLP1,
+  PGN_ET1,
+  PGN_ET3,
+} from '../../services/bus-decoding/j1939-parameters.js';
 import { applyIncoming, diffReadings, windowToLoad } from '../../services/bus-decoding/slot-update.js';
 import { rollUp, VehicleSlots } from '../../services/bus-decoding/vehicle-slots.js';
 
@@ -11,7 +22,12 @@ const T0 = Date.UTC(2026, 10, 30, 6, 0, 0);
 const PERIOD_MS = 10_000;
 const OPTS = { ambientMinC: -90, ambientMaxC: 90 };
 
-interface Frame { vehicleId: string; tsMs: number; canId: number; data: Uint8Array }
+interface Frame {
+  vehicleId: string;
+  tsMs: number;
+  canId: number;
+  data: Uint8Array;
+}
 
 function frame(vehicleId: string, tsMs: number, pgn: number, bytes: Record<number, number>): Frame {
   const data = new Uint8Array(8).fill(0xff);
@@ -21,7 +37,16 @@ function frame(vehicleId: string, tsMs: number, pgn: number, bytes: Record<numbe
 
 type Row = [number, number, number, number, number, number, number, number];
 function rows(r: DerivedReadings): Row[] {
-  return r.tsMs.map((t, i) => [t, r.coolantC[i]!, r.ambientC[i]!, r.speedKph[i]!, r.rpm[i]!, r.barometricKpa[i]!, r.coolantLevelPct[i]!, r.coolantPressureKpa[i]!]);
+  return r.tsMs.map((t, i) => [
+    t,
+    r.coolantC[i]!,
+    r.ambientC[i]!,
+    r.speedKph[i]!,
+    r.rpm[i]!,
+    r.barometricKpa[i]!,
+    r.coolantLevelPct[i]!,
+    r.coolantPressureKpa[i]!,
+  ]);
 }
 
 function collect(frames: readonly Frame[]): FrameCollector {
@@ -33,7 +58,8 @@ function collect(frames: readonly Frame[]): FrameCollector {
 /** All frames in one request: the readings of every slot. */
 function inOneRequest(frames: readonly Frame[]): Map<string, Row[]> {
   const out = new Map<string, Row[]>();
-  for (const [id, pre] of collect(frames).vehicles) out.set(id, rows(alignReadings(rollUp(pre, PERIOD_MS), -Infinity, Infinity, emptyDerivedReadings())));
+  for (const [id, pre] of collect(frames).vehicles)
+    out.set(id, rows(alignReadings(rollUp(pre, PERIOD_MS), -Infinity, Infinity, emptyDerivedReadings())));
   return out;
 }
 
@@ -60,41 +86,59 @@ function inRequests(requests: readonly (readonly Frame[])[]): Map<string, Row[]>
     }
   }
   const out = new Map<string, Row[]>();
-  for (const [id, stored] of readingTable) out.set(id, [...stored.values()].sort((a, b) => a[0] - b[0]));
+  for (const [id, stored] of readingTable)
+    out.set(
+      id,
+      [...stored.values()].sort((a, b) => a[0] - b[0]),
+    );
   return out;
 }
 
-const frameArb = fc.record({
-  vehicle: fc.constantFrom('A', 'B'),
-  offsetMs: fc.integer({ min: 0, max: 6 * 60_000 }),
-  kind: fc.constantFrom('coolant', 'coolant', 'hires', 'rpm', 'rpm', 'speed', 'ambient', 'fluid'),
-  a: fc.integer({ min: 0, max: 250 }),
-  b: fc.integer({ min: 0, max: 250 }),
-}).map(({ vehicle, offsetMs, kind, a, b }): Frame => {
-  const t = T0 + offsetMs;
-  switch (kind) {
-    case 'coolant': return frame(vehicle, t, PGN_ET1, { 0: a });
-    case 'hires': return frame(vehicle, t, PGN_ET3, { 2: a, 3: 0x2d });
-    case 'rpm': return frame(vehicle, t, PGN_EEC1, { 3: a, 4: b % 0x40 });
-    case 'speed': return frame(vehicle, t, PGN_CCVS1, { 1: a, 2: b % 0x40 });
-    case 'ambient': return frame(vehicle, t, PGN_AMB, { 0: a, 3: a, 4: 0x24 });
-    default: return frame(vehicle, t, PGN_EFLP1, { 6: a, 7: b });
-  }
-});
+const frameArb = fc
+  .record({
+    vehicle: fc.constantFrom('A', 'B'),
+    offsetMs: fc.integer({ min: 0, max: 6 * 60_000 }),
+    kind: fc.constantFrom('coolant', 'coolant', 'hires', 'rpm', 'rpm', 'speed', 'ambient', 'fluid'),
+    a: fc.integer({ min: 0, max: 250 }),
+    b: fc.integer({ min: 0, max: 250 }),
+  })
+  .map(({ vehicle, offsetMs, kind, a, b }): Frame => {
+    const t = T0 + offsetMs;
+    switch (kind) {
+      case 'coolant':
+        return frame(vehicle, t, PGN_ET1, { 0: a });
+      case 'hires':
+        return frame(vehicle, t, PGN_ET3, { 2: a, 3: 0x2d });
+      case 'rpm':
+        return frame(vehicle, t, PGN_EEC1, { 3: a, 4: b % 0x40 });
+      case 'speed':
+        return frame(vehicle, t, PGN_CCVS1, { 1: a, 2: b % 0x40 });
+      case 'ambient':
+        return frame(vehicle, t, PGN_AMB, { 0: a, 3: a, 4: 0x24 });
+      default:
+        return frame(vehicle, t, PGN_EFLP1, { 6: a, 7: b });
+    }
+  });
 
 describe('aligning bus frames into readings', () => {
   it('gives the same readings whether frames arrive in one request or in several, in any order', () => {
-    fc.assert(fc.property(
-      fc.array(frameArb, { minLength: 1, maxLength: 300 }),
-      fc.array(fc.integer({ min: 0, max: 5 }), { minLength: 300, maxLength: 300 }),
-      fc.integer({ min: 0, max: 2 ** 31 - 1 }),
-      (frames, split, seed) => {
-        const shuffled = fc.sample(fc.shuffledSubarray(frames, { minLength: frames.length, maxLength: frames.length }), { seed, numRuns: 1 })[0]!;
-        const requests: Frame[][] = [[], [], [], [], [], []];
-        shuffled.forEach((f, i) => requests[split[i]!]!.push(f));
-        expect(inRequests(requests)).toEqual(inOneRequest(frames));
-      },
-    ), { numRuns: 300 });
+    fc.assert(
+      fc.property(
+        fc.array(frameArb, { minLength: 1, maxLength: 300 }),
+        fc.array(fc.integer({ min: 0, max: 5 }), { minLength: 300, maxLength: 300 }),
+        fc.integer({ min: 0, max: 2 ** 31 - 1 }),
+        (frames, split, seed) => {
+          const shuffled = fc.sample(
+            fc.shuffledSubarray(frames, { minLength: frames.length, maxLength: frames.length }),
+            { seed, numRuns: 1 },
+          )[0]!;
+          const requests: Frame[][] = [[], [], [], [], [], []];
+          shuffled.forEach((f, i) => requests[split[i]!]!.push(f));
+          expect(inRequests(requests)).toEqual(inOneRequest(frames));
+        },
+      ),
+      { numRuns: 300 },
+    );
   });
 
   it('keeps one reading per sample period at the earliest coolant frame, however dense the bus', () => {

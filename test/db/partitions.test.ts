@@ -25,13 +25,21 @@ describe('readings partitions', () => {
     // A second keeper (another process) finds them already there.
     expect(await new PartitionKeeper().ensureAhead(tdb.handle.db, now, 2)).toBe(0);
     expect(await keeper.ensure(tdb.handle.db, [monthIndexOf(Date.parse('2003-02-14T00:00:00Z'))])).toBe(1);
-    await sql`insert into readings (vehicle_id, ts, coolant_c) values ('V1', '2003-02-14T00:00:00Z', 20), ('V1', '2027-02-28T23:00:00Z', 90)`.execute(tdb.handle.db);
-    const rows = await sql<{ part: string }>`select tableoid::regclass::text as part from readings order by ts`.execute(tdb.handle.db);
+    await sql`insert into readings (vehicle_id, ts, coolant_c) values ('V1', '2003-02-14T00:00:00Z', 20), ('V1', '2027-02-28T23:00:00Z', 90)`.execute(
+      tdb.handle.db,
+    );
+    const rows = await sql<{ part: string }>`select tableoid::regclass::text as part from readings order by ts`.execute(
+      tdb.handle.db,
+    );
     expect(rows.rows.map((r) => r.part)).toEqual(['readings_y2003m02', 'readings_y2027m02']);
   });
 
   it('rejects a reading for a month without a partition rather than losing it silently', async () => {
-    await expect(sql`insert into readings (vehicle_id, ts, coolant_c) values ('V1', '2011-05-01T00:00:00Z', 20)`.execute(tdb.handle.db)).rejects.toThrow(/partition/);
+    await expect(
+      sql`insert into readings (vehicle_id, ts, coolant_c) values ('V1', '2011-05-01T00:00:00Z', 20)`.execute(
+        tdb.handle.db,
+      ),
+    ).rejects.toThrow(/partition/);
   });
 
   it('running the migrations again changes nothing', async () => {

@@ -20,22 +20,43 @@ afterAll(async () => {
 });
 
 /** A channel value as ingest keeps it (rounded to 1e-6), or NaN for a missing one. */
-const channel = fc.oneof({ weight: 9, arbitrary: fc.double({ min: -273, max: 20_000, noNaN: true }).map((v) => Math.round(v * 1e6) / 1e6) }, { weight: 1, arbitrary: fc.constant(NaN) });
+const channel = fc.oneof(
+  { weight: 9, arbitrary: fc.double({ min: -273, max: 20_000, noNaN: true }).map((v) => Math.round(v * 1e6) / 1e6) },
+  { weight: 1, arbitrary: fc.constant(NaN) },
+);
 /** 2000-01-01 to 2040, whole milliseconds or with microseconds. */
-const tsMs = fc.oneof(fc.integer({ min: 946_684_800_000, max: 2_208_988_800_000 }), fc.integer({ min: 946_684_800_000_000, max: 2_208_988_800_000_000 }).map((us) => us / 1000));
+const tsMs = fc.oneof(
+  fc.integer({ min: 946_684_800_000, max: 2_208_988_800_000 }),
+  fc.integer({ min: 946_684_800_000_000, max: 2_208_988_800_000_000 }).map((us) => us / 1000),
+);
 const vehicleId = fc.stringMatching(/^[A-Za-z0-9][A-Za-z0-9_.:-]{0,63}$/);
-const chunk = fc.array(fc.record({ v: vehicleId, t: tsMs, c: channel, a: channel, s: channel, r: channel, b: channel, l: channel, p: channel }), { minLength: 1, maxLength: 40 }).map((rows): ReadingChunk => ({
-  length: rows.length,
-  vehicleIds: rows.map((x) => x.v),
-  tsMs: Float64Array.from(rows, (x) => x.t),
-  coolantC: Float64Array.from(rows, (x) => x.c),
-  ambientC: Float64Array.from(rows, (x) => x.a),
-  speedKph: Float64Array.from(rows, (x) => x.s),
-  rpm: Float64Array.from(rows, (x) => x.r),
-  barometricKpa: Float64Array.from(rows, (x) => x.b),
-  coolantLevelPct: Float64Array.from(rows, (x) => x.l),
-  coolantPressureKpa: Float64Array.from(rows, (x) => x.p),
-}));
+const chunk = fc
+  .array(
+    fc.record({
+      v: vehicleId,
+      t: tsMs,
+      c: channel,
+      a: channel,
+      s: channel,
+      r: channel,
+      b: channel,
+      l: channel,
+      p: channel,
+    }),
+    { minLength: 1, maxLength: 40 },
+  )
+  .map((rows): ReadingChunk => ({
+    length: rows.length,
+    vehicleIds: rows.map((x) => x.v),
+    tsMs: Float64Array.from(rows, (x) => x.t),
+    coolantC: Float64Array.from(rows, (x) => x.c),
+    ambientC: Float64Array.from(rows, (x) => x.a),
+    speedKph: Float64Array.from(rows, (x) => x.s),
+    rpm: Float64Array.from(rows, (x) => x.r),
+    barometricKpa: Float64Array.from(rows, (x) => x.b),
+    coolantLevelPct: Float64Array.from(rows, (x) => x.l),
+    coolantPressureKpa: Float64Array.from(rows, (x) => x.p),
+  }));
 
 /** The ISO form with microseconds, which timestamptz's text input reads exactly. */
 function isoMicros(ms: number): string {
@@ -48,23 +69,41 @@ function isoMicros(ms: number): string {
   return `${new Date(whole).toISOString().slice(0, -1)}${String(us).padStart(3, '0')}Z`;
 }
 const tsText = (values: Float64Array) => `{${Array.from(values, isoMicros).join(',')}}`;
-const text = (values: ArrayLike<number>) => `{${Array.from(values, (v) => (Number.isNaN(v) ? 'NULL' : String(v))).join(',')}}`;
+const text = (values: ArrayLike<number>) =>
+  `{${Array.from(values, (v) => (Number.isNaN(v) ? 'NULL' : String(v))).join(',')}}`;
 
 describe.skipIf(testDatabaseKind() !== 'postgres')('binary COPY of readings', () => {
   it('binary COPY stores what an INSERT of the text form stores', async () => {
     const client = await tdb.handle.pool!.connect();
     try {
-      await client.query(`create temp table via_copy (vehicle_id text, ts timestamptz, coolant_c real, ambient_c real, speed_kph real, rpm real, barometric_kpa real, coolant_level_pct real, coolant_pressure_kpa real)`);
+      await client.query(
+        `create temp table via_copy (vehicle_id text, ts timestamptz, coolant_c real, ambient_c real, speed_kph real, rpm real, barometric_kpa real, coolant_level_pct real, coolant_pressure_kpa real)`,
+      );
       await client.query(`create temp table via_text (like via_copy)`);
       await fc.assert(
         fc.asyncProperty(chunk, async (c) => {
           await client.query('truncate via_copy, via_text');
-          await pipeline(Readable.from([encodeReadingsCopy(c)]), client.query(copyFrom(`copy via_copy ${READINGS_COPY_COLUMNS} from stdin (format binary)`)));
+          await pipeline(
+            Readable.from([encodeReadingsCopy(c)]),
+            client.query(copyFrom(`copy via_copy ${READINGS_COPY_COLUMNS} from stdin (format binary)`)),
+          );
           await client.query(
             `insert into via_text select * from unnest($1::text[], $2::timestamptz[], $3::real[], $4::real[], $5::real[], $6::real[], $7::real[], $8::real[], $9::real[])`,
-            [`{"${c.vehicleIds.join('","')}"}`, tsText(c.tsMs), text(c.coolantC), text(c.ambientC), text(c.speedKph), text(c.rpm), text(c.barometricKpa!), text(c.coolantLevelPct!), text(c.coolantPressureKpa!)],
+            [
+              `{"${c.vehicleIds.join('","')}"}`,
+              tsText(c.tsMs),
+              text(c.coolantC),
+              text(c.ambientC),
+              text(c.speedKph),
+              text(c.rpm),
+              text(c.barometricKpa!),
+              text(c.coolantLevelPct!),
+              text(c.coolantPressureKpa!),
+            ],
           );
-          const diff = await client.query(`select count(*)::int as n from ((table via_copy except all table via_text) union all (table via_text except all table via_copy)) d`);
+          const diff = await client.query(
+            `select count(*)::int as n from ((table via_copy except all table via_text) union all (table via_text except all table via_copy)) d`,
+          );
           const stored = await client.query(`select count(*)::int as n from via_copy`);
           expect({ differing: diff.rows[0].n, stored: stored.rows[0].n }).toEqual({ differing: 0, stored: c.length });
         }),

@@ -24,7 +24,19 @@ describe.skipIf(testDatabaseKind() !== 'pglite')('npm run demo', () => {
     const work = await mkdtemp(join(tmpdir(), 'thermocline-demo-'));
     dirs.push(work);
     // A fixed end date keeps the simulated weather, and so the outcome, the same every day.
-    const args = ['--vehicles', '8', '--days', '21', '--seed', '7', '--end', END_DATE, '--out', join(work, 'out'), '--no-serve'];
+    const args = [
+      '--vehicles',
+      '8',
+      '--days',
+      '21',
+      '--seed',
+      '7',
+      '--end',
+      END_DATE,
+      '--out',
+      join(work, 'out'),
+      '--no-serve',
+    ];
     const child = spawn(process.execPath, [join(ROOT, 'bin', 'thermocline.js'), 'demo', ...args], {
       env: { ...process.env, PGLITE_DIR: join(work, 'data'), PORT: '0', DATABASE_URL: '' },
       stdio: ['ignore', 'pipe', 'pipe'],
@@ -41,7 +53,13 @@ describe.skipIf(testDatabaseKind() !== 'pglite')('npm run demo', () => {
     expect(stderr).toMatch(/demo: analysis done/);
 
     // The same plan the demo simulated: which vehicles really have a fault, and which kind.
-    const fleet = planFleet({ vehicles: 8, days: 21, seed: 7, startMs: Date.parse(`${END_DATE}T00:00:00Z`) - 21 * DAY_MS, scenario: 'demo' });
+    const fleet = planFleet({
+      vehicles: 8,
+      days: 21,
+      seed: 7,
+      startMs: Date.parse(`${END_DATE}T00:00:00Z`) - 21 * DAY_MS,
+      scenario: 'demo',
+    });
     const faulty = new Map(fleet.filter((v) => v.faults.length > 0).map((v) => [v.vehicleId, v.faults[0]!.kind]));
     expect(faulty.size).toBeGreaterThan(0);
 

@@ -16,7 +16,14 @@ export function testServiceFactory(): ServiceFactory {
     const app = await buildApp({ config, database: tdb.handle });
     const baseUrl = await app.listen({ port: 0, host: '127.0.0.1' });
     const keys = await createFleetKeys(tdb.handle.db, fleetId);
-    const w = worker ? new Worker({ handle: tdb.handle, pollMs: config.workerPollMs, leaseMs: config.workerLeaseMs, batchSize: config.workerBatchSize }) : undefined;
+    const w = worker
+      ? new Worker({
+          handle: tdb.handle,
+          pollMs: config.workerPollMs,
+          leaseMs: config.workerLeaseMs,
+          batchSize: config.workerBatchSize,
+        })
+      : undefined;
     if (w) {
       app.ingestNotifier.on('readings', () => w.wake());
       app.ingestNotifier.on('analysis-needed', () => w.wake());

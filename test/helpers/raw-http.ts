@@ -20,7 +20,14 @@ export interface RawReply {
  * Sends one request with node:http and reads the whole reply. A write error after the reply
  * began (the server closed early) is ignored; an error before any reply rejects.
  */
-export function request(base: string, method: string, path: string, headers: Record<string, string>, body?: Buffer | string, agent?: http.Agent): Promise<RawReply> {
+export function request(
+  base: string,
+  method: string,
+  path: string,
+  headers: Record<string, string>,
+  body?: Buffer | string,
+  agent?: http.Agent,
+): Promise<RawReply> {
   return new Promise((resolve, reject) => {
     let answered = false;
     const req = http.request(`${base}${path}`, { method, headers, ...(agent ? { agent } : {}) }, (res) => {
@@ -47,6 +54,20 @@ export function request(base: string, method: string, path: string, headers: Rec
 }
 
 /** POST /v1/readings with a key and a content type. */
-export function postReadings(base: string, key: string, contentType: string, body: Buffer | string, extra: Record<string, string> = {}, agent?: http.Agent): Promise<RawReply> {
-  return request(base, 'POST', '/v1/readings', { authorization: `Bearer ${key}`, 'content-type': contentType, ...extra }, body, agent);
+export function postReadings(
+  base: string,
+  key: string,
+  contentType: string,
+  body: Buffer | string,
+  extra: Record<string, string> = {},
+  agent?: http.Agent,
+): Promise<RawReply> {
+  return request(
+    base,
+    'POST',
+    '/v1/readings',
+    { authorization: `Bearer ${key}`, 'content-type': contentType, ...extra },
+    body,
+    agent,
+  );
 }

@@ -32,19 +32,32 @@ export class ServeProcess {
 
   /** Starts the process and resolves once it listens. `env` adds to or overrides its environment. */
   static async start(env: Record<string, string> = {}): Promise<ServeProcess> {
-    const dir = process.env.TEST_DATABASE === 'postgres' ? undefined : await mkdtemp(join(tmpdir(), 'thermocline-serve-'));
+    const dir =
+      process.env.TEST_DATABASE === 'postgres' ? undefined : await mkdtemp(join(tmpdir(), 'thermocline-serve-'));
     const tdb = await createTestDatabase(dir ? { pgliteDir: dir } : {});
     const fleetId = 'fleet-proc';
     await createFleetsRepository(tdb.handle.db).ensure(fleetId);
     // A PGlite folder is opened by one process at a time.
     await tdb.handle.close();
     const adminKey = `serve-proc-admin-${randomBytes(12).toString('hex')}`;
-    const childEnv: NodeJS.ProcessEnv = { ...process.env, PORT: '0', HOST: '127.0.0.1', LOG_LEVEL: 'info', ADMIN_API_KEY: adminKey, REPORT_SCHEDULE: 'false', ...env };
+    const childEnv: NodeJS.ProcessEnv = {
+      ...process.env,
+      PORT: '0',
+      HOST: '127.0.0.1',
+      LOG_LEVEL: 'info',
+      ADMIN_API_KEY: adminKey,
+      REPORT_SCHEDULE: 'false',
+      ...env,
+    };
     delete childEnv.DATABASE_URL;
     delete childEnv.PGLITE_DIR;
     if (tdb.url) childEnv.DATABASE_URL = tdb.url;
     else childEnv.PGLITE_DIR = dir;
-    const child = spawn(process.execPath, ['bin/thermocline.js', 'serve'], { cwd: ROOT, env: childEnv, stdio: ['ignore', 'pipe', 'pipe'] });
+    const child = spawn(process.execPath, ['bin/thermocline.js', 'serve'], {
+      cwd: ROOT,
+      env: childEnv,
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
     const exited = once(child, 'exit') as Promise<[number | null, NodeJS.Signals | null]>;
     const logs: string[] = [];
     let stderr = '';
@@ -55,7 +68,9 @@ export class ServeProcess {
         const m = /Server listening at (http:\/\/127\.0\.0\.1:\d+)/.exec(line);
         if (m) resolve(m[1]!);
       });
-      void exited.then(([code]) => reject(new Error(`serve exited (${code}) before listening:\n${logs.join('\n')}\n${stderr}`)));
+      void exited.then(([code]) =>
+        reject(new Error(`serve exited (${code}) before listening:\n${logs.join('\n')}\n${stderr}`)),
+      );
     });
     const proc = new ServeProcess(url, adminKey, fleetId, child, exited, tdb, dir);
     proc.logs.push(...logs);

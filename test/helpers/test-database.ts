@@ -44,7 +44,14 @@ async function adminQuery(adminUrl: string, text: string): Promise<void> {
  * migrations version: starting from it takes about a sixth of the time of initdb + migrations.
  * Parallel test files may build it at the same time; the rename makes that harmless.
  */
-const PGLITE_VERSION = (JSON.parse(readFileSync(join(import.meta.dirname, '..', '..', 'node_modules', '@electric-sql', 'pglite', 'package.json'), 'utf8')) as { version: string }).version;
+const PGLITE_VERSION = (
+  JSON.parse(
+    readFileSync(
+      join(import.meta.dirname, '..', '..', 'node_modules', '@electric-sql', 'pglite', 'package.json'),
+      'utf8',
+    ),
+  ) as { version: string }
+).version;
 
 async function pgliteTemplate(): Promise<Blob> {
   // The PGlite version is part of the name: a data directory is tied to the engine that made it.
@@ -73,7 +80,11 @@ async function pgliteTemplate(): Promise<Blob> {
  */
 export async function createTestDatabase(options: { pgliteDir?: string } = {}): Promise<TestDatabase> {
   if (testDatabaseKind() === 'pglite') {
-    const handle = await openDatabase({ databaseUrl: undefined, pgliteDir: options.pgliteDir ?? 'memory://', pgliteLoadDataDir: await pgliteTemplate() });
+    const handle = await openDatabase({
+      databaseUrl: undefined,
+      pgliteDir: options.pgliteDir ?? 'memory://',
+      pgliteLoadDataDir: await pgliteTemplate(),
+    });
     return { handle, url: undefined, dir: options.pgliteDir, drop: () => handle.close() };
   }
   const adminUrl = inject('postgresAdminUrl');
@@ -105,7 +116,10 @@ export async function countStoredReadings(tdb: TestDatabase): Promise<number> {
   if (!tdb.url && !tdb.dir) throw new Error('an in-memory PGlite database cannot be reopened: pass pgliteDir');
   const handle = await openDatabase({ databaseUrl: tdb.url, pgliteDir: tdb.dir ?? '', poolSize: 1 });
   try {
-    const row = await handle.db.selectFrom('readings').select((eb) => eb.fn.countAll().as('n')).executeTakeFirstOrThrow();
+    const row = await handle.db
+      .selectFrom('readings')
+      .select((eb) => eb.fn.countAll().as('n'))
+      .executeTakeFirstOrThrow();
     return toNumber(row.n);
   } finally {
     await handle.close();

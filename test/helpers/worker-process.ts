@@ -21,7 +21,9 @@ export class WorkerProcess {
 
   constructor(env: Record<string, string>) {
     this.child = spawn(process.execPath, [join(ROOT, 'bin', 'thermocline.js'), 'worker'], {
-      cwd: ROOT, env: { ...process.env, LOG_LEVEL: 'info', ...env }, stdio: ['ignore', 'pipe', 'pipe'],
+      cwd: ROOT,
+      env: { ...process.env, LOG_LEVEL: 'info', ...env },
+      stdio: ['ignore', 'pipe', 'pipe'],
     });
     createInterface({ input: this.child.stdout! }).on('line', (text) => {
       try {
@@ -33,10 +35,12 @@ export class WorkerProcess {
       }
     });
     this.child.stderr!.on('data', (d: Buffer) => (this.stderr += d.toString()));
-    this.exited = new Promise((resolve) => this.child.once('exit', (code, signal) => {
-      this.events.emit('exit');
-      resolve({ code, signal });
-    }));
+    this.exited = new Promise((resolve) =>
+      this.child.once('exit', (code, signal) => {
+        this.events.emit('exit');
+        resolve({ code, signal });
+      }),
+    );
   }
 
   /** Resolves when `done(lines so far)` holds; rejects if the process exits first or after `timeoutMs`. */
@@ -61,7 +65,9 @@ export class WorkerProcess {
   }
 
   /** 'vehicle analysed' lines. */
-  analysed(): Array<LogLine & { vehicleId: string; startedAt: number; finishedAt: number; workerId: string; queue: string }> {
+  analysed(): Array<
+    LogLine & { vehicleId: string; startedAt: number; finishedAt: number; workerId: string; queue: string }
+  > {
     return this.lines.filter((l) => l.msg === 'vehicle analysed') as never;
   }
 

@@ -3,7 +3,12 @@ import { freezingPointC } from '../../services/analysis/physics/freezing-point.j
 
 describe('freezing point of ethylene glycol–water by mass (Melinder, Properties of Secondary Working Fluids, IIR 2010)', () => {
   it.each([
-    [10, -3.4], [20, -7.9], [30, -14.6], [40, -23.8], [50, -36.0], [60, -51.2],
+    [10, -3.4],
+    [20, -7.9],
+    [30, -14.6],
+    [40, -23.8],
+    [50, -36.0],
+    [60, -51.2],
   ])('gives the table value at %s %%', (percent, expectedC) => {
     expect(freezingPointC(percent)).toBeCloseTo(expectedC, 6);
   });

@@ -1,5 +1,15 @@
 import { describe, expect, it } from 'vitest';
-import { CH_AMBIENT, CH_BAROMETRIC, CH_COOLANT, CH_COOLANT_HIGH_RES, CH_COOLANT_LEVEL, CH_COOLANT_PRESSURE, CH_RPM, CH_SPEED, CHANNEL_COUNT } from '../../services/bus-decoding/bus-channels.js';
+import {
+  CH_AMBIENT,
+  CH_BAROMETRIC,
+  CH_COOLANT,
+  CH_COOLANT_HIGH_RES,
+  CH_COOLANT_LEVEL,
+  CH_COOLANT_PRESSURE,
+  CH_RPM,
+  CH_SPEED,
+  CHANNEL_COUNT,
+} from '../../services/bus-decoding/bus-channels.js';
 import { parseHexBytes, parseHexNumber } from '../../services/bus-decoding/hex-bytes.js';
 import { decodeJ1939Identifier } from '../../services/bus-decoding/j1939-identifier.js';
 import { decodeJ1939Parameters } from '../../services/bus-decoding/j1939-parameters.js';
@@ -20,7 +30,15 @@ function decode(canId: string, data: string): Record<number, number> {
 describe('SAE J1939 identifiers', () => {
   it('splits 0x18FEEE00 into priority 6, PDU2, PGN 65262 from source address 0 (SAE J1939-21; the example in references.md)', () => {
     expect(decodeJ1939Identifier(0x18feee00)).toEqual({
-      priority: 6, edp: 0, dataPage: 0, pduFormat: 0xfe, pduSpecific: 0xee, sourceAddress: 0, pdu: 2, destination: null, pgn: 65262,
+      priority: 6,
+      edp: 0,
+      dataPage: 0,
+      pduFormat: 0xfe,
+      pduSpecific: 0xee,
+      sourceAddress: 0,
+      pdu: 2,
+      destination: null,
+      pgn: 65262,
     });
   });
   it('reads EEC1 0x0CF00400 as priority 3, PGN 61444 (PF 240 is the first PDU2 format)', () => {

@@ -2,7 +2,10 @@ import { describe, expect, it } from 'vitest';
 import { levenbergMarquardt } from 'ml-levenberg-marquardt';
 import { fitNewtonWarmup } from '../../services/analysis/stats/newton-fit.js';
 
-const newton = ([tInf, t0, tau]: number[]) => (t: number) => tInf! - (tInf! - t0!) * Math.exp(-t / tau!);
+const newton =
+  ([tInf, t0, tau]: number[]) =>
+  (t: number) =>
+    tInf! - (tInf! - t0!) * Math.exp(-t / tau!);
 
 function curve(tInf: number, t0: number, tau: number, endS: number, stepS: number) {
   const t: number[] = [];
@@ -38,8 +41,12 @@ describe('Newton (lumped-capacitance) warm-up fit: T(t) = T∞ − (T∞ − T0)
     const quantised = y.map(Math.round);
     const ours = fitNewtonWarmup(t, quantised)!;
     const theirs = levenbergMarquardt({ x: t, y: quantised }, newton, {
-      initialValues: [90, 10, 400], maxIterations: 500, errorTolerance: 1e-10, damping: 1e-2,
-      gradientDifference: [1e-3, 1e-3, 1e-2], centralDifference: true,
+      initialValues: [90, 10, 400],
+      maxIterations: 500,
+      errorTolerance: 1e-10,
+      damping: 1e-2,
+      gradientDifference: [1e-3, 1e-3, 1e-2],
+      centralDifference: true,
     });
     const [tInf, t0, tau] = theirs.parameterValues;
     expect(ours.tInfC).toBeCloseTo(tInf!, 1);

@@ -1,5 +1,12 @@
 import { describe, expect, it } from 'vitest';
-import { CH_AMBIENT, CH_BAROMETRIC, CH_COOLANT, CH_RPM, CH_SPEED, CHANNEL_COUNT } from '../../services/bus-decoding/bus-channels.js';
+import {
+  CH_AMBIENT,
+  CH_BAROMETRIC,
+  CH_COOLANT,
+  CH_RPM,
+  CH_SPEED,
+  CHANNEL_COUNT,
+} from '../../services/bus-decoding/bus-channels.js';
 import { parseHexBytes } from '../../services/bus-decoding/hex-bytes.js';
 import { decodeObdResponse, type ObdDecodeResult } from '../../services/bus-decoding/obd-service01.js';
 

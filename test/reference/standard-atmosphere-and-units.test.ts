@@ -1,7 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { atmosphericPressureAtAltitudeKpa } from '../../services/analysis/physics/atmosphere.js';
 import { coolantBoilingPointC } from '../../services/analysis/physics/boiling-point.js';
-import { glycolMassToVolumePercent, glycolVolumeToMassPercent, pressureToKpa } from '../../services/analysis/physics/units.js';
+import {
+  glycolMassToVolumePercent,
+  glycolVolumeToMassPercent,
+  pressureToKpa,
+} from '../../services/analysis/physics/units.js';
 
 describe('site pressure and units', () => {
   it('gives the standard-atmosphere pressure at altitude (ISO 2533 troposphere, as quoted in references.md)', () => {
@@ -14,7 +18,9 @@ describe('site pressure and units', () => {
   it('lowers the boiling point of water at altitude (IAPWS-IF97: about 96.7 °C at 1,000 m and 93.4 °C at 2,000 m, references.md)', () => {
     expect(coolantBoilingPointC(0, 0, atmosphericPressureAtAltitudeKpa(1000))).toBeCloseTo(96.7, 0);
     expect(coolantBoilingPointC(0, 0, atmosphericPressureAtAltitudeKpa(2000))).toBeCloseTo(93.4, 0);
-    expect(coolantBoilingPointC(100, 50, atmosphericPressureAtAltitudeKpa(2000))).toBeLessThan(coolantBoilingPointC(100, 50));
+    expect(coolantBoilingPointC(100, 50, atmosphericPressureAtAltitudeKpa(2000))).toBeLessThan(
+      coolantBoilingPointC(100, 50),
+    );
   });
 
   it('converts 50 % ethylene glycol by volume to about 52.7 % by mass with the densities 1.113 and 0.998 g/cm³ (references.md)', () => {

@@ -32,14 +32,22 @@ export interface SeededFleet {
 function upTo(a: SampleArrays, endMs: number): SampleArrays {
   let n = a.ts.findIndex((t) => t >= endMs);
   if (n < 0) n = a.ts.length;
-  return { ts: a.ts.subarray(0, n), coolant: a.coolant.subarray(0, n), ambient: a.ambient.subarray(0, n), speedKph: a.speedKph.subarray(0, n), rpm: a.rpm.subarray(0, n) };
+  return {
+    ts: a.ts.subarray(0, n),
+    coolant: a.coolant.subarray(0, n),
+    ambient: a.ambient.subarray(0, n),
+    speedKph: a.speedKph.subarray(0, n),
+    rpm: a.rpm.subarray(0, n),
+  };
 }
 
 /** Seeds the fleet into the test app's empty database and analyses it. */
 export async function seedFleetThroughApi(t: TestApp, vehicleCount = 12): Promise<SeededFleet> {
   const fleetId = DEMO_FLEET_ID;
   const key = await t.createKey(fleetId, ['ingest', 'read']);
-  await sql`update fleets set name = 'Quillmoor Provisions', time_zone = ${SEED_TIME_ZONE} where fleet_id = ${fleetId}`.execute(t.tdb.handle.db);
+  await sql`update fleets set name = 'Quillmoor Provisions', time_zone = ${SEED_TIME_ZONE} where fleet_id = ${fleetId}`.execute(
+    t.tdb.handle.db,
+  );
   const vehicles = planFleet({ startMs: SEED_START_MS, days: SEED_DAYS, seed: SEED, vehicles: vehicleCount });
   const silent = vehicles.find((v) => v.faults.length === 0)!;
   for (const v of vehicles) {

@@ -1,5 +1,16 @@
 import { describe, expect, it } from 'vitest';
-import { addIsoWeeks, formatIsoWeek, isoWeekAt, isoWeekDate, isoWeekOfDate, isoWeeksInYear, lastCompleteIsoWeek, parseIsoWeek, utcWeekStartMs, weekWindow } from '../../services/time/iso-week.js';
+import {
+  addIsoWeeks,
+  formatIsoWeek,
+  isoWeekAt,
+  isoWeekDate,
+  isoWeekOfDate,
+  isoWeeksInYear,
+  lastCompleteIsoWeek,
+  parseIsoWeek,
+  utcWeekStartMs,
+  weekWindow,
+} from '../../services/time/iso-week.js';
 
 // Expected values follow ISO 8601 week dates (Monday first; week 1 holds the year's first
 // Thursday); the calendar dates were read off a printed calendar (from memory where noted).
@@ -24,7 +35,9 @@ describe('ISO 8601 week arithmetic', () => {
 
   it('finds the Monday 00:00 UTC that starts the week of any instant', () => {
     // 2021-01-03 is a Sunday of 2020-W53, which began on Monday 2020-12-28 (the ISO 8601 example above).
-    expect(new Date(utcWeekStartMs(Date.parse('2021-01-03T23:59:59.999Z'))).toISOString()).toBe('2020-12-28T00:00:00.000Z');
+    expect(new Date(utcWeekStartMs(Date.parse('2021-01-03T23:59:59.999Z'))).toISOString()).toBe(
+      '2020-12-28T00:00:00.000Z',
+    );
     expect(new Date(utcWeekStartMs(Date.parse('2021-01-04T00:00:00Z'))).toISOString()).toBe('2021-01-04T00:00:00.000Z');
     // Agrees with the week-date arithmetic on every day of two years.
     for (let ms = Date.parse('2026-01-01T12:00:00Z'); ms < Date.parse('2028-01-01T00:00:00Z'); ms += 86_400_000) {
@@ -40,7 +53,8 @@ describe('ISO 8601 week arithmetic', () => {
   });
 
   it('rejects malformed text and weeks the year does not have', () => {
-    for (const bad of ['2026-48', '2026-W4', '2026W48', '2026-W00', '2025-W53', '']) expect(() => parseIsoWeek(bad)).toThrow(RangeError);
+    for (const bad of ['2026-48', '2026-W4', '2026W48', '2026-W00', '2025-W53', ''])
+      expect(() => parseIsoWeek(bad)).toThrow(RangeError);
     expect(parseIsoWeek('2020-W53')).toEqual({ year: 2020, week: 53 });
   });
 
@@ -61,7 +75,7 @@ describe('ISO 8601 week arithmetic', () => {
     expect(weekWindow(parseIsoWeek('2026-W48'), 'UTC').startMs).toBe(Date.UTC(2026, 10, 23));
   });
 
-  it('takes the last complete week on the fleet\'s local calendar', () => {
+  it("takes the last complete week on the fleet's local calendar", () => {
     // Sunday 2026-11-29 23:30 UTC is already Monday 2026-11-30 in Berlin (week 49 has begun).
     const t = Date.UTC(2026, 10, 29, 23, 30);
     expect(formatIsoWeek(isoWeekAt(t, 'UTC'))).toBe('2026-W48');

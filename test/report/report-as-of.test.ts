@@ -12,7 +12,11 @@ let report: WeeklyReport;
 
 beforeAll(async () => {
   seeded = await seedFleetThroughApi(t);
-  const res = await t.app.inject({ method: 'GET', url: `/v1/reports/weekly?week=${PAST_WEEK}`, headers: t.auth(seeded.key) });
+  const res = await t.app.inject({
+    method: 'GET',
+    url: `/v1/reports/weekly?week=${PAST_WEEK}`,
+    headers: t.auth(seeded.key),
+  });
   expect(res.statusCode, res.body).toBe(200);
   report = res.json() as WeeklyReport;
 }, 300_000);
@@ -33,7 +37,9 @@ describe("a past week's report", () => {
     const risks = report.workList.map((w) => w.riskScore);
     expect([...risks].sort((a, b) => b - a)).toEqual(risks);
     const latest = await t.tdb.handle.db.selectFrom('vehicle_analysis').select(['vehicle_id', 'risk_score']).execute();
-    const differs = report.workList.some((w) => latest.find((l) => l.vehicle_id === w.vehicleId)?.risk_score !== w.riskScore);
+    const differs = report.workList.some(
+      (w) => latest.find((l) => l.vehicle_id === w.vehicleId)?.risk_score !== w.riskScore,
+    );
     expect(differs).toBe(true);
   });
 

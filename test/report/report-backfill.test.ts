@@ -20,7 +20,15 @@ let key: string;
 
 /** One morning drive a day, warming from 8 °C, for the 21 days before the week's end. */
 function backfill(vehicleId: string): string[] {
-  const days = Array.from({ length: 21 }, (_, d) => syntheticDrive({ startMs: WIN.endMs - (21 - d) * DAY_MS + 7 * 3_600_000, ambientC: 8, startCoolantC: 8, durationS: 3600, periodS: 30 }));
+  const days = Array.from({ length: 21 }, (_, d) =>
+    syntheticDrive({
+      startMs: WIN.endMs - (21 - d) * DAY_MS + 7 * 3_600_000,
+      ambientC: 8,
+      startCoolantC: 8,
+      durationS: 3600,
+      periodS: 30,
+    }),
+  );
   return readingItems(vehicleId, concatSamples(days));
 }
 
@@ -46,7 +54,9 @@ describe('a past week whose readings arrive after its report was archived', () =
   it('is not rebuilt by the schedule while the back-filled readings wait for analysis', async () => {
     for (const v of VEHICLES) await postReadings(t, key, backfill(v));
     const log: string[] = [];
-    expect(await new WeeklyReportScheduler({ db: t.tdb.handle.db, weekday: 1, hour: 0, log: (m) => log.push(m) }).tick(NOW)).toEqual([]);
+    expect(
+      await new WeeklyReportScheduler({ db: t.tdb.handle.db, weekday: 1, hour: 0, log: (m) => log.push(m) }).tick(NOW),
+    ).toEqual([]);
     expect(log.join('\n')).toContain(`waits for the analysis of ${VEHICLES.length} vehicle(s)`);
     const { body, source } = await report();
     expect(source).toBe('built');
@@ -60,21 +70,39 @@ describe('a past week whose readings arrive after its report was archived', () =
     expect(source).toBe('archive');
     expect(body.summary.vehiclesReporting).toBe(VEHICLES.length);
     expect(body.summary.coldStarts).toBe(7 * VEHICLES.length);
-    expect(body.coverage).toMatchObject({ vehiclesWithData: VEHICLES.length, vehicleDays: 7 * VEHICLES.length, pendingVehicles: 0, complete: true });
+    expect(body.coverage).toMatchObject({
+      vehiclesWithData: VEHICLES.length,
+      vehicleDays: 7 * VEHICLES.length,
+      pendingVehicles: 0,
+      complete: true,
+    });
     expect(body.coverage.readings).toBeGreaterThan(0);
-    expect(body.coverage.statement).toMatch(/^Covers [\d,]+ analysed readings from 2 of 2 vehicles \(14 vehicle-days\)/);
+    expect(body.coverage.statement).toMatch(
+      /^Covers [\d,]+ analysed readings from 2 of 2 vehicles \(14 vehicle-days\)/,
+    );
     expect(await scheduler().tick(NOW)).toEqual([]);
   });
 
   it('is rebuilt on request when more readings of the week arrive and are analysed, without waiting for the schedule', async () => {
     const before = (await report()).body.coverage.readings;
-    await postReadings(t, key, readingItems('BF-3', syntheticDrive({ startMs: WIN.startMs + DAY_MS + 7 * 3_600_000, ambientC: 8, startCoolantC: 8, periodS: 30 })));
+    await postReadings(
+      t,
+      key,
+      readingItems(
+        'BF-3',
+        syntheticDrive({ startMs: WIN.startMs + DAY_MS + 7 * 3_600_000, ambientC: 8, startCoolantC: 8, periodS: 30 }),
+      ),
+    );
     await analyseNow(t, key);
     const { body, source } = await report();
     expect(source).toBe('built');
     expect(body.coverage.readings).toBeGreaterThan(before);
     expect(body.coverage.vehiclesWithData).toBe(3);
-    const html = await t.app.inject({ method: 'GET', url: `/v1/reports/weekly?week=${WEEK}&format=html`, headers: t.auth(key) });
+    const html = await t.app.inject({
+      method: 'GET',
+      url: `/v1/reports/weekly?week=${WEEK}&format=html`,
+      headers: t.auth(key),
+    });
     expect(html.body).toContain('from 3 of 3 vehicles');
   });
 });

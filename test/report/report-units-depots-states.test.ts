@@ -19,7 +19,8 @@ const report = async (week: string, extra = '') => {
   expect(res.statusCode, res.body).toBe(200);
   return res;
 };
-const statusIn = (r: WeeklyReport, findingId: string) => r.workList.flatMap((w) => w.findings).find((f) => f.findingId === findingId);
+const statusIn = (r: WeeklyReport, findingId: string) =>
+  r.workList.flatMap((w) => w.findings).find((f) => f.findingId === findingId);
 
 beforeAll(async () => {
   seeded = await seedFleetThroughApi(t);
@@ -62,13 +63,24 @@ describe('?unit=F on the weekly report', () => {
 describe('depots and default profiles in the report', () => {
   it('shows the depot of a work-list vehicle and marks the findings of one on the default profile', async () => {
     const [a, b] = [w48.workList[0]!.vehicleId, w48.workList[1]!.vehicleId];
-    expect((await t.app.inject({ method: 'PUT', url: `/v1/vehicles/${a}`, headers: t.auth(seeded.key), payload: { depot: 'east-depot' } })).statusCode).toBe(200);
+    expect(
+      (
+        await t.app.inject({
+          method: 'PUT',
+          url: `/v1/vehicles/${a}`,
+          headers: t.auth(seeded.key),
+          payload: { depot: 'east-depot' },
+        })
+      ).statusCode,
+    ).toBe(200);
     await sql`update vehicles set profile_set_at = null where vehicle_id = ${b}`.execute(t.tdb.handle.db);
     const r = (await report(SEED_WEEK)).json() as WeeklyReport;
     expect(r.workList.find((w) => w.vehicleId === a)).toMatchObject({ depot: 'east-depot', defaultProfile: false });
     const row = r.workList.find((w) => w.vehicleId === b)!;
     expect(row.defaultProfile).toBe(true);
-    const assumed = row.findings.filter((f) => ['boil-margin', 'overheating-trend', 'freeze-risk', 'slow-warmup', 'overshoot'].includes(f.kind));
+    const assumed = row.findings.filter((f) =>
+      ['boil-margin', 'overheating-trend', 'freeze-risk', 'slow-warmup', 'overshoot'].includes(f.kind),
+    );
     expect(assumed.length).toBeGreaterThan(0);
     for (const f of assumed) expect(f.profileNote, f.kind).toMatch(/assumes? the default profile/);
     expect(r.workList.find((w) => w.vehicleId === a)!.findings.every((f) => f.profileNote === null)).toBe(true);
@@ -83,30 +95,59 @@ describe("planner decisions in a past week's report", () => {
   it('shows a deferral made after the week ended as not made yet, while the current state says deferred', async () => {
     const target = w48.workList[0]!.findings[0]!;
     const until = new Date(Date.now() + 20 * 86_400_000).toISOString();
-    const res = await t.app.inject({ method: 'POST', url: `/v1/findings/${target.findingId}/defer`, headers: t.auth(seeded.key), payload: { until, reason: 'parts on order' } });
+    const res = await t.app.inject({
+      method: 'POST',
+      url: `/v1/findings/${target.findingId}/defer`,
+      headers: t.auth(seeded.key),
+      payload: { until, reason: 'parts on order' },
+    });
     expect(res.statusCode, res.body).toBe(200);
     expect(res.json().status).toBe('deferred');
-    expect(statusIn((await report(SEED_WEEK)).json() as WeeklyReport, target.findingId)).toMatchObject({ status: 'open', deferredUntil: null });
+    expect(statusIn((await report(SEED_WEEK)).json() as WeeklyReport, target.findingId)).toMatchObject({
+      status: 'open',
+      deferredUntil: null,
+    });
   });
 
   it('shows an acknowledgement and a deferral made during the week as they stood at its end, though both were undone later', async () => {
     const w47 = (await report(W47)).json() as WeeklyReport;
-    const [ackd, deferred] = w47.workList.flatMap((w) => w.findings).filter((f) => f.status === 'open' && !f.findingId.includes('@'));
+    const [ackd, deferred] = w47.workList
+      .flatMap((w) => w.findings)
+      .filter((f) => f.status === 'open' && !f.findingId.includes('@'));
     expect(deferred).toBeDefined();
-    const act = (path: string, payload?: object) => t.app.inject({ method: 'POST', url: `/v1/findings/${path}`, headers: t.auth(seeded.key), ...(payload ? { payload } : {}) });
+    const act = (path: string, payload?: object) =>
+      t.app.inject({
+        method: 'POST',
+        url: `/v1/findings/${path}`,
+        headers: t.auth(seeded.key),
+        ...(payload ? { payload } : {}),
+      });
     expect((await act(`${ackd!.findingId}/acknowledge`)).statusCode).toBe(200);
-    expect((await act(`${deferred!.findingId}/defer`, { until: new Date(Date.now() + 30 * 86_400_000).toISOString(), reason: 'next planned service' })).statusCode).toBe(200);
+    expect(
+      (
+        await act(`${deferred!.findingId}/defer`, {
+          until: new Date(Date.now() + 30 * 86_400_000).toISOString(),
+          reason: 'next planned service',
+        })
+      ).statusCode,
+    ).toBe(200);
     // Both decisions were taken two days before W47 ended (the audit and the row say so) ...
     const then = new Date(W47_END_MS - 2 * 86_400_000);
     const db = t.tdb.handle.db;
-    await sql`update planner_actions set at = ${then} where subject_id in (${ackd!.findingId}, ${deferred!.findingId})`.execute(db);
+    await sql`update planner_actions set at = ${then} where subject_id in (${ackd!.findingId}, ${deferred!.findingId})`.execute(
+      db,
+    );
     await sql`update findings set acknowledged_at = ${then} where finding_id = ${ackd!.findingId}`.execute(db);
     // ... and undone today.
     expect((await act(`${ackd!.findingId}/reopen`)).json().status).toBe('open');
     expect((await act(`${deferred!.findingId}/reopen`)).json().status).toBe('open');
     const again = (await report(W47)).json() as WeeklyReport;
     expect(statusIn(again, ackd!.findingId)).toMatchObject({ status: 'acknowledged' });
-    expect(statusIn(again, deferred!.findingId)).toMatchObject({ status: 'deferred', deferredReason: 'next planned service', deferredUntil: expect.stringMatching(/^\d{4}-\d{2}-\d{2}$/) });
+    expect(statusIn(again, deferred!.findingId)).toMatchObject({
+      status: 'deferred',
+      deferredReason: 'next planned service',
+      deferredUntil: expect.stringMatching(/^\d{4}-\d{2}-\d{2}$/),
+    });
     const html = (await report(W47, '&format=html')).body;
     expect(html).toContain('(acknowledged, not yet repaired)');
     expect(html).toContain('next planned service');

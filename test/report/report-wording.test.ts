@@ -1,7 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import { boilWords } from '../../services/analysis/findings/overheating-trend.js';
 import {
-  kindLabel, PRIORITY_LEGEND, relatedCodeLabel, resolvedReasonLabel, RISK_LEGEND, sensorEventLabel,
+  kindLabel,
+  PRIORITY_LEGEND,
+  relatedCodeLabel,
+  resolvedReasonLabel,
+  RISK_LEGEND,
+  sensorEventLabel,
 } from '../../services/report/finding-labels.js';
 
 describe('report wording', () => {
@@ -18,7 +23,9 @@ describe('report wording', () => {
 
   it('turns stored identifiers into words', () => {
     expect(sensorEventLabel('cold-soak-mismatch')).toBe('off from the air temperature after a cold soak');
-    expect(resolvedReasonLabel('evidence-stopped')).toMatch(/^the evidence stopped \(no new sign of it for \d+ days\)$/);
+    expect(resolvedReasonLabel('evidence-stopped')).toMatch(
+      /^the evidence stopped \(no new sign of it for \d+ days\)$/,
+    );
     expect(resolvedReasonLabel('service-event:pressure-cap-replaced')).toBe('repair recorded: pressure cap replaced');
   });
 

@@ -30,7 +30,7 @@ describe('GET /v1/reports/weekly/archive', () => {
     expect(seen[0]).toMatchObject({ url: '/v1/reports/weekly?week=2026-W48', complete: true, workItems: 0 });
   });
 
-  it("keeps fleets apart and refuses a cursor it did not give out", async () => {
+  it('keeps fleets apart and refuses a cursor it did not give out', async () => {
     expect((await get('/v1/reports/weekly/archive', other)).json().reports).toEqual([]);
     expect((await get('/v1/reports/weekly/archive?fleet=fleet-rl', other)).statusCode).toBe(403);
     expect((await get('/v1/reports/weekly/archive?cursor=WzFd')).statusCode).toBe(400);

@@ -25,7 +25,12 @@ let outDir: string;
 beforeAll(async () => {
   seeded = await seedFleetThroughApi(t);
   outDir = await mkdtemp(join(tmpdir(), 'weekly-report-'));
-  written = await writeWeeklyReport(t.tdb.handle.db, { fleetId: seeded.fleetId, week: SEED_WEEK, now: SEED_WEEK_END_MS + 6 * 3_600_000, outDir });
+  written = await writeWeeklyReport(t.tdb.handle.db, {
+    fleetId: seeded.fleetId,
+    week: SEED_WEEK,
+    now: SEED_WEEK_END_MS + 6 * 3_600_000,
+    outDir,
+  });
 }, 600_000);
 
 afterAll(async () => {
@@ -80,11 +85,13 @@ describe.skipIf(SKIP)('the weekly report opened in headless Chromium', () => {
 
   it('shows the same work list as the JSON, one row per vehicle', async () => {
     const { page } = await openReport();
-    const rows = await page.locator('#work-list-table tbody tr').evaluateAll((trs) => trs.map((tr) => ({
-      findingId: tr.getAttribute('data-finding-id'),
-      vehicleId: tr.getAttribute('data-vehicle-id'),
-      cells: [...tr.querySelectorAll('td')].map((td) => (td.textContent ?? '').trim()),
-    })));
+    const rows = await page.locator('#work-list-table tbody tr').evaluateAll((trs) =>
+      trs.map((tr) => ({
+        findingId: tr.getAttribute('data-finding-id'),
+        vehicleId: tr.getAttribute('data-vehicle-id'),
+        cells: [...tr.querySelectorAll('td')].map((td) => (td.textContent ?? '').trim()),
+      })),
+    );
     expect(rows.map((r) => r.findingId)).toEqual(written.report.workList.map((w) => w.findingId));
     rows.forEach((r, i) => {
       const w = written.report.workList[i]!;
@@ -104,7 +111,11 @@ describe.skipIf(SKIP)('the weekly report opened in headless Chromium', () => {
     const { page } = await openReport();
     await mkdir(OUTPUT_DIR, { recursive: true });
     const png = await page.screenshot({ path: join(OUTPUT_DIR, `weekly-report${suffix}.png`), fullPage: true });
-    const pdf = await page.pdf({ path: join(OUTPUT_DIR, `weekly-report${suffix}.pdf`), format: 'A4', printBackground: true });
+    const pdf = await page.pdf({
+      path: join(OUTPUT_DIR, `weekly-report${suffix}.pdf`),
+      format: 'A4',
+      printBackground: true,
+    });
     expect(png.subarray(1, 4).toString()).toBe('PNG');
     expect(pdf.subarray(0, 5).toString()).toBe('%PDF-');
     expect(pdf.length).toBeGreaterThan(20_000);
@@ -120,7 +131,18 @@ describe('the weekly report against the planner API', () => {
   };
 
   it('ranks the same vehicles with the same risk and open findings as GET /v1/fleet/at-risk', async () => {
-    const atRisk = (await get('/v1/fleet/at-risk?limit=1000')).vehicles as Array<{ vehicleId: string; riskScore: number; findings: Array<{ id: string; kind: string; severity: string; confidence: number; firstSeen: string; summary: string }> }>;
+    const atRisk = (await get('/v1/fleet/at-risk?limit=1000')).vehicles as Array<{
+      vehicleId: string;
+      riskScore: number;
+      findings: Array<{
+        id: string;
+        kind: string;
+        severity: string;
+        confidence: number;
+        firstSeen: string;
+        summary: string;
+      }>;
+    }>;
     const order = written.report.workList.map((w) => w.vehicleId);
     expect(order).toEqual(atRisk.map((v) => v.vehicleId));
     for (const v of atRisk) {
@@ -128,11 +150,18 @@ describe('the weekly report against the planner API', () => {
       expect(row.riskScore).toBe(v.riskScore);
       for (const f of v.findings) {
         const item = row.findings.find((w) => w.findingId === f.id)!;
-        expect(item).toMatchObject({ kind: f.kind, severity: f.severity, why: f.summary, since: f.firstSeen.slice(0, 10) });
+        expect(item).toMatchObject({
+          kind: f.kind,
+          severity: f.severity,
+          why: f.summary,
+          since: f.firstSeen.slice(0, 10),
+        });
         expect(item.confidence).toBeCloseTo(f.confidence, 3);
       }
     }
-    expect(written.report.workList.reduce((n, w) => n + w.findings.length, 0)).toBe(atRisk.reduce((n, v) => n + v.findings.length, 0));
+    expect(written.report.workList.reduce((n, w) => n + w.findings.length, 0)).toBe(
+      atRisk.reduce((n, v) => n + v.findings.length, 0),
+    );
   });
 
   it('counts findings and cold starts as the per-vehicle endpoints report them', async () => {
@@ -140,10 +169,21 @@ describe('the weekly report against the planner API', () => {
     let coldStarts = 0;
     const firstDay = Date.parse(written.report.week.firstDay);
     for (const v of seeded.vehicles) {
-      const findings = (await get(`/v1/vehicles/${v.vehicleId}/findings`)).findings as Array<{ id: string; status: string; firstSeen: string }>;
-      unresolvedInWeek += findings.filter((f) => f.status !== 'resolved' && Date.parse(f.firstSeen) < Date.parse(written.report.week.end)).length;
-      for (const f of findings.filter((x) => x.status !== 'resolved')) expect(written.report.workList.some((w) => w.findings.some((x) => x.findingId === f.id))).toBe(true);
-      const runs = (await get(`/v1/vehicles/${v.vehicleId}/runs?from=${new Date(firstDay).toISOString()}&to=${new Date(firstDay + 7 * DAY_MS).toISOString()}&limit=1000`)).runs as Array<{ startKind: string }>;
+      const findings = (await get(`/v1/vehicles/${v.vehicleId}/findings`)).findings as Array<{
+        id: string;
+        status: string;
+        firstSeen: string;
+      }>;
+      unresolvedInWeek += findings.filter(
+        (f) => f.status !== 'resolved' && Date.parse(f.firstSeen) < Date.parse(written.report.week.end),
+      ).length;
+      for (const f of findings.filter((x) => x.status !== 'resolved'))
+        expect(written.report.workList.some((w) => w.findings.some((x) => x.findingId === f.id))).toBe(true);
+      const runs = (
+        await get(
+          `/v1/vehicles/${v.vehicleId}/runs?from=${new Date(firstDay).toISOString()}&to=${new Date(firstDay + 7 * DAY_MS).toISOString()}&limit=1000`,
+        )
+      ).runs as Array<{ startKind: string }>;
       coldStarts += runs.filter((r) => r.startKind === 'cold').length;
     }
     const totals = written.report.findings.totals;
@@ -158,14 +198,17 @@ describe('the weekly report against the planner API', () => {
     expect(g?.silentHours).toBeGreaterThanOrEqual(72);
   });
 
-  it("draws a daily-peak trend whose slope matches the Theil–Sen estimator of ml-regression-theil-sen", () => {
+  it('draws a daily-peak trend whose slope matches the Theil–Sen estimator of ml-regression-theil-sen', () => {
     const charted = written.report.vehicles.filter((v) => v.peaks.trend !== null);
     expect(charted.length).toBeGreaterThan(0);
     for (const v of charted) {
       const trend = v.peaks.trend!;
       const anchor = Date.parse(trend.anchorDay);
       const window = v.peaks.days.filter((d) => Date.parse(d.day) > anchor - trend.windowDays * DAY_MS);
-      const reference = new TheilSenRegression(window.map((d) => Date.parse(d.day) / DAY_MS), window.map((d) => d.peakCoolantC));
+      const reference = new TheilSenRegression(
+        window.map((d) => Date.parse(d.day) / DAY_MS),
+        window.map((d) => d.peakCoolantC),
+      );
       // The stored peaks are rounded to 0.1 °C; the slope is rounded to 0.001 °C/day.
       expect(trend.senSlopeCPerDay).toBeCloseTo(reference.slope, 1);
       if (trend.daysToBoil !== null && trend.daysToBoil > 0) {

@@ -18,29 +18,64 @@ beforeAll(async () => {
   otherKey = await t.createKey('other-fleet', ['read']);
   admin = await t.createAdminKey();
   const db = t.tdb.handle.db;
-  await sql`update fleets set time_zone = 'Asia/Tokyo', name = 'Route & "Test" <Fleet>' where fleet_id = ${FLEET}`.execute(db);
-  await db.insertInto('vehicles').values({ vehicle_id: 'RT-1', fleet_id: FLEET, label: '=cmd|" /C calc"!A0' }).execute();
-  await db.insertInto('findings').values({
-    vehicle_id: 'RT-1', finding_id: 'finding-rt-1', fleet_id: FLEET, finding_key: 'slow-warmup@2026-10-01T00:00:00.000Z', kind: 'slow-warmup',
-    severity: 'warning', confidence: 0.8, first_seen: new Date(Date.UTC(2026, 10, 10)), last_seen: new Date(Date.UTC(2026, 10, 26)),
-    summary: 'Warm-ups take <twice> as long.', recommended_check: `Check the thermostat. ${SAFETY_CAUTION}`, trouble_code: 'P0128', metrics: '{}', evidence: '[]',
-  }).execute();
-  await db.insertInto('vehicle_analysis').values({ vehicle_id: 'RT-1', fleet_id: FLEET, risk_score: 44, open_findings: 1, max_severity: 'warning' }).execute();
+  await sql`update fleets set time_zone = 'Asia/Tokyo', name = 'Route & "Test" <Fleet>' where fleet_id = ${FLEET}`.execute(
+    db,
+  );
+  await db
+    .insertInto('vehicles')
+    .values({ vehicle_id: 'RT-1', fleet_id: FLEET, label: '=cmd|" /C calc"!A0' })
+    .execute();
+  await db
+    .insertInto('findings')
+    .values({
+      vehicle_id: 'RT-1',
+      finding_id: 'finding-rt-1',
+      fleet_id: FLEET,
+      finding_key: 'slow-warmup@2026-10-01T00:00:00.000Z',
+      kind: 'slow-warmup',
+      severity: 'warning',
+      confidence: 0.8,
+      first_seen: new Date(Date.UTC(2026, 10, 10)),
+      last_seen: new Date(Date.UTC(2026, 10, 26)),
+      summary: 'Warm-ups take <twice> as long.',
+      recommended_check: `Check the thermostat. ${SAFETY_CAUTION}`,
+      trouble_code: 'P0128',
+      metrics: '{}',
+      evidence: '[]',
+    })
+    .execute();
+  await db
+    .insertInto('vehicle_analysis')
+    .values({ vehicle_id: 'RT-1', fleet_id: FLEET, risk_score: 44, open_findings: 1, max_severity: 'warning' })
+    .execute();
 });
 
 const get = (url: string, k = key) => t.app.inject({ method: 'GET', url, headers: t.auth(k) });
 
 describe('GET /v1/reports/weekly', () => {
-  it('answers the JSON report of the key\'s fleet with the work list and the caution split from the check', async () => {
+  it("answers the JSON report of the key's fleet with the work list and the caution split from the check", async () => {
     const res = await get(`/v1/reports/weekly?week=${WEEK}`);
     expect(res.statusCode, res.body).toBe(200);
     expect(res.headers['content-type']).toMatch(/^application\/json/);
     const r = res.json();
-    expect(r.week).toMatchObject({ isoWeek: WEEK, firstDay: '2026-11-23', lastDay: '2026-11-29', start: '2026-11-22T15:00:00.000Z' });
-    expect(r.workList).toEqual([expect.objectContaining({
-      rank: 1, vehicleId: 'RT-1', priority: 'book this week', since: '2026-11-10', check: 'Check the thermostat.', troubleCode: 'P0128',
-      checks: ['Check the thermostat.'], findings: [expect.objectContaining({ findingId: 'finding-rt-1', status: 'open' })],
-    })]);
+    expect(r.week).toMatchObject({
+      isoWeek: WEEK,
+      firstDay: '2026-11-23',
+      lastDay: '2026-11-29',
+      start: '2026-11-22T15:00:00.000Z',
+    });
+    expect(r.workList).toEqual([
+      expect.objectContaining({
+        rank: 1,
+        vehicleId: 'RT-1',
+        priority: 'book this week',
+        since: '2026-11-10',
+        check: 'Check the thermostat.',
+        troubleCode: 'P0128',
+        checks: ['Check the thermostat.'],
+        findings: [expect.objectContaining({ findingId: 'finding-rt-1', status: 'open' })],
+      }),
+    ]);
     expect(r.workList[0].cautions[0]).toBe(SAFETY_CAUTION);
     expect(r.findings.totals).toEqual({ new: 0, ongoing: 1, resolved: 0 });
   });
@@ -71,7 +106,7 @@ describe('GET /v1/reports/weekly', () => {
     expect(row).toContain(`1,RT-1,"'=cmd|"" /C calc""!A0",44,book this week`);
   });
 
-  it('keeps fleets apart: another fleet\'s key gets 403, an admin must name the fleet, an unknown fleet is 404', async () => {
+  it("keeps fleets apart: another fleet's key gets 403, an admin must name the fleet, an unknown fleet is 404", async () => {
     expect((await get(`/v1/reports/weekly?week=${WEEK}&fleet=${FLEET}`, otherKey)).statusCode).toBe(403);
     const other = await get(`/v1/reports/weekly?week=${WEEK}`, otherKey);
     expect(other.statusCode).toBe(200);
@@ -95,7 +130,9 @@ describe('GET /v1/reports/weekly', () => {
     const op = doc.paths['/v1/reports/weekly'].get;
     expect(op.tags).toEqual(['reports']);
     expect(Object.keys(op.responses['200'].content).sort()).toEqual(['application/json', 'text/csv', 'text/html']);
-    expect(op.parameters.map((p: { name: string }) => p.name)).toEqual(expect.arrayContaining(['week', 'format', 'fleet', 'refresh']));
+    expect(op.parameters.map((p: { name: string }) => p.name)).toEqual(
+      expect.arrayContaining(['week', 'format', 'fleet', 'refresh']),
+    );
   });
 });
 
@@ -104,13 +141,18 @@ describe('the report archive and the scheduler', () => {
     const db = t.tdb.handle.db;
     await generateWeeklyReport(db, { fleetId: FLEET, week: '2026-W47', now: Date.UTC(2026, 10, 24) });
     await generateWeeklyReport(db, { fleetId: FLEET, week: '2026-W47', now: Date.UTC(2026, 10, 25) });
-    const rows = await db.selectFrom('weekly_reports').select(['generated_at', 'report_json']).where('fleet_id', '=', FLEET).where('iso_week', '=', '2026-W47').execute();
+    const rows = await db
+      .selectFrom('weekly_reports')
+      .select(['generated_at', 'report_json'])
+      .where('fleet_id', '=', FLEET)
+      .where('iso_week', '=', '2026-W47')
+      .execute();
     expect(rows).toHaveLength(1);
     expect(rows[0]!.generated_at.toISOString()).toBe('2026-11-25T00:00:00.000Z');
     expect((rows[0]!.report_json as { generatedAt: string }).generatedAt).toBe('2026-11-25T00:00:00.000Z');
   });
 
-  it('builds the last complete week once the weekday and hour have come in the fleet\'s time zone, and only once', async () => {
+  it("builds the last complete week once the weekday and hour have come in the fleet's time zone, and only once", async () => {
     const log: string[] = [];
     const scheduler = new WeeklyReportScheduler({ db: t.tdb.handle.db, weekday: 1, hour: 6, log: (m) => log.push(m) });
     // Monday 2027-03-08 06:00 in Tokyo (UTC+9) is Sunday 21:00 UTC; the fleet in UTC waits till Monday 06:00 UTC,

@@ -47,7 +47,14 @@ describe('cold-start plot', () => {
         series: starts.map((i, k) => ({ ...window(s, i, 90), color: COLORS[k] as string })),
       });
     }
-    const svg = renderPanels(panels, { columns: 2, xLabel: 'minutes since engine start', yLabel: 'coolant °C', xMax: 90, yMin: -40, yMax: 140 });
+    const svg = renderPanels(panels, {
+      columns: 2,
+      xLabel: 'minutes since engine start',
+      yLabel: 'coolant °C',
+      xMax: 90,
+      yMin: -40,
+      yMax: 140,
+    });
     await mkdir('test-output', { recursive: true });
     await writeFile('test-output/simulator-cold-starts.svg', svg);
     expect(svg.match(/<path /g)).toHaveLength(30);

@@ -1,12 +1,24 @@
 import { describe, expect, it } from 'vitest';
-import { CoolingSystem, coolantBoilingPointC, thermalParamsFor, type ThermalParams } from '../../services/simulator/cooling-system.js';
+import {
+  CoolingSystem,
+  coolantBoilingPointC,
+  thermalParamsFor,
+  type ThermalParams,
+} from '../../services/simulator/cooling-system.js';
 import { VANTOR_L22 } from '../../services/simulator/engine-families.js';
 import { ratedCoolantHeatW } from '../../services/simulator/load-model.js';
 import { THERMOSTAT_HYSTERESIS_C, THERMOSTAT_SPAN_C, WaxThermostat } from '../../services/simulator/thermostat.js';
 
 const base = thermalParamsFor(VANTOR_L22, ratedCoolantHeatW(VANTOR_L22));
 /** No block losses, no heater, fan never on: only what the test switches on moves heat. */
-const lossless: ThermalParams = { ...base, blockLossWPerK: 0, heaterMaxWPerK: 0, fanOnC: 1e9, fanOffC: 1e9 - 1, boilC: 1e9 };
+const lossless: ThermalParams = {
+  ...base,
+  blockLossWPerK: 0,
+  heaterMaxWPerK: 0,
+  fanOnC: 1e9,
+  fanOffC: 1e9 - 1,
+  boilC: 1e9,
+};
 
 describe('lumped thermal model', () => {
   it('with the thermostat held shut and no losses, warms exactly as Q·t = C·ΔT', () => {

@@ -28,9 +28,16 @@ function quantile(values: number[], q: number): number {
   return s[Math.floor(q * (s.length - 1))] as number;
 }
 
-function pick(s: Series, field: keyof Series, from: number, to: number, keep: (i: number) => boolean = () => true): number[] {
+function pick(
+  s: Series,
+  field: keyof Series,
+  from: number,
+  to: number,
+  keep: (i: number) => boolean = () => true,
+): number[] {
   const out: number[] = [];
-  for (let i = 0; i < s.ts.length; i++) if ((s.ts[i] as number) >= from && (s.ts[i] as number) < to && keep(i)) out.push(s[field][i] as number);
+  for (let i = 0; i < s.ts.length; i++)
+    if ((s.ts[i] as number) >= from && (s.ts[i] as number) < to && keep(i)) out.push(s[field][i] as number);
   return out;
 }
 
@@ -56,7 +63,9 @@ describe('fault signatures', () => {
   it('sticking thermostat: warm-ups overshoot well past the rating before the valve lets go', () => {
     const { v, faulty, twin } = pair('thermostat-sticking', 'temperate', 'service-van');
     const peaks = (s: Series): number[] =>
-      coldStarts(s, ONSET_MS).map((i0) => Math.max(...pick(s, 'coolantTrue', s.ts[i0] as number, (s.ts[i0] as number) + 40 * 60_000)));
+      coldStarts(s, ONSET_MS).map((i0) =>
+        Math.max(...pick(s, 'coolantTrue', s.ts[i0] as number, (s.ts[i0] as number) + 40 * 60_000)),
+      );
     const faultPeak = quantile(peaks(faulty), 0.5);
     const twinPeak = quantile(peaks(twin), 0.5);
     expect(faultPeak).toBeGreaterThan(v.thermostatOpenC + 12);
@@ -79,7 +88,13 @@ describe('fault signatures', () => {
   it('fan failure: the engine runs hot when standing or crawling in the heat', () => {
     const { v, faulty, twin } = pair('fan-failure', 'hot', 'bus');
     const slowHot = (s: Series): number =>
-      pick(s, 'coolant', ONSET_MS, Infinity, (i) => (s.speedKph[i] as number) < 10 && (s.coolant[i] as number) > v.thermostatOpenC + 15).length;
+      pick(
+        s,
+        'coolant',
+        ONSET_MS,
+        Infinity,
+        (i) => (s.speedKph[i] as number) < 10 && (s.coolant[i] as number) > v.thermostatOpenC + 15,
+      ).length;
     expect(slowHot(faulty)).toBeGreaterThan(100); // > 15 min of 10 s samples
     expect(slowHot(twin)).toBe(0);
   });
@@ -120,9 +135,14 @@ describe('fault signatures', () => {
     const { faulty } = pair('sensor-bias', 'cold', 'service-van');
     const reported = pick(faulty, 'coolant', ONSET_MS + 4 * 86_400_000, Infinity);
     const truth = pick(faulty, 'coolantTrue', ONSET_MS + 4 * 86_400_000, Infinity);
-    const bias = quantile(reported.map((c, k) => c - (truth[k] as number)), 0.5);
+    const bias = quantile(
+      reported.map((c, k) => c - (truth[k] as number)),
+      0.5,
+    );
     expect(Math.abs(bias)).toBeCloseTo(4 + 10 * SEVERITY, 0);
-    const soaked = coldStarts(faulty, ONSET_MS + 4 * 86_400_000).map((i) => (faulty.coolant[i] as number) - (faulty.ambient[i] as number));
+    const soaked = coldStarts(faulty, ONSET_MS + 4 * 86_400_000).map(
+      (i) => (faulty.coolant[i] as number) - (faulty.ambient[i] as number),
+    );
     expect(Math.abs(quantile(soaked, 0.5))).toBeGreaterThan(8);
   });
 });

@@ -12,7 +12,7 @@ function firstChunk(v: SimVehicle, seed: number) {
 }
 
 describe('field scenario (randomised fleets)', () => {
-  it('draws every vehicle\'s variation inside its documented range', () => {
+  it("draws every vehicle's variation inside its documented range", () => {
     for (let seed = 1; seed <= 6; seed++) {
       for (const v of planFieldFleet({ startMs: START_MS, days: 35, seed, vehicles: 36 })) {
         const fv = v.variation!;
@@ -20,7 +20,8 @@ describe('field scenario (randomised fleets)', () => {
         expect(fv.soakTimeConstantH!).toBeGreaterThanOrEqual(heavy ? 3 : 1.5);
         expect(fv.soakTimeConstantH!).toBeLessThanOrEqual(heavy ? 6 : 3.5);
         if (fv.hallC !== null) expect(fv.hallC).toBeGreaterThanOrEqual(5);
-        if (fv.blockHeaterC !== null) expect([v.climate, fv.blockHeaterC >= 20 && fv.blockHeaterC <= 60]).toEqual(['cold', true]);
+        if (fv.blockHeaterC !== null)
+          expect([v.climate, fv.blockHeaterC >= 20 && fv.blockHeaterC <= 60]).toEqual(['cold', true]);
         expect(Math.abs(fv.thermostatOffsetC)).toBeLessThanOrEqual(3);
         expect([1, 2, 5, 10, 15, 30, 60]).toContain(fv.samplePeriodS);
         expect(Math.abs(fv.clockOffsetS)).toBeLessThanOrEqual(300);
@@ -34,8 +35,11 @@ describe('field scenario (randomised fleets)', () => {
   });
 
   it('puts every fault kind into every climate and both gradual and abrupt onsets across fleets', () => {
-    const faulty = [1, 2, 3, 4].flatMap((seed) => planFieldFleet({ startMs: START_MS, days: 35, seed, vehicles: 54 })).filter((v) => v.faults.length > 0);
-    const kindsIn = (climate: string) => new Set(faulty.filter((v) => v.climate === climate).map((v) => v.faults[0]!.kind)).size;
+    const faulty = [1, 2, 3, 4]
+      .flatMap((seed) => planFieldFleet({ startMs: START_MS, days: 35, seed, vehicles: 54 }))
+      .filter((v) => v.faults.length > 0);
+    const kindsIn = (climate: string) =>
+      new Set(faulty.filter((v) => v.climate === climate).map((v) => v.faults[0]!.kind)).size;
     expect([kindsIn('cold'), kindsIn('temperate'), kindsIn('hot')]).toEqual([9, 9, 9]);
     expect(faulty.some((v) => v.faults[0]!.rampDays !== undefined)).toBe(true);
     expect(faulty.some((v) => v.faults[0]!.rampDays === undefined)).toBe(true);
@@ -53,7 +57,7 @@ describe('field scenario (randomised fleets)', () => {
     expect(Math.min(...counts.values())).toBeGreaterThanOrEqual(4);
   });
 
-  it('is deterministic for the seed and reports on the gateway\'s own clock and sample period', () => {
+  it("is deterministic for the seed and reports on the gateway's own clock and sample period", () => {
     const [v] = planFieldFleet({ startMs: START_MS, days: DAYS, seed: 11, vehicles: 3 });
     const a = firstChunk(v!, 11);
     const b = firstChunk(v!, 11);
@@ -93,7 +97,9 @@ describe('field scenario (randomised fleets)', () => {
     const daily: number[] = [];
     for (const seed of [1000, 1001, 1002, 1003]) {
       const fleet = planFieldFleet({ startMs: summer, days: 21, seed, vehicles: 10 });
-      const hotHeavy = fleet.filter((v) => v.climate === 'hot' && (v.duty === 'long-haul' || v.duty === 'bus') && v.faults.length === 0);
+      const hotHeavy = fleet.filter(
+        (v) => v.climate === 'hot' && (v.duty === 'long-haul' || v.duty === 'bus') && v.faults.length === 0,
+      );
       expect(hotHeavy.length, `seed ${seed}`).toBeGreaterThan(0);
       for (const v of hotHeavy) {
         const peaks = new Map<number, number>();
@@ -114,4 +120,3 @@ describe('field scenario (randomised fleets)', () => {
     expect(daily.at(-1)!).toBeLessThan(129);
   });
 });
-

@@ -20,14 +20,16 @@ describe('planFleet', () => {
   it('plans an evaluation fleet with every fault kind at least six times after three weeks of healthy history', () => {
     const fleet = planFleet({ startMs: START_MS, days: 49, seed: 3, vehicles: 80, scenario: 'evaluation' });
     const truth = groundTruth(fleet);
-    for (const kind of FAULT_KINDS) expect(truth.filter((t) => t.faults.some((f) => f.kind === kind)).length).toBeGreaterThanOrEqual(6);
+    for (const kind of FAULT_KINDS)
+      expect(truth.filter((t) => t.faults.some((f) => f.kind === kind)).length).toBeGreaterThanOrEqual(6);
     for (const group of ['healthy-cold', 'healthy-temperate', 'healthy-hot', 'healthy-heavy-load']) {
       expect(truth.filter((t) => t.group === group).length).toBeGreaterThanOrEqual(4);
     }
-    for (const v of fleet) for (const f of v.faults) {
-      expect(f.onsetMs - START_MS).toBeGreaterThanOrEqual(21 * DAY_MS);
-      expect(f.onsetMs).toBeLessThanOrEqual(START_MS + (49 - 14) * DAY_MS);
-    }
+    for (const v of fleet)
+      for (const f of v.faults) {
+        expect(f.onsetMs - START_MS).toBeGreaterThanOrEqual(21 * DAY_MS);
+        expect(f.onsetMs).toBeLessThanOrEqual(START_MS + (49 - 14) * DAY_MS);
+      }
   });
 
   it('gives the same fleet and the same samples for the same seed, and different samples for another seed', () => {
@@ -35,7 +37,8 @@ describe('planFleet', () => {
     const a = planFleet({ ...opts, vehicles: 4 });
     expect(planFleet({ ...opts, vehicles: 4 })).toEqual(a);
     const v = a[0]!;
-    const run = (seed: number): number[] => [...simulateVehicle(v, { ...opts, seed })].flatMap((c) => [...c.coolant, ...c.ts]);
+    const run = (seed: number): number[] =>
+      [...simulateVehicle(v, { ...opts, seed })].flatMap((c) => [...c.coolant, ...c.ts]);
     expect(run(5)).toEqual(run(5));
     expect(run(6)).not.toEqual(run(5));
   });

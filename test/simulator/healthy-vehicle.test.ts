@@ -28,7 +28,8 @@ function warmUp(s: Series, i0: number, thresholdC: number): { minutes: number; i
       runningMs += dt; // longer gaps are engine-off stops (or lost samples): not counted
       if (s.speedKph[i] === 0) idleMs += dt;
     }
-    if ((s.coolantTrue[i] as number) >= thresholdC) return { minutes: runningMs / 60_000, idleShare: idleMs / runningMs };
+    if ((s.coolantTrue[i] as number) >= thresholdC)
+      return { minutes: runningMs / 60_000, idleShare: idleMs / runningMs };
   }
   return { minutes: Number.NaN, idleShare: runningMs > 0 ? idleMs / runningMs : 1 };
 }
@@ -53,7 +54,9 @@ describe('healthy vehicles', () => {
       expect(starts.length).toBeGreaterThanOrEqual(10);
       // Like the OBD monitor, skip warm-ups spent mostly idling (the monitor is suspended when
       // idling exceeds half the warm-up time: 13 CCR 1968.2(e)(10), secondary sources).
-      const warmUps = starts.map((i) => warmUp(s, i, v.thermostatOpenC - OBD_WARM_MARGIN_C)).filter((w) => w.idleShare <= 0.5);
+      const warmUps = starts
+        .map((i) => warmUp(s, i, v.thermostatOpenC - OBD_WARM_MARGIN_C))
+        .filter((w) => w.idleShare <= 0.5);
       expect(warmUps.length).toBeGreaterThanOrEqual(3);
       const inTime = warmUps.filter((w) => w.minutes <= WARM_UP_LIMIT_MIN[light ? 'light' : 'heavy']).length;
       expect(inTime / warmUps.length).toBeGreaterThanOrEqual(0.85);

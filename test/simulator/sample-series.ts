@@ -40,13 +40,19 @@ export function coldStarts(s: Series, fromMs = -Infinity): number[] {
   for (let i = 0; i < s.ts.length; i++) {
     const t = s.ts[i] as number;
     const gap = i === 0 ? Infinity : t - (s.ts[i - 1] as number);
-    if (t >= fromMs && gap >= COLD_SOAK_MS && Math.abs((s.coolantTrue[i] as number) - (s.ambient[i] as number)) < 8) starts.push(i);
+    if (t >= fromMs && gap >= COLD_SOAK_MS && Math.abs((s.coolantTrue[i] as number) - (s.ambient[i] as number)) < 8)
+      starts.push(i);
   }
   return starts;
 }
 
 /** Samples from index i0 for `minutes`, x in minutes since i0, with NaN where samples are over 90 s apart. */
-export function window(s: Series, i0: number, minutes: number, field: keyof Series = 'coolant'): { x: number[]; y: number[] } {
+export function window(
+  s: Series,
+  i0: number,
+  minutes: number,
+  field: keyof Series = 'coolant',
+): { x: number[]; y: number[] } {
   const x: number[] = [];
   const y: number[] = [];
   const t0 = s.ts[i0] as number;

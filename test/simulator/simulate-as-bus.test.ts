@@ -31,30 +31,56 @@ function decodedRows(text: string, protocol: 'j1939' | 'obd'): Row[] {
   for (const line of text.trimEnd().split('\n')) {
     const f = JSON.parse(line) as { vehicleId: string; ts: number; canId?: string; data: string };
     const n = parseHexBytes(f.data, bytes);
-    const reason = protocol === 'j1939' ? c.j1939(f.vehicleId, f.ts, parseHexNumber(f.canId!), bytes, n) : c.obdResponse(f.vehicleId, f.ts, bytes, n);
+    const reason =
+      protocol === 'j1939'
+        ? c.j1939(f.vehicleId, f.ts, parseHexNumber(f.canId!), bytes, n)
+        : c.obdResponse(f.vehicleId, f.ts, bytes, n);
     expect(reason).toBeNull();
   }
   const rows: Row[] = [];
   for (const [id, pre] of c.vehicles) {
     const r = alignReadings(rollUp(pre, 10_000), -Infinity, Infinity, emptyDerivedReadings());
-    for (let i = 0; i < r.length; i++) rows.push([id, r.tsMs[i]!, r.coolantC[i]!, r.ambientC[i]!, r.speedKph[i]!, r.rpm[i]!]);
+    for (let i = 0; i < r.length; i++)
+      rows.push([id, r.tsMs[i]!, r.coolantC[i]!, r.ambientC[i]!, r.speedKph[i]!, r.rpm[i]!]);
   }
   return rows;
 }
 
 function readingRows(text: string, roundAmbient: boolean): Row[] {
-  return text.trimEnd().split('\n').map((line) => {
-    const r = JSON.parse(line) as { vehicleId: string; ts: string; coolant: number; ambient: number | null; speedKph: number | null; rpm: number | null };
-    const ambient = r.ambient ?? NaN;
-    return [r.vehicleId, Date.parse(r.ts), r.coolant, roundAmbient ? Math.round(ambient) + 0 : ambient, r.speedKph ?? NaN, r.rpm ?? NaN];
-  });
+  return text
+    .trimEnd()
+    .split('\n')
+    .map((line) => {
+      const r = JSON.parse(line) as {
+        vehicleId: string;
+        ts: string;
+        coolant: number;
+        ambient: number | null;
+        speedKph: number | null;
+        rpm: number | null;
+      };
+      const ambient = r.ambient ?? NaN;
+      return [
+        r.vehicleId,
+        Date.parse(r.ts),
+        r.coolant,
+        roundAmbient ? Math.round(ambient) + 0 : ambient,
+        r.speedKph ?? NaN,
+        r.rpm ?? NaN,
+      ];
+    });
 }
 
 describe('thermocline simulate --as', () => {
   it('writes J1939 frames that decode and align to exactly the readings it writes otherwise', async () => {
     const readings = await readFile(join(await simulate('readings'), 'readings.ndjson'), 'utf8');
     const frames = await readFile(join(await simulate('j1939'), 'frames.ndjson'), 'utf8');
-    expect(JSON.parse(frames.slice(0, frames.indexOf('\n')))).toEqual({ vehicleId: expect.any(String), ts: expect.any(Number), canId: '18FEEE00', data: expect.stringMatching(/^[0-9A-F]{16}$/) });
+    expect(JSON.parse(frames.slice(0, frames.indexOf('\n')))).toEqual({
+      vehicleId: expect.any(String),
+      ts: expect.any(Number),
+      canId: '18FEEE00',
+      data: expect.stringMatching(/^[0-9A-F]{16}$/),
+    });
     expect(decodedRows(frames, 'j1939')).toEqual(readingRows(readings, false));
   });
 

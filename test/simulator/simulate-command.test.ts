@@ -19,22 +19,29 @@ describe('NdjsonEncoder', () => {
   it('writes exactly what JSON.stringify writes for each reading', () => {
     const chunk: SampleChunk = {
       length: 4,
-      ts: Float64Array.from([Date.UTC(2026, 9, 5, 6, 12, 30), Date.UTC(2026, 9, 5, 6, 59, 59), Date.UTC(2026, 9, 5, 7, 0, 0, 250), Date.UTC(2027, 0, 1)]),
+      ts: Float64Array.from([
+        Date.UTC(2026, 9, 5, 6, 12, 30),
+        Date.UTC(2026, 9, 5, 6, 59, 59),
+        Date.UTC(2026, 9, 5, 7, 0, 0, 250),
+        Date.UTC(2027, 0, 1),
+      ]),
       coolant: Float64Array.from([23, -40, 210, 0]),
       ambient: Float64Array.from([7.5, -12.03125, 0.1, -0.5]),
       speedKph: Float64Array.from([0, 87, 12.5, 100]),
       rpm: Float64Array.from([700, 1450, 2210, 1e21]),
       coolantTrue: new Float64Array(4),
     };
-    const expected = Array.from({ length: 4 }, (_, i) =>
-      JSON.stringify({
-        vehicleId: 'RV-101',
-        ts: new Date(chunk.ts[i]!).toISOString(),
-        coolant: chunk.coolant[i],
-        ambient: chunk.ambient[i],
-        speedKph: chunk.speedKph[i],
-        rpm: chunk.rpm[i],
-      }) + '\n',
+    const expected = Array.from(
+      { length: 4 },
+      (_, i) =>
+        JSON.stringify({
+          vehicleId: 'RV-101',
+          ts: new Date(chunk.ts[i]!).toISOString(),
+          coolant: chunk.coolant[i],
+          ambient: chunk.ambient[i],
+          speedKph: chunk.speedKph[i],
+          rpm: chunk.rpm[i],
+        }) + '\n',
     ).join('');
     expect(new NdjsonEncoder('RV-101').lines(chunk)).toBe(expected);
   });
@@ -50,7 +57,12 @@ describe('thermocline simulate', () => {
     expect(await readFile(join(b, 'readings.ndjson'), 'utf8')).toBe(readings);
     const lines = readings.trimEnd().split('\n');
     const fleet = planFleet({ startMs: Date.UTC(2026, 9, 5), days: 2, seed: 4, vehicles: 3, scenario: 'evaluation' });
-    const expectedCount = fleet.reduce((n, v) => n + [...simulateVehicle(v, { startMs: Date.UTC(2026, 9, 5), days: 2, seed: 4 })].reduce((m, c) => m + c.length, 0), 0);
+    const expectedCount = fleet.reduce(
+      (n, v) =>
+        n +
+        [...simulateVehicle(v, { startMs: Date.UTC(2026, 9, 5), days: 2, seed: 4 })].reduce((m, c) => m + c.length, 0),
+      0,
+    );
     expect(lines).toHaveLength(expectedCount);
     const first = JSON.parse(lines[0]!);
     expect(Object.keys(first)).toEqual(['vehicleId', 'ts', 'coolant', 'ambient', 'speedKph', 'rpm']);
@@ -59,7 +71,9 @@ describe('thermocline simulate', () => {
     expect(vehicles[0]).not.toHaveProperty('faults');
     expect(vehicles[0]).toMatchObject({ engineFamily: expect.any(String), thermostatOpenC: expect.any(Number) });
     const truth = JSON.parse(await readFile(join(a, 'truth.json'), 'utf8'));
-    expect(truth.map((t: { vehicleId: string }) => t.vehicleId)).toEqual(vehicles.map((v: { vehicleId: string }) => v.vehicleId));
+    expect(truth.map((t: { vehicleId: string }) => t.vehicleId)).toEqual(
+      vehicles.map((v: { vehicleId: string }) => v.vehicleId),
+    );
   });
 
   it('refuses bad options with exit code 2', async () => {

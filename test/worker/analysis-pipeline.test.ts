@@ -21,8 +21,21 @@ async function comparable(id: string) {
   const s = await derivedState(t, [id]);
   const strip = <T extends { vehicle_id: string }>(rows: T[]) => rows.map(({ vehicle_id: _v, ...rest }) => rest);
   return {
-    runs: strip(s.runs), days: strip(s.days), sensorEvents: strip(s.sensorEvents), risk: strip(s.risk),
-    findings: s.findings.map((f) => [f.finding_key, f.kind, f.severity, f.confidence, f.first_seen, f.last_seen, f.status, f.metrics, f.evidence]),
+    runs: strip(s.runs),
+    days: strip(s.days),
+    sensorEvents: strip(s.sensorEvents),
+    risk: strip(s.risk),
+    findings: s.findings.map((f) => [
+      f.finding_key,
+      f.kind,
+      f.severity,
+      f.confidence,
+      f.first_seen,
+      f.last_seen,
+      f.status,
+      f.metrics,
+      f.evidence,
+    ]),
   };
 }
 
@@ -69,7 +82,11 @@ describe('the analysis pipeline', () => {
     await register('LATE');
     const [gapFrom, gapTo] = dayRange(12);
     const items = readingItems('LATE', arrays);
-    await postReadings(t, key, readingItems('LATE', arrays, -Infinity, gapFrom).concat(readingItems('LATE', arrays, gapTo)));
+    await postReadings(
+      t,
+      key,
+      readingItems('LATE', arrays, -Infinity, gapFrom).concat(readingItems('LATE', arrays, gapTo)),
+    );
     await analyseNow(t, key);
     const withGap = await comparable('LATE');
     expect(withGap).not.toEqual(await comparable('BATCH'));
@@ -80,24 +97,51 @@ describe('the analysis pipeline', () => {
   });
 
   it('resolves the related findings when the thermostat is replaced, and starts a new baseline from that date', async () => {
-    const open = (await t.app.inject({ method: 'GET', url: '/v1/vehicles/BATCH/findings', headers: t.auth(key) })).json().findings
-      .filter((f: { status: string }) => f.status === 'open') as Array<{ id: string; kind: string }>;
+    const open = (await t.app.inject({ method: 'GET', url: '/v1/vehicles/BATCH/findings', headers: t.auth(key) }))
+      .json()
+      .findings.filter((f: { status: string }) => f.status === 'open') as Array<{ id: string; kind: string }>;
     const slow = open.find((f) => f.kind === 'slow-warmup')!;
     const at = new Date(arrays.ts[arrays.ts.length - 1]! - DAY_MS).toISOString();
     const res = await t.app.inject({
-      method: 'POST', url: '/v1/vehicles/BATCH/service-events', headers: t.auth(key), payload: { kind: 'thermostat-replaced', at, notes: 'new 88 °C thermostat' },
+      method: 'POST',
+      url: '/v1/vehicles/BATCH/service-events',
+      headers: t.auth(key),
+      payload: { kind: 'thermostat-replaced', at, notes: 'new 88 °C thermostat' },
     });
     expect(res.statusCode).toBe(201);
-    expect(res.json().event).toMatchObject({ vehicleId: 'BATCH', kind: 'thermostat-replaced', at, notes: 'new 88 °C thermostat' });
+    expect(res.json().event).toMatchObject({
+      vehicleId: 'BATCH',
+      kind: 'thermostat-replaced',
+      at,
+      notes: 'new 88 °C thermostat',
+    });
     expect(res.json().resolvedFindings).toContain(slow.id);
     await analyseNow(t, key);
-    const after = (await t.app.inject({ method: 'GET', url: '/v1/vehicles/BATCH/findings', headers: t.auth(key) })).json().findings as Array<{ id: string; kind: string; status: string; resolvedReason: string | null; key: string }>;
-    expect(after.find((f) => f.id === slow.id)).toMatchObject({ status: 'resolved', resolvedReason: 'service-event:thermostat-replaced' });
+    const after = (
+      await t.app.inject({ method: 'GET', url: '/v1/vehicles/BATCH/findings', headers: t.auth(key) })
+    ).json().findings as Array<{
+      id: string;
+      kind: string;
+      status: string;
+      resolvedReason: string | null;
+      key: string;
+    }>;
+    expect(after.find((f) => f.id === slow.id)).toMatchObject({
+      status: 'resolved',
+      resolvedReason: 'service-event:thermostat-replaced',
+    });
     // The baseline restarts at the repair: any slow-warmup finding now is a new one keyed by that date.
-    for (const f of after.filter((x) => x.kind === 'slow-warmup' && x.status === 'open')) expect(f.key).toBe(`slow-warmup@${at}`);
-    const risk = (await t.app.inject({ method: 'GET', url: '/v1/fleet/at-risk', headers: t.auth(key) })).json().vehicles as Array<{ vehicleId: string; findings: Array<{ id: string }> }>;
+    for (const f of after.filter((x) => x.kind === 'slow-warmup' && x.status === 'open'))
+      expect(f.key).toBe(`slow-warmup@${at}`);
+    const risk = (await t.app.inject({ method: 'GET', url: '/v1/fleet/at-risk', headers: t.auth(key) })).json()
+      .vehicles as Array<{ vehicleId: string; findings: Array<{ id: string }> }>;
     expect(risk.find((v) => v.vehicleId === 'BATCH')?.findings.map((f) => f.id) ?? []).not.toContain(slow.id);
-    const bad = await t.app.inject({ method: 'POST', url: '/v1/vehicles/BATCH/service-events', headers: t.auth(key), payload: { kind: 'wheel-aligned' } });
+    const bad = await t.app.inject({
+      method: 'POST',
+      url: '/v1/vehicles/BATCH/service-events',
+      headers: t.auth(key),
+      payload: { kind: 'wheel-aligned' },
+    });
     expect(bad.statusCode).toBe(400);
   });
 });

@@ -15,7 +15,7 @@ const OPTS = { vehicles: 13, days: 36, seed: 5, startMs: Date.UTC(2026, 8, 7) };
 const t = useTestApp();
 
 describe('detection quality through the HTTP API', () => {
-  it('reproduces the analysis library\'s detection table when a fleet is ingested, analysed and read back day by day', async () => {
+  it("reproduces the analysis library's detection table when a fleet is ingested, analysed and read back day by day", async () => {
     const key = await t.createKey('evaluation', ['ingest', 'read']);
     const fleet = planFleet({ ...OPTS, scenario: 'evaluation' });
     const arrays = new Map<string, SampleArrays>(fleet.map((v) => [v.vehicleId, simulateToArrays(v, OPTS)]));
@@ -29,7 +29,10 @@ describe('detection quality through the HTTP API', () => {
       await analyseNow(t, key);
       const res = await t.app.inject({ method: 'GET', url: '/v1/fleet/at-risk?limit=1000', headers: t.auth(key) });
       expect(res.statusCode).toBe(200);
-      for (const v of res.json().vehicles as Array<{ vehicleId: string; findings: Array<{ id: string; kind: string }> }>) {
+      for (const v of res.json().vehicles as Array<{
+        vehicleId: string;
+        findings: Array<{ id: string; kind: string }>;
+      }>) {
         for (const f of v.findings) if (!raised.get(v.vehicleId)!.has(f.id)) raised.get(v.vehicleId)!.set(f.id, dayEnd);
       }
     }
@@ -38,26 +41,50 @@ describe('detection quality through the HTTP API', () => {
     const lib = evaluateFleet(OPTS);
     const alarms = new Map<string, Array<{ kind: string; atMs: number }>>();
     for (const v of fleet) {
-      const res = await t.app.inject({ method: 'GET', url: `/v1/vehicles/${v.vehicleId}/findings`, headers: t.auth(key) });
-      const findings = res.json().findings as Array<{ id: string; kind: string; evidence: unknown[]; recommendedCheck: string }>;
+      const res = await t.app.inject({
+        method: 'GET',
+        url: `/v1/vehicles/${v.vehicleId}/findings`,
+        headers: t.auth(key),
+      });
+      const findings = res.json().findings as Array<{
+        id: string;
+        kind: string;
+        evidence: unknown[];
+        recommendedCheck: string;
+      }>;
       for (const f of findings) {
         expect(f.evidence.length).toBeGreaterThan(0);
         expect(f.recommendedCheck).toMatch(/Never open a hot pressurised cooling system/);
       }
       const kindOf = new Map(findings.map((f) => [f.id, f.kind]));
-      alarms.set(v.vehicleId, [...raised.get(v.vehicleId)!].map(([id, atMs]) => ({ kind: kindOf.get(id)!, atMs })));
+      alarms.set(
+        v.vehicleId,
+        [...raised.get(v.vehicleId)!].map(([id, atMs]) => ({ kind: kindOf.get(id)!, atMs })),
+      );
     }
-    const http = detectionTable(lib.ours.map((v) => ({ ...v, alarms: alarms.get(v.vehicleId)! })), EXPECTED_FINDINGS);
+    const http = detectionTable(
+      lib.ours.map((v) => ({ ...v, alarms: alarms.get(v.vehicleId)! })),
+      EXPECTED_FINDINGS,
+    );
     const library = detectionTable(lib.ours, EXPECTED_FINDINGS);
-    console.log(`${formatDetectionTable(`through HTTP (${testDatabaseKind()})`, http)}\n\n${formatDetectionTable('analysis library, replayed daily', library)}`);
+    console.log(
+      `${formatDetectionTable(`through HTTP (${testDatabaseKind()})`, http)}\n\n${formatDetectionTable('analysis library, replayed daily', library)}`,
+    );
 
     expect(http.faults.map((f) => f.faultKind).sort()).toEqual([...FAULT_KINDS].sort());
-    expect(http.healthy.map((h) => h.group)).toEqual(['healthy-cold', 'healthy-heavy-load', 'healthy-hot', 'healthy-temperate']);
+    expect(http.healthy.map((h) => h.group)).toEqual([
+      'healthy-cold',
+      'healthy-heavy-load',
+      'healthy-hot',
+      'healthy-temperate',
+    ]);
     for (const line of library.faults) {
       const got = http.faults.find((f) => f.faultKind === line.faultKind)!;
       expect(got.rightKind, line.faultKind).toBe(line.rightKind);
-      if (line.medianDelayDays !== null) expect(Math.abs(got.medianDelayDays! - line.medianDelayDays), line.faultKind).toBeLessThanOrEqual(1);
+      if (line.medianDelayDays !== null)
+        expect(Math.abs(got.medianDelayDays! - line.medianDelayDays), line.faultKind).toBeLessThanOrEqual(1);
     }
-    for (const line of library.healthy) expect(http.healthy.find((h) => h.group === line.group)!.falseAlarms, line.group).toBe(line.falseAlarms);
+    for (const line of library.healthy)
+      expect(http.healthy.find((h) => h.group === line.group)!.falseAlarms, line.group).toBe(line.falseAlarms);
   });
 });

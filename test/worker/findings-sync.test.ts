@@ -13,22 +13,36 @@ let tdb: TestDatabase;
 beforeAll(async () => {
   tdb = await createTestDatabase();
   await sql`insert into vehicles (vehicle_id, fleet_id) values ('S-1', 'f'), ('S-2', 'f')`.execute(tdb.handle.db);
-  await sql`insert into vehicle_analysis (vehicle_id, fleet_id, last_reading_at) values ('S-1', 'f', to_timestamp(${T / 1000})), ('S-2', 'f', to_timestamp(${T / 1000}))`.execute(tdb.handle.db);
+  await sql`insert into vehicle_analysis (vehicle_id, fleet_id, last_reading_at) values ('S-1', 'f', to_timestamp(${T / 1000})), ('S-2', 'f', to_timestamp(${T / 1000}))`.execute(
+    tdb.handle.db,
+  );
 });
 afterAll(async () => tdb.drop());
 
 function finding(over: Partial<Finding> = {}): Finding {
   return {
-    key: 'overshoot@2026-09-01T00:00:00.000Z', kind: 'overshoot', subKind: null, severity: 'warning', confidence: 0.8,
-    firstSeen: T - 10 * DAY_MS, lastSeen: T - DAY_MS, summary: 'overshoots', recommendedCheck: 'check', troubleCode: null,
-    metrics: { medianZ: 3.1 }, evidence: [{ at: T - DAY_MS, scope: 'run', metric: 'overshootC', value: 9, expected: 3, z: 3.1 }], ...over,
+    key: 'overshoot@2026-09-01T00:00:00.000Z',
+    kind: 'overshoot',
+    subKind: null,
+    severity: 'warning',
+    confidence: 0.8,
+    firstSeen: T - 10 * DAY_MS,
+    lastSeen: T - DAY_MS,
+    summary: 'overshoots',
+    recommendedCheck: 'check',
+    troubleCode: null,
+    metrics: { medianZ: 3.1 },
+    evidence: [{ at: T - DAY_MS, scope: 'run', metric: 'overshootC', value: 9, expected: 3, z: 3.1 }],
+    ...over,
   };
 }
 
 const stored = (vehicleId: string) =>
   tdb.handle.db.selectFrom('findings').selectAll().where('vehicle_id', '=', vehicleId).orderBy('finding_key').execute();
 const sync = (vehicleId: string, asOfMs: number, derived: Finding[]) =>
-  tdb.handle.db.transaction().execute((trx) => syncFindings(trx, { vehicleId, fleetId: 'f', asOfMs, derived, quietPeriodMs: QUIET_MS }));
+  tdb.handle.db
+    .transaction()
+    .execute((trx) => syncFindings(trx, { vehicleId, fleetId: 'f', asOfMs, derived, quietPeriodMs: QUIET_MS }));
 
 describe('syncing derived findings into the findings table', () => {
   it('inserts a new finding as open, raised at the analysis time, and leaves an unchanged one untouched on a re-run', async () => {
@@ -43,7 +57,9 @@ describe('syncing derived findings into the findings table', () => {
   });
 
   it('updates the content of a finding by its key and keeps its acknowledgement', async () => {
-    await sql`update findings set status = 'acknowledged', acknowledged_by = 'planner' where vehicle_id = 'S-1'`.execute(tdb.handle.db);
+    await sql`update findings set status = 'acknowledged', acknowledged_by = 'planner' where vehicle_id = 'S-1'`.execute(
+      tdb.handle.db,
+    );
     await sync('S-1', T + DAY_MS, [finding({ severity: 'critical', lastSeen: T, confidence: 0.9 })]);
     const rows = await stored('S-1');
     expect(rows).toHaveLength(1);
@@ -69,17 +85,28 @@ describe('syncing derived findings into the findings table', () => {
 
   it('keeps a finding resolved by a repair resolved even when derived again', async () => {
     await sync('S-2', T, [finding()]);
-    await sql`update findings set status = 'resolved', resolved_reason = 'service-event:thermostat-replaced' where vehicle_id = 'S-2'`.execute(tdb.handle.db);
+    await sql`update findings set status = 'resolved', resolved_reason = 'service-event:thermostat-replaced' where vehicle_id = 'S-2'`.execute(
+      tdb.handle.db,
+    );
     await sync('S-2', T + DAY_MS, [finding({ lastSeen: T })]);
-    expect((await stored('S-2'))[0]).toMatchObject({ status: 'resolved', resolved_reason: 'service-event:thermostat-replaced' });
+    expect((await stored('S-2'))[0]).toMatchObject({
+      status: 'resolved',
+      resolved_reason: 'service-event:thermostat-replaced',
+    });
   });
 
-  it('scores risk from open findings only, at the vehicle\'s latest reading', async () => {
-    await sync('S-2', T, [finding({ key: 'boil-margin@x', kind: 'boil-margin', severity: 'critical', confidence: 1, lastSeen: T })]);
+  it("scores risk from open findings only, at the vehicle's latest reading", async () => {
+    await sync('S-2', T, [
+      finding({ key: 'boil-margin@x', kind: 'boil-margin', severity: 'critical', confidence: 1, lastSeen: T }),
+    ]);
     const risk = await tdb.handle.db.transaction().execute((trx) => refreshVehicleRisk(trx, 'S-2'));
     // risk-score.ts: one certain, current critical finding weighs 0.95 → 95 (its JSDoc example).
     expect(risk).toBe(95);
-    const row = await tdb.handle.db.selectFrom('vehicle_analysis').selectAll().where('vehicle_id', '=', 'S-2').executeTakeFirstOrThrow();
+    const row = await tdb.handle.db
+      .selectFrom('vehicle_analysis')
+      .selectAll()
+      .where('vehicle_id', '=', 'S-2')
+      .executeTakeFirstOrThrow();
     expect(row).toMatchObject({ risk_score: 95, open_findings: 1, max_severity: 'critical' });
   });
 });

@@ -16,13 +16,31 @@ async function comparable(id: string) {
   const s = await derivedState(t, [id]);
   const strip = <T extends { vehicle_id: string }>(rows: T[]) => rows.map(({ vehicle_id: _v, ...rest }) => rest);
   return {
-    runs: strip(s.runs), days: strip(s.days), sensorEvents: strip(s.sensorEvents), risk: strip(s.risk),
-    findings: s.findings.map((f) => [f.finding_key, f.kind, f.severity, f.confidence, f.first_seen, f.last_seen, f.status, f.metrics, f.evidence]),
+    runs: strip(s.runs),
+    days: strip(s.days),
+    sensorEvents: strip(s.sensorEvents),
+    risk: strip(s.risk),
+    findings: s.findings.map((f) => [
+      f.finding_key,
+      f.kind,
+      f.severity,
+      f.confidence,
+      f.first_seen,
+      f.last_seen,
+      f.status,
+      f.metrics,
+      f.evidence,
+    ]),
   };
 }
 
 async function readings(id: string) {
-  const rows = await t.tdb.handle.db.selectFrom('readings').selectAll().where('vehicle_id', '=', id).orderBy('ts').execute();
+  const rows = await t.tdb.handle.db
+    .selectFrom('readings')
+    .selectAll()
+    .where('vehicle_id', '=', id)
+    .orderBy('ts')
+    .execute();
   return rows.map(({ vehicle_id: _v, ...rest }) => rest);
 }
 
@@ -30,7 +48,9 @@ async function postLines(protocol: 'j1939' | 'obd', text: string): Promise<void>
   const lines = text.trimEnd().split('\n');
   for (let i = 0; i < lines.length; i += FRAMES_PER_REQUEST) {
     const res = await t.app.inject({
-      method: 'POST', url: `/v1/frames/${protocol}`, headers: { ...t.auth(key), 'content-type': 'application/x-ndjson' },
+      method: 'POST',
+      url: `/v1/frames/${protocol}`,
+      headers: { ...t.auth(key), 'content-type': 'application/x-ndjson' },
       payload: lines.slice(i, i + FRAMES_PER_REQUEST).join('\n'),
     });
     expect(res.statusCode, res.body).toBe(200);
@@ -44,7 +64,8 @@ beforeAll(async () => {
   const arrays = simulateToArrays(vehicle, OPTS);
   const chunk = { length: arrays.ts.length, ...arrays };
   const roundedAmbient = { ...arrays, ambient: arrays.ambient.map((a) => Math.round(a) + 0) };
-  for (const id of ['AS-READINGS', 'AS-J1939', 'AS-READINGS-1C', 'AS-OBD']) await putProfile(t, key, { ...vehicle, vehicleId: id });
+  for (const id of ['AS-READINGS', 'AS-J1939', 'AS-READINGS-1C', 'AS-OBD'])
+    await putProfile(t, key, { ...vehicle, vehicleId: id });
   await postReadings(t, key, readingItems('AS-READINGS', arrays));
   await postReadings(t, key, readingItems('AS-READINGS-1C', roundedAmbient));
   await postLines('j1939', busLines('AS-J1939', chunk, 'j1939'));

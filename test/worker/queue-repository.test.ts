@@ -23,22 +23,41 @@ beforeEach(async () => {
 });
 
 const row = async (vehicleId: string) =>
-  sql<{ locked_by: string | null; attempts: number; last_error: string | null; dirty_from: Date; leased_from: Date | null; run_after: Date; now: Date }>`
+  sql<{
+    locked_by: string | null;
+    attempts: number;
+    last_error: string | null;
+    dirty_from: Date;
+    leased_from: Date | null;
+    run_after: Date;
+    now: Date;
+  }>`
     select locked_by, attempts, last_error, dirty_from, leased_from, run_after, now() as now from analysis_queue where vehicle_id = ${vehicleId}`
-    .execute(tdb.handle.db).then((r) => r.rows[0]);
+    .execute(tdb.handle.db)
+    .then((r) => r.rows[0]);
 
 /** Ingests one reading per vehicle through the real ingest path (which enqueues like gateways do). */
 async function ingest(readings: Array<[string, number]>) {
   const repo = createReadingsRepository(tdb.handle, new PartitionKeeper());
   const n = readings.length;
   const chunk: ReadingChunk = {
-    length: n, vehicleIds: readings.map((r) => r[0]), tsMs: Float64Array.from(readings.map((r) => r[1])), coolantC: new Float64Array(n).fill(80),
-    ambientC: new Float64Array(n).fill(NaN), speedKph: new Float64Array(n).fill(NaN), rpm: new Float64Array(n).fill(NaN),
+    length: n,
+    vehicleIds: readings.map((r) => r[0]),
+    tsMs: Float64Array.from(readings.map((r) => r[1])),
+    coolantC: new Float64Array(n).fill(80),
+    ambientC: new Float64Array(n).fill(NaN),
+    speedKph: new Float64Array(n).fill(NaN),
+    rpm: new Float64Array(n).fill(NaN),
   };
   async function* one() {
     yield chunk;
   }
-  return repo.ingest('fleet-q', one(), { keyId: 'test', contentType: 'application/json', bodyBytes: () => 0, rejected: () => 0 });
+  return repo.ingest('fleet-q', one(), {
+    keyId: 'test',
+    contentType: 'application/json',
+    bodyBytes: () => 0,
+    rejected: () => 0,
+  });
 }
 
 describe('analysis queue leasing', () => {
@@ -79,7 +98,10 @@ describe('analysis queue leasing', () => {
   it('releases the row on finish when readings arrived during the lease, with exactly their earliest time as the new window', async () => {
     await ingest([['Q-E', T0]]);
     const [lease] = await queue.lease('w1', 1, 60_000);
-    await ingest([['Q-E', T0 + 5 * HOUR_MS], ['Q-E', T0 + 3 * HOUR_MS]]);
+    await ingest([
+      ['Q-E', T0 + 5 * HOUR_MS],
+      ['Q-E', T0 + 3 * HOUR_MS],
+    ]);
     expect(await queue.finish('w1', lease!)).toBe('again');
     const r = await row('Q-E');
     expect(r).toMatchObject({ locked_by: null, attempts: 0, leased_from: null });
@@ -119,7 +141,9 @@ describe('analysis queue leasing', () => {
     const [lease] = await queue.lease('dead', 1, 60_000);
     await ingest([['Q-G', T0 + HOUR_MS]]);
     // The lease runs out (moved into the past rather than waited for).
-    await sql`update analysis_queue set locked_until = now() - interval '1 second' where vehicle_id = 'Q-G'`.execute(tdb.handle.db);
+    await sql`update analysis_queue set locked_until = now() - interval '1 second' where vehicle_id = 'Q-G'`.execute(
+      tdb.handle.db,
+    );
     expect(await queue.holds('dead', 'Q-G')).toBe(false);
     expect(await queue.sweepExpired()).toEqual(['Q-G']);
     const r = await row('Q-G');
@@ -129,12 +153,14 @@ describe('analysis queue leasing', () => {
     expect(await row('Q-G')).toBeDefined();
   });
 
-  it('lets another worker take over an expired lease directly, with the dead worker\'s window', async () => {
+  it("lets another worker take over an expired lease directly, with the dead worker's window", async () => {
     await ingest([['Q-H', T0]]);
     await queue.lease('dead', 1, 60_000);
     await ingest([['Q-H', T0 + HOUR_MS]]);
     expect(await queue.lease('w2', 1, 60_000)).toEqual([]);
-    await sql`update analysis_queue set locked_until = now() - interval '1 second' where vehicle_id = 'Q-H'`.execute(tdb.handle.db);
+    await sql`update analysis_queue set locked_until = now() - interval '1 second' where vehicle_id = 'Q-H'`.execute(
+      tdb.handle.db,
+    );
     const [taken] = await queue.lease('w2', 1, 60_000);
     expect(taken).toMatchObject({ vehicleId: 'Q-H', windowFromMs: T0, attempts: 2 });
   });
@@ -152,7 +178,11 @@ describe('analysis queue leasing', () => {
     await queue.lease('w1', 1, 1000);
     expect(await queue.extend('w2', ['Q-J'], 60_000)).toBe(0);
     expect(await queue.extend('w1', ['Q-J'], 60_000)).toBe(1);
-    const r = await sql<{ left_ms: number }>`select extract(epoch from locked_until - now()) * 1000 as left_ms from analysis_queue where vehicle_id = 'Q-J'`.execute(tdb.handle.db);
+    const r = await sql<{
+      left_ms: number;
+    }>`select extract(epoch from locked_until - now()) * 1000 as left_ms from analysis_queue where vehicle_id = 'Q-J'`.execute(
+      tdb.handle.db,
+    );
     expect(Number(r.rows[0]!.left_ms)).toBeGreaterThan(50_000);
   });
 });

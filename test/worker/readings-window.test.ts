@@ -40,7 +40,7 @@ beforeAll(async () => {
 afterAll(async () => tdb.drop());
 
 describe('readWindows', () => {
-  it('reads several vehicles\' windows at once exactly as Postgres prints each one alone, ascending in time', async () => {
+  it("reads several vehicles' windows at once exactly as Postgres prints each one alone, ascending in time", async () => {
     const windows = [
       { vehicleId: 'RW-A', fromMs: T0 + 0.5 * HOUR_MS, toMs: T0 + 1.5 * HOUR_MS },
       { vehicleId: 'RW-B', fromMs: T0, toMs: T0 + 2 * HOUR_MS },
@@ -71,11 +71,12 @@ describe('readWindows', () => {
     expect(other).toEqual(await readWindowAsText(tdb.handle, 'RW-C', T0, T0 + HOUR_MS));
   });
 
-  it('reads windows longer than their buffers\' first room into buffers reused from read to read, with a prefix and late rows', async () => {
+  it("reads windows longer than their buffers' first room into buffers reused from read to read, with a prefix and late rows", async () => {
     // RW-D: 9,000 readings a second apart, its 6,000th to 7,000th arriving late in reverse.
     const d0 = T0 + 3 * HOUR_MS;
     const rows: Array<[string, number, number, number | null]> = [];
-    for (let i = 0; i < 9000; i++) if (i < 6000 || i >= 7000) rows.push(['RW-D', d0 + i * 1000, 60 + i / 9, 10 + (i % 11) / 3]);
+    for (let i = 0; i < 9000; i++)
+      if (i < 6000 || i >= 7000) rows.push(['RW-D', d0 + i * 1000, 60 + i / 9, 10 + (i % 11) / 3]);
     await insert(rows);
     const late: Array<[string, number, number, number | null]> = [];
     for (let i = 6999; i >= 6000; i--) late.push(['RW-D', d0 + i * 1000, 70.1 + i / 13, null]);
@@ -83,17 +84,31 @@ describe('readWindows', () => {
     const mid = d0 + 5000 * 1000;
     const end = d0 + 9000 * 1000;
     const buffers = new WindowBuffers();
-    const [c, head] = await readWindows(tdb.handle, [
-      { vehicleId: 'RW-C', fromMs: T0, toMs: T0 + HOUR_MS },
-      { vehicleId: 'RW-D', fromMs: d0, toMs: mid },
-    ], buffers);
+    const [c, head] = await readWindows(
+      tdb.handle,
+      [
+        { vehicleId: 'RW-C', fromMs: T0, toMs: T0 + HOUR_MS },
+        { vehicleId: 'RW-D', fromMs: d0, toMs: mid },
+      ],
+      buffers,
+    );
     expect(c).toEqual(await readWindowAsText(tdb.handle, 'RW-C', T0, T0 + HOUR_MS));
     expect(head).toEqual(await readWindowAsText(tdb.handle, 'RW-D', d0, mid));
-    const kept = { ts: head!.ts.slice(), coolant: head!.coolant.slice(), ambient: head!.ambient.slice(), speedKph: head!.speedKph.slice(), rpm: head!.rpm.slice() };
-    const [joined, b] = await readWindows(tdb.handle, [
-      { vehicleId: 'RW-D', fromMs: mid, toMs: end, prefix: kept },
-      { vehicleId: 'RW-B', fromMs: T0, toMs: T0 + 2 * HOUR_MS },
-    ], buffers);
+    const kept = {
+      ts: head!.ts.slice(),
+      coolant: head!.coolant.slice(),
+      ambient: head!.ambient.slice(),
+      speedKph: head!.speedKph.slice(),
+      rpm: head!.rpm.slice(),
+    };
+    const [joined, b] = await readWindows(
+      tdb.handle,
+      [
+        { vehicleId: 'RW-D', fromMs: mid, toMs: end, prefix: kept },
+        { vehicleId: 'RW-B', fromMs: T0, toMs: T0 + 2 * HOUR_MS },
+      ],
+      buffers,
+    );
     const whole = await readWindowAsText(tdb.handle, 'RW-D', d0, end);
     expect(whole.ts.length).toBe(9000);
     expect(joined).toEqual(whole);
@@ -102,7 +117,7 @@ describe('readWindows', () => {
 });
 
 describe('WindowBuffers', () => {
-  it('holds at most twice the largest read\'s rows when each read\'s rows fall in another window', () => {
+  it("holds at most twice the largest read's rows when each read's rows fall in another window", () => {
     const buffers = new WindowBuffers();
     const windows = 8;
     const rows = 200_000;

@@ -47,7 +47,8 @@ describe.skipIf(testDatabaseKind() !== 'postgres')('real worker processes on Pos
     await seedVehicles(ids);
     const pair = [start({ WORKER_BATCH_SIZE: '1' }), start({ WORKER_BATCH_SIZE: '1' })];
     const passes = () => pair.flatMap((w) => w.analysed());
-    const doneAfter = (since: number) => () => ids.every((id) => passes().some((p) => p.vehicleId === id && p.queue === 'done' && p.startedAt >= since));
+    const doneAfter = (since: number) => () =>
+      ids.every((id) => passes().some((p) => p.vehicleId === id && p.queue === 'done' && p.startedAt >= since));
     const waitAll = (since: number) => Promise.race(pair.map((w) => w.waitFor(doneAfter(since), 90_000)));
     await waitAll(0);
     // More rounds while both run: every vehicle dirty again, analysed again by whichever worker leases it.
@@ -62,14 +63,19 @@ describe.skipIf(testDatabaseKind() !== 'postgres')('real worker processes on Pos
     for (const p of passes()) byVehicle.set(p.vehicleId, [...(byVehicle.get(p.vehicleId) ?? []), p]);
     for (const [id, list] of byVehicle) {
       list.sort((a, b) => a.startedAt - b.startedAt);
-      for (let i = 1; i < list.length; i++) expect(list[i]!.startedAt, `${id}: pass ${i} began before pass ${i - 1} ended`).toBeGreaterThanOrEqual(list[i - 1]!.finishedAt);
+      for (let i = 1; i < list.length; i++)
+        expect(list[i]!.startedAt, `${id}: pass ${i} began before pass ${i - 1} ended`).toBeGreaterThanOrEqual(
+          list[i - 1]!.finishedAt,
+        );
     }
     expect(pair.every((w) => w.analysed().length > 0)).toBe(true);
     expect(new Set(passes().map((p) => p.workerId)).size).toBe(2);
 
     for (const w of pair) w.kill('SIGTERM');
     expect((await Promise.all(pair.map((w) => w.exited))).map((e) => e.code)).toEqual([0, 0]);
-    const left = await sql<{ n: number }>`select count(*)::int as n from analysis_queue where vehicle_id like 'P-%'`.execute(tdb.handle.db);
+    const left = await sql<{
+      n: number;
+    }>`select count(*)::int as n from analysis_queue where vehicle_id like 'P-%'`.execute(tdb.handle.db);
     expect(left.rows[0]!.n).toBe(0);
   });
 
@@ -80,17 +86,33 @@ describe.skipIf(testDatabaseKind() !== 'postgres')('real worker processes on Pos
     await victim.waitFor((lines) => lines.some((l) => l.msg === 'vehicle analysed'));
     victim.kill('SIGKILL');
     expect((await victim.exited).signal).toBe('SIGKILL');
-    const held = await sql<{ vehicle_id: string }>`select vehicle_id from analysis_queue where vehicle_id like 'K-%' and locked_by is not null`.execute(tdb.handle.db);
+    const held = await sql<{
+      vehicle_id: string;
+    }>`select vehicle_id from analysis_queue where vehicle_id like 'K-%' and locked_by is not null`.execute(
+      tdb.handle.db,
+    );
     expect(held.rows.length).toBeGreaterThan(0);
 
     const rescuer = start({ WORKER_BATCH_SIZE: '6', WORKER_LEASE_MS: '1500' });
     const finishedByVictim = new Set(victim.analysed().map((p) => p.vehicleId));
     const rest = ids.filter((id) => !finishedByVictim.has(id));
-    await rescuer.waitFor(() => rest.every((id) => rescuer.analysed().some((p) => p.vehicleId === id && p.queue === 'done')), 90_000);
+    await rescuer.waitFor(
+      () => rest.every((id) => rescuer.analysed().some((p) => p.vehicleId === id && p.queue === 'done')),
+      90_000,
+    );
 
-    const state = await tdb.handle.db.selectFrom('vehicle_analysis').select(['vehicle_id', 'last_reading_at']).where('vehicle_id', 'in', ids).orderBy('vehicle_id').execute();
-    expect(state.map((s) => [s.vehicle_id, s.last_reading_at?.getTime()])).toEqual(ids.map((id) => [id, LAST_READING_MS]));
-    const left = await sql<{ n: number }>`select count(*)::int as n from analysis_queue where vehicle_id like 'K-%'`.execute(tdb.handle.db);
+    const state = await tdb.handle.db
+      .selectFrom('vehicle_analysis')
+      .select(['vehicle_id', 'last_reading_at'])
+      .where('vehicle_id', 'in', ids)
+      .orderBy('vehicle_id')
+      .execute();
+    expect(state.map((s) => [s.vehicle_id, s.last_reading_at?.getTime()])).toEqual(
+      ids.map((id) => [id, LAST_READING_MS]),
+    );
+    const left = await sql<{
+      n: number;
+    }>`select count(*)::int as n from analysis_queue where vehicle_id like 'K-%'`.execute(tdb.handle.db);
     expect(left.rows[0]!.n).toBe(0);
     rescuer.kill('SIGTERM');
     expect((await rescuer.exited).code).toBe(0);

@@ -1,7 +1,12 @@
 import type { Readable } from 'node:stream';
 import { StringDecoder } from 'node:string_decoder';
 import { createGunzip, type Gunzip } from 'node:zlib';
-import { BadRequestError, ClientClosedRequestError, PayloadTooLargeError, UnsupportedMediaTypeError } from '../errors.js';
+import {
+  BadRequestError,
+  ClientClosedRequestError,
+  PayloadTooLargeError,
+  UnsupportedMediaTypeError,
+} from '../errors.js';
 import { JsonBatchScanner } from './json-batch-scanner.js';
 import { MALFORMED, MALFORMED_CSV } from './malformed-record.js';
 import { UNITS, type TemperatureUnit } from './validate-reading.js';
@@ -29,7 +34,12 @@ export interface BodyStats {
  * (a truncated body's Z_BUF_ERROR) can go unheard and crash the process. The request stream
  * itself is left alone: the error handler drains it so the client reads the error reply.
  */
-async function* textChunks(raw: Readable, encoding: string | undefined, maxBytes: number, stats: BodyStats): AsyncGenerator<string> {
+async function* textChunks(
+  raw: Readable,
+  encoding: string | undefined,
+  maxBytes: number,
+  stats: BodyStats,
+): AsyncGenerator<string> {
   const enc = (encoding ?? 'identity').trim().toLowerCase();
   let clientGone = false;
   const onRawError = () => {
@@ -59,9 +69,15 @@ async function* textChunks(raw: Readable, encoding: string | undefined, maxBytes
     // before the client could read the error reply.
     for await (const buf of source.iterator({ destroyOnReturn: false }) as AsyncIterable<Buffer>) {
       stats.bytes += buf.length;
-      if (stats.bytes > maxBytes) throw new PayloadTooLargeError(`the body is larger than ${maxBytes} bytes (after decompression); split it into smaller batches`);
+      if (stats.bytes > maxBytes)
+        throw new PayloadTooLargeError(
+          `the body is larger than ${maxBytes} bytes (after decompression); split it into smaller batches`,
+        );
       if (gunzip && stats.bytes > GZIP_RATIO_FREE_BYTES && stats.bytes > MAX_GZIP_RATIO * compressedBytes) {
-        throw new PayloadTooLargeError(`the body expands more than ${MAX_GZIP_RATIO}-fold when decompressed, which telemetry does not; nothing was stored`, 'compression_ratio');
+        throw new PayloadTooLargeError(
+          `the body expands more than ${MAX_GZIP_RATIO}-fold when decompressed, which telemetry does not; nothing was stored`,
+          'compression_ratio',
+        );
       }
       const text = decoder.write(buf);
       if (text) yield text;
@@ -109,11 +125,17 @@ export const MAX_LINE_CHARS = 64 * 1024;
  * in the body: only the new chunk is searched for newlines, and the unfinished tail is carried
  * over as it is (a line that spans many chunks used to be re-split with every chunk).
  */
-export async function* lineBatches(chunks: AsyncIterable<string>, maxLineChars = MAX_LINE_CHARS): AsyncGenerator<string[]> {
+export async function* lineBatches(
+  chunks: AsyncIterable<string>,
+  maxLineChars = MAX_LINE_CHARS,
+): AsyncGenerator<string[]> {
   let carry = '';
   let lineNumber = 1;
   const tooLong = () =>
-    new PayloadTooLargeError(`line ${lineNumber} is longer than ${maxLineChars} characters: send one reading per line; nothing was stored`, 'line_too_long');
+    new PayloadTooLargeError(
+      `line ${lineNumber} is longer than ${maxLineChars} characters: send one reading per line; nothing was stored`,
+      'line_too_long',
+    );
   for await (const chunk of chunks) {
     const first = chunk.indexOf('\n');
     if (first < 0) {
@@ -150,8 +172,13 @@ function parseNdjsonLine(line: string): unknown {
 const WHOLE_JSON_MAX_CHARS = 1 << 20;
 
 function checkUnit(value: unknown, readingsBefore: number, onUnit: (unit: TemperatureUnit) => void): void {
-  if (typeof value !== 'string' || !UNITS.includes(value as TemperatureUnit)) throw new BadRequestError('unit must be "C", "F" or "K"', 'bad_unit');
-  if (readingsBefore > 0 && value !== 'C') throw new BadRequestError('put "unit" before "readings" in the JSON object: readings are converted as they stream in', 'bad_unit');
+  if (typeof value !== 'string' || !UNITS.includes(value as TemperatureUnit))
+    throw new BadRequestError('unit must be "C", "F" or "K"', 'bad_unit');
+  if (readingsBefore > 0 && value !== 'C')
+    throw new BadRequestError(
+      'put "unit" before "readings" in the JSON object: readings are converted as they stream in',
+      'bad_unit',
+    );
   onUnit(value as TemperatureUnit);
 }
 
@@ -162,7 +189,10 @@ function checkUnit(value: unknown, readingsBefore: number, onUnit: (unit: Temper
  * a repeated "readings" or "unit" key (JSON.parse keeps the last, the scanner sees each), or a
  * \u escape that could spell one.
  */
-function parseWholeBatch(text: string, arrayKey = 'readings'): { unitKey: 'before' | 'after' | 'none'; unit: unknown; readings: unknown[] } | undefined {
+function parseWholeBatch(
+  text: string,
+  arrayKey = 'readings',
+): { unitKey: 'before' | 'after' | 'none'; unit: unknown; readings: unknown[] } | undefined {
   if (text.includes('\\u')) return undefined;
   const quotedKey = `"${arrayKey}"`;
   const first = text.indexOf(quotedKey);
@@ -185,7 +215,12 @@ function parseWholeBatch(text: string, arrayKey = 'readings'): { unitKey: 'befor
 }
 
 /** Feeds text to the scanner and yields the readings it completes, handling "unit" as it comes. */
-function* scannedRecords(scanner: JsonBatchScanner, text: string, counter: { readings: number }, onUnit: (unit: TemperatureUnit) => void): Generator<unknown[]> {
+function* scannedRecords(
+  scanner: JsonBatchScanner,
+  text: string,
+  counter: { readings: number },
+  onUnit: (unit: TemperatureUnit) => void,
+): Generator<unknown[]> {
   const records: unknown[] = [];
   for (const ev of scanner.push(text)) {
     if (ev.type === 'reading') {
@@ -201,7 +236,12 @@ function* scannedRecords(scanner: JsonBatchScanner, text: string, counter: { rea
  * (fast), a large one is scanned as it streams in (bounded memory). `wholeMaxChars` 0 scans
  * every body (tests compare the two ways).
  */
-export async function* jsonRecords(chunks: AsyncIterable<string>, onUnit: (unit: TemperatureUnit) => void, wholeMaxChars = WHOLE_JSON_MAX_CHARS, arrayKey = 'readings'): AsyncGenerator<unknown[]> {
+export async function* jsonRecords(
+  chunks: AsyncIterable<string>,
+  onUnit: (unit: TemperatureUnit) => void,
+  wholeMaxChars = WHOLE_JSON_MAX_CHARS,
+  arrayKey = 'readings',
+): AsyncGenerator<unknown[]> {
   const scanner = new JsonBatchScanner(arrayKey);
   const counter = { readings: 0 };
   let held: string[] | undefined = [];
@@ -220,7 +260,8 @@ export async function* jsonRecords(chunks: AsyncIterable<string>, onUnit: (unit:
     const text = held.join('');
     const whole = parseWholeBatch(text, arrayKey);
     if (whole) {
-      if (whole.unitKey !== 'none') checkUnit(whole.unit, whole.unitKey === 'after' ? whole.readings.length : 0, onUnit);
+      if (whole.unitKey !== 'none')
+        checkUnit(whole.unit, whole.unitKey === 'after' ? whole.readings.length : 0, onUnit);
       if (whole.readings.length > 0) yield whole.readings;
       return;
     }
@@ -230,7 +271,18 @@ export async function* jsonRecords(chunks: AsyncIterable<string>, onUnit: (unit:
   if (!scanner.sawReadings) throw new BadRequestError(`the JSON object has no "${arrayKey}" array`, 'malformed_body');
 }
 
-const CSV_COLUMNS = ['vehicleId', 'ts', 'coolant', 'ambient', 'speedKph', 'rpm', 'unit', 'barometricKpa', 'coolantLevelPct', 'coolantPressureKpa'] as const;
+const CSV_COLUMNS = [
+  'vehicleId',
+  'ts',
+  'coolant',
+  'ambient',
+  'speedKph',
+  'rpm',
+  'unit',
+  'barometricKpa',
+  'coolantLevelPct',
+  'coolantPressureKpa',
+] as const;
 
 /** What a body's records are called: the JSON array's key and the CSV columns (bus frames use others). */
 export interface RecordShape {
@@ -239,7 +291,11 @@ export interface RecordShape {
   csvRequired: readonly string[];
 }
 
-export const READINGS_SHAPE: RecordShape = { arrayKey: 'readings', csvColumns: CSV_COLUMNS, csvRequired: ['vehicleId', 'ts', 'coolant'] };
+export const READINGS_SHAPE: RecordShape = {
+  arrayKey: 'readings',
+  csvColumns: CSV_COLUMNS,
+  csvRequired: ['vehicleId', 'ts', 'coolant'],
+};
 
 /** Splits one CSV line (RFC 4180 quoting; a quoted field may not span lines). */
 export function splitCsvLine(line: string): string[] | undefined {
@@ -292,7 +348,8 @@ export async function* bodyRecords(
   const chunks = textChunks(raw, encoding, maxBytes, stats);
   let blankLines = 0;
   const countBlank = () => {
-    if (++blankLines > MAX_BLANK_LINES) throw new PayloadTooLargeError(`more than ${MAX_BLANK_LINES} blank lines in one body; nothing was stored`);
+    if (++blankLines > MAX_BLANK_LINES)
+      throw new PayloadTooLargeError(`more than ${MAX_BLANK_LINES} blank lines in one body; nothing was stored`);
   };
   if (format === 'json') {
     yield* jsonRecords(chunks, onUnit, WHOLE_JSON_MAX_CHARS, shape.arrayKey);
@@ -327,11 +384,23 @@ export async function* bodyRecords(
       const fields = splitCsvLine(trimmed);
       if (!columns) {
         if (!fields) throw new BadRequestError('the CSV header row is malformed', 'malformed_body');
-        columns = fields.map((f) => shape.csvColumns.find((c) => c.toLowerCase() === f.trim().replace(/^\uFEFF/, '').toLowerCase()));
+        columns = fields.map((f) =>
+          shape.csvColumns.find(
+            (c) =>
+              c.toLowerCase() ===
+              f
+                .trim()
+                .replace(/^\uFEFF/, '')
+                .toLowerCase(),
+          ),
+        );
         for (const required of shape.csvRequired) {
           if (!columns.includes(required)) {
             const optional = shape.csvColumns.filter((c) => !shape.csvRequired.includes(c)).join(', ');
-            throw new BadRequestError(`the CSV header must name the columns ${shape.csvRequired.join(', ')} (optional: ${optional}); '${required}' is missing`, 'malformed_body');
+            throw new BadRequestError(
+              `the CSV header must name the columns ${shape.csvRequired.join(', ')} (optional: ${optional}); '${required}' is missing`,
+              'malformed_body',
+            );
           }
         }
         continue;
@@ -349,5 +418,9 @@ export async function* bodyRecords(
     }
     if (records.length > 0) yield records;
   }
-  if (!columns) throw new BadRequestError(`the CSV body is empty: it needs a header row (${shape.csvRequired.join(',')},…)`, 'malformed_body');
+  if (!columns)
+    throw new BadRequestError(
+      `the CSV body is empty: it needs a header row (${shape.csvRequired.join(',')},…)`,
+      'malformed_body',
+    );
 }

@@ -60,7 +60,8 @@ export class JsonBatchScanner {
       switch (this.state) {
         case State.BeforeRoot:
           if (c === 0x7b /* { */) this.state = State.ExpectKeyOrEnd;
-          else if (!isSpace(c) && c !== 0xfeff) this.fail(`the body must be a JSON object with a "${this.arrayKey}" array`);
+          else if (!isSpace(c) && c !== 0xfeff)
+            this.fail(`the body must be a JSON object with a "${this.arrayKey}" array`);
           i++;
           break;
         case State.ExpectKeyOrEnd:
@@ -225,8 +226,16 @@ export class JsonBatchScanner {
   }
 
   private tooLong(): never {
-    const what = this.state === State.ArrayInElement ? `reading ${this.readings}` : this.state === State.InKey ? 'a field name' : `field "${this.key}"`;
-    throw new PayloadTooLargeError(`${what} is longer than ${MAX_VALUE_CHARS} characters; nothing was stored`, 'value_too_long');
+    const what =
+      this.state === State.ArrayInElement
+        ? `reading ${this.readings}`
+        : this.state === State.InKey
+          ? 'a field name'
+          : `field "${this.key}"`;
+    throw new PayloadTooLargeError(
+      `${what} is longer than ${MAX_VALUE_CHARS} characters; nothing was stored`,
+      'value_too_long',
+    );
   }
 
   private fail(message: string): never {

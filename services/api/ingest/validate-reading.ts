@@ -86,9 +86,15 @@ const DAY_MS = 86_400_000;
  * rejected (a short sentence naming the field). Readings more than `maxAgeDays` old are refused:
  * that bounds the monthly partitions one body can make the service create.
  */
-export function validateReading(raw: unknown, defaultUnit: TemperatureUnit, nowMs: number, maxAgeDays = Infinity): ValidReading | string {
+export function validateReading(
+  raw: unknown,
+  defaultUnit: TemperatureUnit,
+  nowMs: number,
+  maxAgeDays = Infinity,
+): ValidReading | string {
   if (raw === MALFORMED) return 'not valid JSON';
-  if (raw === MALFORMED_CSV) return 'the CSV row does not have the same number of fields as the header (or has an unclosed quote)';
+  if (raw === MALFORMED_CSV)
+    return 'the CSV row does not have the same number of fields as the header (or has an unclosed quote)';
   if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) return 'a reading must be a JSON object';
   const r = raw as Record<string, unknown>;
 
@@ -108,7 +114,8 @@ export function validateReading(raw: unknown, defaultUnit: TemperatureUnit, nowM
   const tsMs = parseTimestamp(r.ts);
   if (Number.isNaN(tsMs)) return 'ts is neither an RFC 3339 date-time with a time zone nor epoch milliseconds';
   if (tsMs < EARLIEST_TS_MS) return 'ts is before 2000-01-01 (gateway clock not set?)';
-  if (tsMs < nowMs - maxAgeDays * DAY_MS) return `ts is more than ${maxAgeDays} days old (the service's INGEST_MAX_AGE_DAYS)`;
+  if (tsMs < nowMs - maxAgeDays * DAY_MS)
+    return `ts is more than ${maxAgeDays} days old (the service's INGEST_MAX_AGE_DAYS)`;
   if (tsMs > nowMs + MAX_FUTURE_SKEW_MS) return 'ts is more than 5 minutes in the future (gateway clock ahead?)';
 
   if (r.coolant === undefined || r.coolant === null || r.coolant === '') return 'coolant is missing';
@@ -128,26 +135,38 @@ export function validateReading(raw: unknown, defaultUnit: TemperatureUnit, nowM
 
   const speedKph = optionalNumber(r.speedKph);
   if (typeof speedKph === 'string') return `speedKph is ${speedKph}`;
-  if (!Number.isNaN(speedKph) && !(speedKph >= 0 && speedKph <= SPEED_MAX_KPH)) return `speedKph ${speedKph} is outside 0 to ${SPEED_MAX_KPH} (SAE J1939 SPN 84)`;
+  if (!Number.isNaN(speedKph) && !(speedKph >= 0 && speedKph <= SPEED_MAX_KPH))
+    return `speedKph ${speedKph} is outside 0 to ${SPEED_MAX_KPH} (SAE J1939 SPN 84)`;
 
   const rpm = optionalNumber(r.rpm);
   if (typeof rpm === 'string') return `rpm is ${rpm}`;
-  if (!Number.isNaN(rpm) && !(rpm >= 0 && rpm <= RPM_MAX)) return `rpm ${rpm} is outside 0 to ${RPM_MAX} (SAE J1939 SPN 190)`;
+  if (!Number.isNaN(rpm) && !(rpm >= 0 && rpm <= RPM_MAX))
+    return `rpm ${rpm} is outside 0 to ${RPM_MAX} (SAE J1939 SPN 190)`;
 
   const barometricKpa = optionalNumber(r.barometricKpa);
   if (typeof barometricKpa === 'string') return `barometricKpa is ${barometricKpa}`;
-  if (!Number.isNaN(barometricKpa) && !(barometricKpa >= 0 && barometricKpa <= BAROMETRIC_MAX_KPA)) return `barometricKpa ${barometricKpa} is outside 0 to ${BAROMETRIC_MAX_KPA} (SAE J1939 SPN 108)`;
+  if (!Number.isNaN(barometricKpa) && !(barometricKpa >= 0 && barometricKpa <= BAROMETRIC_MAX_KPA))
+    return `barometricKpa ${barometricKpa} is outside 0 to ${BAROMETRIC_MAX_KPA} (SAE J1939 SPN 108)`;
 
   const coolantLevelPct = optionalNumber(r.coolantLevelPct);
   if (typeof coolantLevelPct === 'string') return `coolantLevelPct is ${coolantLevelPct}`;
-  if (!Number.isNaN(coolantLevelPct) && !(coolantLevelPct >= 0 && coolantLevelPct <= COOLANT_LEVEL_MAX_PCT)) return `coolantLevelPct ${coolantLevelPct} is outside 0 to ${COOLANT_LEVEL_MAX_PCT} (SAE J1939 SPN 111)`;
+  if (!Number.isNaN(coolantLevelPct) && !(coolantLevelPct >= 0 && coolantLevelPct <= COOLANT_LEVEL_MAX_PCT))
+    return `coolantLevelPct ${coolantLevelPct} is outside 0 to ${COOLANT_LEVEL_MAX_PCT} (SAE J1939 SPN 111)`;
 
   const coolantPressureKpa = optionalNumber(r.coolantPressureKpa);
   if (typeof coolantPressureKpa === 'string') return `coolantPressureKpa is ${coolantPressureKpa}`;
-  if (!Number.isNaN(coolantPressureKpa) && !(coolantPressureKpa >= 0 && coolantPressureKpa <= COOLANT_PRESSURE_MAX_KPA)) return `coolantPressureKpa ${coolantPressureKpa} is outside 0 to ${COOLANT_PRESSURE_MAX_KPA} (SAE J1939 SPN 109)`;
+  if (!Number.isNaN(coolantPressureKpa) && !(coolantPressureKpa >= 0 && coolantPressureKpa <= COOLANT_PRESSURE_MAX_KPA))
+    return `coolantPressureKpa ${coolantPressureKpa} is outside 0 to ${COOLANT_PRESSURE_MAX_KPA} (SAE J1939 SPN 109)`;
 
   return {
-    vehicleId, tsMs, coolantC: stored(coolantC), ambientC: stored(ambientC), speedKph: stored(speedKph), rpm: stored(rpm),
-    barometricKpa: stored(barometricKpa), coolantLevelPct: stored(coolantLevelPct), coolantPressureKpa: stored(coolantPressureKpa),
+    vehicleId,
+    tsMs,
+    coolantC: stored(coolantC),
+    ambientC: stored(ambientC),
+    speedKph: stored(speedKph),
+    rpm: stored(rpm),
+    barometricKpa: stored(barometricKpa),
+    coolantLevelPct: stored(coolantLevelPct),
+    coolantPressureKpa: stored(coolantPressureKpa),
   };
 }

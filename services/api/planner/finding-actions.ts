@@ -1,6 +1,12 @@
 import type { Kysely, Selectable } from 'kysely';
 import type { Principal } from '../../db/api-keys-repository.js';
-import { createFindingsRepository, toFindingViews, type FindingStatus, type FindingView, type PlannerState } from '../../db/findings-repository.js';
+import {
+  createFindingsRepository,
+  toFindingViews,
+  type FindingStatus,
+  type FindingView,
+  type PlannerState,
+} from '../../db/findings-repository.js';
 import { createPlannerActionsRepository } from '../../db/planner-actions-repository.js';
 import type { Database, FindingsTable } from '../../db/schema.js';
 import { refreshVehicleRisk } from '../../db/vehicle-risk.js';
@@ -14,12 +20,19 @@ const DAY_MS = 86_400_000;
 type CurrentState = Omit<PlannerState, 'status'> & { status: FindingStatus };
 
 const stateOf = (row: Selectable<FindingsTable>): CurrentState => ({
-  status: row.status, acknowledgedAt: row.acknowledged_at, acknowledgedBy: row.acknowledged_by,
-  deferredUntil: row.deferred_until, deferredReason: row.deferred_reason, deferredBy: row.deferred_by,
+  status: row.status,
+  acknowledgedAt: row.acknowledged_at,
+  acknowledgedBy: row.acknowledged_by,
+  deferredUntil: row.deferred_until,
+  deferredReason: row.deferred_reason,
+  deferredBy: row.deferred_by,
 });
 
 const auditState = (s: CurrentState) => ({
-  status: s.status, acknowledgedBy: s.acknowledgedBy, deferredUntil: s.deferredUntil?.toISOString() ?? null, deferredReason: s.deferredReason,
+  status: s.status,
+  acknowledgedBy: s.acknowledgedBy,
+  deferredUntil: s.deferredUntil?.toISOString() ?? null,
+  deferredReason: s.deferredReason,
 });
 
 type Change = (row: Selectable<FindingsTable>, current: CurrentState) => PlannerState | 'unchanged';
@@ -48,8 +61,14 @@ export function createFindingActions(db: Kysely<Database>) {
       if (next === 'unchanged') return (await toFindingViews(trx, [row]))[0]!;
       const view = await findings.setState(trx, row, next);
       await audit.record(trx, {
-        vehicleId: row.vehicle_id, fleetId: row.fleet_id, subject: 'finding', subjectId: findingId, action, keyId: principal.keyId,
-        before: auditState(current), after: auditState(next),
+        vehicleId: row.vehicle_id,
+        fleetId: row.fleet_id,
+        subject: 'finding',
+        subjectId: findingId,
+        action,
+        keyId: principal.keyId,
+        before: auditState(current),
+        after: auditState(next),
       });
       await refreshVehicleRisk(trx, row.vehicle_id);
       return view;
@@ -67,23 +86,50 @@ export function createFindingActions(db: Kysely<Database>) {
 
     /** open → acknowledged; an acknowledged or deferred finding is left as it is (409 when resolved). */
     acknowledge(principal: Principal, findingId: string): Promise<FindingView> {
-      return apply(principal, findingId, 'acknowledge', (_row, s) => (s.status !== 'open' ? 'unchanged'
-        : { ...s, status: 'acknowledged', acknowledgedAt: new Date(), acknowledgedBy: principal.keyId }));
+      return apply(principal, findingId, 'acknowledge', (_row, s) =>
+        s.status !== 'open'
+          ? 'unchanged'
+          : { ...s, status: 'acknowledged', acknowledgedAt: new Date(), acknowledgedBy: principal.keyId },
+      );
     },
 
     /** open or acknowledged (or deferred: a new date) → deferred until `untilMs`, for `reason`. */
-    defer(principal: Principal, findingId: string, untilMs: number, reason: string, nowMs: number): Promise<FindingView> {
+    defer(
+      principal: Principal,
+      findingId: string,
+      untilMs: number,
+      reason: string,
+      nowMs: number,
+    ): Promise<FindingView> {
       if (!(untilMs > nowMs)) throw new BadRequestError('until must be in the future', 'validation_failed');
-      if (untilMs > nowMs + MAX_DEFERRAL_DAYS * DAY_MS) throw new BadRequestError(`a finding can be deferred by at most ${MAX_DEFERRAL_DAYS} days`, 'validation_failed');
+      if (untilMs > nowMs + MAX_DEFERRAL_DAYS * DAY_MS)
+        throw new BadRequestError(
+          `a finding can be deferred by at most ${MAX_DEFERRAL_DAYS} days`,
+          'validation_failed',
+        );
       return apply(principal, findingId, 'defer', (_row, s) => ({
-        ...s, status: 'deferred', deferredUntil: new Date(untilMs), deferredReason: reason, deferredBy: principal.keyId,
+        ...s,
+        status: 'deferred',
+        deferredUntil: new Date(untilMs),
+        deferredReason: reason,
+        deferredBy: principal.keyId,
       }));
     },
 
     /** acknowledged or deferred → open (undo); an open finding is left as it is. */
     reopen(principal: Principal, findingId: string): Promise<FindingView> {
-      return apply(principal, findingId, 'reopen', (_row, s) => (s.status === 'open' ? 'unchanged'
-        : { status: 'open', acknowledgedAt: null, acknowledgedBy: null, deferredUntil: null, deferredReason: null, deferredBy: null }));
+      return apply(principal, findingId, 'reopen', (_row, s) =>
+        s.status === 'open'
+          ? 'unchanged'
+          : {
+              status: 'open',
+              acknowledgedAt: null,
+              acknowledgedBy: null,
+              deferredUntil: null,
+              deferredReason: null,
+              deferredBy: null,
+            },
+      );
     },
   };
 }

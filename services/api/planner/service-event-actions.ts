@@ -6,7 +6,11 @@ import type { Principal } from '../../db/api-keys-repository.js';
 import { createFindingsRepository } from '../../db/findings-repository.js';
 import { createPlannerActionsRepository } from '../../db/planner-actions-repository.js';
 import type { Database, ServiceEventsTable } from '../../db/schema.js';
-import { createServiceEventsRepository, toServiceEventView, type ServiceEventView } from '../../db/service-events-repository.js';
+import {
+  createServiceEventsRepository,
+  toServiceEventView,
+  type ServiceEventView,
+} from '../../db/service-events-repository.js';
 import { refreshVehicleRisk } from '../../db/vehicle-risk.js';
 import { createQueueRepository } from '../../db/analysis-queue-repository.js';
 import { NotFoundError } from '../errors.js';
@@ -20,7 +24,12 @@ export interface ServiceEventInput {
   findingIds: readonly string[];
 }
 
-const auditOf = (r: Selectable<ServiceEventsTable>) => ({ kind: r.kind, at: r.at.toISOString(), notes: r.notes, resolvedFindings: r.resolved_findings });
+const auditOf = (r: Selectable<ServiceEventsTable>) => ({
+  kind: r.kind,
+  at: r.at.toISOString(),
+  notes: r.notes,
+  resolvedFindings: r.resolved_findings,
+});
 const DAY_MS = 86_400_000;
 
 type Vehicle = { vehicleId: string; fleetId: string; engineFamily: string };
@@ -62,21 +71,48 @@ export function createServiceEventActions(db: Kysely<Database>) {
    * naming the event and the action, so its history shows why it changed.
    */
   async function undo(
-    trx: Kysely<Database>, principal: Principal, vehicle: Vehicle, row: Selectable<ServiceEventsTable>, action: 'correct' | 'delete', keepKinds: readonly string[] = [],
+    trx: Kysely<Database>,
+    principal: Principal,
+    vehicle: Vehicle,
+    row: Selectable<ServiceEventsTable>,
+    action: 'correct' | 'delete',
+    keepKinds: readonly string[] = [],
   ): Promise<UndoneEvent> {
     const quietMs = resolveConfig(vehicle.engineFamily).findingStaleDays * DAY_MS;
     const staleBeforeMs = ((await lastAnalysedReadingAt(trx, vehicle.vehicleId))?.getTime() ?? Date.now()) - quietMs;
-    const { reopened, evidenceStopped } = await events.reopenResolvedBy(trx, vehicle.vehicleId, row.event_id, staleBeforeMs);
+    const { reopened, evidenceStopped } = await events.reopenResolvedBy(
+      trx,
+      vehicle.vehicleId,
+      row.event_id,
+      staleBeforeMs,
+    );
     // Baselines that still start at the event's time (another event then, or the corrected kind) stay.
-    const kept = new Set([...keepKinds, ...(await events.kindsRestartedAt(trx, vehicle.vehicleId, row.event_id, row.at.getTime())).flatMap((k) => resolvedKinds(k as ServiceEventKind))]);
+    const kept = new Set([
+      ...keepKinds,
+      ...(await events.kindsRestartedAt(trx, vehicle.vehicleId, row.event_id, row.at.getTime())).flatMap((k) =>
+        resolvedKinds(k as ServiceEventKind),
+      ),
+    ]);
     const withdrawn = resolvedKinds(row.kind as ServiceEventKind).filter((k) => !kept.has(k));
     const superseded = await events.supersedeBaseline(trx, vehicle.vehicleId, withdrawn, row.at.getTime());
     const because = { serviceEvent: row.event_id, eventAction: action, eventKind: row.kind };
-    for (const [ids, status, reason] of [[reopened, 'reopened', null], [evidenceStopped, 'resolved', 'evidence-stopped'], [superseded, 'resolved', 'superseded']] as const) {
+    for (const [ids, status, reason] of [
+      [reopened, 'reopened', null],
+      [evidenceStopped, 'resolved', 'evidence-stopped'],
+      [superseded, 'resolved', 'superseded'],
+    ] as const) {
       for (const findingId of ids) {
         await audit.record(trx, {
-          vehicleId: vehicle.vehicleId, fleetId: vehicle.fleetId, subject: 'finding', subjectId: findingId, action: `service-event-${action}`, keyId: principal.keyId,
-          before: reason === 'superseded' ? { status: 'unresolved' } : { status: 'resolved', resolvedReason: `service-event:${row.kind}` },
+          vehicleId: vehicle.vehicleId,
+          fleetId: vehicle.fleetId,
+          subject: 'finding',
+          subjectId: findingId,
+          action: `service-event-${action}`,
+          keyId: principal.keyId,
+          before:
+            reason === 'superseded'
+              ? { status: 'unresolved' }
+              : { status: 'resolved', resolvedReason: `service-event:${row.kind}` },
           after: { ...because, status, ...(reason ? { resolvedReason: reason } : {}) },
         });
       }
@@ -85,7 +121,11 @@ export function createServiceEventActions(db: Kysely<Database>) {
   }
 
   return {
-    async record(principal: Principal, vehicle: { vehicleId: string; fleetId: string }, input: ServiceEventInput): Promise<ServiceEventView> {
+    async record(
+      principal: Principal,
+      vehicle: { vehicleId: string; fleetId: string },
+      input: ServiceEventInput,
+    ): Promise<ServiceEventView> {
       return db.transaction().execute(async (trx) => {
         const row = await events.insert(trx, { ...vehicle, ...input, recordedBy: principal.keyId });
         const resolved = await findings.resolveByRepair(trx, vehicle.vehicleId, input.kind, input.atMs, row.event_id);
@@ -95,8 +135,12 @@ export function createServiceEventActions(db: Kysely<Database>) {
       });
     },
 
-    async correct(principal: Principal, vehicle: Vehicle, eventId: string,
-      change: Partial<Pick<ServiceEventInput, 'kind' | 'atMs'>> & { notes?: string | null }): Promise<ServiceEventView> {
+    async correct(
+      principal: Principal,
+      vehicle: Vehicle,
+      eventId: string,
+      change: Partial<Pick<ServiceEventInput, 'kind' | 'atMs'>> & { notes?: string | null },
+    ): Promise<ServiceEventView> {
       return db.transaction().execute(async (trx) => {
         const row = await events.lock(trx, vehicle.vehicleId, eventId);
         if (!row) throw new NotFoundError(`no service event '${eventId}' on vehicle '${vehicle.vehicleId}'`);
@@ -105,13 +149,28 @@ export function createServiceEventActions(db: Kysely<Database>) {
         // Only the notes changed: what the event resolved and the baseline it started stay as they are.
         const analysed = kind !== row.kind || atMs !== row.at.getTime();
         const keep = atMs === row.at.getTime() ? resolvedKinds(kind) : [];
-        const undone = analysed ? await undo(trx, principal, vehicle, row, 'correct', keep) : { reopened: [], evidenceStopped: [], superseded: [] };
-        const resolved = analysed ? await findings.resolveByRepair(trx, vehicle.vehicleId, kind, atMs, eventId) : row.resolved_findings;
+        const undone = analysed
+          ? await undo(trx, principal, vehicle, row, 'correct', keep)
+          : { reopened: [], evidenceStopped: [], superseded: [] };
+        const resolved = analysed
+          ? await findings.resolveByRepair(trx, vehicle.vehicleId, kind, atMs, eventId)
+          : row.resolved_findings;
         const notes = change.notes === undefined ? row.notes : change.notes;
         const updated = await events.correct(trx, row, kind, atMs, notes, resolved);
         await audit.record(trx, {
-          vehicleId: vehicle.vehicleId, fleetId: vehicle.fleetId, subject: 'service-event', subjectId: eventId, action: 'correct',
-          keyId: principal.keyId, before: auditOf(row), after: { ...auditOf(updated), reopenedFindings: undone.reopened, evidenceStoppedFindings: undone.evidenceStopped, supersededFindings: undone.superseded },
+          vehicleId: vehicle.vehicleId,
+          fleetId: vehicle.fleetId,
+          subject: 'service-event',
+          subjectId: eventId,
+          action: 'correct',
+          keyId: principal.keyId,
+          before: auditOf(row),
+          after: {
+            ...auditOf(updated),
+            reopenedFindings: undone.reopened,
+            evidenceStoppedFindings: undone.evidenceStopped,
+            supersededFindings: undone.superseded,
+          },
         });
         await afterChange(trx, vehicle.vehicleId, vehicle.fleetId);
         return toServiceEventView(updated);
@@ -126,9 +185,18 @@ export function createServiceEventActions(db: Kysely<Database>) {
         const undone = await undo(trx, principal, vehicle, row, 'delete');
         await events.softDelete(trx, row, principal.keyId);
         await audit.record(trx, {
-          vehicleId: vehicle.vehicleId, fleetId: vehicle.fleetId, subject: 'service-event', subjectId: eventId, action: 'delete',
-          keyId: principal.keyId, before: auditOf(row),
-          after: { reopenedFindings: undone.reopened, evidenceStoppedFindings: undone.evidenceStopped, supersededFindings: undone.superseded },
+          vehicleId: vehicle.vehicleId,
+          fleetId: vehicle.fleetId,
+          subject: 'service-event',
+          subjectId: eventId,
+          action: 'delete',
+          keyId: principal.keyId,
+          before: auditOf(row),
+          after: {
+            reopenedFindings: undone.reopened,
+            evidenceStoppedFindings: undone.evidenceStopped,
+            supersededFindings: undone.superseded,
+          },
         });
         await afterChange(trx, vehicle.vehicleId, vehicle.fleetId);
         return undone;

@@ -50,7 +50,11 @@ export default fp<{ authFailuresPerMinute: number; webSessionIdleMs: number }>(
 
     function refuseWhenLimited(request: FastifyRequest, nowMs: number): void {
       const retryAfterS = failures.retryAfterS(request.ip, nowMs);
-      if (retryAfterS > 0) throw new RateLimitedError(`too many failed authentications from this address; retry after ${retryAfterS} s`, retryAfterS);
+      if (retryAfterS > 0)
+        throw new RateLimitedError(
+          `too many failed authentications from this address; retry after ${retryAfterS} s`,
+          retryAfterS,
+        );
     }
 
     function fail(request: FastifyRequest, nowMs: number, message: string): never {
@@ -68,7 +72,8 @@ export default fp<{ authFailuresPerMinute: number; webSessionIdleMs: number }>(
       const header = request.headers.authorization;
       const match = header ? BEARER.exec(header) : null;
       if (match) return verifyKey(request, match[1]!, nowMs);
-      if (!readCookie(request, SESSION_COOKIE)) fail(request, nowMs, 'send the API key as "Authorization: Bearer <key>"');
+      if (!readCookie(request, SESSION_COOKIE))
+        fail(request, nowMs, 'send the API key as "Authorization: Bearer <key>"');
       const session = await authenticateSession(sessions, request, opts.webSessionIdleMs, nowMs);
       if (!session) fail(request, nowMs, 'the web-view session has expired or was ended; sign in again at /app/');
       request.webSession = session;

@@ -23,7 +23,9 @@ export default fp<DbPluginOptions>(
     await app.partitions.ensureAhead(opts.database.db, Date.now());
     // Create next months' partitions daily so a long-running service never meets a missing month.
     const timer = setInterval(() => {
-      app.partitions.ensureAhead(opts.database.db, Date.now()).catch((err: unknown) => app.log.error({ err }, 'creating readings partitions ahead failed'));
+      app.partitions
+        .ensureAhead(opts.database.db, Date.now())
+        .catch((err: unknown) => app.log.error({ err }, 'creating readings partitions ahead failed'));
     }, 6 * 3600_000);
     timer.unref();
     app.addHook('onClose', async () => {

@@ -41,11 +41,22 @@ export default fp(
         // A deadlock or serialisation failure that recurred after the repository's bounded retries.
         status = 503;
         reply.header('retry-after', String(CONFLICT_RETRY_AFTER_S));
-        body = { error: { code: 'retry_later', message: 'the request collided with concurrent requests on the same vehicles; nothing was stored, retry shortly' } };
+        body = {
+          error: {
+            code: 'retry_later',
+            message:
+              'the request collided with concurrent requests on the same vehicles; nothing was stored, retry shortly',
+          },
+        };
       } else if (isDatabaseUnavailable(err)) {
         status = 503;
         reply.header('retry-after', String(DATABASE_RETRY_AFTER_S));
-        body = { error: { code: 'database_unavailable', message: 'the database is unavailable; nothing was stored, retry later' } };
+        body = {
+          error: {
+            code: 'database_unavailable',
+            message: 'the database is unavailable; nothing was stored, retry later',
+          },
+        };
       } else if (err.validation) {
         status = 400;
         body = { error: { code: 'validation_failed', message: err.message } };
@@ -69,7 +80,9 @@ export default fp(
     });
 
     app.setNotFoundHandler(async (request, reply) => {
-      return reply.status(404).send({ error: { code: 'not_found', message: `no route ${request.method} ${request.url.split('?')[0]}` } });
+      return reply
+        .status(404)
+        .send({ error: { code: 'not_found', message: `no route ${request.method} ${request.url.split('?')[0]}` } });
     });
   },
   { name: 'errors' },

@@ -17,8 +17,12 @@ export default fp(
     app.decorate('ingestNotifier', new EventEmitter());
     app.addHook('onResponse', async (request, reply) => {
       const route = request.routeOptions.url ?? 'unmatched';
-      app.metrics.requestDuration.observe({ method: request.method, route, status: String(reply.statusCode) }, reply.elapsedTime / 1000);
-      if (route === '/v1/readings' && reply.statusCode >= 400) app.metrics.ingestFailures.inc({ status: String(reply.statusCode) });
+      app.metrics.requestDuration.observe(
+        { method: request.method, route, status: String(reply.statusCode) },
+        reply.elapsedTime / 1000,
+      );
+      if (route === '/v1/readings' && reply.statusCode >= 400)
+        app.metrics.ingestFailures.inc({ status: String(reply.statusCode) });
     });
   },
   { name: 'metrics' },

@@ -33,7 +33,10 @@ export interface AnalysisRunsRouteOptions {
 const analysisRunsRoutes: FastifyPluginAsyncTypebox<AnalysisRunsRouteOptions> = async (app, opts) => {
   const runs = new AnalysisRuns(app.database, { leaseMs: opts.leaseMs, batchSize: opts.batchSize, logger: app.log });
   app.addHook('onClose', async () => runs.close());
-  const view = (run: ReturnType<AnalysisRuns['start']>['run']) => ({ ...run, statusUrl: `/v1/analysis/runs/${run.runId}` });
+  const view = (run: ReturnType<AnalysisRuns['start']>['run']) => ({
+    ...run,
+    statusUrl: `/v1/analysis/runs/${run.runId}`,
+  });
 
   app.post(
     '/v1/analysis/runs',
@@ -42,7 +45,8 @@ const analysisRunsRoutes: FastifyPluginAsyncTypebox<AnalysisRunsRouteOptions> = 
       schema: {
         tags: ['analysis'],
         summary: 'Analyse every vehicle with new data now',
-        description: 'With `wait=true` answers 200 when done, with the counts. Otherwise answers 202 at once with a status URL (Location header).',
+        description:
+          'With `wait=true` answers 200 when done, with the counts. Otherwise answers 202 at once with a status URL (Location header).',
         security: SECURITY,
         querystring: Type.Object({
           wait: Type.Boolean({ default: false }),
@@ -75,7 +79,8 @@ const analysisRunsRoutes: FastifyPluginAsyncTypebox<AnalysisRunsRouteOptions> = 
       const run = runs.get(request.params.runId);
       if (!run) throw new NotFoundError(`no analysis run '${request.params.runId}' in this process`);
       const principal = principalOf(request);
-      if (principal.fleetId !== null && run.fleetId !== principal.fleetId) assertFleetAccess(principal, run.fleetId ?? '(every fleet)');
+      if (principal.fleetId !== null && run.fleetId !== principal.fleetId)
+        assertFleetAccess(principal, run.fleetId ?? '(every fleet)');
       return view(run);
     },
   );

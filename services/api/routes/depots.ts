@@ -12,30 +12,52 @@ import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/pa
 import { toSitePatch } from '../vehicle-profile-input.js';
 import { fleetScopeOf, oneFleetOf } from '../request-fleet.js';
 
-const DepotParams = Type.Object({ depotId: Type.String({ pattern: '^[^/]{1,64}$', description: 'the depot id, unique in the fleet (what vehicles name as their depot)' }) });
-const FleetQuery = Type.Object({ fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })) });
+const DepotParams = Type.Object({
+  depotId: Type.String({
+    pattern: '^[^/]{1,64}$',
+    description: 'the depot id, unique in the fleet (what vehicles name as their depot)',
+  }),
+});
+const FleetQuery = Type.Object({
+  fleet: Type.Optional(
+    Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' }),
+  ),
+});
 
 const Depot = Type.Object({
   depotId: Type.String(),
   fleetId: Type.String(),
   name: Type.Union([Type.String(), Type.Null()]),
   siteAltitudeM: Type.Union([Type.Number(), Type.Null()]),
-  atmosphericPressureKpa: Type.Number({ description: "the depot's atmospheric pressure, kPa (101.325, sea level, when no site is given)" }),
+  atmosphericPressureKpa: Type.Number({
+    description: "the depot's atmospheric pressure, kPa (101.325, sea level, when no site is given)",
+  }),
   siteGiven: Type.Boolean({ description: 'the depot has an altitude or pressure of its own' }),
   vehicles: Type.Integer({ description: 'vehicles that name this depot' }),
   createdAt: Type.String({ format: 'date-time' }),
   updatedAt: Type.String({ format: 'date-time' }),
 });
 
-const DepotBody = Type.Object({
-  name: Type.Optional(Type.Union([Type.String({ minLength: 1, maxLength: 200 }), Type.Null()], { description: 'name in words' })),
-  siteAltitudeM: Type.Optional(Type.Union([Type.Number({ minimum: -500, maximum: 5000 }), Type.Null()], {
-    description: 'altitude of the depot, m: sets the atmospheric pressure (ISO 2533 standard atmosphere) unless atmosphericPressureKpa is given',
-  })),
-  atmosphericPressureKpa: Type.Optional(Type.Union([Type.Number({ minimum: 50, maximum: 110 }), Type.Null()], {
-    description: "the depot's usual atmospheric pressure, kPa: lowers the boiling point of its vehicles at altitude",
-  })),
-}, { additionalProperties: false });
+const DepotBody = Type.Object(
+  {
+    name: Type.Optional(
+      Type.Union([Type.String({ minLength: 1, maxLength: 200 }), Type.Null()], { description: 'name in words' }),
+    ),
+    siteAltitudeM: Type.Optional(
+      Type.Union([Type.Number({ minimum: -500, maximum: 5000 }), Type.Null()], {
+        description:
+          'altitude of the depot, m: sets the atmospheric pressure (ISO 2533 standard atmosphere) unless atmosphericPressureKpa is given',
+      }),
+    ),
+    atmosphericPressureKpa: Type.Optional(
+      Type.Union([Type.Number({ minimum: 50, maximum: 110 }), Type.Null()], {
+        description:
+          "the depot's usual atmospheric pressure, kPa: lowers the boiling point of its vehicles at altitude",
+      }),
+    ),
+  },
+  { additionalProperties: false },
+);
 
 /**
  * A fleet's depots: the sites its vehicles work from. A vehicle without a site of its own takes
@@ -56,8 +78,9 @@ const depotsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['depots'],
         summary: 'Register a depot or change its name or site',
-        description: 'Fields left out keep their value. Vehicles name their depot with `depot` in PUT /v1/vehicles/{vehicleId}. When the site changes, '
-          + 'the vehicles taking their site from the depot are re-analysed with the new boiling point.',
+        description:
+          'Fields left out keep their value. Vehicles name their depot with `depot` in PUT /v1/vehicles/{vehicleId}. When the site changes, ' +
+          'the vehicles taking their site from the depot are re-analysed with the new boiling point.',
         security: SECURITY,
         params: DepotParams,
         querystring: FleetQuery,
@@ -68,8 +91,12 @@ const depotsRoutes: FastifyPluginAsyncTypebox = async (app) => {
     async (request, reply) => {
       const fleetId = await fleetOf(principalOf(request), request.query.fleet);
       const { name, siteAltitudeM, atmosphericPressureKpa } = request.body;
-      const { depot, created } = await actions.put(fleetId, request.params.depotId, { ...(name !== undefined ? { name } : {}), ...toSitePatch({ siteAltitudeM, atmosphericPressureKpa }) });
-      if (created || request.body.siteAltitudeM !== undefined || request.body.atmosphericPressureKpa !== undefined) app.ingestNotifier.emit('analysis-needed', fleetId);
+      const { depot, created } = await actions.put(fleetId, request.params.depotId, {
+        ...(name !== undefined ? { name } : {}),
+        ...toSitePatch({ siteAltitudeM, atmosphericPressureKpa }),
+      });
+      if (created || request.body.siteAltitudeM !== undefined || request.body.atmosphericPressureKpa !== undefined)
+        app.ingestNotifier.emit('analysis-needed', fleetId);
       return reply.status(created ? 201 : 200).send(depot);
     },
   );
@@ -82,13 +109,22 @@ const depotsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         tags: ['depots'],
         summary: "The fleet's depots, by id, a page at a time",
         security: SECURITY,
-        querystring: Type.Object({ ...pageQuery(100, 1000), fleet: Type.Optional(Type.String({ description: 'admin keys only: one fleet (default: every fleet)' })) }),
-        response: { 200: Type.Object({ depots: Type.Array(Depot), nextCursor: NextCursor }), ...errorResponses(400, 401, 403) },
+        querystring: Type.Object({
+          ...pageQuery(100, 1000),
+          fleet: Type.Optional(Type.String({ description: 'admin keys only: one fleet (default: every fleet)' })),
+        }),
+        response: {
+          200: Type.Object({ depots: Type.Array(Depot), nextCursor: NextCursor }),
+          ...errorResponses(400, 401, 403),
+        },
       },
     },
     async (request) => {
       const principal = principalOf(request);
-      const page = await depots.list(fleetScopeOf(principal, request.query.fleet), { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(DEPOT_ORDER)) });
+      const page = await depots.list(fleetScopeOf(principal, request.query.fleet), {
+        limit: request.query.limit,
+        after: decodeCursor(request.query.cursor, keyTypes(DEPOT_ORDER)),
+      });
       return { depots: page.items, nextCursor: nextCursorOf(page) };
     },
   );
@@ -121,7 +157,8 @@ const depotsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['depots'],
         summary: 'Remove a depot no vehicle names any more',
-        description: 'Answers 409 while vehicles still name it: move them first (PUT /v1/vehicles/{vehicleId} with another `depot`, or null).',
+        description:
+          'Answers 409 while vehicles still name it: move them first (PUT /v1/vehicles/{vehicleId} with another `depot`, or null).',
         security: SECURITY,
         params: DepotParams,
         querystring: FleetQuery,

@@ -15,26 +15,50 @@ import { MAX_REJECTED_LISTED } from './readings.js';
 
 const VehicleTs = {
   vehicleId: Type.String({ description: 'vehicle id, 1–64 of A–Z a–z 0–9 _ . : -' }),
-  ts: Type.Union([Type.String({ format: 'date-time' }), Type.Integer({ description: 'epoch milliseconds' })], { description: 'when the gateway read it: RFC 3339 with time zone, or epoch ms' }),
+  ts: Type.Union([Type.String({ format: 'date-time' }), Type.Integer({ description: 'epoch milliseconds' })], {
+    description: 'when the gateway read it: RFC 3339 with time zone, or epoch ms',
+  }),
 };
 const J1939Frame = Type.Object({
   ...VehicleTs,
-  canId: Type.String({ description: '29-bit identifier as hex, e.g. "18FEEE00" (priority 6, PGN 65262, source address 0)' }),
+  canId: Type.String({
+    description: '29-bit identifier as hex, e.g. "18FEEE00" (priority 6, PGN 65262, source address 0)',
+  }),
   data: Type.String({ description: 'up to 8 data bytes as hex, spaces allowed, e.g. "7B FF FF FF FF FF FF FF"' }),
 });
 const ObdResponse = Type.Object({
   ...VehicleTs,
-  data: Type.String({ description: 'service 01 positive response as hex, several PIDs allowed, e.g. "41 05 7B 0C 1A F8"' }),
+  data: Type.String({
+    description: 'service 01 positive response as hex, several PIDs allowed, e.g. "41 05 7B 0C 1A F8"',
+  }),
 });
 
 const FrameReply = Type.Object({
-  accepted: Type.Integer({ description: 'readings stored or changed by this request (readings are formed per vehicle on the coolant timestamps, one per sample period)' }),
-  duplicates: Type.Integer({ description: 'readings the frames gave that were already stored as they are: a retry is harmless' }),
-  ignored: Type.Integer({ description: 'rows of a PGN (J1939) or PIDs (OBD-II) not decoded here, or whose values were all "not available"; not errors' }),
-  rejected: Type.Array(Type.Object({ index: Type.Integer({ description: 'position of the row in the body, from 0' }), reason: Type.String() }), {
-    description: `malformed rows, not used; the first ${MAX_REJECTED_LISTED} are listed`,
+  accepted: Type.Integer({
+    description:
+      'readings stored or changed by this request (readings are formed per vehicle on the coolant timestamps, one per sample period)',
   }),
-  rejectedTotal: Type.Optional(Type.Integer({ description: `all rejected rows; present only when more than ${MAX_REJECTED_LISTED} were rejected` })),
+  duplicates: Type.Integer({
+    description: 'readings the frames gave that were already stored as they are: a retry is harmless',
+  }),
+  ignored: Type.Integer({
+    description:
+      'rows of a PGN (J1939) or PIDs (OBD-II) not decoded here, or whose values were all "not available"; not errors',
+  }),
+  rejected: Type.Array(
+    Type.Object({
+      index: Type.Integer({ description: 'position of the row in the body, from 0' }),
+      reason: Type.String(),
+    }),
+    {
+      description: `malformed rows, not used; the first ${MAX_REJECTED_LISTED} are listed`,
+    },
+  ),
+  rejectedTotal: Type.Optional(
+    Type.Integer({
+      description: `all rejected rows; present only when more than ${MAX_REJECTED_LISTED} were rejected`,
+    }),
+  ),
 });
 
 const DESCRIPTIONS: Record<BusProtocol, { summary: string; description: string }> = {
@@ -44,7 +68,7 @@ const DESCRIPTIONS: Record<BusProtocol, { summary: string; description: string }
       'Decodes CAN frames a gateway forwards (JSON `{ frames: [...] }`, NDJSON, or CSV with header vehicleId,ts,canId,data; gzip accepted) by SAE J1939-71: ' +
       'SPN 110 and SPN 1637 coolant (PGN 65262, 65129), SPN 171 ambient and SPN 108 barometric pressure (65269), SPN 190 engine speed (61444), ' +
       'SPN 84 road speed (65265), SPN 109 coolant pressure and SPN 111 coolant level (65263). Other PGNs are ignored and counted. ' +
-      'Readings are formed per vehicle on the coolant timestamps, one per the vehicle\'s sample period, with the other channels\' latest values; ' +
+      "Readings are formed per vehicle on the coolant timestamps, one per the vehicle's sample period, with the other channels' latest values; " +
       'frames may arrive in any requests, in any order.',
   },
   obd: {
@@ -57,10 +81,17 @@ const DESCRIPTIONS: Record<BusProtocol, { summary: string; description: string }
 };
 
 /** POST /v1/frames/j1939 and /v1/frames/obd: gateways that forward the vehicle bus undecoded. */
-const framesRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReadingsPerRequest: number; ingestMaxAgeDays: number }> = async (app, opts) => {
+const framesRoutes: FastifyPluginAsyncTypebox<{
+  maxBodyBytes: number;
+  maxReadingsPerRequest: number;
+  ingestMaxAgeDays: number;
+}> = async (app, opts) => {
   const repo = createBusFramesRepository(app.database, app.partitions);
   const fleets = createFleetsRepository(app.database.db);
-  const framesTotal = new Counter('thermocline_bus_frames_total', 'Rows of POST /v1/frames/j1939 and /v1/frames/obd, by protocol and result (decoded, unknown-pgn, not-available, rejected); OBD-II PIDs skipped: result="ignored-pid".');
+  const framesTotal = new Counter(
+    'thermocline_bus_frames_total',
+    'Rows of POST /v1/frames/j1939 and /v1/frames/obd, by protocol and result (decoded, unknown-pgn, not-available, rejected); OBD-II PIDs skipped: result="ignored-pid".',
+  );
   app.metrics.extra.push(framesTotal);
   // Scoped to this plugin's routes: a frame request that stored nothing counts as an ingest failure, as /v1/readings does.
   app.addHook('onResponse', async (_request, reply) => {
@@ -68,7 +99,10 @@ const framesRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReading
   });
 
   app.removeAllContentTypeParsers();
-  app.addContentTypeParser(['application/json', 'application/x-ndjson', 'application/ndjson', 'application/jsonl', 'text/csv'], (_req, payload, done) => done(null, payload));
+  app.addContentTypeParser(
+    ['application/json', 'application/x-ndjson', 'application/ndjson', 'application/jsonl', 'text/csv'],
+    (_req, payload, done) => done(null, payload),
+  );
 
   for (const protocol of ['j1939', 'obd'] as const) {
     const Row = protocol === 'j1939' ? J1939Frame : ObdResponse;
@@ -83,7 +117,9 @@ const framesRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReading
           tags: ['readings'],
           ...DESCRIPTIONS[protocol],
           security: SECURITY,
-          querystring: Type.Object({ fleet: Type.Optional(Type.String({ description: 'admin keys only: the fleet the vehicles belong to' })) }),
+          querystring: Type.Object({
+            fleet: Type.Optional(Type.String({ description: 'admin keys only: the fleet the vehicles belong to' })),
+          }),
           body: {
             content: {
               'application/json': { schema: Type.Object({ [arrayKey]: Type.Array(Row) }) },
@@ -110,8 +146,19 @@ const framesRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReading
         const noUnit = () => {
           throw new BadRequestError('frames carry no "unit": bus values are in the standard\'s units', 'bad_unit');
         };
-        for await (const batch of bodyRecords(request.body as Readable, format, request.headers['content-encoding'], opts.maxBodyBytes, stats, noUnit, FRAME_SHAPES[protocol])) {
-          if (index + batch.length > opts.maxReadingsPerRequest) throw new PayloadTooLargeError(`more than ${opts.maxReadingsPerRequest} rows in one request; split the batch`);
+        for await (const batch of bodyRecords(
+          request.body as Readable,
+          format,
+          request.headers['content-encoding'],
+          opts.maxBodyBytes,
+          stats,
+          noUnit,
+          FRAME_SHAPES[protocol],
+        )) {
+          if (index + batch.length > opts.maxReadingsPerRequest)
+            throw new PayloadTooLargeError(
+              `more than ${opts.maxReadingsPerRequest} rows in one request; split the batch`,
+            );
           for (const record of batch) {
             const reason = rows.add(record);
             if (reason !== null) {
@@ -139,9 +186,18 @@ const framesRoutes: FastifyPluginAsyncTypebox<{ maxBodyBytes: number; maxReading
           app.metrics.ingestBatches.inc({ format: `${protocol}:${format}` });
           if (result.accepted > 0) app.ingestNotifier.emit('readings', fleetId);
           const ignored = c.unknownPgns + c.notAvailable + c.ignoredPids;
-          return reply.send({ accepted: result.accepted, duplicates: result.duplicates, ignored, rejected, ...(rejectedTotal > rejected.length ? { rejectedTotal } : {}) });
+          return reply.send({
+            accepted: result.accepted,
+            duplicates: result.duplicates,
+            ignored,
+            rejected,
+            ...(rejectedTotal > rejected.length ? { rejectedTotal } : {}),
+          });
         } catch (err) {
-          if (err instanceof ForeignVehiclesError) throw new ForbiddenError(`this API key's fleet may not post frames for ${err.vehicleIds.join(', ')}: registered to another fleet; nothing was stored`);
+          if (err instanceof ForeignVehiclesError)
+            throw new ForbiddenError(
+              `this API key's fleet may not post frames for ${err.vehicleIds.join(', ')}: registered to another fleet; nothing was stored`,
+            );
           throw err;
         }
       },

@@ -6,7 +6,13 @@ import { ping } from '../../db/migrator.js';
 const operationsRoutes: FastifyPluginAsyncTypebox = async (app) => {
   app.get(
     '/healthz',
-    { schema: { tags: ['operations'], summary: 'Liveness: the process answers', response: { 200: Type.Object({ status: Type.Literal('ok') }) } } },
+    {
+      schema: {
+        tags: ['operations'],
+        summary: 'Liveness: the process answers',
+        response: { 200: Type.Object({ status: Type.Literal('ok') }) },
+      },
+    },
     async () => ({ status: 'ok' as const }),
   );
 
@@ -30,7 +36,14 @@ const operationsRoutes: FastifyPluginAsyncTypebox = async (app) => {
 
   app.get(
     '/metrics',
-    { schema: { tags: ['operations'], summary: 'Prometheus metrics (text exposition format)', produces: ['text/plain'], response: { 200: Type.String() } } },
+    {
+      schema: {
+        tags: ['operations'],
+        summary: 'Prometheus metrics (text exposition format)',
+        produces: ['text/plain'],
+        response: { 200: Type.String() },
+      },
+    },
     async (_request, reply) => reply.type('text/plain; version=0.0.4').send(app.metrics.render()),
   );
 };

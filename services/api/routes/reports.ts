@@ -14,7 +14,11 @@ import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/pa
 import { UNIT_HEADER, UnitParam } from '../schemas/temperature-unit.js';
 import { oneFleetOf } from '../request-fleet.js';
 
-const FORMATS = { json: 'application/json; charset=utf-8', html: 'text/html; charset=utf-8', csv: 'text/csv; charset=utf-8' } as const;
+const FORMATS = {
+  json: 'application/json; charset=utf-8',
+  html: 'text/html; charset=utf-8',
+  csv: 'text/csv; charset=utf-8',
+} as const;
 
 /** The weekly maintenance report of the caller's fleet, built on demand and archived. */
 const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
@@ -27,17 +31,28 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['reports'],
         summary: 'The weekly maintenance report (JSON, HTML or the CSV work list)',
-        description: 'A week that has ended is served from the archive while the archive is fresh: built after the week ended, from the data '
-          + 'the analysis tables still hold (`coverage.stamp`). The current week, a week archived before it ended, a week whose readings '
-          + 'arrived or were re-analysed after it was archived (a back-fill), or `refresh=true` rebuild it and replace the archived copy. '
-          + '`coverage` says what data the report covers and whether analysis had caught up. The `x-report-source` header says archive or built. '
-          + 'HTML is one self-contained page with inline SVG charts.',
+        description:
+          'A week that has ended is served from the archive while the archive is fresh: built after the week ended, from the data ' +
+          'the analysis tables still hold (`coverage.stamp`). The current week, a week archived before it ended, a week whose readings ' +
+          'arrived or were re-analysed after it was archived (a back-fill), or `refresh=true` rebuild it and replace the archived copy. ' +
+          '`coverage` says what data the report covers and whether analysis had caught up. The `x-report-source` header says archive or built. ' +
+          'HTML is one self-contained page with inline SVG charts.',
         security: SECURITY,
         querystring: Type.Object({
-          week: Type.Optional(Type.String({ pattern: '^\\d{4}-W\\d{2}$', description: 'ISO week, e.g. 2026-W48; default: the last complete week in the fleet time zone' })),
+          week: Type.Optional(
+            Type.String({
+              pattern: '^\\d{4}-W\\d{2}$',
+              description: 'ISO week, e.g. 2026-W48; default: the last complete week in the fleet time zone',
+            }),
+          ),
           format: Type.Union([Type.Literal('json'), Type.Literal('html'), Type.Literal('csv')], { default: 'json' }),
-          fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })),
-          refresh: Type.Boolean({ default: false, description: 'rebuild even when an archived report of the ended week exists' }),
+          fleet: Type.Optional(
+            Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' }),
+          ),
+          refresh: Type.Boolean({
+            default: false,
+            description: 'rebuild even when an archived report of the ended week exists',
+          }),
           unit: UnitParam,
         }),
         response: {
@@ -68,7 +83,8 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       }
       const name = formatIsoWeek(isoWeek);
       const window = weekWindow(isoWeek, timeZone);
-      if (window.startMs > Date.now()) throw new BadRequestError(`week ${name} has not started yet`, 'validation_failed');
+      if (window.startMs > Date.now())
+        throw new BadRequestError(`week ${name} has not started yet`, 'validation_failed');
       let out;
       try {
         out = await currentWeeklyReport(app.database.db, { fleetId, isoWeek: name, timeZone, refresh });
@@ -77,12 +93,16 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         throw err;
       }
       // Built and archived in °C; another unit converts the copy served (JSON `unit`, CSV column temperatureUnit, the header).
-      const served = request.query.unit === 'C' ? { report: out.json, html: out.html, csv: out.csv } : reportInUnit(out.json, request.query.unit);
+      const served =
+        request.query.unit === 'C'
+          ? { report: out.json, html: out.html, csv: out.csv }
+          : reportInUnit(out.json, request.query.unit);
       reply.type(FORMATS[format]);
       reply.header('x-report-source', out.source);
       reply.header(UNIT_HEADER, request.query.unit);
       if (format === 'json') return reply.send(served.report);
-      if (format === 'csv') reply.header('content-disposition', `attachment; filename="${reportBaseName(fleetId, name)}.csv"`);
+      if (format === 'csv')
+        reply.header('content-disposition', `attachment; filename="${reportBaseName(fleetId, name)}.csv"`);
       return reply.send(format === 'html' ? served.html : served.csv);
     },
   );
@@ -94,20 +114,31 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['reports'],
         summary: "The fleet's archived weekly reports, newest week first, a page at a time",
-        description: 'Each entry says when it was built, whether its week had ended with the analysis caught up, and how many vehicles its work list has. '
-          + 'Fetch one with GET /v1/reports/weekly?week= (a stale archive is rebuilt there).',
+        description:
+          'Each entry says when it was built, whether its week had ended with the analysis caught up, and how many vehicles its work list has. ' +
+          'Fetch one with GET /v1/reports/weekly?week= (a stale archive is rebuilt there).',
         security: SECURITY,
-        querystring: Type.Object({ ...pageQuery(104, 520), fleet: Type.Optional(Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' })) }),
+        querystring: Type.Object({
+          ...pageQuery(104, 520),
+          fleet: Type.Optional(
+            Type.String({ description: 'admin keys: the fleet (required); other keys: their own fleet only' }),
+          ),
+        }),
         response: {
           200: Type.Object({
             fleetId: Type.String(),
-            reports: Type.Array(Type.Object({
-              isoWeek: Type.String(),
-              generatedAt: Type.String({ format: 'date-time' }),
-              complete: Type.Union([Type.Boolean(), Type.Null()], { description: 'the week had ended and its analysis had caught up (null: archived before coverage was recorded)' }),
-              workItems: Type.Union([Type.Integer(), Type.Null()], { description: 'vehicles on the work list' }),
-              url: Type.String(),
-            })),
+            reports: Type.Array(
+              Type.Object({
+                isoWeek: Type.String(),
+                generatedAt: Type.String({ format: 'date-time' }),
+                complete: Type.Union([Type.Boolean(), Type.Null()], {
+                  description:
+                    'the week had ended and its analysis had caught up (null: archived before coverage was recorded)',
+                }),
+                workItems: Type.Union([Type.Integer(), Type.Null()], { description: 'vehicles on the work list' }),
+                url: Type.String(),
+              }),
+            ),
             nextCursor: NextCursor,
           }),
           ...errorResponses(400, 401, 403, 404),
@@ -118,9 +149,16 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const principal = principalOf(request);
       const fleetId = await oneFleetOf(principal, request.query.fleet);
       if (!(await reports.fleet(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
-      const page = await reports.archivedPage(fleetId, { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(ARCHIVE_ORDER)) });
+      const page = await reports.archivedPage(fleetId, {
+        limit: request.query.limit,
+        after: decodeCursor(request.query.cursor, keyTypes(ARCHIVE_ORDER)),
+      });
       const fleetParam = principal.fleetId === null ? `&fleet=${encodeURIComponent(fleetId)}` : '';
-      return { fleetId, reports: page.items.map((r) => ({ ...r, url: `/v1/reports/weekly?week=${r.isoWeek}${fleetParam}` })), nextCursor: nextCursorOf(page) };
+      return {
+        fleetId,
+        reports: page.items.map((r) => ({ ...r, url: `/v1/reports/weekly?week=${r.isoWeek}${fleetParam}` })),
+        nextCursor: nextCursorOf(page),
+      };
     },
   );
 };

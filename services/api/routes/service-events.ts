@@ -3,7 +3,11 @@ import { Type } from 'typebox';
 import { SERVICE_EVENT_KINDS } from '../../analysis/findings/service-events.js';
 import { createPlannerActionsRepository } from '../../db/planner-actions-repository.js';
 import { keyTypes } from '../../db/keyset.js';
-import { createServiceEventsRepository, SERVICE_EVENT_ORDER, toServiceEventView } from '../../db/service-events-repository.js';
+import {
+  createServiceEventsRepository,
+  SERVICE_EVENT_ORDER,
+  toServiceEventView,
+} from '../../db/service-events-repository.js';
 import { createVehiclesRepository } from '../../db/vehicles-repository.js';
 import { NotFoundError } from '../errors.js';
 import { createServiceEventActions } from '../planner/service-event-actions.js';
@@ -14,9 +18,13 @@ import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/pa
 import { parseTimeParam } from '../schemas/time-range.js';
 import { requireVehicle } from '../vehicle-access.js';
 
-const ServiceEventKindSchema = Type.Union(SERVICE_EVENT_KINDS.map((k) => Type.Literal(k)), {
-  description: 'the work done. inspected-no-fault-found resolves nothing and restarts no baseline: a fault the inspection missed keeps showing',
-});
+const ServiceEventKindSchema = Type.Union(
+  SERVICE_EVENT_KINDS.map((k) => Type.Literal(k)),
+  {
+    description:
+      'the work done. inspected-no-fault-found resolves nothing and restarts no baseline: a fault the inspection missed keeps showing',
+  },
+);
 
 const ServiceEventSchema = Type.Object({
   id: Type.String(),
@@ -28,10 +36,15 @@ const ServiceEventSchema = Type.Object({
   createdAt: Type.String({ format: 'date-time' }),
   updatedAt: Type.Union([Type.String({ format: 'date-time', description: 'last correction' }), Type.Null()]),
   resolvedFindings: Type.Array(Type.String(), { description: 'ids of the findings this event resolved' }),
-  inspectedFindings: Type.Array(Type.String(), { description: 'ids of the findings an inspection looked at (not resolved by it)' }),
+  inspectedFindings: Type.Array(Type.String(), {
+    description: 'ids of the findings an inspection looked at (not resolved by it)',
+  }),
 });
 
-const EventParams = Type.Intersect([VehicleIdParams, Type.Object({ eventId: Type.String({ minLength: 1, maxLength: 64 }) })]);
+const EventParams = Type.Intersect([
+  VehicleIdParams,
+  Type.Object({ eventId: Type.String({ minLength: 1, maxLength: 64 }) }),
+]);
 const AT_DESCRIPTION = 'when the work was done: RFC 3339 or epoch ms';
 const AtField = Type.String({ minLength: 1, maxLength: 40, description: AT_DESCRIPTION });
 const NotesField = Type.String({ maxLength: 2000 });
@@ -57,14 +70,27 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         summary: 'Record a repair or an inspection: resolves the related findings and starts a new baseline',
         security: SECURITY,
         params: VehicleIdParams,
-        body: Type.Object({
-          kind: ServiceEventKindSchema,
-          at: Type.Optional(Type.String({ minLength: 1, maxLength: 40, description: `${AT_DESCRIPTION} (default now)` })),
-          notes: Type.Optional(NotesField),
-          findingIds: Type.Optional(Type.Array(Type.String({ minLength: 1, maxLength: 64 }), { maxItems: 50, description: 'findings an inspection looked at' })),
-        }, { additionalProperties: false }),
+        body: Type.Object(
+          {
+            kind: ServiceEventKindSchema,
+            at: Type.Optional(
+              Type.String({ minLength: 1, maxLength: 40, description: `${AT_DESCRIPTION} (default now)` }),
+            ),
+            notes: Type.Optional(NotesField),
+            findingIds: Type.Optional(
+              Type.Array(Type.String({ minLength: 1, maxLength: 64 }), {
+                maxItems: 50,
+                description: 'findings an inspection looked at',
+              }),
+            ),
+          },
+          { additionalProperties: false },
+        ),
         response: {
-          201: Type.Object({ event: ServiceEventSchema, resolvedFindings: Type.Array(Type.String({ description: 'ids of the findings resolved' })) }),
+          201: Type.Object({
+            event: ServiceEventSchema,
+            resolvedFindings: Type.Array(Type.String({ description: 'ids of the findings resolved' })),
+          }),
           ...errorResponses(400, 401, 403, 404),
         },
       },
@@ -73,7 +99,10 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const principal = principalOf(request);
       const vehicle = await requireVehicle(vehicles, principal, request.params.vehicleId);
       const event = await actions.record(principal, vehicle, {
-        kind: request.body.kind, atMs: parseTimeParam('at', request.body.at) ?? Date.now(), notes: request.body.notes ?? null, findingIds: request.body.findingIds ?? [],
+        kind: request.body.kind,
+        atMs: parseTimeParam('at', request.body.at) ?? Date.now(),
+        notes: request.body.notes ?? null,
+        findingIds: request.body.findingIds ?? [],
       });
       app.ingestNotifier.emit('analysis-needed', vehicle.fleetId);
       return reply.status(201).send({ event, resolvedFindings: event.resolvedFindings });
@@ -90,12 +119,18 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         security: SECURITY,
         params: VehicleIdParams,
         querystring: Type.Object(pageQuery(50, 500)),
-        response: { 200: Type.Object({ events: Type.Array(ServiceEventSchema), nextCursor: NextCursor }), ...errorResponses(400, 401, 403, 404) },
+        response: {
+          200: Type.Object({ events: Type.Array(ServiceEventSchema), nextCursor: NextCursor }),
+          ...errorResponses(400, 401, 403, 404),
+        },
       },
     },
     async (request) => {
       await requireVehicle(vehicles, principalOf(request), request.params.vehicleId);
-      const page = await events.list(request.params.vehicleId, { limit: request.query.limit, after: decodeCursor(request.query.cursor, keyTypes(SERVICE_EVENT_ORDER)) });
+      const page = await events.list(request.params.vehicleId, {
+        limit: request.query.limit,
+        after: decodeCursor(request.query.cursor, keyTypes(SERVICE_EVENT_ORDER)),
+      });
       return { events: page.items, nextCursor: nextCursorOf(page) };
     },
   );
@@ -109,7 +144,10 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
         summary: 'One service event with its audit trail of corrections',
         security: SECURITY,
         params: EventParams,
-        response: { 200: Type.Intersect([ServiceEventSchema, Type.Object({ history: Type.Array(AuditEntry) })]), ...errorResponses(401, 403, 404) },
+        response: {
+          200: Type.Intersect([ServiceEventSchema, Type.Object({ history: Type.Array(AuditEntry) })]),
+          ...errorResponses(401, 403, 404),
+        },
       },
     },
     async (request) => {
@@ -127,12 +165,20 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       onRequest: app.requireScope('read'),
       schema: {
         tags: ['service events'],
-        summary: 'Correct a service event (kind, time, notes): the findings it resolved are reopened and the corrected event applied',
-        description: 'Audited: the event\'s history keeps the entry before and after. The vehicle is re-analysed with the corrected baseline start.',
+        summary:
+          'Correct a service event (kind, time, notes): the findings it resolved are reopened and the corrected event applied',
+        description:
+          "Audited: the event's history keeps the entry before and after. The vehicle is re-analysed with the corrected baseline start.",
         security: SECURITY,
         params: EventParams,
-        body: Type.Object({ kind: Type.Optional(ServiceEventKindSchema), at: Type.Optional(AtField), notes: Type.Optional(Type.Union([NotesField, Type.Null()])) },
-          { additionalProperties: false, minProperties: 1 }),
+        body: Type.Object(
+          {
+            kind: Type.Optional(ServiceEventKindSchema),
+            at: Type.Optional(AtField),
+            notes: Type.Optional(Type.Union([NotesField, Type.Null()])),
+          },
+          { additionalProperties: false, minProperties: 1 },
+        ),
         response: { 200: ServiceEventSchema, ...errorResponses(400, 401, 403, 404) },
       },
     },
@@ -141,7 +187,8 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const vehicle = await requireVehicle(vehicles, principal, request.params.vehicleId);
       const atMs = parseTimeParam('at', request.body.at);
       const event = await actions.correct(principal, vehicle, request.params.eventId, {
-        ...(request.body.kind ? { kind: request.body.kind } : {}), ...(atMs !== undefined ? { atMs } : {}),
+        ...(request.body.kind ? { kind: request.body.kind } : {}),
+        ...(atMs !== undefined ? { atMs } : {}),
         ...(request.body.notes !== undefined ? { notes: request.body.notes } : {}),
       });
       app.ingestNotifier.emit('analysis-needed', vehicle.fleetId);
@@ -155,17 +202,27 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       onRequest: app.requireScope('read'),
       schema: {
         tags: ['service events'],
-        summary: 'Delete a wrong service event: the findings it resolved are reopened where their evidence is still there',
-        description: 'Audited, on the event and on every finding it touches (action service-event-delete); the entry is kept out of every list and out of the analysis, '
-          + 'and the vehicle is re-analysed. Findings derived under the baseline the event started are superseded by the reopened ones.',
+        summary:
+          'Delete a wrong service event: the findings it resolved are reopened where their evidence is still there',
+        description:
+          'Audited, on the event and on every finding it touches (action service-event-delete); the entry is kept out of every list and out of the analysis, ' +
+          'and the vehicle is re-analysed. Findings derived under the baseline the event started are superseded by the reopened ones.',
         security: SECURITY,
         params: EventParams,
         response: {
           200: Type.Object({
             deleted: Type.String(),
-            reopenedFindings: Type.Array(Type.String(), { description: 'resolved by the event, evidence still there: unresolved again' }),
-            evidenceStoppedFindings: Type.Array(Type.String(), { description: 'resolved by the event, but their evidence had stopped for the quiet period: stay resolved, as evidence-stopped' }),
-            supersededFindings: Type.Array(Type.String(), { description: 'derived under the baseline the event started: the reopened findings carry their evidence now' }),
+            reopenedFindings: Type.Array(Type.String(), {
+              description: 'resolved by the event, evidence still there: unresolved again',
+            }),
+            evidenceStoppedFindings: Type.Array(Type.String(), {
+              description:
+                'resolved by the event, but their evidence had stopped for the quiet period: stay resolved, as evidence-stopped',
+            }),
+            supersededFindings: Type.Array(Type.String(), {
+              description:
+                'derived under the baseline the event started: the reopened findings carry their evidence now',
+            }),
           }),
           ...errorResponses(401, 403, 404),
         },
@@ -176,7 +233,12 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const vehicle = await requireVehicle(vehicles, principal, request.params.vehicleId);
       const undone = await actions.remove(principal, vehicle, request.params.eventId);
       app.ingestNotifier.emit('analysis-needed', vehicle.fleetId);
-      return { deleted: request.params.eventId, reopenedFindings: undone.reopened, evidenceStoppedFindings: undone.evidenceStopped, supersededFindings: undone.superseded };
+      return {
+        deleted: request.params.eventId,
+        reopenedFindings: undone.reopened,
+        evidenceStoppedFindings: undone.evidenceStopped,
+        supersededFindings: undone.superseded,
+      };
     },
   );
 };

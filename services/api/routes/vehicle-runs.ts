@@ -18,14 +18,29 @@ const RunSchema = Type.Object({
   endTs: Type.String({ format: 'date-time' }),
   startKind: Type.String({ description: "'cold' or 'warm'" }),
   open: Type.Boolean({ description: 'the run may still continue (no gap seen after it yet)' }),
-  metrics: Type.Record(Type.String(), Type.Union([Type.Number(), Type.Boolean(), Type.String(), Type.Null(), Type.Array(Type.Unknown()), Type.Record(Type.String(), Type.Unknown())]), {
-    description: 'warm-up and operating metrics of the run (temperatures in the reply\'s unit, s, km/h), as computed by the analysis',
-  }),
+  metrics: Type.Record(
+    Type.String(),
+    Type.Union([
+      Type.Number(),
+      Type.Boolean(),
+      Type.String(),
+      Type.Null(),
+      Type.Array(Type.Unknown()),
+      Type.Record(Type.String(), Type.Unknown()),
+    ]),
+    {
+      description:
+        "warm-up and operating metrics of the run (temperatures in the reply's unit, s, km/h), as computed by the analysis",
+    },
+  ),
 });
 
 const DaySchema = Type.Object({
   day: Type.String({ format: 'date', description: 'UTC day' }),
-  metrics: Type.Record(Type.String(), Type.Unknown(), { description: "the day's aggregates (peak, warm median and ambient temperatures in the reply's unit, engine hours, samples)" }),
+  metrics: Type.Record(Type.String(), Type.Unknown(), {
+    description:
+      "the day's aggregates (peak, warm median and ambient temperatures in the reply's unit, engine hours, samples)",
+  }),
 });
 
 const DATE = '^\\d{4}-\\d{2}-\\d{2}$';
@@ -52,7 +67,15 @@ const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
           ...pageQuery(100, 1000),
           unit: UnitParam,
         }),
-        response: { 200: Type.Object({ vehicleId: Type.String(), unit: UnitField, runs: Type.Array(RunSchema), nextCursor: NextCursor }), ...errorResponses(400, 401, 403, 404) },
+        response: {
+          200: Type.Object({
+            vehicleId: Type.String(),
+            unit: UnitField,
+            runs: Type.Array(RunSchema),
+            nextCursor: NextCursor,
+          }),
+          ...errorResponses(400, 401, 403, 404),
+        },
       },
     },
     async (request, reply) => {
@@ -60,7 +83,10 @@ const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const q = request.query;
       await requireVehicle(vehicles, principalOf(request), vehicleId);
       const range = { fromMs: parseTimeParam('from', q.from) ?? null, toMs: parseTimeParam('to', q.to) ?? null };
-      const page = await history.runs(vehicleId, range, { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(RUN_ORDER)) });
+      const page = await history.runs(vehicleId, range, {
+        limit: q.limit,
+        after: decodeCursor(q.cursor, keyTypes(RUN_ORDER)),
+      });
       return inUnit(reply, q.unit, { vehicleId, unit: q.unit, runs: page.items, nextCursor: nextCursorOf(page) });
     },
   );
@@ -80,17 +106,33 @@ const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
           ...pageQuery(100, 1000),
           unit: UnitParam,
         }),
-        response: { 200: Type.Object({ vehicleId: Type.String(), unit: UnitField, days: Type.Array(DaySchema), nextCursor: NextCursor }), ...errorResponses(400, 401, 403, 404) },
+        response: {
+          200: Type.Object({
+            vehicleId: Type.String(),
+            unit: UnitField,
+            days: Type.Array(DaySchema),
+            nextCursor: NextCursor,
+          }),
+          ...errorResponses(400, 401, 403, 404),
+        },
       },
     },
     async (request, reply) => {
       const { vehicleId } = request.params;
       const q = request.query;
-      for (const [name, v] of [['from', q.from], ['to', q.to]] as const) {
-        if (v !== undefined && Number.isNaN(Date.parse(`${v}T00:00:00Z`))) throw new BadRequestError(`${name} is not a calendar date: '${v}'`, 'validation_failed');
+      for (const [name, v] of [
+        ['from', q.from],
+        ['to', q.to],
+      ] as const) {
+        if (v !== undefined && Number.isNaN(Date.parse(`${v}T00:00:00Z`)))
+          throw new BadRequestError(`${name} is not a calendar date: '${v}'`, 'validation_failed');
       }
       await requireVehicle(vehicles, principalOf(request), vehicleId);
-      const page = await history.days(vehicleId, { from: q.from ?? null, to: q.to ?? null }, { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(DAY_ORDER)) });
+      const page = await history.days(
+        vehicleId,
+        { from: q.from ?? null, to: q.to ?? null },
+        { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(DAY_ORDER)) },
+      );
       return inUnit(reply, q.unit, { vehicleId, unit: q.unit, days: page.items, nextCursor: nextCursorOf(page) });
     },
   );
@@ -102,18 +144,30 @@ const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['vehicles', 'findings'],
         summary: "A vehicle's findings in every status, with evidence, recommended check and trouble code",
-        description: 'Unresolved first (open, acknowledged, deferred), then resolved; newest evidence first within each. A page at a time: pass `nextCursor` as `?cursor=`.',
+        description:
+          'Unresolved first (open, acknowledged, deferred), then resolved; newest evidence first within each. A page at a time: pass `nextCursor` as `?cursor=`.',
         security: SECURITY,
         params: VehicleIdParams,
         querystring: Type.Object({ ...pageQuery(200, 1000), unit: UnitParam }),
-        response: { 200: Type.Object({ vehicleId: Type.String(), unit: UnitField, findings: Type.Array(FindingSchema), nextCursor: NextCursor }), ...errorResponses(400, 401, 403, 404) },
+        response: {
+          200: Type.Object({
+            vehicleId: Type.String(),
+            unit: UnitField,
+            findings: Type.Array(FindingSchema),
+            nextCursor: NextCursor,
+          }),
+          ...errorResponses(400, 401, 403, 404),
+        },
       },
     },
     async (request, reply) => {
       const { vehicleId } = request.params;
       const q = request.query;
       await requireVehicle(vehicles, principalOf(request), vehicleId);
-      const page = await findings.ofVehicle(vehicleId, { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(VEHICLE_FINDING_ORDER)) });
+      const page = await findings.ofVehicle(vehicleId, {
+        limit: q.limit,
+        after: decodeCursor(q.cursor, keyTypes(VEHICLE_FINDING_ORDER)),
+      });
       return inUnit(reply, q.unit, { vehicleId, unit: q.unit, findings: page.items, nextCursor: nextCursorOf(page) });
     },
   );

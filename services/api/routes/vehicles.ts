@@ -24,10 +24,13 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['vehicles'],
         summary: 'Create or update a vehicle profile',
-        description: 'Fields left out keep their value (or the default for a new vehicle). Admin keys name the fleet of a new vehicle with `?fleet=`.',
+        description:
+          'Fields left out keep their value (or the default for a new vehicle). Admin keys name the fleet of a new vehicle with `?fleet=`.',
         security: SECURITY,
         params: VehicleIdParams,
-        querystring: Type.Object({ fleet: Type.Optional(Type.String({ description: 'admin keys only: fleet of a new vehicle' })) }),
+        querystring: Type.Object({
+          fleet: Type.Optional(Type.String({ description: 'admin keys only: fleet of a new vehicle' })),
+        }),
         body: VehicleProfilePatchBody,
         response: { 200: Vehicle, 201: Vehicle, ...errorResponses(400, 401, 403, 404) },
       },
@@ -43,13 +46,18 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
       }
       let fleetId: string;
       if (principal.fleetId !== null) {
-        if (request.query.fleet && request.query.fleet !== principal.fleetId) throw new ForbiddenError('this API key belongs to another fleet');
+        if (request.query.fleet && request.query.fleet !== principal.fleetId)
+          throw new ForbiddenError('this API key belongs to another fleet');
         fleetId = principal.fleetId;
       } else {
         fleetId = request.query.fleet!;
         if (!(await fleets.exists(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
       }
-      const result = await vehicles.upsert(vehicleId, { fleetId, onlyIfFleet: principal.fleetId }, toProfilePatch(request.body));
+      const result = await vehicles.upsert(
+        vehicleId,
+        { fleetId, onlyIfFleet: principal.fleetId },
+        toProfilePatch(request.body),
+      );
       if ('ownedByOtherFleet' in result) throw new ForbiddenError('this API key belongs to another fleet');
       const { vehicle, created } = result;
       return reply.status(created ? 201 : 200).send(vehicle);
@@ -64,16 +72,28 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
         tags: ['vehicles'],
         summary: "List the fleet's vehicles",
         security: SECURITY,
-        description: 'By vehicle id, a page at a time: pass `nextCursor` as `?cursor=` (the older `after`/`nextAfter` still work).',
+        description:
+          'By vehicle id, a page at a time: pass `nextCursor` as `?cursor=` (the older `after`/`nextAfter` still work).',
         querystring: Type.Object({
           ...pageQuery(100, 1000),
-          after: Type.Optional(Type.String({ description: 'vehicle id to continue after (from nextAfter; superseded by cursor)' })),
-          depot: Type.Optional(Type.String({ minLength: 1, maxLength: 64, description: 'only the vehicles of this depot' })),
+          after: Type.Optional(
+            Type.String({ description: 'vehicle id to continue after (from nextAfter; superseded by cursor)' }),
+          ),
+          depot: Type.Optional(
+            Type.String({ minLength: 1, maxLength: 64, description: 'only the vehicles of this depot' }),
+          ),
           fleet: Type.Optional(Type.String({ description: 'admin keys only: restrict to one fleet' })),
           unit: UnitParam,
         }),
         response: {
-          200: Type.Object({ unit: UnitField, vehicles: Type.Array(Vehicle), nextCursor: NextCursor, nextAfter: Type.Union([Type.String(), Type.Null()], { description: 'the last vehicle id of the page when another follows (older style)' }) }),
+          200: Type.Object({
+            unit: UnitField,
+            vehicles: Type.Array(Vehicle),
+            nextCursor: NextCursor,
+            nextAfter: Type.Union([Type.String(), Type.Null()], {
+              description: 'the last vehicle id of the page when another follows (older style)',
+            }),
+          }),
           ...errorResponses(400, 401, 403),
         },
       },
@@ -82,11 +102,17 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const principal = principalOf(request);
       const fleetId = fleetScopeOf(principal, request.query.fleet);
       const { limit, after, cursor, depot } = request.query;
-      if (after !== undefined && cursor !== undefined) throw new BadRequestError('give cursor or after, not both', 'validation_failed');
+      if (after !== undefined && cursor !== undefined)
+        throw new BadRequestError('give cursor or after, not both', 'validation_failed');
       const key = decodeCursor(cursor, ['text']) ?? (after !== undefined ? [after] : undefined);
       const page = await vehicles.list({ fleetId, limit, after: key, ...(depot !== undefined ? { depot } : {}) });
       const unit = request.query.unit;
-      return inUnit(reply, unit, { unit, vehicles: page.items, nextCursor: nextCursorOf(page), nextAfter: page.nextKey === null ? null : String(page.nextKey[0]) });
+      return inUnit(reply, unit, {
+        unit,
+        vehicles: page.items,
+        nextCursor: nextCursorOf(page),
+        nextAfter: page.nextKey === null ? null : String(page.nextKey[0]),
+      });
     },
   );
 
@@ -100,7 +126,10 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
         security: SECURITY,
         params: VehicleIdParams,
         querystring: Type.Object({ unit: UnitParam }),
-        response: { 200: Type.Intersect([Vehicle, Type.Object({ unit: UnitField })]), ...errorResponses(400, 401, 403, 404) },
+        response: {
+          200: Type.Intersect([Vehicle, Type.Object({ unit: UnitField })]),
+          ...errorResponses(400, 401, 403, 404),
+        },
       },
     },
     async (request, reply) => {

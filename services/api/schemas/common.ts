@@ -3,7 +3,9 @@ import { Type, type TSchema } from 'typebox';
 export const ErrorBody = Type.Object(
   {
     error: Type.Object({
-      code: Type.String({ description: 'machine-readable error code, e.g. validation_failed, unauthorized, forbidden' }),
+      code: Type.String({
+        description: 'machine-readable error code, e.g. validation_failed, unauthorized, forbidden',
+      }),
       message: Type.String({ description: 'what went wrong, in words' }),
     }),
   },
@@ -32,7 +34,8 @@ const ERROR_DESCRIPTIONS: Record<number, string> = {
 /** Error responses for a route's schema, each with the uniform body. */
 export function errorResponses(...statuses: number[]): Record<number, TSchema> {
   const out: Record<number, TSchema> = {};
-  for (const s of [...statuses, 429, 503]) out[s] = Type.Ref('ErrorBody', { description: ERROR_DESCRIPTIONS[s] ?? 'error' });
+  for (const s of [...statuses, 429, 503])
+    out[s] = Type.Ref('ErrorBody', { description: ERROR_DESCRIPTIONS[s] ?? 'error' });
   return out;
 }
 

@@ -2,13 +2,28 @@ import { Type } from 'typebox';
 
 export const SEVERITIES = ['advisory', 'warning', 'critical'] as const;
 export const FINDING_STATUSES = ['open', 'acknowledged', 'deferred', 'resolved'] as const;
-export const FINDING_KINDS = ['slow-warmup', 'overshoot', 'overheating-trend', 'sensor-fault', 'boil-margin', 'freeze-risk', 'coolant-loss'] as const;
+export const FINDING_KINDS = [
+  'slow-warmup',
+  'overshoot',
+  'overheating-trend',
+  'sensor-fault',
+  'boil-margin',
+  'freeze-risk',
+  'coolant-loss',
+] as const;
 
-export const SeveritySchema = Type.Union([Type.Literal('advisory'), Type.Literal('warning'), Type.Literal('critical')], { description: 'advisory < warning < critical' });
-export const FindingStatusSchema = Type.Union([Type.Literal('open'), Type.Literal('acknowledged'), Type.Literal('deferred'), Type.Literal('resolved')], {
-  description: 'open → acknowledged (seen by a planner) → resolved (by a repair or quiet evidence); deferred: work postponed until deferredUntil. '
-    + 'Every status but resolved counts for risk and keeps the vehicle in the at-risk list.',
-});
+export const SeveritySchema = Type.Union(
+  [Type.Literal('advisory'), Type.Literal('warning'), Type.Literal('critical')],
+  { description: 'advisory < warning < critical' },
+);
+export const FindingStatusSchema = Type.Union(
+  [Type.Literal('open'), Type.Literal('acknowledged'), Type.Literal('deferred'), Type.Literal('resolved')],
+  {
+    description:
+      'open → acknowledged (seen by a planner) → resolved (by a repair or quiet evidence); deferred: work postponed until deferredUntil. ' +
+      'Every status but resolved counts for risk and keeps the vehicle in the at-risk list.',
+  },
+);
 export const FindingKindSchema = Type.Union(
   FINDING_KINDS.map((k) => Type.Literal(k)),
   { description: 'what the analysis found' },
@@ -30,17 +45,30 @@ export const FindingBrief = Type.Object({
   troubleCode: NullableString,
   status: Type.Optional(FindingStatusSchema),
   deferredUntil: Type.Optional(NullableDate),
-  defaultProfile: Type.Optional(Type.Boolean({ description: 'the vehicle runs on the default profile: boiling and freezing figures are assumptions' })),
+  defaultProfile: Type.Optional(
+    Type.Boolean({
+      description: 'the vehicle runs on the default profile: boiling and freezing figures are assumptions',
+    }),
+  ),
   profileNote: Type.Optional(NullableString),
 });
 
 /** Where a finding's vehicle is, and whether its figures rest on the default profile. */
 const FindingVehicleContext = {
-  defaultProfile: Type.Boolean({ description: 'the vehicle runs on the default profile (no cap, glycol or thermostat set): its boiling and freezing figures are assumptions' }),
-  profileNote: Type.Union([Type.String(), Type.Null()], { description: "which of this finding's figures the default profile sets, in words; null when none" }),
+  defaultProfile: Type.Boolean({
+    description:
+      'the vehicle runs on the default profile (no cap, glycol or thermostat set): its boiling and freezing figures are assumptions',
+  }),
+  profileNote: Type.Union([Type.String(), Type.Null()], {
+    description: "which of this finding's figures the default profile sets, in words; null when none",
+  }),
   depot: Type.Union([Type.String(), Type.Null()], { description: "the vehicle's depot" }),
-  atmosphericPressureKpa: Type.Number({ description: "the atmospheric pressure the vehicle's boiling point uses, kPa" }),
-  siteSource: Type.Union([Type.Literal('vehicle'), Type.Literal('depot'), Type.Literal('sea level')], { description: 'where that pressure comes from: the vehicle\'s site, its depot\'s, or sea level' }),
+  atmosphericPressureKpa: Type.Number({
+    description: "the atmospheric pressure the vehicle's boiling point uses, kPa",
+  }),
+  siteSource: Type.Union([Type.Literal('vehicle'), Type.Literal('depot'), Type.Literal('sea level')], {
+    description: "where that pressure comes from: the vehicle's site, its depot's, or sea level",
+  }),
 };
 
 export const EvidenceItemSchema = Type.Object({
@@ -74,8 +102,17 @@ export const FindingSchema = Type.Object({
   acknowledgedAt: NullableDate,
   acknowledgedBy: NullableString,
   resolvedAt: NullableDate,
-  resolvedReason: Type.Union([Type.String({ description: "'evidence-stopped', 'superseded' (its baseline's repair was deleted or moved) or 'service-event:<kind>'" }), Type.Null()]),
-  deferredUntil: Type.Union([Type.String({ format: 'date-time', description: 'deferred: the work is postponed until then' }), Type.Null()]),
+  resolvedReason: Type.Union([
+    Type.String({
+      description:
+        "'evidence-stopped', 'superseded' (its baseline's repair was deleted or moved) or 'service-event:<kind>'",
+    }),
+    Type.Null(),
+  ]),
+  deferredUntil: Type.Union([
+    Type.String({ format: 'date-time', description: 'deferred: the work is postponed until then' }),
+    Type.Null(),
+  ]),
   deferredReason: NullableString,
   deferredBy: Type.Union([Type.String({ description: 'id of the API key that deferred it' }), Type.Null()]),
   updatedAt: Type.String({ format: 'date-time' }),

@@ -7,10 +7,16 @@ import { Type } from 'typebox';
  */
 export function listParam(allowed: readonly string[] | { item: string }, description: string) {
   const item = Array.isArray(allowed) ? `(?:${allowed.join('|')})` : `(?:${(allowed as { item: string }).item})`;
-  return Type.Optional(Type.String({ pattern: `^${item}(?:,${item})*$`, maxLength: 2000, description: `${description}; one, or several separated by commas` }));
+  return Type.Optional(
+    Type.String({
+      pattern: `^${item}(?:,${item})*$`,
+      maxLength: 2000,
+      description: `${description}; one, or several separated by commas`,
+    }),
+  );
 }
 
 /** The values of a list parameter, without repeats (undefined when absent). */
 export function listValues<T extends string = string>(value: string | undefined): T[] | undefined {
-  return value === undefined ? undefined : [...new Set(value.split(','))] as T[];
+  return value === undefined ? undefined : ([...new Set(value.split(','))] as T[]);
 }

@@ -10,11 +10,21 @@ import { BadRequestError } from '../errors.js';
  * (a finding's severity, a vehicle's risk) may move to a page already served.
  */
 export const pageQuery = (defaultLimit: number, maxLimit: number) => ({
-  limit: Type.Integer({ minimum: 1, maximum: maxLimit, default: defaultLimit, description: `most items in one page (at most ${maxLimit})` }),
-  cursor: Type.Optional(Type.String({ minLength: 1, maxLength: 500, description: 'nextCursor of the previous page (opaque)' })),
+  limit: Type.Integer({
+    minimum: 1,
+    maximum: maxLimit,
+    default: defaultLimit,
+    description: `most items in one page (at most ${maxLimit})`,
+  }),
+  cursor: Type.Optional(
+    Type.String({ minLength: 1, maxLength: 500, description: 'nextCursor of the previous page (opaque)' }),
+  ),
 });
 
-export const NextCursor = Type.Union([Type.String({ description: 'pass as ?cursor= for the next page' }), Type.Null()], { description: 'null: this is the last page' });
+export const NextCursor = Type.Union(
+  [Type.String({ description: 'pass as ?cursor= for the next page' }), Type.Null()],
+  { description: 'null: this is the last page' },
+);
 
 export type CursorKey = ReadonlyArray<string | number | null>;
 
@@ -44,7 +54,8 @@ export function decodeCursor(cursor: string | undefined, types: number | readonl
     if (type === 'text') return typeof v === 'string';
     return typeof v === 'string' || (typeof v === 'number' && Number.isFinite(v));
   };
-  if (!Array.isArray(key) || key.length !== length || !key.every(fits)) throw new BadRequestError(BAD_CURSOR, 'validation_failed');
+  if (!Array.isArray(key) || key.length !== length || !key.every(fits))
+    throw new BadRequestError(BAD_CURSOR, 'validation_failed');
   return key as PageKey;
 }
 

@@ -1,13 +1,13 @@
 import type { ReadingChunk } from '../reading-chunk.js';
 import { COPY_SIGNATURE, HEADER_BYTES, PG_EPOCH_MS, TWO_POW_32 } from './binary-copy-format.js';
 
-
 const COLUMNS = 9;
 /** Per row: field count, then each field's length; ts is 8 bytes, the seven channels 4 bytes each (float4). */
 const FIXED_ROW_BYTES = 2 + 4 + (4 + 8) + 7 * (4 + 4);
 
 /** The column list the encoded data is for: `COPY readings ${READINGS_COPY_COLUMNS} FROM STDIN (FORMAT binary)`. */
-export const READINGS_COPY_COLUMNS = '(vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa)';
+export const READINGS_COPY_COLUMNS =
+  '(vehicle_id, ts, coolant_c, ambient_c, speed_kph, rpm, barometric_kpa, coolant_level_pct, coolant_pressure_kpa)';
 
 function writeFloat4OrNull(buf: Buffer, offset: number, value: number): number {
   if (Number.isNaN(value)) {

@@ -71,8 +71,14 @@ function permute(a: AllSampleArrays, order: Uint32Array): AllSampleArrays {
     return out;
   };
   return {
-    ts: pick(a.ts), coolant: pick(a.coolant), ambient: pick(a.ambient), speedKph: pick(a.speedKph), rpm: pick(a.rpm),
-    barometricKpa: pick(a.barometricKpa), coolantLevelPct: pick(a.coolantLevelPct), coolantPressureKpa: pick(a.coolantPressureKpa),
+    ts: pick(a.ts),
+    coolant: pick(a.coolant),
+    ambient: pick(a.ambient),
+    speedKph: pick(a.speedKph),
+    rpm: pick(a.rpm),
+    barometricKpa: pick(a.barometricKpa),
+    coolantLevelPct: pick(a.coolantLevelPct),
+    coolantPressureKpa: pick(a.coolantPressureKpa),
   };
 }
 
@@ -81,7 +87,16 @@ const INITIAL_ROWS = 262_144;
 const MIN_WINDOW_ROWS = 4096;
 const COLUMNS = 8;
 /** The SampleArrays columns in decode order (the last three: vehicle-bus channels, migration 0005). */
-export const COLUMN_NAMES = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm', 'barometricKpa', 'coolantLevelPct', 'coolantPressureKpa'] as const;
+export const COLUMN_NAMES = [
+  'ts',
+  'coolant',
+  'ambient',
+  'speedKph',
+  'rpm',
+  'barometricKpa',
+  'coolantLevelPct',
+  'coolantPressureKpa',
+] as const;
 /** Fields of a COPY tuple: the vehicle id and the columns. */
 const TUPLE_FIELDS = 1 + COLUMNS;
 
@@ -139,7 +154,9 @@ export class WindowBuffers {
       held -= this.windows[k]![0]!.length;
       drop.add(k);
     }
-    this.windows = this.windows.map((cols, k) => (drop.has(k) ? Array.from({ length: COLUMNS }, () => new Float64Array(0)) : cols));
+    this.windows = this.windows.map((cols, k) =>
+      drop.has(k) ? Array.from({ length: COLUMNS }, () => new Float64Array(0)) : cols,
+    );
   }
 }
 
@@ -161,7 +178,11 @@ export class WindowsDecoder {
   private readonly lastOut = new Float64Array(COLUMNS).fill(NaN);
   private readonly printed = new Map<number, number>();
 
-  constructor(private readonly ids: readonly IdBytes[], private readonly buffers: WindowBuffers, prefixes: ReadonlyArray<SampleArrays | undefined>) {
+  constructor(
+    private readonly ids: readonly IdBytes[],
+    private readonly buffers: WindowBuffers,
+    prefixes: ReadonlyArray<SampleArrays | undefined>,
+  ) {
     this.sizes = new Uint32Array(ids.length);
     this.unordered = new Uint8Array(ids.length);
     for (let k = 0; k < ids.length; k++) {
@@ -274,14 +295,35 @@ export class WindowsDecoder {
   /** Index of the window whose vehicle id is the `len` bytes at `p`. */
   private windowOf(bytes: Uint8Array, view: DataView, p: number, len: number): number {
     for (let k = 0; k < this.ids.length; k++) if (sameBytes(this.ids[k]!, bytes, view, p, len)) return k;
-    throw new Error(`binary COPY: a row of vehicle ${Buffer.from(bytes.subarray(p, p + len)).toString('utf8')}, which no window asked for`);
+    throw new Error(
+      `binary COPY: a row of vehicle ${Buffer.from(bytes.subarray(p, p + len)).toString('utf8')}, which no window asked for`,
+    );
   }
 
   /** One set of arrays per window (views into the buffers), each ascending in time. */
   split(): AllSampleArrays[] {
     const out = Array.from(this.sizes, (n, k) => {
-      const [ts, coolant, ambient, speedKph, rpm, barometricKpa, coolantLevelPct, coolantPressureKpa] = this.buffers.windows[k]!.map((column) => column.subarray(0, n)) as [Float64Array, Float64Array, Float64Array, Float64Array, Float64Array, Float64Array, Float64Array, Float64Array];
-      const a: AllSampleArrays = { ts, coolant, ambient, speedKph, rpm, barometricKpa, coolantLevelPct, coolantPressureKpa };
+      const [ts, coolant, ambient, speedKph, rpm, barometricKpa, coolantLevelPct, coolantPressureKpa] =
+        this.buffers.windows[k]!.map((column) => column.subarray(0, n)) as [
+          Float64Array,
+          Float64Array,
+          Float64Array,
+          Float64Array,
+          Float64Array,
+          Float64Array,
+          Float64Array,
+          Float64Array,
+        ];
+      const a: AllSampleArrays = {
+        ts,
+        coolant,
+        ambient,
+        speedKph,
+        rpm,
+        barometricKpa,
+        coolantLevelPct,
+        coolantPressureKpa,
+      };
       return this.unordered[k] === 0 ? a : permute(a, ascendingOrder(a.ts));
     });
     this.buffers.trim(this.sizes);

@@ -87,7 +87,8 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
             if (end > buf.length) break;
             // A whole CopyData message the sink would not take is a sink's bug: fail rather than
             // drop rows unseen.
-            if (type === COPY_DATA && !failure) failure = new Error('copyOut: the sink did not take a whole CopyData message');
+            if (type === COPY_DATA && !failure)
+              failure = new Error('copyOut: the sink did not take a whole CopyData message');
             // CopyData after a failure, CopyOutResponse, and NoticeResponse or ParameterStatus
             // interleaved: nothing to do.
             p = end;
@@ -98,7 +99,10 @@ export function copyOut(client: pg.PoolClient, text: string, sink: CopyDataSink)
           let from = 0;
           if (pending) {
             // Join only the message that straddles the two chunks, not the whole chunk.
-            const head = pending.length >= MESSAGE_HEADER_BYTES ? pending : Buffer.concat([pending, chunk.subarray(0, MESSAGE_HEADER_BYTES - pending.length)]);
+            const head =
+              pending.length >= MESSAGE_HEADER_BYTES
+                ? pending
+                : Buffer.concat([pending, chunk.subarray(0, MESSAGE_HEADER_BYTES - pending.length)]);
             const size = head.length >= MESSAGE_HEADER_BYTES ? 1 + head.readInt32BE(1) : Infinity;
             const missing = size - pending.length;
             if (missing > chunk.length) {

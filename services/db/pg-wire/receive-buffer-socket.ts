@@ -21,7 +21,11 @@ export class ReusedBufferSocket extends net.Socket {
     // lacks it. Its callback runs only after the constructor, once `this` is set.
     const holder: { socket?: ReusedBufferSocket } = {};
     const buffer = Buffer.allocUnsafe(READ_BUFFER_BYTES);
-    const onread = { buffer, callback: (bytes: number, into: Uint8Array) => holder.socket!.received(Buffer.from(into.buffer, into.byteOffset, bytes)) };
+    const onread = {
+      buffer,
+      callback: (bytes: number, into: Uint8Array) =>
+        holder.socket!.received(Buffer.from(into.buffer, into.byteOffset, bytes)),
+    };
     super({ onread } as net.SocketConstructorOpts);
     holder.socket = this;
   }

@@ -28,7 +28,8 @@ async function outcome(text: string, cuts: number[], wholeMaxChars: number | und
   }
   const out: Outcome = { records: [], units: [] };
   try {
-    for await (const batch of jsonRecords(chunks(), (u) => out.units.push(u), wholeMaxChars)) out.records.push(...batch);
+    for await (const batch of jsonRecords(chunks(), (u) => out.units.push(u), wholeMaxChars))
+      out.records.push(...batch);
   } catch (err) {
     out.error = (err as Error).message;
   }
@@ -37,19 +38,57 @@ async function outcome(text: string, cuts: number[], wholeMaxChars: number | und
 }
 
 const reading = fc.oneof(
-  fc.record({ vehicleId: fc.constantFrom('V1', 'V-2', 'readings', 'unit'), ts: fc.integer({ min: 946_684_800_000, max: 1_900_000_000_000 }), coolant: fc.double({ noNaN: true, noDefaultInfinity: true }) }, { requiredKeys: ['vehicleId'] }),
+  fc.record(
+    {
+      vehicleId: fc.constantFrom('V1', 'V-2', 'readings', 'unit'),
+      ts: fc.integer({ min: 946_684_800_000, max: 1_900_000_000_000 }),
+      coolant: fc.double({ noNaN: true, noDefaultInfinity: true }),
+    },
+    { requiredKeys: ['vehicleId'] },
+  ),
   fc.jsonValue({ maxDepth: 2 }),
 );
-const readingText = fc.oneof({ weight: 8, arbitrary: reading.map((r) => JSON.stringify(r)) }, { weight: 1, arbitrary: fc.constantFrom('{"vehicleId":', 'nul', '{"a":1}}', '"x', '[1,2') });
-const unitText = fc.oneof(fc.constantFrom('"C"', '"F"', '"K"', '"X"', '5', 'null', '"\\u0046"'), fc.jsonValue({ maxDepth: 1 }).map((v) => JSON.stringify(v)));
+const readingText = fc.oneof(
+  { weight: 8, arbitrary: reading.map((r) => JSON.stringify(r)) },
+  { weight: 1, arbitrary: fc.constantFrom('{"vehicleId":', 'nul', '{"a":1}}', '"x', '[1,2') },
+);
+const unitText = fc.oneof(
+  fc.constantFrom('"C"', '"F"', '"K"', '"X"', '5', 'null', '"\\u0046"'),
+  fc.jsonValue({ maxDepth: 1 }).map((v) => JSON.stringify(v)),
+);
 const field = fc.oneof(
   { weight: 3, arbitrary: fc.array(readingText, { maxLength: 6 }).map((rs) => `"readings":[${rs.join(',')}]`) },
   { weight: 2, arbitrary: unitText.map((u) => `"unit":${u}`) },
-  { weight: 1, arbitrary: fc.tuple(fc.constantFrom('"meta"', '"gateway"', '"read\\u0069ngs"', '"\\u0075nit"', '"readings"'), fc.jsonValue({ maxDepth: 2 })).map(([k, v]) => `${k}:${JSON.stringify(v)}`) },
+  {
+    weight: 1,
+    arbitrary: fc
+      .tuple(
+        fc.constantFrom('"meta"', '"gateway"', '"read\\u0069ngs"', '"\\u0075nit"', '"readings"'),
+        fc.jsonValue({ maxDepth: 2 }),
+      )
+      .map(([k, v]) => `${k}:${JSON.stringify(v)}`),
+  },
 );
 const body = fc.oneof(
-  { weight: 6, arbitrary: fc.tuple(fc.array(field, { maxLength: 4 }), fc.constantFrom('', ' ', '\n  ')).map(([fs, ws]) => `${ws}{${ws}${fs.join(`,${ws}`)}${ws}}${ws}`) },
-  { weight: 1, arbitrary: fc.constantFrom('[]', 'null', '{', '{"readings":[}', '{"readings":5}', '\uFEFF{"readings":[]}', '{"readings":[],}', '{"readings":[]} x') },
+  {
+    weight: 6,
+    arbitrary: fc
+      .tuple(fc.array(field, { maxLength: 4 }), fc.constantFrom('', ' ', '\n  '))
+      .map(([fs, ws]) => `${ws}{${ws}${fs.join(`,${ws}`)}${ws}}${ws}`),
+  },
+  {
+    weight: 1,
+    arbitrary: fc.constantFrom(
+      '[]',
+      'null',
+      '{',
+      '{"readings":[}',
+      '{"readings":5}',
+      '\uFEFF{"readings":[]}',
+      '{"readings":[],}',
+      '{"readings":[]} x',
+    ),
+  },
 );
 
 describe('JSON batch bodies', () => {
@@ -69,9 +108,12 @@ describe('JSON batch bodies', () => {
     const got = await outcome(text, [], undefined);
     // The second element is not valid JSON, so the whole body goes to the scanner, which marks it.
     expect(got).toEqual({ records: [{ vehicleId: 'V1', ts: 1790000000000, coolant: 190 }, MALFORMED], units: ['F'] });
-    const unitAfterReadings = jsonRecords((async function* () {
-      yield '{"readings":[{"vehicleId":"V1"}],"unit":"F"}';
-    })(), () => undefined);
+    const unitAfterReadings = jsonRecords(
+      (async function* () {
+        yield '{"readings":[{"vehicleId":"V1"}],"unit":"F"}';
+      })(),
+      () => undefined,
+    );
     await expect(unitAfterReadings.next()).rejects.toThrow('put "unit" before "readings"');
   });
 });

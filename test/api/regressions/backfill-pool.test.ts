@@ -21,7 +21,10 @@ const POOL_SIZE = 1;
 beforeAll(async () => {
   tdb = await createTestDatabase();
   // On PostgreSQL a pool smaller than the concurrent backfills below; PGlite has one connection anyway.
-  handle = testDatabaseKind() === 'postgres' ? await openDatabase({ databaseUrl: tdb.url, pgliteDir: '', poolSize: POOL_SIZE }) : tdb.handle;
+  handle =
+    testDatabaseKind() === 'postgres'
+      ? await openDatabase({ databaseUrl: tdb.url, pgliteDir: '', poolSize: POOL_SIZE })
+      : tdb.handle;
   app = await buildApp({ config: testConfig(), database: handle });
   base = await listenOnLoopback(app);
   key = await createFleetKey(handle.db, 'fleet-bf', ['ingest']);
@@ -37,13 +40,17 @@ function backfill(vehicleId: string, monthsAgo: number, n: number): string {
   const start = new Date();
   start.setUTCMonth(start.getUTCMonth() - monthsAgo, 20);
   let out = '';
-  for (let i = 0; i < n; i++) out += `{"vehicleId":"${vehicleId}","ts":${start.getTime() + i * 60_000},"coolant":${60 + (i % 30)}}\n`;
+  for (let i = 0; i < n; i++)
+    out += `{"vehicleId":"${vehicleId}","ts":${start.getTime() + i * 60_000},"coolant":${60 + (i % 30)}}\n`;
   return out;
 }
 
 /** Fails after `ms` instead of waiting for the test timeout: a hang must show as a hang. */
 function within<T>(ms: number, what: Promise<T>): Promise<T> {
-  return Promise.race([what, new Promise<never>((_, reject) => setTimeout(() => reject(new Error(`no answer within ${ms} ms`)), ms).unref())]);
+  return Promise.race([
+    what,
+    new Promise<never>((_, reject) => setTimeout(() => reject(new Error(`no answer within ${ms} ms`)), ms).unref()),
+  ]);
 }
 
 describe('back-filled bodies that cross into months with no partition', () => {
@@ -55,13 +62,19 @@ describe('back-filled bodies that cross into months with no partition', () => {
   });
 
   it('store six such bodies at once on a pool of one client, and /readyz answers meanwhile', async () => {
-    const bodies = Array.from({ length: 6 }, (_, i) => postReadings(base, key, 'application/x-ndjson', backfill(`BF-${10 + i}`, 2 + 2 * i, 7_000)));
+    const bodies = Array.from({ length: 6 }, (_, i) =>
+      postReadings(base, key, 'application/x-ndjson', backfill(`BF-${10 + i}`, 2 + 2 * i, 7_000)),
+    );
     const ready = within(10_000, request(base, 'GET', '/readyz', {}));
     const replies = await within(60_000, Promise.all(bodies));
     for (const r of replies) expect(r.status, r.text).toBe(200);
     expect([200, 503]).toContain((await ready).status);
     expect((await within(5_000, request(base, 'GET', '/readyz', {}))).status).toBe(200);
-    const stored = await handle.db.selectFrom('readings').select((eb) => eb.fn.countAll<number>().as('n')).where('vehicle_id', 'like', 'BF-1_').executeTakeFirstOrThrow();
+    const stored = await handle.db
+      .selectFrom('readings')
+      .select((eb) => eb.fn.countAll<number>().as('n'))
+      .where('vehicle_id', 'like', 'BF-1_')
+      .executeTakeFirstOrThrow();
     expect(Number(stored.n)).toBe(6 * 7_000);
   });
 });

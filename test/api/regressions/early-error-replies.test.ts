@@ -21,7 +21,9 @@ describe('an early error reply to a large body', () => {
   beforeAll(async () => {
     serve = await ServeProcess.start();
     const res = await fetch(`${serve.url}/v1/vehicles/EE-0?fleet=${serve.fleetId}`, {
-      method: 'PUT', headers: { authorization: `Bearer ${serve.adminKey}`, 'content-type': 'application/json' }, body: '{}',
+      method: 'PUT',
+      headers: { authorization: `Bearer ${serve.adminKey}`, 'content-type': 'application/json' },
+      body: '{}',
     });
     expect(res.status).toBe(201);
     serveKey = serve.adminKey;
@@ -38,7 +40,10 @@ describe('an early error reply to a large body', () => {
     for (let i = 0; i < 4; i++) {
       const res = await fetch(`${serve.url}/v1/readings?fleet=${serve.fleetId}`, {
         method: 'POST',
-        headers: { ...(headers === 'key' ? { authorization: `Bearer ${serveKey}` } : headers), 'content-type': contentType },
+        headers: {
+          ...(headers === 'key' ? { authorization: `Bearer ${serveKey}` } : headers),
+          'content-type': contentType,
+        },
         body: BIG,
       });
       expect(res.status).toBe(status);

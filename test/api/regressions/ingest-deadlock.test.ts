@@ -28,13 +28,22 @@ interface Reply {
 }
 
 function streamingPost(): { req: http.ClientRequest; reply: Promise<Reply> } {
-  const req = http.request(`${served.base}/v1/readings`, { method: 'POST', headers: { authorization: `Bearer ${served.key}`, 'content-type': 'application/x-ndjson' } });
+  const req = http.request(`${served.base}/v1/readings`, {
+    method: 'POST',
+    headers: { authorization: `Bearer ${served.key}`, 'content-type': 'application/x-ndjson' },
+  });
   const reply = new Promise<Reply>((resolve, reject) => {
     req.on('error', reject);
     req.on('response', (res) => {
       const parts: Buffer[] = [];
       res.on('data', (c: Buffer) => parts.push(c));
-      res.on('end', () => resolve({ status: res.statusCode ?? 0, retryAfter: res.headers['retry-after'], body: JSON.parse(Buffer.concat(parts).toString()) as Reply['body'] }));
+      res.on('end', () =>
+        resolve({
+          status: res.statusCode ?? 0,
+          retryAfter: res.headers['retry-after'],
+          body: JSON.parse(Buffer.concat(parts).toString()) as Reply['body'],
+        }),
+      );
     });
   });
   return { req, reply };
@@ -43,7 +52,11 @@ function streamingPost(): { req: http.ClientRequest; reply: Promise<Reply> } {
 /** Resolves once `n` ingest transactions sit idle in transaction (waiting for more body). */
 async function transactionsWaitingForBody(n: number): Promise<void> {
   for (;;) {
-    const r = await sql<{ n: number }>`select count(*)::int as n from pg_stat_activity where datname = current_database() and state = 'idle in transaction'`.execute(t.tdb.handle.db);
+    const r = await sql<{
+      n: number;
+    }>`select count(*)::int as n from pg_stat_activity where datname = current_database() and state = 'idle in transaction'`.execute(
+      t.tdb.handle.db,
+    );
     if (r.rows[0]!.n >= n) return;
     await new Promise((resolve) => setTimeout(resolve, 20));
   }
@@ -69,7 +82,14 @@ describe.skipIf(testDatabaseKind() === 'pglite')('two streamed bodies that need 
 
     // The gateway retries after Retry-After: everything is stored once.
     const loserIsX = replies[0]!.status === 503;
-    const retry = await postReadings(served.base, served.key, 'application/x-ndjson', loserIsX ? lines('DL-1', 0, 10_000) + lines('DL-2', 0, 5_000) : lines('DL-2', 0, 10_000) + lines('DL-1', 0, 5_000));
+    const retry = await postReadings(
+      served.base,
+      served.key,
+      'application/x-ndjson',
+      loserIsX
+        ? lines('DL-1', 0, 10_000) + lines('DL-2', 0, 5_000)
+        : lines('DL-2', 0, 10_000) + lines('DL-1', 0, 5_000),
+    );
     expect(retry.status).toBe(200);
     expect(retry.json).toMatchObject({ accepted: 5_000, duplicates: 10_000 });
     expect(await t.countReadings(['DL-1', 'DL-2'])).toBe(20_000);
@@ -90,7 +110,9 @@ describe.skipIf(testDatabaseKind() === 'pglite')('two streamed bodies that need 
     };
     let accepted = 0;
     for (let round = 0; round < 5; round++) {
-      const replies = await Promise.all(Array.from({ length: 6 }, () => postReadings(served.base, served.key, 'application/x-ndjson', shuffled())));
+      const replies = await Promise.all(
+        Array.from({ length: 6 }, () => postReadings(served.base, served.key, 'application/x-ndjson', shuffled())),
+      );
       for (const r of replies) expect(r.status, r.text).toBe(200);
       accepted += replies.reduce((sum, r) => sum + (r.json as { accepted: number }).accepted, 0);
     }

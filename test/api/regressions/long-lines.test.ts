@@ -28,13 +28,21 @@ describe('line splitting', () => {
     const text = 'a\nbb\n\nccc\ndddd';
     const whole = await collect([text]);
     expect(whole).toEqual(['a', 'bb', '', 'ccc', 'dddd']);
-    for (let cut = 1; cut < text.length; cut++) expect(await collect([text.slice(0, cut), text.slice(cut)])).toEqual(whole);
+    for (let cut = 1; cut < text.length; cut++)
+      expect(await collect([text.slice(0, cut), text.slice(cut)])).toEqual(whole);
     expect(await collect([...text])).toEqual(whole);
   });
 
   it('refuses a line longer than the limit, naming its line number, also when it spans many chunks', async () => {
-    await expect(collect(['ok\n', 'x'.repeat(60), 'x'.repeat(60)])).rejects.toMatchObject({ statusCode: 413, code: 'line_too_long', message: expect.stringMatching(/^line 2 /) });
-    await expect(collect(['ok\nok\n' + 'y'.repeat(101) + '\n'])).rejects.toMatchObject({ code: 'line_too_long', message: expect.stringMatching(/^line 3 /) });
+    await expect(collect(['ok\n', 'x'.repeat(60), 'x'.repeat(60)])).rejects.toMatchObject({
+      statusCode: 413,
+      code: 'line_too_long',
+      message: expect.stringMatching(/^line 2 /),
+    });
+    await expect(collect(['ok\nok\n' + 'y'.repeat(101) + '\n'])).rejects.toMatchObject({
+      code: 'line_too_long',
+      message: expect.stringMatching(/^line 3 /),
+    });
   });
 });
 
@@ -44,12 +52,26 @@ describe('a body with an endless line', () => {
     ['text/csv', 'identity'],
     ['application/x-ndjson', 'gzip'],
   ])('as %s (%s) is answered 413 naming the line, and nothing is stored', async (contentType, encoding) => {
-    const head = contentType === 'text/csv' ? 'vehicleId,ts,coolant\nLL-1,2026-11-30T06:10:00Z,20\n' : `${reading(0)}\n`;
+    const head =
+      contentType === 'text/csv' ? 'vehicleId,ts,coolant\nLL-1,2026-11-30T06:10:00Z,20\n' : `${reading(0)}\n`;
     const text = `${head}${'z'.repeat(10 * 1024 * 1024)}\n${reading(1)}\n`;
     const body = encoding === 'gzip' ? gzipSync(text) : Buffer.from(text);
-    const res = await postReadings(served.base, served.key, contentType, body, encoding === 'gzip' ? { 'content-encoding': 'gzip' } : {});
+    const res = await postReadings(
+      served.base,
+      served.key,
+      contentType,
+      body,
+      encoding === 'gzip' ? { 'content-encoding': 'gzip' } : {},
+    );
     expect(res.status, res.text).toBe(413);
-    expect(res.json).toEqual({ error: { code: 'line_too_long', message: expect.stringMatching(new RegExp(`^line ${contentType === 'text/csv' ? 3 : 2} is longer than ${MAX_LINE_CHARS}`)) } });
+    expect(res.json).toEqual({
+      error: {
+        code: 'line_too_long',
+        message: expect.stringMatching(
+          new RegExp(`^line ${contentType === 'text/csv' ? 3 : 2} is longer than ${MAX_LINE_CHARS}`),
+        ),
+      },
+    });
     expect(await t.countReadings(['LL-1'])).toBe(0);
   });
 
@@ -57,7 +79,9 @@ describe('a body with an endless line', () => {
     const text = `{"readings":[${reading(0)},{"vehicleId":"LL-1","label":"${'q'.repeat(MAX_VALUE_CHARS + 10)}"}]}`;
     const res = await postReadings(served.base, served.key, 'application/json', text);
     expect(res.status, res.text).toBe(413);
-    expect(res.json).toEqual({ error: { code: 'value_too_long', message: expect.stringMatching(/^reading 1 is longer than/) } });
+    expect(res.json).toEqual({
+      error: { code: 'value_too_long', message: expect.stringMatching(/^reading 1 is longer than/) },
+    });
     expect(await t.countReadings(['LL-1'])).toBe(0);
   });
 });

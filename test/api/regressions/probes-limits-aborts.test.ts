@@ -23,19 +23,34 @@ afterAll(async () => t?.close());
 describe('rate limits', () => {
   it('answer 429 with Retry-After to an address that keeps failing to authenticate, before looking its keys up', async () => {
     const statuses: number[] = [];
-    for (let i = 0; i < 6; i++) statuses.push((await t.app.inject({ method: 'GET', url: '/v1/vehicles', headers: { authorization: `Bearer tck_made${i}_up` }, remoteAddress: '10.0.0.9' })).statusCode);
+    for (let i = 0; i < 6; i++)
+      statuses.push(
+        (
+          await t.app.inject({
+            method: 'GET',
+            url: '/v1/vehicles',
+            headers: { authorization: `Bearer tck_made${i}_up` },
+            remoteAddress: '10.0.0.9',
+          })
+        ).statusCode,
+      );
     expect(statuses).toEqual([401, 401, 401, 401, 429, 429]);
     const limited = await t.app.inject({ method: 'GET', url: '/v1/vehicles', remoteAddress: '10.0.0.9' });
     expect(limited.statusCode).toBe(429);
     expect(Number(limited.headers['retry-after'])).toBeGreaterThan(0);
-    expect(limited.json()).toEqual({ error: { code: 'rate_limited', message: expect.stringMatching(/failed authentications/) } });
+    expect(limited.json()).toEqual({
+      error: { code: 'rate_limited', message: expect.stringMatching(/failed authentications/) },
+    });
     // Another address is not affected.
-    expect((await t.app.inject({ method: 'GET', url: '/v1/vehicles', remoteAddress: '10.0.0.10' })).statusCode).toBe(401);
+    expect((await t.app.inject({ method: 'GET', url: '/v1/vehicles', remoteAddress: '10.0.0.10' })).statusCode).toBe(
+      401,
+    );
   });
 
   it('never apply to the health checks and metrics, whatever their query string', async () => {
     for (let i = 0; i < 12; i++) {
-      for (const url of ['/healthz?probe=1', '/readyz?x', '/metrics?name[]=a', '/healthz']) expect((await t.app.inject({ method: 'GET', url })).statusCode, url).toBe(200);
+      for (const url of ['/healthz?probe=1', '/readyz?x', '/metrics?name[]=a', '/healthz'])
+        expect((await t.app.inject({ method: 'GET', url })).statusCode, url).toBe(200);
     }
   });
 });
@@ -43,7 +58,10 @@ describe('rate limits', () => {
 describe('a client that aborts mid-body', () => {
   it('is not counted as a database outage', async () => {
     const key = await t.createKey('fleet-ab', ['ingest']);
-    const req = http.request(`${base}/v1/readings`, { method: 'POST', headers: { authorization: `Bearer ${key}`, 'content-type': 'application/x-ndjson', 'content-length': '1000000' } });
+    const req = http.request(`${base}/v1/readings`, {
+      method: 'POST',
+      headers: { authorization: `Bearer ${key}`, 'content-type': 'application/x-ndjson', 'content-length': '1000000' },
+    });
     req.on('error', () => undefined);
     req.write(`{"vehicleId":"AB-1","ts":${Date.now() - 60_000},"coolant":70}\n{"vehicleId":"AB-1","ts":`);
     await new Promise((resolve) => setTimeout(resolve, 100));
@@ -78,4 +96,3 @@ describe.skipIf(testDatabaseKind() === 'pglite')('/readyz with a pool that canno
     }
   });
 });
-

@@ -11,7 +11,11 @@ describe('SIGTERM with a request that never finishes', () => {
     const serve = await ServeProcess.start({ SHUTDOWN_GRACE_MS: '1000' });
     const req = http.request(`${serve.url}/v1/readings?fleet=${serve.fleetId}`, {
       method: 'POST',
-      headers: { authorization: `Bearer ${serve.adminKey}`, 'content-type': 'application/x-ndjson', 'content-length': '100000' },
+      headers: {
+        authorization: `Bearer ${serve.adminKey}`,
+        'content-type': 'application/x-ndjson',
+        'content-length': '100000',
+      },
     });
     req.on('error', () => undefined);
     req.write(`{"vehicleId":"SG-1","ts":${Date.now() - 60_000},"coolant":70}\n`);

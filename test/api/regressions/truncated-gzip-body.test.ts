@@ -20,7 +20,9 @@ describe('a truncated gzip body', () => {
     ['application/json', '{"readings":[{"vehicleId":"G-1","ts":"2026-11-30T06:10:00Z","coolant":20}]}'],
   ])('as %s is answered 400 and the service keeps serving', async (contentType, text) => {
     for (const bytes of [10, 24, 30]) {
-      const res = await postReadings(served.base, served.key, contentType, truncated(text, bytes), { 'content-encoding': 'gzip' });
+      const res = await postReadings(served.base, served.key, contentType, truncated(text, bytes), {
+        'content-encoding': 'gzip',
+      });
       expect(res.status, res.text).toBe(400);
       expect(res.json).toEqual({ error: { code: expect.any(String), message: expect.any(String) } });
     }

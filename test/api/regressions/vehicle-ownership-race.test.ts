@@ -22,7 +22,8 @@ beforeAll(async () => {
 });
 afterAll(() => agent.destroy());
 
-const ndjson = (vehicleId: string, coolant: number) => `{"vehicleId":"${vehicleId}","ts":${Date.now() - 60_000},"coolant":${coolant}}\n{"vehicleId":"${vehicleId}","ts":${Date.now() - 50_000},"coolant":${coolant}}\n`;
+const ndjson = (vehicleId: string, coolant: number) =>
+  `{"vehicleId":"${vehicleId}","ts":${Date.now() - 60_000},"coolant":${coolant}}\n{"vehicleId":"${vehicleId}","ts":${Date.now() - 50_000},"coolant":${coolant}}\n`;
 
 async function ownerAndReadings(vehicleId: string): Promise<{ fleet: string | undefined; coolants: number[] }> {
   const db = t.tdb.handle.db;
@@ -52,10 +53,21 @@ describe('two fleets racing for a new vehicle id', () => {
     for (let trial = 0; trial < TRIALS; trial++) {
       const id = `PUTRACE-${trial}`;
       const [put, post] = await Promise.all([
-        request(base, 'PUT', `/v1/vehicles/${id}`, { authorization: `Bearer ${keyA}`, 'content-type': 'application/json' }, JSON.stringify({ label: 'A label', thermostatOpenC: 82 }), agent),
+        request(
+          base,
+          'PUT',
+          `/v1/vehicles/${id}`,
+          { authorization: `Bearer ${keyA}`, 'content-type': 'application/json' },
+          JSON.stringify({ label: 'A label', thermostatOpenC: 82 }),
+          agent,
+        ),
         postReadings(base, keyB, 'application/x-ndjson', ndjson(id, 62), {}, agent),
       ]);
-      const v = await t.tdb.handle.db.selectFrom('vehicles').selectAll().where('vehicle_id', '=', id).executeTakeFirstOrThrow();
+      const v = await t.tdb.handle.db
+        .selectFrom('vehicles')
+        .selectAll()
+        .where('vehicle_id', '=', id)
+        .executeTakeFirstOrThrow();
       if (v.fleet_id === 'fleet-ra') {
         expect(put.status, put.text).toBe(201);
         expect(post.status, post.text).toBe(403);

@@ -3,13 +3,24 @@ import { MAX_OBD_RESPONSE_BYTES } from '../../../bus-decoding/obd-service01.js';
 import { MAX_FRAME_BYTES, parseHexBytes, parseHexNumber } from '../../../bus-decoding/hex-bytes.js';
 import type { RecordShape } from '../body-records.js';
 import { MALFORMED, MALFORMED_CSV } from '../malformed-record.js';
-import { AMBIENT_MAX_C, AMBIENT_MIN_C, EARLIEST_TS_MS, MAX_FUTURE_SKEW_MS, parseTimestamp, VEHICLE_ID_PATTERN } from '../validate-reading.js';
+import {
+  AMBIENT_MAX_C,
+  AMBIENT_MIN_C,
+  EARLIEST_TS_MS,
+  MAX_FUTURE_SKEW_MS,
+  parseTimestamp,
+  VEHICLE_ID_PATTERN,
+} from '../validate-reading.js';
 
 export type BusProtocol = 'j1939' | 'obd';
 
 /** Body shapes of the two frame endpoints: the JSON array's key and the CSV columns. */
 export const FRAME_SHAPES: Record<BusProtocol, RecordShape> = {
-  j1939: { arrayKey: 'frames', csvColumns: ['vehicleId', 'ts', 'canId', 'data'], csvRequired: ['vehicleId', 'ts', 'canId', 'data'] },
+  j1939: {
+    arrayKey: 'frames',
+    csvColumns: ['vehicleId', 'ts', 'canId', 'data'],
+    csvRequired: ['vehicleId', 'ts', 'canId', 'data'],
+  },
   obd: { arrayKey: 'responses', csvColumns: ['vehicleId', 'ts', 'data'], csvRequired: ['vehicleId', 'ts', 'data'] },
 };
 
@@ -35,7 +46,11 @@ export class FrameRecords {
   private readonly oldestMs: number;
   private readonly latestMs: number;
 
-  constructor(readonly protocol: BusProtocol, nowMs: number, private readonly maxAgeDays: number) {
+  constructor(
+    readonly protocol: BusProtocol,
+    nowMs: number,
+    private readonly maxAgeDays: number,
+  ) {
     // One byte more than a J1939 frame may have, so the collector can say a data field is too long.
     this.bytes = new Uint8Array(protocol === 'obd' ? MAX_OBD_RESPONSE_BYTES : MAX_FRAME_BYTES + 1);
     this.earliestMs = EARLIEST_TS_MS;
@@ -49,8 +64,10 @@ export class FrameRecords {
    */
   add(raw: unknown): string | null {
     if (raw === MALFORMED) return 'not valid JSON';
-    if (raw === MALFORMED_CSV) return 'the CSV row does not have the same number of fields as the header (or has an unclosed quote)';
-    if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) return this.protocol === 'j1939' ? 'a frame must be a JSON object' : 'a response must be a JSON object';
+    if (raw === MALFORMED_CSV)
+      return 'the CSV row does not have the same number of fields as the header (or has an unclosed quote)';
+    if (typeof raw !== 'object' || raw === null || Array.isArray(raw))
+      return this.protocol === 'j1939' ? 'a frame must be a JSON object' : 'a response must be a JSON object';
     const r = raw as Record<string, unknown>;
     const vehicleId = r.vehicleId;
     if (vehicleId === undefined || vehicleId === null || vehicleId === '') return 'vehicleId is missing';
@@ -69,15 +86,18 @@ export class FrameRecords {
     if (tsMs > this.latestMs) return 'ts is more than 5 minutes in the future (gateway clock ahead?)';
 
     const data = r.data;
-    if (typeof data !== 'string' || data.length === 0) return 'data is missing: the data bytes as hex, e.g. "7B FF FF FF FF FF FF FF"';
+    if (typeof data !== 'string' || data.length === 0)
+      return 'data is missing: the data bytes as hex, e.g. "7B FF FF FF FF FF FF FF"';
     const n = data.length > MAX_DATA_CHARS ? -2 : parseHex(data, this.bytes);
     if (n === 0) return 'data is missing: the data bytes as hex, e.g. "7B FF FF FF FF FF FF FF"';
     if (n === -1) return 'data is not hex bytes (two hex digits a byte, optionally separated by spaces)';
-    if (n === -2) return `data has more than ${this.protocol === 'obd' ? MAX_OBD_RESPONSE_BYTES : MAX_FRAME_BYTES} bytes`;
+    if (n === -2)
+      return `data has more than ${this.protocol === 'obd' ? MAX_OBD_RESPONSE_BYTES : MAX_FRAME_BYTES} bytes`;
 
     if (this.protocol === 'obd') return this.collector.obdResponse(vehicleId, tsMs, this.bytes, n);
     const canId = typeof r.canId === 'string' ? parseId(r.canId) : typeof r.canId === 'number' ? r.canId : NaN;
-    if (r.canId === undefined || r.canId === null || r.canId === '') return 'canId is missing: the 29-bit identifier as hex, e.g. "18FEEE00"';
+    if (r.canId === undefined || r.canId === null || r.canId === '')
+      return 'canId is missing: the 29-bit identifier as hex, e.g. "18FEEE00"';
     if (Number.isNaN(canId)) return 'canId is not hex (up to 8 digits, e.g. "18FEEE00" or "0x18FEEE00")';
     return this.collector.j1939(vehicleId, tsMs, canId, this.bytes, n);
   }
