@@ -13,6 +13,7 @@ import { AnalysisRuns } from '../services/worker/analysis-runs.js';
 import { readWindows } from '../services/db/reading-windows.js';
 import { BENCH_START_MS, seedFindings, seedReadings } from './analysis-seed.js';
 import { DEFAULT_SERVER_URL, ROOT, scratchDatabase, startServer } from './bench-server.js';
+import { DAY_MS } from '../services/time/durations.js';
 
 export interface AnalysisBenchResult {
   /** 1, 5 and 15 minute load averages before and after (the machine may be shared). */
@@ -74,7 +75,6 @@ export interface AnalysisBenchResult {
   };
 }
 
-const DAY_MS = 86_400_000;
 const THROUGHPUT = { vehicles: 40, days: 21 };
 const MEMORY = { vehicles: 10, days: 14 };
 const AT_RISK_VEHICLES = 10_000;

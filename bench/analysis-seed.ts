@@ -3,8 +3,8 @@ import type { DatabaseHandle } from '../services/db/database.js';
 import { createFleetsRepository } from '../services/db/fleets-repository.js';
 import { monthIndexOf, PartitionKeeper } from '../services/db/partitions.js';
 import { refreshOpenFindingsBrief } from '../services/db/vehicle-risk.js';
+import { DAY_MS } from '../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 export const BENCH_START_MS = Date.UTC(2026, 8, 7);
 
 /** Each simulated gateway posts a vehicle's readings every this many seconds (30 readings at 10 s). */

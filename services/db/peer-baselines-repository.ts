@@ -3,8 +3,8 @@ import { buildPeerBaseline, type PeerBaseline } from '../analysis/peer-baseline.
 import type { RunMetrics } from '../analysis/run-metrics.js';
 import type { Database } from './schema.js';
 import { utcWeekStartMs } from '../time/iso-week.js';
+import { DAY_MS } from '../time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** A family's baseline learns from its closed runs of this many days before the week starts. */
 export const PEER_WINDOW_DAYS = 56;
 /** At most this many runs (the latest) feed one rebuild: bounds its memory and time. */

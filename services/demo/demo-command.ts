@@ -14,6 +14,7 @@ import { formatIsoWeek, lastCompleteIsoWeek } from '../time/iso-week.js';
 import { DEMO_FLEET_ID, planFleet, type SimVehicle } from '../simulator/index.js';
 import { formatAtRiskTable, type AtRiskVehicle } from './at-risk-table.js';
 import { feedVehicle, type FeedTotals } from './gateway-feed.js';
+import { DAY_MS } from '../time/durations.js';
 
 const HELP = `usage: npm run demo [-- options]
 
@@ -34,8 +35,6 @@ options:
   --no-serve     exit when done instead of serving
   --help
 `;
-
-const DAY_MS = 86_400_000;
 
 function say(line: string): void {
   process.stderr.write(`${line}\n`);

@@ -18,6 +18,7 @@ import {
 import { recentWarmupCurves, vehicleChartsOf } from './vehicle-chart-data.js';
 import type { VehicleSection, WeeklyReport, WorkItem } from './weekly-report-schema.js';
 import { buildWorkList, unresolvedAt, withPlannerStatesAt } from './work-list.js';
+import { DAY_MS } from '../time/durations.js';
 
 /** Vehicles (highest risk first) that get chart sections; the rest are on the work list only. */
 export const MAX_CHARTED_VEHICLES = 10;
@@ -28,7 +29,6 @@ export const RECENT_COLD_START_DAYS = 14;
 /** Usual behaviour (breaks in reporting, gaps) is judged over this many days before the week. */
 export const HISTORY_DAYS = 28;
 
-const DAY_MS = 86_400_000;
 /** Findings that say the warm-up itself (or its measurement) is abnormal. */
 export const WARMUP_KINDS: ReadonlySet<string> = new Set(['slow-warmup', 'overshoot', 'sensor-fault']);
 

@@ -1,13 +1,12 @@
 import { round } from '../analysis/findings/finding.js';
 import type { ReportVehicle, StoredDay } from '../db/weekly-report-repository.js';
 import type { WeeklyReport } from './weekly-report-schema.js';
+import { HOUR_MS } from '../time/durations.js';
 
 /** A gateway with no data for this long at the report time is listed as silent, h. */
 export const SILENT_GATEWAY_H = 48;
 /** How far back the last reading of a silent gateway is looked for, days. */
 export const SILENT_LOOKBACK_DAYS = 60;
-
-const HOUR_MS = 3_600_000;
 
 /**
  * The fleet's week in numbers, from the week's vehicle-days and each gateway's last reading

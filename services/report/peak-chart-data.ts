@@ -3,8 +3,8 @@ import type { DayAggregate } from '../analysis/day-aggregates.js';
 import { sensSlope } from '../analysis/stats/mann-kendall.js';
 import { median } from '../analysis/stats/robust.js';
 import type { PeakChart } from './weekly-report-schema.js';
+import { DAY_MS } from '../time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** Days of daily peaks shown (the trend window plus the weeks before it for context). */
 export const PEAK_CHART_DAYS = 42;
 /** Days with less running than this are too thin to judge, h (as the overheating-trend finding). */

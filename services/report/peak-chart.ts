@@ -2,8 +2,8 @@ import { degreeSign, type TemperatureUnit } from '../analysis/physics/temperatur
 import { type ChartOption, GRID, LEGEND, renderChartSvg, Y_NAME } from './chart-svg.js';
 import type { PeakChart } from './weekly-report-schema.js';
 import { utcWeekStartMs } from '../time/iso-week.js';
+import { DAY_MS } from '../time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** The projection is drawn at most this far past the last day, days (further: stated in words). */
 export const PROJECTION_DRAWN_DAYS = 30;
 const PEAK_COLOUR = '#d94801';

@@ -6,8 +6,7 @@ import { peakChart } from './peak-chart-data.js';
 import type { ReportRepository, StoredFinding } from '../db/weekly-report-repository.js';
 import { baselineBand, drawableColdStarts, WARMUP_CHART_MIN, warmupCurve } from './warmup-chart-data.js';
 import type { PeakChart, WarmupChart } from './weekly-report-schema.js';
-
-const DAY_MS = 86_400_000;
+import { DAY_MS } from '../time/durations.js';
 
 /** What the two charts need of a vehicle's profile (the site's atmospheric pressure resolved). */
 export interface ChartProfile {

@@ -6,8 +6,7 @@ import { PEAK_CHART_DAYS } from './peak-chart-data.js';
 import { createReportRepository } from '../db/weekly-report-repository.js';
 import { recentWarmupCurves, vehicleChartsOf } from './vehicle-chart-data.js';
 import type { PeakChart, WarmupChart } from './weekly-report-schema.js';
-
-const DAY_MS = 86_400_000;
+import { DAY_MS } from '../time/durations.js';
 
 /** An unresolved finding as the charts use it (onset and, for the trend, its metrics). */
 export interface ChartedFinding {

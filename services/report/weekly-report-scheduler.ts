@@ -5,6 +5,7 @@ import { createReportRepository } from '../db/weekly-report-repository.js';
 import { generateWeeklyReport, writeWeeklyReport } from './weekly-report-files.js';
 import { archiveState } from './weekly-report-service.js';
 import { zonedTimeToUtcMs } from '../time/zoned-time.js';
+import { WEEK_MS } from '../time/durations.js';
 
 export interface WeeklyReportSchedulerOptions {
   db: Kysely<Database>;
@@ -26,7 +27,6 @@ export const DEFAULT_SCHEDULER_INTERVAL_MS = 15 * 60_000;
 export const MAX_ANALYSIS_WAIT_MS = 24 * 3_600_000;
 /** Archived reports generated within this many weeks are checked for staleness and rebuilt, weeks. */
 export const REBUILD_LOOKBACK_WEEKS = 8;
-const WEEK_MS = 7 * 86_400_000;
 
 /**
  * Builds each fleet's report for the last complete ISO week once the configured weekday and

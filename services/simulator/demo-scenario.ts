@@ -3,6 +3,7 @@ import type { FaultKind } from './faults.js';
 import { hashSeed, Rng } from './prng.js';
 import { buildVehicle, type Depot, type SimVehicle } from './sim-vehicle.js';
 import type { Climate } from './weather.js';
+import { DAY_MS } from '../time/durations.js';
 
 /**
  * The demo scenario: Quillmoor Provisions, an invented regional food-distribution company with
@@ -81,8 +82,6 @@ const DEMO_FAULTS: readonly DemoFault[] = [
     onsetFraction: 0.5,
   },
 ];
-
-const DAY_MS = 86_400_000;
 
 /** Plans the demo fleet (vehicle ids QP-101, QP-102, …). */
 export function planDemoFleet(opts: { startMs: number; days: number; seed: number; vehicles: number }): SimVehicle[] {

@@ -3,6 +3,7 @@ import { FAULT_KINDS, type FaultKind } from './faults.js';
 import { hashSeed, Rng } from './prng.js';
 import { buildVehicle, type Depot, type SimVehicle } from './sim-vehicle.js';
 import type { Climate } from './weather.js';
+import { DAY_MS } from '../time/durations.js';
 
 /**
  * The evaluation scenario: a fleet for measuring detection quality. Every fault kind appears
@@ -50,7 +51,6 @@ const FAULT_PLACEMENT: Readonly<Record<FaultKind, { climates: readonly Climate[]
 export const MIN_HEALTHY_HISTORY_DAYS = 22;
 /** Days left after the latest onset for the fault to develop. */
 const MIN_FAULT_DAYS = 14;
-const DAY_MS = 86_400_000;
 
 /** Vehicles per fault kind in a full evaluation fleet. */
 const FAULTS_PER_KIND = 6;

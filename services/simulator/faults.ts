@@ -1,4 +1,5 @@
 import type { CoolingSystem } from './cooling-system.js';
+import { DAY_MS, WEEK_MS } from '../time/durations.js';
 
 /**
  * Cooling-system and sensor faults with an onset time and a severity 0..1.
@@ -53,9 +54,6 @@ export const FAULT_KINDS: readonly FaultKind[] = [
 export function isSensorFault(kind: FaultKind): boolean {
   return kind.startsWith('sensor-');
 }
-
-const WEEK_MS = 7 * 86_400_000;
-const DAY_MS = 86_400_000;
 
 /** How far a fault has grown at tMs (epoch ms, at or after onset): 0..1, 1 for an abrupt fault. */
 export function faultRamp(f: FaultSpec, tMs: number): number {

@@ -1,6 +1,7 @@
 import type { CoolingSystem } from './cooling-system.js';
 import type { FieldVariation } from './field-variation.js';
 import type { Rng } from './prng.js';
+import { HOUR_MS } from '../time/durations.js';
 
 /**
  * The running state of a vehicle's field variation while it is simulated: today's route and
@@ -8,7 +9,6 @@ import type { Rng } from './prng.js';
  * random draw comes from its own streams, so a vehicle and its fault-free twin see the same.
  */
 
-const HOUR_MS = 3_600_000;
 /** Ambient sensor time constant when driving (air flow over it), s ... */
 const SENSOR_TAU_MOVING_S = 60;
 /** ... and when standing, s. */

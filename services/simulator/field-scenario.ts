@@ -4,6 +4,7 @@ import { ALL_VARIATION, drawVariation, type VariationSwitches } from './field-va
 import { hashSeed, Rng } from './prng.js';
 import { buildVehicle, type Depot, type SimVehicle } from './sim-vehicle.js';
 import type { Climate } from './weather.js';
+import { DAY_MS } from '../time/durations.js';
 
 /**
  * The field scenario: randomised fleets for evaluating detection as the field would. Like the
@@ -26,7 +27,6 @@ const MIN_HISTORY_DAYS = 7;
 const MIN_AFTER_DAYS = 7;
 /** ... and fall between these shares of the period. */
 const ONSET_SHARE: readonly [number, number] = [0.4, 0.8];
-const DAY_MS = 86_400_000;
 
 export interface FieldFleetOptions {
   startMs: number;

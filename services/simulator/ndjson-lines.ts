@@ -1,4 +1,5 @@
 import type { SampleChunk } from './simulate-vehicle.js';
+import { HOUR_MS } from '../time/durations.js';
 
 /**
  * Encodes samples as NDJSON lines in the ingest format
@@ -9,7 +10,6 @@ import type { SampleChunk } from './simulate-vehicle.js';
  * other number falls back to String(). Output is ASCII.
  */
 
-const HOUR_MS = 3_600_000;
 const enc = new TextEncoder();
 const bytes = (s: string): Uint8Array => enc.encode(s);
 

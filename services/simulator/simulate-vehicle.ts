@@ -11,6 +11,7 @@ import { LoadModel, ratedCoolantHeatW } from './load-model.js';
 import { hashSeed, Rng } from './prng.js';
 import { AmbientModel } from './weather.js';
 import { drawWeatherEvents } from './weather-events.js';
+import { DAY_MS, HOUR_MS } from '../time/durations.js';
 
 export interface SimOptions {
   /** First instant simulated, epoch ms (vehicles start cold-soaked). */
@@ -48,8 +49,6 @@ export interface SampleChunk {
 export const DEFAULT_SAMPLE_PERIOD_S = 10;
 /** Samples per chunk: bounds memory per vehicle (6 arrays × 8 B × 4096 ≈ 200 kB). */
 export const CHUNK_SAMPLES = 4096;
-const DAY_MS = 86_400_000;
-const HOUR_MS = 3_600_000;
 /** Ambient temperature and fault state are refreshed this often while running, ms. */
 const SLOW_UPDATE_MS = 60_000;
 /** Longest engine-off step (exact exponential, so only ambient drift limits it), s. */

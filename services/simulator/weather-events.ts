@@ -1,5 +1,6 @@
 import type { Rng } from './prng.js';
 import type { Climate } from './weather.js';
+import { DAY_MS } from '../time/durations.js';
 
 /**
  * Weather that changes over weeks: heat waves, cold snaps and warm spells in winter, as
@@ -15,7 +16,6 @@ export interface WeatherAnomaly {
   deltaC: number;
 }
 
-const DAY_MS = 86_400_000;
 /** Ramp in and out of an anomaly, ms. */
 const RAMP_MS = DAY_MS;
 /** About one weather event every this many days at a depot. */

@@ -1,5 +1,6 @@
 import { Rng } from './prng.js';
 import { anomalyAt, type WeatherAnomaly } from './weather-events.js';
+import { DAY_MS, HOUR_MS } from '../time/durations.js';
 
 /**
  * Ambient air temperature at a depot, °C:
@@ -35,8 +36,6 @@ const SEASON_PEAK_DAY = 200;
 const DAY_PEAK_HOUR = 15;
 /** Correlation time of weather systems, h. */
 const WEATHER_TIME_CONSTANT_H = 48;
-const HOUR_MS = 3_600_000;
-const DAY_MS = 86_400_000;
 
 export class AmbientModel {
   private readonly spec: ClimateSpec;

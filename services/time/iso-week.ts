@@ -1,4 +1,5 @@
 import { zonedParts, zonedTimeToUtcMs } from './zoned-time.js';
+import { DAY_MS, WEEK_MS } from './durations.js';
 
 /**
  * ISO 8601 week dates: weeks start on Monday, and week 1 of a year is the week holding that
@@ -9,8 +10,6 @@ export interface IsoWeek {
   week: number;
 }
 
-const DAY_MS = 86_400_000;
-const WEEK_MS = 7 * DAY_MS;
 /** The epoch (1970-01-01) was a Thursday: the first Monday 00:00 UTC is 4 days later. */
 const MONDAY_OFFSET_MS = 4 * DAY_MS;
 const ISO_WEEK_PATTERN = /^(\d{4})-W(\d{2})$/;

@@ -13,6 +13,7 @@ import type { PeerBaselines } from '../db/peer-baselines-repository.js';
 import type { Lease, QueueRepository } from '../db/analysis-queue-repository.js';
 import { COLUMN_NAMES } from '../db/pg-wire/binary-window-decoder.js';
 import { windowBounds } from '../db/reading-windows.js';
+import { DAY_MS } from '../time/durations.js';
 
 /*
  * One pass over one leased vehicle:
@@ -31,7 +32,6 @@ import { windowBounds } from '../db/reading-windows.js';
  * `processLeases` runs these steps for a batch of leased vehicles, reading their slices together.
  */
 
-const DAY_MS = 86_400_000;
 /** Readings are read and analysed in slices of at most this many days (shorter when many vehicles are read together): memory stays bounded. */
 export const WINDOW_SLICE_DAYS = 14;
 

@@ -12,6 +12,7 @@ import type { PeerBaselines } from '../db/peer-baselines-repository.js';
 import type { Lease, QueueRepository } from '../db/analysis-queue-repository.js';
 import { WindowBuffers } from '../db/pg-wire/binary-window-decoder.js';
 import { readWindows } from '../db/reading-windows.js';
+import { DAY_MS } from '../time/durations.js';
 
 /** The few pino methods the worker logs through. */
 export interface WorkerLogger {
@@ -56,7 +57,6 @@ function message(err: unknown): string {
  * million readings, 48 MB of arrays (plus the decoder's, 41 bytes a reading).
  */
 export const BATCH_READ_VEHICLE_DAYS = 140;
-const DAY_MS = 86_400_000;
 
 /** A leased vehicle on its way through the batch. */
 interface Pass {

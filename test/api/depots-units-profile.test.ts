@@ -6,9 +6,9 @@ import { createAnalysisStore } from '../../services/db/analysis-results-reposito
 import { syncFindings } from '../../services/db/findings-sync.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { postReadings } from '../helpers/worker-fleet.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 const t = useTestApp();
-const DAY_MS = 86_400_000;
 const T = Date.now() - DAY_MS;
 let key: string;
 let readOnly: string;

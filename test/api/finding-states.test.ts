@@ -4,9 +4,9 @@ import type { Finding } from '../../services/analysis/findings/finding.js';
 import { refreshVehicleRisk } from '../../services/db/vehicle-risk.js';
 import { syncFindings } from '../../services/db/findings-sync.js';
 import { useTestApp } from '../helpers/test-app.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 const t = useTestApp();
-const DAY_MS = 86_400_000;
 const T = Date.UTC(2026, 10, 1);
 let key: string;
 let other: string;
@@ -137,17 +137,15 @@ describe('deferring a finding', () => {
     await sql`update findings set deferred_until = now() - interval '1 minute' where finding_id = ${id}`.execute(
       t.tdb.handle.db,
     );
-    await t.tdb.handle.db
-      .transaction()
-      .execute((trx) =>
-        syncFindings(trx, {
-          vehicleId: 'S-WARM',
-          fleetId: 'fleet-s',
-          asOfMs: T,
-          derived: [finding('slow-warmup', 'warning')],
-          quietPeriodMs: 14 * DAY_MS,
-        }),
-      );
+    await t.tdb.handle.db.transaction().execute((trx) =>
+      syncFindings(trx, {
+        vehicleId: 'S-WARM',
+        fleetId: 'fleet-s',
+        asOfMs: T,
+        derived: [finding('slow-warmup', 'warning')],
+        quietPeriodMs: 14 * DAY_MS,
+      }),
+    );
     expect((await get(`/v1/vehicles/S-WARM/findings`)).json().findings[0]).toMatchObject({
       id,
       status: 'open',

@@ -4,9 +4,9 @@ import type { Finding } from '../../services/analysis/findings/finding.js';
 import { refreshVehicleRisk } from '../../services/db/vehicle-risk.js';
 import { syncFindings } from '../../services/db/findings-sync.js';
 import { useTestApp } from '../helpers/test-app.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 const t = useTestApp();
-const DAY_MS = 86_400_000;
 const T = Date.UTC(2026, 10, 1);
 let keyA: string;
 let keyB: string;

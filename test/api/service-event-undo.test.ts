@@ -5,12 +5,12 @@ import type { Finding } from '../../services/analysis/findings/finding.js';
 import { refreshVehicleRisk } from '../../services/db/vehicle-risk.js';
 import { syncFindings } from '../../services/db/findings-sync.js';
 import { useTestApp } from '../helpers/test-app.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 // Regression: deleting or correcting a service event must not leave the findings it resolved
 // resolved (they reopen where their evidence is still there), nor keep the findings derived
 // under the baseline it started; and the audit of each finding says why it changed.
 const t = useTestApp();
-const DAY_MS = 86_400_000;
 const T = Date.UTC(2026, 10, 20);
 const QUIET_MS = DEFAULT_ANALYSIS_CONFIG.findingStaleDays * DAY_MS;
 const HISTORY = '2026-08-01T00:00:00.000Z';

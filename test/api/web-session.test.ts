@@ -4,9 +4,9 @@ import { SAFETY_CAUTION } from '../../services/analysis/findings/finding.js';
 import { createApiKeysRepository } from '../../services/db/api-keys-repository.js';
 import { seedBoardVehicle } from '../helpers/board-fleet.js';
 import { createTestApp, useTestApp } from '../helpers/test-app.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 const t = useTestApp();
-const DAY_MS = 86_400_000;
 const NOW = Date.now();
 let readKey: string;
 let ingestKey: string;

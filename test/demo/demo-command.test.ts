@@ -7,9 +7,9 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { SAFETY_CAUTION } from '../../services/analysis/findings/finding.js';
 import { planFleet } from '../../services/simulator/index.js';
 import { testDatabaseKind } from '../helpers/test-database.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 const ROOT = join(import.meta.dirname, '..', '..');
-const DAY_MS = 86_400_000;
 const END_DATE = '2026-11-30';
 
 // `npm run demo` runs on the embedded database; this runs a small version of it end to end

@@ -4,8 +4,7 @@ import { createFleetsRepository } from '../../services/db/fleets-repository.js';
 import type { Database } from '../../services/db/schema.js';
 import { refreshVehicleRisk } from '../../services/db/vehicle-risk.js';
 import { syncFindings } from '../../services/db/findings-sync.js';
-
-const DAY_MS = 86_400_000;
+import { DAY_MS } from '../../services/time/durations.js';
 
 /** A made-up vehicle with stored findings, as the worker would leave it (findings synced, risk refreshed). */
 export interface BoardVehicle {

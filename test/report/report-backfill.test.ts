@@ -6,12 +6,12 @@ import type { WeeklyReport } from '../../services/report/weekly-report-schema.js
 import { concatSamples, syntheticDrive } from '../analysis/synthetic-drive.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { analyseNow, postReadings, readingItems } from '../helpers/worker-fleet.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 // The issue's case: the service starts after a week has ended, the scheduled job archives that
 // week before any of its readings exist, then the gateways' back-fill of three weeks arrives.
 const t = useTestApp();
 const FLEET = 'backfill-fleet';
-const DAY_MS = 86_400_000;
 const NOW = Date.now();
 const WEEK = formatIsoWeek(lastCompleteIsoWeek(NOW, 'UTC'));
 const WIN = weekWindow(lastCompleteIsoWeek(NOW, 'UTC'), 'UTC');

@@ -10,11 +10,11 @@ import { CHROMIUM_ARGS, requireChromium, skipBrowserChecks } from '../helpers/ch
 import { useTestApp } from '../helpers/test-app.js';
 import { testDatabaseKind } from '../helpers/test-database.js';
 import { type SeededFleet, SEED_WEEK, SEED_WEEK_END_MS, seedFleetThroughApi } from './analysed-fleet.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 const SKIP = skipBrowserChecks('weekly-report-browser.test.ts');
 const OUTPUT_DIR = 'test-output';
 const suffix = testDatabaseKind() === 'postgres' ? '' : `-${testDatabaseKind()}`;
-const DAY_MS = 86_400_000;
 
 const t = useTestApp();
 let seeded: SeededFleet;

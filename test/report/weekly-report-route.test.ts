@@ -4,11 +4,11 @@ import { SAFETY_CAUTION } from '../../services/analysis/findings/finding.js';
 import { generateWeeklyReport } from '../../services/report/weekly-report-files.js';
 import { WeeklyReportScheduler } from '../../services/report/weekly-report-scheduler.js';
 import { useTestApp } from '../helpers/test-app.js';
+import { HOUR_MS } from '../../services/time/durations.js';
 
 const t = useTestApp();
 const FLEET = 'route-fleet';
 const WEEK = '2026-W48';
-const HOUR_MS = 3_600_000;
 let key: string;
 let otherKey: string;
 let admin: string;

@@ -3,8 +3,8 @@ import { COOLANT_DISPOSAL_CAUTION, ENGINE_RUNNING_CAUTION } from '../../services
 import { SAFETY_CAUTION } from '../../services/analysis/findings/finding.js';
 import type { ReportVehicle, StoredFinding } from '../../services/db/weekly-report-repository.js';
 import { buildWorkList } from '../../services/report/work-list.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const T = Date.UTC(2026, 10, 20);
 
 function stored(over: Partial<StoredFinding>): StoredFinding {

@@ -2,9 +2,9 @@ import { setFlagsFromString } from 'node:v8';
 import { runInNewContext } from 'node:vm';
 import { describe, expect, it } from 'vitest';
 import { FAULT_KINDS, groundTruth, planFleet, simulateVehicle } from '../../services/simulator/index.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 const START_MS = Date.UTC(2026, 9, 5);
-const DAY_MS = 86_400_000;
 
 describe('planFleet', () => {
   it('plans the demo company with several depots in different climates, mostly healthy, a handful of faults', () => {

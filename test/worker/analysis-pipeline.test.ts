@@ -5,8 +5,8 @@ import { createQueueRepository } from '../../services/db/analysis-queue-reposito
 import { simulateToArrays } from '../analysis/evaluation-fleet.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { analyseNow, derivedState, postReadings, putProfile, readingItems } from '../helpers/worker-fleet.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const OPTS = { vehicles: 13, days: 30, seed: 5, startMs: Date.UTC(2026, 8, 7) };
 const t = useTestApp();
 let key: string;

@@ -2,8 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { syntheticDrive } from '../analysis/synthetic-drive.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { analyseNow, postReadings } from '../helpers/worker-fleet.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const T0 = Date.UTC(2026, 10, 2, 7);
 const t = useTestApp();
 

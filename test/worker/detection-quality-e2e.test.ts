@@ -7,8 +7,8 @@ import { evaluateFleet, simulateToArrays } from '../analysis/evaluation-fleet.js
 import { useTestApp } from '../helpers/test-app.js';
 import { testDatabaseKind } from '../helpers/test-database.js';
 import { analyseNow, postReadings, putProfile, readingItems } from '../helpers/worker-fleet.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** The smallest evaluation fleet with every fault kind once and every healthy group (see evaluation-scenario.ts). */
 const OPTS = { vehicles: 13, days: 36, seed: 5, startMs: Date.UTC(2026, 8, 7) };
 

@@ -4,8 +4,8 @@ import type { Finding } from '../../services/analysis/findings/finding.js';
 import { refreshVehicleRisk } from '../../services/db/vehicle-risk.js';
 import { EVIDENCE_STOPPED, syncFindings } from '../../services/db/findings-sync.js';
 import { createTestDatabase, type TestDatabase } from '../helpers/test-database.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const QUIET_MS = 14 * DAY_MS;
 const T = Date.UTC(2026, 10, 1);
 let tdb: TestDatabase;

@@ -6,11 +6,11 @@ import { createReadingsRepository } from '../../services/db/readings-repository.
 import type { ReadingChunk } from '../../services/db/reading-chunk.js';
 import { BACKOFF_BASE_MS, createQueueRepository } from '../../services/db/analysis-queue-repository.js';
 import { createTestDatabase, type TestDatabase } from '../helpers/test-database.js';
+import { HOUR_MS } from '../../services/time/durations.js';
 
 let tdb: TestDatabase;
 let queue: ReturnType<typeof createQueueRepository>;
 const T0 = Date.UTC(2026, 9, 5, 6);
-const HOUR_MS = 3_600_000;
 
 beforeAll(async () => {
   tdb = await createTestDatabase();

@@ -4,10 +4,10 @@ import { monthIndexOf, PartitionKeeper } from '../../services/db/partitions.js';
 import { WindowBuffers } from '../../services/db/pg-wire/binary-window-decoder.js';
 import { readWindowAsText, readWindows } from '../../services/db/reading-windows.js';
 import { createTestDatabase, type TestDatabase } from '../helpers/test-database.js';
+import { HOUR_MS } from '../../services/time/durations.js';
 
 let tdb: TestDatabase;
 const T0 = Date.UTC(2026, 9, 5, 6);
-const HOUR_MS = 3_600_000;
 
 /** Inserts readings in the given order (which becomes their heap order). */
 async function insert(rows: Array<[string, number, number, number | null]>) {

@@ -4,8 +4,8 @@ import { monthIndexOf, PartitionKeeper } from '../../services/db/partitions.js';
 import { createQueueRepository } from '../../services/db/analysis-queue-repository.js';
 import { createTestDatabase, testDatabaseKind, type TestDatabase } from '../helpers/test-database.js';
 import { WorkerProcess } from '../helpers/worker-process.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const START = Date.UTC(2026, 9, 5);
 const DAYS = 12;
 let tdb: TestDatabase;

@@ -4,10 +4,10 @@ import type { WorkerLogger } from '../../services/worker/lease-processor.js';
 import { Worker } from '../../services/worker/worker.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { postReadings } from '../helpers/worker-fleet.js';
+import { HOUR_MS } from '../../services/time/durations.js';
 
 const t = useTestApp();
 const START = Date.UTC(2026, 9, 5, 6);
-const HOUR_MS = 3_600_000;
 let key: string;
 
 /** 100 readings at 10 s of one vehicle, warming from 20 °C. */

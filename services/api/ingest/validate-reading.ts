@@ -1,5 +1,6 @@
 import type { BusReading } from '../../bus-decoding/bus-encoding.js';
 import { MALFORMED, MALFORMED_CSV } from './malformed-record.js';
+import { DAY_MS } from '../../time/durations.js';
 
 export type TemperatureUnit = 'C' | 'F' | 'K';
 export const UNITS: readonly TemperatureUnit[] = ['C', 'F', 'K'];
@@ -78,8 +79,6 @@ function optionalNumber(value: unknown): number | string {
   if (typeof value === 'string' && /^\s*-?\d+(\.\d+)?([eE][+-]?\d+)?\s*$/.test(value)) return Number(value);
   return 'not a number';
 }
-
-const DAY_MS = 86_400_000;
 
 /**
  * Checks one raw reading and converts it to °C. Returns the reading, or the reason it is

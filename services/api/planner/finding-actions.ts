@@ -12,10 +12,10 @@ import type { Database, FindingsTable } from '../../db/schema.js';
 import { refreshVehicleRisk } from '../../db/vehicle-risk.js';
 import { BadRequestError, ConflictError, NotFoundError } from '../errors.js';
 import { assertFleetAccess } from '../plugins/auth.js';
+import { DAY_MS } from '../../time/durations.js';
 
 /** The longest a finding may be deferred, days (a deferral is a booking decision, not a way to hide it). */
 export const MAX_DEFERRAL_DAYS = 366;
-const DAY_MS = 86_400_000;
 
 type CurrentState = Omit<PlannerState, 'status'> & { status: FindingStatus };
 

@@ -15,6 +15,7 @@ import { refreshVehicleRisk } from '../../db/vehicle-risk.js';
 import { createQueueRepository } from '../../db/analysis-queue-repository.js';
 import { NotFoundError } from '../errors.js';
 import { lastAnalysedReadingAt } from '../../db/analysis-results-repository.js';
+import { DAY_MS } from '../../time/durations.js';
 
 export interface ServiceEventInput {
   kind: ServiceEventKind;
@@ -30,7 +31,6 @@ const auditOf = (r: Selectable<ServiceEventsTable>) => ({
   notes: r.notes,
   resolvedFindings: r.resolved_findings,
 });
-const DAY_MS = 86_400_000;
 
 type Vehicle = { vehicleId: string; fleetId: string; engineFamily: string };
 

@@ -8,8 +8,8 @@ import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js'
 import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
 import { parseTimeParam, TimeParam } from '../schemas/time-range.js';
 import { requireVehicle } from '../vehicle-access.js';
+import { DAY_MS } from '../../time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** Default chart window before the vehicle's latest reading. */
 const DEFAULT_RANGE_MS = 7 * DAY_MS;
 /** Longest window one request may span. */

@@ -11,6 +11,7 @@ import {
   parseTimestamp,
   VEHICLE_ID_PATTERN,
 } from '../validate-reading.js';
+import { DAY_MS } from '../../../time/durations.js';
 
 export type BusProtocol = 'j1939' | 'obd';
 
@@ -24,7 +25,6 @@ export const FRAME_SHAPES: Record<BusProtocol, RecordShape> = {
   obd: { arrayKey: 'responses', csvColumns: ['vehicleId', 'ts', 'data'], csvRequired: ['vehicleId', 'ts', 'data'] },
 };
 
-const DAY_MS = 86_400_000;
 // Module-local copies of imported functions called per row (tsx reads imported names through getters).
 const parseTs = parseTimestamp;
 const parseHex = parseHexBytes;
