@@ -1,10 +1,9 @@
 import { DEFAULT_ANALYSIS_CONFIG } from './config.js';
 import type { Finding, Severity } from './findings/finding.js';
+import { DAY_MS } from '../time/durations.js';
 
 /** How much one certain, current finding of each severity adds to the risk (0..1). */
 export const SEVERITY_WEIGHT: Readonly<Record<Severity, number>> = Object.freeze({ advisory: 0.2, warning: 0.55, critical: 0.95 });
-
-const DAY_MS = 86_400_000;
 
 /**
  * Risk 0–100 of a vehicle from its unresolved findings: each contributes

@@ -1,4 +1,5 @@
 import { isSensorFault, simulateVehicle, type SimVehicle } from '../simulator/index.js';
+import { DAY_MS } from '../time/durations.js';
 
 /**
  * Whether a physical fault changed what could be measured at all: the vehicle is simulated again
@@ -12,7 +13,6 @@ import { isSensorFault, simulateVehicle, type SimVehicle } from '../simulator/in
 export const VISIBLE_DIFF_C = 5;
 /** ... on at least this many days after onset. */
 export const VISIBLE_MIN_DAYS = 3;
-const DAY_MS = 86_400_000;
 
 /**
  * Streams the vehicle and its fault-free twin side by side; memory is two chunks.

@@ -5,10 +5,10 @@ import { registerProfiles } from './fleet-feed.js';
 import { FindingsLedger, riskScores, vehicleFindings } from './findings-ledger.js';
 import type { FleetPlan } from './seed-ranges.js';
 import type { FleetRunResult } from './streamed-run.js';
+import { DAY_MS } from '../time/durations.js';
 
 /** Lines per NDJSON body when the whole history is posted at once. */
 const BODY_LINES = 100_000;
-const DAY_MS = 86_400_000;
 
 /**
  * The same fleet's data posted whole (vehicle by vehicle, the service's worker off), then

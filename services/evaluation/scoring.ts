@@ -1,3 +1,4 @@
+import { DAY_MS } from '../time/durations.js';
 /**
  * Scores what a planner saw against the ground truth of simulated fleets. Pure: the alarms may
  * be the service's findings read over HTTP, or a baseline rule's hits.
@@ -75,7 +76,6 @@ export interface RunScore {
   datedBeforeOnset: number;
 }
 
-const DAY_MS = 86_400_000;
 const RANK: Readonly<Record<Severity, number>> = { advisory: 0, warning: 1, critical: 2 };
 
 /** True when severity `s` is `min` or above. */

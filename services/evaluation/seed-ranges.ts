@@ -1,6 +1,7 @@
 import { planFieldFleet } from '../simulator/field-scenario.js';
 import type { SimVehicle } from '../simulator/index.js';
 import { hashSeed, Rng } from '../simulator/prng.js';
+import { DAY_MS } from '../time/durations.js';
 
 /**
  * Held-out discipline: fleets whose seeds lie in the tuning range may be looked at while
@@ -13,7 +14,6 @@ export const SEED_RANGES = {
 } as const;
 export type SeedRange = keyof typeof SEED_RANGES;
 
-const DAY_MS = 86_400_000;
 /** Fleets start on a day drawn from this year, so every season comes up. */
 const FIRST_START_MS = Date.UTC(2025, 0, 6);
 const START_SPREAD_DAYS = 364;

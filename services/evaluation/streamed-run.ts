@@ -4,13 +4,12 @@ import { FleetFeed, registerProfiles } from './fleet-feed.js';
 import { fleetFindings, FindingsLedger, riskScores, vehicleFindings } from './findings-ledger.js';
 import type { MonitorAlarm } from './on-board-monitor.js';
 import type { FleetPlan } from './seed-ranges.js';
+import { HOUR_MS, DAY_MS } from '../time/durations.js';
 
 /** Requests outstanding at once (gateways and the relay together). */
 const MAX_IN_FLIGHT = 4;
 /** The stream advances in steps of this much true time, ms. */
 const STEP_MS = 60_000;
-const HOUR_MS = 3_600_000;
-const DAY_MS = 86_400_000;
 
 export interface FleetRunResult {
   ledger: FindingsLedger;

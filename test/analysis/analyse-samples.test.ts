@@ -4,8 +4,8 @@ import { DEFAULT_ANALYSIS_CONFIG as CFG } from '../../services/analysis/config.j
 import type { SampleArrays } from '../../services/analysis/sample-arrays.js';
 import { DEFAULT_VEHICLE_PROFILE as PROFILE } from '../../services/analysis/vehicle-profile.js';
 import { concatSamples, syntheticDrive } from './synthetic-drive.js';
+import { HOUR_MS } from '../../services/time/durations.js';
 
-const HOUR_MS = 3_600_000;
 const T0 = Date.UTC(2026, 9, 5, 6);
 
 function slice(s: SampleArrays, fromMs: number): SampleArrays {

@@ -6,8 +6,8 @@ import { SAFETY_CAUTION } from '../../services/analysis/findings/finding.js';
 import { riskScore } from '../../services/analysis/risk-score.js';
 import { DEFAULT_VEHICLE_PROFILE as PROFILE } from '../../services/analysis/vehicle-profile.js';
 import { concatSamples, syntheticDrive } from './synthetic-drive.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const START = Date.UTC(2026, 9, 5);
 
 /** One cold start per day at 06:00; from `faultDay` on the thermostat is stuck open (cool, slow). */

@@ -1,3 +1,4 @@
+import { DAY_MS } from '../../services/time/durations.js';
 /**
  * Detection-quality tables: how well alarms (findings, or a naive rule's hits) match ground
  * truth. Pure; the alarms may come from the library directly or from the service over HTTP.
@@ -44,7 +45,6 @@ export interface DetectionTable {
   healthy: HealthyLine[];
 }
 
-
 /** The naive rules' alarm kinds and what they stand for. */
 export const NAIVE_OVERHEAT = 'naive-above-105';
 export const NAIVE_COLD = 'naive-cold-after-15-min';
@@ -59,8 +59,6 @@ export const NAIVE_EXPECTED: Readonly<Record<string, readonly string[]>> = Objec
   'sensor-dropouts': [],
   'sensor-bias': [],
 });
-
-const DAY_MS = 86_400_000;
 
 function medianOf(values: number[]): number | null {
   if (values.length === 0) return null;

@@ -6,8 +6,8 @@ import { buildPeerBaseline, type PeerBaseline } from '../../services/analysis/pe
 import type { SampleArrays } from '../../services/analysis/sample-arrays.js';
 import type { VehicleProfile } from '../../services/analysis/vehicle-profile.js';
 import { isSensorFault, planFleet, type SimVehicle, simulateVehicle, truthGroup } from '../../services/simulator/index.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** The naive rules a fleet would write by hand. */
 const NAIVE_HOT_C = 105;
 const NAIVE_COLD_C = 70;
@@ -73,7 +73,6 @@ export function faultVisible(v: SimVehicle, withFault: SimArrays, opts: Evaluati
 export const profileOf = (v: SimVehicle): VehicleProfile => ({
   engineFamily: v.engineFamily, thermostatOpenC: v.thermostatOpenC, capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent,
 });
-
 
 /** Simulates the evaluation fleet and analyses every vehicle's readings once. */
 export interface AnalysedFleet {

@@ -1,10 +1,9 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import { type BoardVehicle, seedBoardVehicle } from '../helpers/board-fleet.js';
 import { useTestApp } from '../helpers/test-app.js';
+import { HOUR_MS, DAY_MS } from '../../services/time/durations.js';
 
 const t = useTestApp();
-const DAY_MS = 86_400_000;
-const HOUR_MS = 3_600_000;
 const NOW = Date.now();
 let key: string;
 let adminKey: string;

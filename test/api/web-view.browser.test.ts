@@ -9,11 +9,11 @@ import { CHROMIUM_ARGS, requireChromium, skipBrowserChecks } from '../helpers/ch
 import { useTestApp } from '../helpers/test-app.js';
 import { testDatabaseKind } from '../helpers/test-database.js';
 import { analyseNow, postReadings, putProfile, readingItems } from '../helpers/worker-fleet.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
 const SKIP = skipBrowserChecks('web-view.browser.test.ts');
 const OUTPUT_DIR = 'test-output';
 const suffix = testDatabaseKind() === 'postgres' ? '' : `-${testDatabaseKind()}`;
-const DAY_MS = 86_400_000;
 /** A fixed end keeps the simulated weather, and so the findings, the same every day (as the demo's test). */
 const END_MS = Date.UTC(2026, 10, 30);
 const DAYS = 28;

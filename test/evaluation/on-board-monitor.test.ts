@@ -2,9 +2,9 @@ import { describe, expect, it } from 'vitest';
 import {
   MONITOR_OVER_TEMPERATURE, MONITOR_SENSOR_CIRCUIT, MONITOR_THERMOSTAT, OnBoardMonitor, THERMOSTAT_CRITERION_C,
 } from '../../services/evaluation/on-board-monitor.js';
+import { HOUR_MS } from '../../services/time/durations.js';
 
 const T0 = Date.UTC(2026, 0, 5, 7);
-const HOUR_MS = 3_600_000;
 
 /** One trip of 40 min at 10 s samples: coolant from `startC` rising `perMinC` per minute up to `capC`, driving unless idle. */
 function trip(m: OnBoardMonitor, startMs: number, o: { startC: number; perMinC: number; capC: number; ambientC?: number; idle?: boolean; minutes?: number }): void {

@@ -2,8 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { EXPECTED_FINDINGS } from '../../services/evaluation/expected-findings.js';
 import { FindingsLedger } from '../../services/evaluation/findings-ledger.js';
 import { riskAveragePrecision, scoreRun, type Alarm, type ScoredVehicle } from '../../services/evaluation/scoring.js';
+import { DAY_MS } from '../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const ONSET = Date.UTC(2026, 5, 10);
 
 function alarm(kind: string, seenDay: number, o: Partial<Alarm> = {}): Alarm {

@@ -3,8 +3,8 @@ import type { DayAggregate } from '../day-aggregates.js';
 import { freezingPointC } from '../physics/freezing-point.js';
 import { type Finding, findingKey, round, SAFETY_CAUTION, type Severity } from './finding.js';
 import { utcDay } from '../sample-arrays.js';
+import { DAY_MS } from '../../time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** Days of recent history the margins look at. */
 const MARGIN_WINDOW_DAYS = 7;
 const FREEZE_WINDOW_DAYS = 30;

@@ -9,8 +9,8 @@ import {
   clamp01, type EvidenceItem, type Finding, findingKey, MAX_EVIDENCE_ITEMS, round, SAFETY_CAUTION, type Severity,
 } from './finding.js';
 import { utcDay } from '../sample-arrays.js';
+import { DAY_MS } from '../../time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** Days with less running than this are too thin to judge, h. */
 const MIN_ENGINE_HOURS = 0.25;
 const DEFAULT_AMBIENT_C = 15;
@@ -123,12 +123,11 @@ export function overheatingTrendFinding(
   peakResiduals = peakResiduals.filter((p) => p.t > now - cfg.trendWindowDays * DAY_MS);
   let trend = false;
   let slope = 0;
-  let rise = 0;
   if (peakResiduals.length >= cfg.trendMinDays) {
     const r = peakResiduals.map((p) => p.r);
     const mk = mannKendall(r);
     slope = sensSlope(r, peakResiduals.map((p) => p.t / DAY_MS));
-    rise = median(r.slice(-RECENT_DAYS));
+    const rise = median(r.slice(-RECENT_DAYS));
     trend = mk.pIncreasing < cfg.trendAlpha && slope >= cfg.trendMinSlopeCPerDay && rise >= cfg.trendMinRiseC;
   }
   const peaksShifted = cusum.alarmIndex >= 0

@@ -6,8 +6,8 @@ import {
   clamp01, type EvidenceItem, type Finding, type FindingKind, findingKey, MAX_EVIDENCE_ITEMS, round, type Severity,
 } from './finding.js';
 import type { ScoredRun } from './run-shift.js';
+import { DAY_MS } from '../../time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** A run supports a finding when its z is at least this. */
 const SUPPORT_Z = 1;
 /** Runs beyond the repeat threshold that raise a finding without a CUSUM alarm. */

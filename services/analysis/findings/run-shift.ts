@@ -4,6 +4,7 @@ import type { RunMetrics } from '../run-metrics.js';
 import { median } from '../stats/robust.js';
 import { badZ, type BaselineModel, expected, fitBaseline } from './baseline-model.js';
 import { type FeatureRow, featureRows, type RunFeature } from './run-features.js';
+import { DAY_MS } from '../../time/durations.js';
 
 export interface ScoredRun {
   run: RunMetrics;
@@ -20,7 +21,6 @@ export interface ScoredFeature {
   source: 'own' | 'peer' | null;
 }
 
-const DAY_MS = 86_400_000;
 /** Own baseline is replaced by peers when its median peer z is beyond this (fault from day one). */
 const ABNORMAL_BASELINE_Z = 3;
 

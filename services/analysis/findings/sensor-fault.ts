@@ -6,8 +6,8 @@ import type { SensorEvent, SensorEventKind } from '../sensor-events.js';
 import { median } from '../stats/robust.js';
 import { clamp01, type EvidenceItem, type Finding, findingKey, MAX_EVIDENCE_ITEMS, round, SAFETY_CAUTION } from './finding.js';
 import { utcDay } from '../sample-arrays.js';
+import { DAY_MS } from '../../time/durations.js';
 
-const DAY_MS = 86_400_000;
 /** Fewest long-soak starts to judge a bias. */
 const BIAS_MIN_STARTS = 3;
 /** Recent long-soak starts whose median offset is judged. */

@@ -7,8 +7,8 @@ import { PRIORITY_OF } from '../../report/work-list.js';
 import { assertFleetAccess, principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { FindingKindSchema, SeveritySchema } from '../schemas/finding.js';
+import { HOUR_MS } from '../../time/durations.js';
 
-const HOUR_MS = 3_600_000;
 /** "New this week": a finding's onset within the last seven days. */
 const NEW_WINDOW_MS = 7 * 24 * HOUR_MS;
 const literals = (values: readonly string[], description: string) =>

@@ -8,8 +8,8 @@ import { coolantLossFindings } from '../../../services/analysis/findings/coolant
 import { coolantBoilingPointC } from '../../../services/analysis/physics/boiling-point.js';
 import { DEFAULT_VEHICLE_PROFILE } from '../../../services/analysis/vehicle-profile.js';
 import { syntheticDrive } from '../synthetic-drive.js';
+import { DAY_MS } from '../../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const T0 = Date.UTC(2026, 9, 5);
 const cfg = resolveConfig();
 const profile = { ...DEFAULT_VEHICLE_PROFILE };

@@ -5,8 +5,8 @@ import { overheatingTrendFinding } from '../../../services/analysis/findings/ove
 import { PLATEAU } from '../../../services/analysis/findings/run-features.js';
 import type { RunMetrics } from '../../../services/analysis/run-metrics.js';
 import { utcDay } from '../../../services/analysis/sample-arrays.js';
+import { DAY_MS } from '../../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const START = Date.UTC(2026, 9, 5);
 const RATING_C = 90;
 const BOILING_C = 128;

@@ -9,8 +9,8 @@ import type { RunMetrics } from '../../../services/analysis/run-metrics.js';
 import { buildPeerBaseline } from '../../../services/analysis/peer-baseline.js';
 import { DEFAULT_VEHICLE_PROFILE as PROFILE } from '../../../services/analysis/vehicle-profile.js';
 import { concatSamples, syntheticDrive } from '../synthetic-drive.js';
+import { DAY_MS } from '../../../services/time/durations.js';
 
-const DAY_MS = 86_400_000;
 const START = Date.UTC(2026, 9, 5);
 
 describe('warm-up scoring', () => {
