@@ -53,13 +53,27 @@ export function analyseSamples(raw: AnalysisInput, profile: VehicleProfile, cfg:
   // One object shape for every caller: the hot loops below are compiled for the shape they see
   // first, and an input built another way (spread, optional keys) would make V8 throw that code
   // away and compile it again, several times over on a worker's first pass.
-  const input: SampleArrays = { ts: raw.ts, coolant: raw.coolant, ambient: raw.ambient, speedKph: raw.speedKph, rpm: raw.rpm };
+  const input: SampleArrays = {
+    ts: raw.ts,
+    coolant: raw.coolant,
+    ambient: raw.ambient,
+    speedKph: raw.speedKph,
+    rpm: raw.rpm,
+  };
   const n = input.ts.length;
   const hotC = profile.thermostatOpenC + cfg.hotMarginC;
   const boilingPointC = coolantBoilingPointC(profile.capPressureKpa, profile.glycolPercent, cfg.atmosphericPressureKpa);
   const samplePeriodS = estimatePeriodS(input.ts);
   if (n === 0) {
-    return { runs: [], days: [], sensorEvents: [], samplePeriodS, hotThresholdC: hotC, boilingPointC, resumeFromMs: null };
+    return {
+      runs: [],
+      days: [],
+      sensorEvents: [],
+      samplePeriodS,
+      hotThresholdC: hotC,
+      boilingPointC,
+      resumeFromMs: null,
+    };
   }
   const flags = new Uint8Array(n);
   flagSamples(input, cfg, flags);
@@ -78,9 +92,19 @@ export function analyseSamples(raw: AnalysisInput, profile: VehicleProfile, cfg:
     const isLast = k + 2 >= bounds.length;
     const truncatedStart = a === 0 && prev !== undefined && input.ts[0]! - prev <= gapMs;
     const open = isLast && !(raw.nowMs !== undefined && raw.nowMs - input.ts[b - 1]! > gapMs);
-    runs.push(computeRunMetrics(input, flags, a, b, {
-      profile, cfg, periodS: samplePeriodS, hotC, prevEndMs, truncatedStart, open, scratch, episodes,
-    }));
+    runs.push(
+      computeRunMetrics(input, flags, a, b, {
+        profile,
+        cfg,
+        periodS: samplePeriodS,
+        hotC,
+        prevEndMs,
+        truncatedStart,
+        open,
+        scratch,
+        episodes,
+      }),
+    );
     prevEndMs = input.ts[b - 1]!;
   }
   const days = aggregateDays(input, flags, runs, episodes, samplePeriodS, hotC, cfg);
@@ -88,7 +112,12 @@ export function analyseSamples(raw: AnalysisInput, profile: VehicleProfile, cfg:
   const sensorEvents = runs.filter((r) => !r.truncatedStart).flatMap((r) => sensorEventsOfRun(r, cfg));
   const openRun = runs.find((r) => r.open);
   return {
-    runs, days, sensorEvents, samplePeriodS, hotThresholdC: hotC, boilingPointC,
+    runs,
+    days,
+    sensorEvents,
+    samplePeriodS,
+    hotThresholdC: hotC,
+    boilingPointC,
     resumeFromMs: openRun ? resumeFromMs(openRun.startMs) : null,
   };
 }

@@ -37,7 +37,12 @@ export function busDayStats(s: SampleArrays, flags: Uint8Array, hotC: number): M
   while (i < n) {
     const dayStart = Math.floor(ts[i]! / MS_PER_DAY) * MS_PER_DAY;
     const dayEnd = dayStart + MS_PER_DAY;
-    let baroMin = Infinity, levelSum = 0, levelN = 0, hotN = 0, hotMax = -Infinity, any = false;
+    let baroMin = Infinity,
+      levelSum = 0,
+      levelN = 0,
+      hotN = 0,
+      hotMax = -Infinity,
+      any = false;
     for (; i < n && ts[i]! < dayEnd; i++) {
       const b = baro ? baro[i]! : NaN;
       if (b === b) {

@@ -1,7 +1,14 @@
 import type { BusDayStats } from './bus-day-stats.js';
 import type { AnalysisConfig } from './config.js';
 import type { HotEpisode, RunMetrics } from './run-metrics.js';
-import { FLAG_ENGINE_ON, FLAG_IMPLAUSIBLE, FLAG_MOVING, FLAG_OUT_OF_RANGE, FLAG_RATE, FLAG_WARM } from './sample-flags.js';
+import {
+  FLAG_ENGINE_ON,
+  FLAG_IMPLAUSIBLE,
+  FLAG_MOVING,
+  FLAG_OUT_OF_RANGE,
+  FLAG_RATE,
+  FLAG_WARM,
+} from './sample-flags.js';
 import { MS_PER_DAY, MS_PER_S, type SampleArrays, utcDay } from './sample-arrays.js';
 import { isTransportGap } from './transport-gap.js';
 
@@ -76,8 +83,13 @@ const orNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
  * episodes into one record per UTC day with data.
  */
 export function aggregateDays(
-  s: SampleArrays, flags: Uint8Array, runs: readonly RunMetrics[], episodes: readonly HotEpisode[],
-  periodS: number, hotC: number, cfg: AnalysisConfig,
+  s: SampleArrays,
+  flags: Uint8Array,
+  runs: readonly RunMetrics[],
+  episodes: readonly HotEpisode[],
+  periodS: number,
+  hotC: number,
+  cfg: AnalysisConfig,
 ): DayAggregate[] {
   const { ts, coolant, ambient, speedKph, rpm } = s;
   const n = ts.length;
@@ -91,9 +103,28 @@ export function aggregateDays(
     const dayStart = Math.floor(ts[i]! / MS_PER_DAY) * MS_PER_DAY;
     const dayEnd = dayStart + MS_PER_DAY;
     hist.fill(0);
-    let histN = 0, count = 0, on = 0, idle = 0, hotMs = 0, rateFlags = 0, oor = 0, dropouts = 0, missingMs = 0;
-    let peak = -Infinity, raw = -Infinity, min = Infinity, peakMoving = -Infinity, peakIdle = -Infinity;
-    let ambSum = 0, ambN = 0, ambMin = Infinity, ambMax = -Infinity, spdSum = 0, spdN = 0, rpmSum = 0, rpmN = 0;
+    let histN = 0,
+      count = 0,
+      on = 0,
+      idle = 0,
+      hotMs = 0,
+      rateFlags = 0,
+      oor = 0,
+      dropouts = 0,
+      missingMs = 0;
+    let peak = -Infinity,
+      raw = -Infinity,
+      min = Infinity,
+      peakMoving = -Infinity,
+      peakIdle = -Infinity;
+    let ambSum = 0,
+      ambN = 0,
+      ambMin = Infinity,
+      ambMax = -Infinity,
+      spdSum = 0,
+      spdN = 0,
+      rpmSum = 0,
+      rpmN = 0;
     const first = i;
     for (; i < n && ts[i]! < dayEnd; i++) {
       count++;
@@ -117,9 +148,15 @@ export function aggregateDays(
         if (am > ambMax) ambMax = am;
       }
       const sp = speedKph[i]!;
-      if (sp === sp) { spdSum += sp; spdN++; }
+      if (sp === sp) {
+        spdSum += sp;
+        spdN++;
+      }
       const r = rpm[i]!;
-      if (r === r) { rpmSum += r; rpmN++; }
+      if (r === r) {
+        rpmSum += r;
+        rpmN++;
+      }
       if ((f & FLAG_IMPLAUSIBLE) !== 0) {
         if ((f & FLAG_RATE) !== 0) rateFlags++;
         if ((f & FLAG_OUT_OF_RANGE) !== 0) oor++;
@@ -137,13 +174,18 @@ export function aggregateDays(
         } else if (c > peakIdle) peakIdle = c;
       }
     }
-    let runCount = 0, coldStarts = 0;
+    let runCount = 0,
+      coldStarts = 0;
     for (const r of runs) {
       if (r.truncatedStart || r.startMs < dayStart || r.startMs >= dayEnd) continue;
       runCount++;
       if (r.startKind === 'cold') coldStarts++;
     }
-    let epCount = 0, epLongest = 0, epPeak = -Infinity, epMs = 0, epIdleS = 0;
+    let epCount = 0,
+      epLongest = 0,
+      epPeak = -Infinity,
+      epMs = 0,
+      epIdleS = 0;
     for (const e of episodes) {
       if (e.startMs < dayStart || e.startMs >= dayEnd) continue;
       epCount++;

@@ -39,7 +39,12 @@ const SEVERITY_RANK: Record<Severity, number> = { critical: 0, warning: 1, advis
  * history, context and config give the same findings (with the same keys).
  * @example deriveFindings({ runs, days, sensorEvents }, profile, { now: Date.now() }, resolveConfig(profile.engineFamily))
  */
-export function deriveFindings(history: VehicleHistory, profile: VehicleProfile, context: FindingContext, cfg: AnalysisConfig = DEFAULT_ANALYSIS_CONFIG): Finding[] {
+export function deriveFindings(
+  history: VehicleHistory,
+  profile: VehicleProfile,
+  context: FindingContext,
+  cfg: AnalysisConfig = DEFAULT_ANALYSIS_CONFIG,
+): Finding[] {
   const { now } = context;
   const peer = context.peer ?? null;
   const events = context.serviceEvents ?? [];
@@ -52,18 +57,33 @@ export function deriveFindings(history: VehicleHistory, profile: VehicleProfile,
 
   const sensorStart = start('sensor-fault');
   const findings = sensorFaultFindings(
-    runs.filter((r) => r.startMs >= sensorStart), days.filter((d) => d.dayStartMs + 86_400_000 > sensorStart),
-    sensorEvents.filter((e) => e.runStartMs >= sensorStart), sensorStart, peer, now, cfg,
+    runs.filter((r) => r.startMs >= sensorStart),
+    days.filter((d) => d.dayStartMs + 86_400_000 > sensorStart),
+    sensorEvents.filter((e) => e.runStartMs >= sensorStart),
+    sensorStart,
+    peer,
+    now,
+    cfg,
   );
-  const compromisedFrom = Math.min(Infinity, ...findings.filter((f) => COMPROMISING_SENSOR_FAULTS.has(f.subKind ?? '')).map((f) => f.firstSeen));
-  const engineRuns = (from: number) => runs.filter((r) => r.startMs >= from && r.startMs < compromisedFrom && !r.excludedForSensor);
+  const compromisedFrom = Math.min(
+    Infinity,
+    ...findings.filter((f) => COMPROMISING_SENSOR_FAULTS.has(f.subKind ?? '')).map((f) => f.firstSeen),
+  );
+  const engineRuns = (from: number) =>
+    runs.filter((r) => r.startMs >= from && r.startMs < compromisedFrom && !r.excludedForSensor);
   const engineDays = (from: number) => days.filter((d) => d.dayStartMs >= from && d.dayStartMs < compromisedFrom);
   // The site's atmospheric pressure from the profile (altitude), else the config's sea level.
-  const boilingPointC = coolantBoilingPointC(profile.capPressureKpa, profile.glycolPercent, profile.atmosphericPressureKpa ?? cfg.atmosphericPressureKpa);
+  const boilingPointC = coolantBoilingPointC(
+    profile.capPressureKpa,
+    profile.glycolPercent,
+    profile.atmosphericPressureKpa ?? cfg.atmosphericPressureKpa,
+  );
   // Where the vehicle bus measured the atmospheric pressure (SPN 108 / PID 0x33), the day's lowest one.
   const boilingOn = (d: DayAggregate) => {
     const kpa = d.bus?.barometricMinKpa;
-    return kpa === null || kpa === undefined ? boilingPointC : coolantBoilingPointC(profile.capPressureKpa, profile.glycolPercent, kpa);
+    return kpa === null || kpa === undefined
+      ? boilingPointC
+      : coolantBoilingPointC(profile.capPressureKpa, profile.glycolPercent, kpa);
   };
 
   const slow = start('slow-warmup');
@@ -77,10 +97,23 @@ export function deriveFindings(history: VehicleHistory, profile: VehicleProfile,
     overshootFinding(engineRuns(over), over, peer, now, cfg),
     overheatingTrendFinding(engineDays(trend), trend, boilingPointC, now, cfg),
     boilMarginFinding(engineDays(boil), boil, boilingOn, now, cfg),
-    freezeRiskFinding(days.filter((d) => d.dayStartMs >= freeze), freeze, profile.glycolPercent, now, cfg),
+    freezeRiskFinding(
+      days.filter((d) => d.dayStartMs >= freeze),
+      freeze,
+      profile.glycolPercent,
+      now,
+      cfg,
+    ),
   ];
   for (const f of candidates) if (f) findings.push(f);
   // Level and pressure are other sensors than the coolant temperature: a temperature-sensor fault does not hide them.
-  findings.push(...coolantLossFindings(days.filter((d) => d.dayStartMs >= loss), loss, now, cfg));
+  findings.push(
+    ...coolantLossFindings(
+      days.filter((d) => d.dayStartMs >= loss),
+      loss,
+      now,
+      cfg,
+    ),
+  );
   return findings.sort((a, b) => SEVERITY_RANK[a.severity] - SEVERITY_RANK[b.severity] || b.confidence - a.confidence);
 }

@@ -22,7 +22,10 @@ export interface PeerBaseline {
  * @example buildPeerBaseline(runsOfFamily, 'hd-13l', 40).models.warmupTime?.sigma
  */
 export function buildPeerBaseline(
-  runs: readonly RunMetrics[], engineFamily = 'unknown', vehicleCount = 0, cfg: AnalysisConfig = resolveConfig(engineFamily),
+  runs: readonly RunMetrics[],
+  engineFamily = 'unknown',
+  vehicleCount = 0,
+  cfg: AnalysisConfig = resolveConfig(engineFamily),
 ): PeerBaseline {
   const usable = runs.filter((r) => !r.excludedForSensor && !r.truncatedStart);
   const models = {} as PeerBaseline['models'];

@@ -3,7 +3,11 @@ import type { Finding, Severity } from './findings/finding.js';
 import { DAY_MS } from '../time/durations.js';
 
 /** How much one certain, current finding of each severity adds to the risk (0..1). */
-export const SEVERITY_WEIGHT: Readonly<Record<Severity, number>> = Object.freeze({ advisory: 0.2, warning: 0.55, critical: 0.95 });
+export const SEVERITY_WEIGHT: Readonly<Record<Severity, number>> = Object.freeze({
+  advisory: 0.2,
+  warning: 0.55,
+  critical: 0.95,
+});
 
 /**
  * Risk 0–100 of a vehicle from its unresolved findings: each contributes
@@ -14,7 +18,8 @@ export const SEVERITY_WEIGHT: Readonly<Record<Severity, number>> = Object.freeze
  */
 export function riskScore(
   findings: ReadonlyArray<Pick<Finding, 'severity' | 'confidence' | 'lastSeen'> & { status?: string }>,
-  now: number, halfLifeDays = DEFAULT_ANALYSIS_CONFIG.riskHalfLifeDays,
+  now: number,
+  halfLifeDays = DEFAULT_ANALYSIS_CONFIG.riskHalfLifeDays,
 ): number {
   let calm = 1;
   for (const f of findings) {

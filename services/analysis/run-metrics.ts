@@ -1,5 +1,12 @@
 import type { AnalysisConfig } from './config.js';
-import { FLAG_ENGINE_ON, FLAG_IMPLAUSIBLE, FLAG_MOVING, FLAG_OUT_OF_RANGE, FLAG_RATE, FLAG_WARM } from './sample-flags.js';
+import {
+  FLAG_ENGINE_ON,
+  FLAG_IMPLAUSIBLE,
+  FLAG_MOVING,
+  FLAG_OUT_OF_RANGE,
+  FLAG_RATE,
+  FLAG_WARM,
+} from './sample-flags.js';
 import { MS_PER_S, type SampleArrays } from './sample-arrays.js';
 import { isTransportGap } from './transport-gap.js';
 import type { VehicleProfile } from './vehicle-profile.js';
@@ -109,7 +116,13 @@ const EXCLUDE_SOAK_OFFSET_FACTOR = 2;
 const orNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
 
 /** Computes the metrics of the run [a, b) and marks its warm samples with FLAG_WARM. */
-export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number, b: number, ctx: RunContext): RunMetrics {
+export function computeRunMetrics(
+  s: SampleArrays,
+  flags: Uint8Array,
+  a: number,
+  b: number,
+  ctx: RunContext,
+): RunMetrics {
   const { ts, coolant, ambient, speedKph, rpm } = s;
   const { cfg, profile, periodS, hotC } = ctx;
   const target = profile.thermostatOpenC - cfg.obdWarmupMarginC;
@@ -122,15 +135,42 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
     if (startAmbient !== startAmbient && am >= cfg.ambientValidMinC && am <= cfg.ambientValidMaxC) startAmbient = am;
   }
   const soakS = ctx.prevEndMs === null ? null : (t0 - ctx.prevEndMs) / MS_PER_S;
-  const cold = (soakS !== null && soakS >= cfg.coldStartSoakS)
-    || (startAmbient === startAmbient ? startCoolant - startAmbient <= cfg.coldStartNearAmbientC
+  const cold =
+    (soakS !== null && soakS >= cfg.coldStartSoakS) ||
+    (startAmbient === startAmbient
+      ? startCoolant - startAmbient <= cfg.coldStartNearAmbientC
       : startCoolant < target - cfg.coldStartDeficitC);
 
-  let on = 0, idle = 0, plausible = 0, rateFlags = 0, outOfRange = 0, dropouts = 0, missingMs = 0;
-  let ambSum = 0, ambN = 0, ambMax = -Infinity, spdSum = 0, spdN = 0, rpmSum = 0, rpmN = 0;
-  let peak = -Infinity, low = Infinity, earlyMin = Infinity, earlyMax = -Infinity;
-  let targetIdx = -1, openIdx = -1, checkC = NaN, rateC = NaN, warmupOn = 0, warmupIdle = 0;
-  let hotStart = -1, hotPeak = -Infinity, hotIdleMs = 0, hotMs = 0, hotCount = 0, runHotPeak = -Infinity;
+  let on = 0,
+    idle = 0,
+    plausible = 0,
+    rateFlags = 0,
+    outOfRange = 0,
+    dropouts = 0,
+    missingMs = 0;
+  let ambSum = 0,
+    ambN = 0,
+    ambMax = -Infinity,
+    spdSum = 0,
+    spdN = 0,
+    rpmSum = 0,
+    rpmN = 0;
+  let peak = -Infinity,
+    low = Infinity,
+    earlyMin = Infinity,
+    earlyMax = -Infinity;
+  let targetIdx = -1,
+    openIdx = -1,
+    checkC = NaN,
+    rateC = NaN,
+    warmupOn = 0,
+    warmupIdle = 0;
+  let hotStart = -1,
+    hotPeak = -Infinity,
+    hotIdleMs = 0,
+    hotMs = 0,
+    hotCount = 0,
+    runHotPeak = -Infinity;
   const dropoutMs = cfg.dropoutPeriods * periodS * MS_PER_S;
   const earlyEnd = t0 + cfg.stuckWindowS * MS_PER_S;
   const checkAt = t0 + cfg.naiveCheckAfterS * MS_PER_S;
@@ -170,9 +210,15 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
       if (am > ambMax) ambMax = am;
     }
     const sp = speedKph[i]!;
-    if (sp === sp) { spdSum += sp; spdN++; }
+    if (sp === sp) {
+      spdSum += sp;
+      spdN++;
+    }
     const r = rpm[i]!;
-    if (r === r) { rpmSum += r; rpmN++; }
+    if (r === r) {
+      rpmSum += r;
+      rpmN++;
+    }
     if ((f & FLAG_IMPLAUSIBLE) !== 0) {
       if ((f & FLAG_RATE) !== 0) rateFlags++;
       if ((f & FLAG_OUT_OF_RANGE) !== 0) outOfRange++;
@@ -188,7 +234,8 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
       if (c > earlyMax) earlyMax = c;
     }
     if (checkC !== checkC && t >= checkAt) checkC = c;
-    if (rateC !== rateC && (t >= rateAt || (targetIdx < 0 && c >= target))) rateC = (c - startCoolant) / ((t - t0) / 60_000);
+    if (rateC !== rateC && (t >= rateAt || (targetIdx < 0 && c >= target)))
+      rateC = (c - startCoolant) / ((t - t0) / 60_000);
     if (targetIdx < 0 && c >= target) {
       targetIdx = i;
       warm = true;
@@ -211,13 +258,22 @@ export function computeRunMetrics(s: SampleArrays, flags: Uint8Array, a: number,
   if (hotStart >= 0) closeEpisode(ts[b - 1]!);
 
   const durationS = (ts[b - 1]! - t0) / MS_PER_S;
-  const coldSoakOffsetC = soakS !== null && soakS >= cfg.coldSoakMinS && startAmbient === startAmbient && startCoolant === startCoolant
-    ? startCoolant - startAmbient : null;
-  const stuck = (cold && durationS >= cfg.stuckWindowS && target - startCoolant >= cfg.stuckMinDeficitC
-    && earlyMax - earlyMin <= cfg.stuckMaxRangeC) || (durationS >= cfg.flatRunMinS && peak === low);
+  const coldSoakOffsetC =
+    soakS !== null && soakS >= cfg.coldSoakMinS && startAmbient === startAmbient && startCoolant === startCoolant
+      ? startCoolant - startAmbient
+      : null;
+  const stuck =
+    (cold &&
+      durationS >= cfg.stuckWindowS &&
+      target - startCoolant >= cfg.stuckMinDeficitC &&
+      earlyMax - earlyMin <= cfg.stuckMaxRangeC) ||
+    (durationS >= cfg.flatRunMinS && peak === low);
   const implausible = rateFlags + outOfRange;
-  const excludedForSensor = stuck || plausible === 0 || implausible > MAX_IMPLAUSIBLE_FRACTION * on
-    || (coldSoakOffsetC !== null && Math.abs(coldSoakOffsetC) > EXCLUDE_SOAK_OFFSET_FACTOR * cfg.coldSoakToleranceC);
+  const excludedForSensor =
+    stuck ||
+    plausible === 0 ||
+    implausible > MAX_IMPLAUSIBLE_FRACTION * on ||
+    (coldSoakOffsetC !== null && Math.abs(coldSoakOffsetC) > EXCLUDE_SOAK_OFFSET_FACTOR * cfg.coldSoakToleranceC);
   const warmupIdleFraction = warmupOn > 0 ? warmupIdle / warmupOn : 0;
   let suspended: WarmupSuspension | null = null;
   if (excludedForSensor) suspended = 'sensor';

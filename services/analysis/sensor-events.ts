@@ -26,7 +26,8 @@ export function sensorEventsOfRun(r: RunMetrics, cfg: AnalysisConfig): SensorEve
   if (r.outOfRangeCount > 0) ev('out-of-range', r.outOfRangeCount, null);
   if (r.rateFlagCount > 0) ev('implausible-rate', r.rateFlagCount, null);
   if (r.stuck) ev('stuck', 1, r.startCoolantC);
-  if (r.coldSoakOffsetC !== null && Math.abs(r.coldSoakOffsetC) > cfg.coldSoakToleranceC) ev('cold-soak-mismatch', 1, r.coldSoakOffsetC);
+  if (r.coldSoakOffsetC !== null && Math.abs(r.coldSoakOffsetC) > cfg.coldSoakToleranceC)
+    ev('cold-soak-mismatch', 1, r.coldSoakOffsetC);
   if (r.dropoutCount > 0) ev('dropout', r.dropoutCount, r.missingS);
   return out;
 }

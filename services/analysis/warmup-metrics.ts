@@ -16,12 +16,22 @@ const FIT_STOP_BELOW_OPEN_C = 2;
  * `warmupFitPoints` plausible points.
  */
 export function fitWarmupCurve(
-  s: SampleArrays, flags: Uint8Array, a: number, b: number, thermostatOpenC: number, cfg: AnalysisConfig,
+  s: SampleArrays,
+  flags: Uint8Array,
+  a: number,
+  b: number,
+  thermostatOpenC: number,
+  cfg: AnalysisConfig,
 ): NewtonFit | null {
   const t0 = s.ts[a]!;
   const endMs = t0 + cfg.warmupFitMaxS * MS_PER_S;
   let last = a;
-  while (last < b && s.ts[last]! <= endMs && !(s.coolant[last]! >= thermostatOpenC - FIT_STOP_BELOW_OPEN_C && (flags[last]! & FLAG_IMPLAUSIBLE) === 0)) last++;
+  while (
+    last < b &&
+    s.ts[last]! <= endMs &&
+    !(s.coolant[last]! >= thermostatOpenC - FIT_STOP_BELOW_OPEN_C && (flags[last]! & FLAG_IMPLAUSIBLE) === 0)
+  )
+    last++;
   const count = last - a;
   if (count < MIN_FIT_POINTS) return null;
   const step = Math.max(1, Math.floor(count / cfg.warmupFitPoints));
@@ -53,8 +63,15 @@ export interface OperatingMetrics {
  * warm-up target (or -1). `scratch` must hold b − a values.
  */
 export function operatingMetrics(
-  s: SampleArrays, flags: Uint8Array, a: number, b: number, openIdx: number, targetIdx: number,
-  periodS: number, cfg: AnalysisConfig, scratch: Float64Array,
+  s: SampleArrays,
+  flags: Uint8Array,
+  a: number,
+  b: number,
+  openIdx: number,
+  targetIdx: number,
+  periodS: number,
+  cfg: AnalysisConfig,
+  scratch: Float64Array,
 ): OperatingMetrics {
   const none = { plateauC: null, overshootPeakC: null, overshootC: null, settlingTimeS: null };
   if (targetIdx < 0) return none;
@@ -80,8 +97,16 @@ export function operatingMetrics(
   // Short runs have no plateau: settle on what the coolant did after the peak instead.
   const settledC = plateauC ?? settledAfter(s, flags, peakIdx, b, cfg, scratch);
   if (settledC === null) return { ...none, plateauC };
-  const m = stepResponseMetrics(ts, coolant, coolant[openIdx]!, settledC, cfg.settleBandC, openIdx, end,
-    (i) => (flags[i]! & FLAG_IMPLAUSIBLE) !== 0);
+  const m = stepResponseMetrics(
+    ts,
+    coolant,
+    coolant[openIdx]!,
+    settledC,
+    cfg.settleBandC,
+    openIdx,
+    end,
+    (i) => (flags[i]! & FLAG_IMPLAUSIBLE) !== 0,
+  );
   // The overshoot is the highest point after opening, also when the engine settles below the
   // rating (cold days, heater on): there the step "response" points down and its extreme
   // would be the lowest point, which hid late-opening thermostats in cold climates.
@@ -100,7 +125,14 @@ const MIN_SETTLE_SAMPLES = 6;
 const SETTLE_AFTER_PEAK_S = 120;
 
 /** Median coolant from shortly after the peak to `overshootWindowS` after it, or null. */
-function settledAfter(s: SampleArrays, flags: Uint8Array, peakIdx: number, b: number, cfg: AnalysisConfig, scratch: Float64Array): number | null {
+function settledAfter(
+  s: SampleArrays,
+  flags: Uint8Array,
+  peakIdx: number,
+  b: number,
+  cfg: AnalysisConfig,
+  scratch: Float64Array,
+): number | null {
   const from = s.ts[peakIdx]! + SETTLE_AFTER_PEAK_S * MS_PER_S;
   const to = s.ts[peakIdx]! + cfg.overshootWindowS * MS_PER_S;
   let k = 0;

@@ -81,13 +81,11 @@ export function autocommitConnection(handle: DatabaseHandle): IngestConnection {
 export function inTransaction<T>(handle: DatabaseHandle, fn: (conn: IngestConnection) => Promise<T>): Promise<T> {
   const { db, pool, ddl } = handle;
   if (pool) return inPoolTransaction(pool, db, ddl, fn);
-  return db
-    .transaction()
-    .execute((trx) =>
-      fn({
-        run: async <R>(query: RawBuilder<R>) => (await query.execute(trx)).rows,
-        copyIn: undefined,
-        partitionTarget: trx,
-      }),
-    );
+  return db.transaction().execute((trx) =>
+    fn({
+      run: async <R>(query: RawBuilder<R>) => (await query.execute(trx)).rows,
+      copyIn: undefined,
+      partitionTarget: trx,
+    }),
+  );
 }

@@ -7,13 +7,17 @@ const BACKOFF_BASE_MS = 200;
 /** A network error with its cause chain, in one line. */
 function describe(err: unknown): string {
   const parts: string[] = [];
-  for (let e: unknown = err; e instanceof Error && parts.length < 4; e = e.cause) parts.push(`${e.message}${'code' in e ? ` (${String(e.code)})` : ''}`);
+  for (let e: unknown = err; e instanceof Error && parts.length < 4; e = e.cause)
+    parts.push(`${e.message}${'code' in e ? ` (${String(e.code)})` : ''}`);
   return parts.join(' ← ') || String(err);
 }
 
 /** The HTTP calls the evaluation makes, with a key; throws on a refusal. */
 export class ApiClient {
-  constructor(readonly baseUrl: string, private readonly key: string) {}
+  constructor(
+    readonly baseUrl: string,
+    private readonly key: string,
+  ) {}
 
   /** One request; retries what a gateway would retry; returns the parsed JSON reply. */
   async call<T>(method: string, path: string, body?: string | Buffer, contentType = 'application/json'): Promise<T> {
@@ -23,17 +27,23 @@ export class ApiClient {
       try {
         const res = await fetch(`${this.baseUrl}${path}`, {
           method,
-          headers: { authorization: `Bearer ${this.key}`, ...(body !== undefined ? { 'content-type': contentType } : {}) },
+          headers: {
+            authorization: `Bearer ${this.key}`,
+            ...(body !== undefined ? { 'content-type': contentType } : {}),
+          },
           ...(body !== undefined ? { body } : {}),
         });
         status = res.status;
         text = await res.text();
         if (res.ok) return (text ? JSON.parse(text) : {}) as T;
       } catch (err) {
-        if (attempt >= MAX_ATTEMPTS) throw new Error(`${method} ${path} failed after ${attempt} attempts: ${describe(err)}`, { cause: err });
+        if (attempt >= MAX_ATTEMPTS)
+          throw new Error(`${method} ${path} failed after ${attempt} attempts: ${describe(err)}`, { cause: err });
       }
-      if (status !== 0 && status !== 429 && status < 500) throw new Error(`${method} ${path} answered ${status}: ${text.slice(0, 500)}`);
-      if (attempt >= MAX_ATTEMPTS) throw new Error(`${method} ${path} failed after ${attempt} attempts: ${status} ${text.slice(0, 500)}`);
+      if (status !== 0 && status !== 429 && status < 500)
+        throw new Error(`${method} ${path} answered ${status}: ${text.slice(0, 500)}`);
+      if (attempt >= MAX_ATTEMPTS)
+        throw new Error(`${method} ${path} failed after ${attempt} attempts: ${status} ${text.slice(0, 500)}`);
       await delay(BACKOFF_BASE_MS * 2 ** attempt);
     }
   }

@@ -56,13 +56,17 @@ export async function run(argv: string[]): Promise<number> {
   let analyseEveryH: number;
   let rangeName: SeedRange;
   try {
-    if (values.seeds !== 'reporting' && values.seeds !== 'tuning') throw new RangeError(`--seeds must be reporting or tuning, got '${values.seeds}'`);
+    if (values.seeds !== 'reporting' && values.seeds !== 'tuning')
+      throw new RangeError(`--seeds must be reporting or tuning, got '${values.seeds}'`);
     rangeName = values.seeds;
     const range = SEED_RANGES[rangeName];
     const fleets = whole(values.fleets, 'fleets', 1);
     const size = { vehicles: whole(values.vehicles, 'vehicles', 2), days: whole(values.days, 'days', 14) };
     const first = values['first-seed'] === undefined ? range.first : whole(values['first-seed'], 'first-seed', 0);
-    if (first < range.first || first + fleets - 1 > range.last) throw new RangeError(`seeds ${first}–${first + fleets - 1} leave the ${rangeName} range ${range.first}–${range.last}`);
+    if (first < range.first || first + fleets - 1 > range.last)
+      throw new RangeError(
+        `seeds ${first}–${first + fleets - 1} leave the ${rangeName} range ${range.first}–${range.last}`,
+      );
     analyseEveryH = whole(values['analyse-every'], 'analyse-every', 1);
     plans = Array.from({ length: fleets }, (_, i) => planForSeed(first + i, size));
   } catch (err) {
@@ -71,19 +75,33 @@ export async function run(argv: string[]): Promise<number> {
   }
   const databaseUrl = values['database-url'];
   const say = (line: string) => process.stderr.write(`${line}\n`);
-  say(`evaluate: ${plans.length} ${rangeName} fleets (seeds ${plans[0]!.seed}–${plans[plans.length - 1]!.seed}), ${plans[0]!.fleet.length} vehicles × ${plans[0]!.days} days each, on ${databaseUrl ? 'a PostgreSQL server' : 'embedded PGlite'}`);
-  const result = await evaluateFleets({ plans, services: processServiceFactory(databaseUrl), analyseEveryH, onePass: !values['no-one-pass'], say });
+  say(
+    `evaluate: ${plans.length} ${rangeName} fleets (seeds ${plans[0]!.seed}–${plans[plans.length - 1]!.seed}), ${plans[0]!.fleet.length} vehicles × ${plans[0]!.days} days each, on ${databaseUrl ? 'a PostgreSQL server' : 'embedded PGlite'}`,
+  );
+  const result = await evaluateFleets({
+    plans,
+    services: processServiceFactory(databaseUrl),
+    analyseEveryH,
+    onePass: !values['no-one-pass'],
+    say,
+  });
   if (values.json) {
-    process.stdout.write(`${JSON.stringify({ seeds: rangeName, analyseEveryH, database: databaseUrl ? 'postgres' : 'pglite', ...result }, null, 2)}\n`);
+    process.stdout.write(
+      `${JSON.stringify({ seeds: rangeName, analyseEveryH, database: databaseUrl ? 'postgres' : 'pglite', ...result }, null, 2)}\n`,
+    );
     return 0;
   }
   const readings = result.fleets.reduce((s, f) => s + f.readings, 0);
-  process.stdout.write(`\nField evaluation: ${plans.length} ${rangeName} fleets, seeds ${plans[0]!.seed}–${plans[plans.length - 1]!.seed}, ` +
-    `${plans[0]!.fleet.length} vehicles × ${plans[0]!.days} days each, ${readings.toLocaleString('en-US')} readings; analysis awaited every ${analyseEveryH} h of data\n\n`);
-  process.stdout.write(`${formatScoreTable([
-    { title: 'thermocline, streamed', score: result.streamed },
-    { title: 'thermocline, one pass', score: result.onePass },
-    { title: 'on-board-monitor rules', score: result.baseline },
-  ])}\n\nrun time ${(result.seconds / 60).toFixed(1)} min\n`);
+  process.stdout.write(
+    `\nField evaluation: ${plans.length} ${rangeName} fleets, seeds ${plans[0]!.seed}–${plans[plans.length - 1]!.seed}, ` +
+      `${plans[0]!.fleet.length} vehicles × ${plans[0]!.days} days each, ${readings.toLocaleString('en-US')} readings; analysis awaited every ${analyseEveryH} h of data\n\n`,
+  );
+  process.stdout.write(
+    `${formatScoreTable([
+      { title: 'thermocline, streamed', score: result.streamed },
+      { title: 'thermocline, one pass', score: result.onePass },
+      { title: 'on-board-monitor rules', score: result.baseline },
+    ])}\n\nrun time ${(result.seconds / 60).toFixed(1)} min\n`,
+  );
   return 0;
 }

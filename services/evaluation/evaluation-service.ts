@@ -21,7 +21,10 @@ export interface EvaluationService {
 export type ServiceFactory = (options: { fleetId: string; worker: boolean }) => Promise<EvaluationService>;
 
 /** Creates the fleet and its two keys in a migrated database; returns the plain keys. */
-export async function createFleetKeys(db: Kysely<Database>, fleetId: string): Promise<{ ingestKey: string; readKey: string }> {
+export async function createFleetKeys(
+  db: Kysely<Database>,
+  fleetId: string,
+): Promise<{ ingestKey: string; readKey: string }> {
   await createFleetsRepository(db).ensure(fleetId, `${fleetId} (simulated evaluation fleet)`);
   const keys = createApiKeysRepository(db);
   const ingestKey = (await keys.create({ fleetId, scopes: ['ingest'], label: 'evaluation gateways' })).key;

@@ -47,7 +47,8 @@ export function faultVisible(v: SimVehicle, opts: { startMs: number; days: numbe
     if (ta < tb) i++;
     else if (tb < ta) j++;
     else {
-      if (ta >= onset && Math.abs((ca.coolantTrue[i] as number) - (cb.coolantTrue[j] as number)) >= VISIBLE_DIFF_C) days.add(Math.floor(ta / DAY_MS));
+      if (ta >= onset && Math.abs((ca.coolantTrue[i] as number) - (cb.coolantTrue[j] as number)) >= VISIBLE_DIFF_C)
+        days.add(Math.floor(ta / DAY_MS));
       i++;
       j++;
     }

@@ -21,9 +21,17 @@ export interface FieldEvaluation {
   onePass: RunScore | null;
   baseline: RunScore;
   fleets: Array<{
-    seed: number; fleetId: string; startDate: string; days: number; vehicles: number; readings: number; requests: number;
+    seed: number;
+    fleetId: string;
+    startDate: string;
+    days: number;
+    vehicles: number;
+    readings: number;
+    requests: number;
     /** Readings the service rejected (streamed and one pass): 0 when the simulator and the API agree. */
-    rejected: number; streamedSeconds: number; onePassSeconds: number | null;
+    rejected: number;
+    streamedSeconds: number;
+    onePassSeconds: number | null;
   }>;
   seconds: number;
 }
@@ -43,7 +51,11 @@ const MONITOR_RISK: Readonly<Record<MonitorAlarm['severity'], number>> = { warni
 
 function scored(plan: FleetPlan, visible: Map<string, boolean>, run: FleetRunResult): ScoredVehicle[] {
   return plan.fleet.map((v) => ({
-    vehicleId: v.vehicleId, cohort: cohortOf(v), fault: truthOf(v, visible), alarms: run.ledger.alarmsOf(v.vehicleId), riskScore: run.risk.get(v.vehicleId) ?? 0,
+    vehicleId: v.vehicleId,
+    cohort: cohortOf(v),
+    fault: truthOf(v, visible),
+    alarms: run.ledger.alarmsOf(v.vehicleId),
+    riskScore: run.risk.get(v.vehicleId) ?? 0,
   }));
 }
 
@@ -66,8 +78,13 @@ export async function evaluateFleets(o: EvaluationOptions): Promise<FieldEvaluat
   const fleets: FieldEvaluation['fleets'] = [];
   for (const [index, plan] of o.plans.entries()) {
     const label = `fleet ${index + 1}/${o.plans.length} (seed ${plan.seed}, ${plan.fleet.length} vehicles from ${new Date(plan.startMs).toISOString().slice(0, 10)})`;
-    const visible = new Map(plan.fleet.filter((v) => v.faults.length > 0).map((v) => [v.vehicleId, faultVisible(v, plan)]));
-    const progress: Progress = (p) => say(`evaluate: ${label} streamed: day ${p.day}/${p.days}, ${p.readings.toLocaleString('en-US')} readings, ${Math.round(p.readings / p.seconds).toLocaleString('en-US')} readings/s`);
+    const visible = new Map(
+      plan.fleet.filter((v) => v.faults.length > 0).map((v) => [v.vehicleId, faultVisible(v, plan)]),
+    );
+    const progress: Progress = (p) =>
+      say(
+        `evaluate: ${label} streamed: day ${p.day}/${p.days}, ${p.readings.toLocaleString('en-US')} readings, ${Math.round(p.readings / p.seconds).toLocaleString('en-US')} readings/s`,
+      );
     const service = await o.services({ fleetId: plan.fleetId, worker: true });
     let s;
     try {
@@ -75,16 +92,28 @@ export async function evaluateFleets(o: EvaluationOptions): Promise<FieldEvaluat
     } finally {
       await service.stop();
     }
-    say(`evaluate: ${label} streamed: ${s.readings.toLocaleString('en-US')} readings in ${s.requests.toLocaleString('en-US')} requests, ${s.seconds.toFixed(1)} s, ${s.ledger.size} findings seen`);
+    say(
+      `evaluate: ${label} streamed: ${s.readings.toLocaleString('en-US')} readings in ${s.requests.toLocaleString('en-US')} requests, ${s.seconds.toFixed(1)} s, ${s.ledger.size} findings seen`,
+    );
     streamed.push(scored(plan, visible, s));
-    baseline.push(plan.fleet.map((v) => {
-      const alarms = s.monitors.get(v.vehicleId) ?? [];
-      return {
-        vehicleId: v.vehicleId, cohort: cohortOf(v), fault: truthOf(v, visible),
-        alarms: alarms.map((a, i) => ({ id: `${v.vehicleId}:${i}`, kind: a.kind, maxSeverity: a.severity, seenAtMs: a.atMs, datedMs: a.atMs })),
-        riskScore: alarms.reduce((sum, a) => sum + MONITOR_RISK[a.severity], 0),
-      };
-    }));
+    baseline.push(
+      plan.fleet.map((v) => {
+        const alarms = s.monitors.get(v.vehicleId) ?? [];
+        return {
+          vehicleId: v.vehicleId,
+          cohort: cohortOf(v),
+          fault: truthOf(v, visible),
+          alarms: alarms.map((a, i) => ({
+            id: `${v.vehicleId}:${i}`,
+            kind: a.kind,
+            maxSeverity: a.severity,
+            seenAtMs: a.atMs,
+            datedMs: a.atMs,
+          })),
+          riskScore: alarms.reduce((sum, a) => sum + MONITOR_RISK[a.severity], 0),
+        };
+      }),
+    );
     let onePassSeconds: number | null = null;
     let rejected = s.rejected;
     if (o.onePass !== false) {
@@ -101,8 +130,16 @@ export async function evaluateFleets(o: EvaluationOptions): Promise<FieldEvaluat
       onePass.push(scored(plan, visible, b));
     }
     fleets.push({
-      seed: plan.seed, fleetId: plan.fleetId, startDate: new Date(plan.startMs).toISOString().slice(0, 10), days: plan.days, vehicles: plan.fleet.length,
-      readings: s.readings, requests: s.requests, rejected, streamedSeconds: s.seconds, onePassSeconds,
+      seed: plan.seed,
+      fleetId: plan.fleetId,
+      startDate: new Date(plan.startMs).toISOString().slice(0, 10),
+      days: plan.days,
+      vehicles: plan.fleet.length,
+      readings: s.readings,
+      requests: s.requests,
+      rejected,
+      streamedSeconds: s.seconds,
+      onePassSeconds,
     });
   }
   return {

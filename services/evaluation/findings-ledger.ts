@@ -26,7 +26,14 @@ export class FindingsLedger {
       const dated = Date.parse(f.firstSeen);
       const known = this.byId.get(f.id);
       if (!known) {
-        this.byId.set(f.id, { id: f.id, vehicleId: f.vehicleId, kind: f.kind, maxSeverity: f.severity, seenAtMs: seenAtDated ? dated : atMs, datedMs: dated });
+        this.byId.set(f.id, {
+          id: f.id,
+          vehicleId: f.vehicleId,
+          kind: f.kind,
+          maxSeverity: f.severity,
+          seenAtMs: seenAtDated ? dated : atMs,
+          datedMs: dated,
+        });
         continue;
       }
       if (!atLeast(known.maxSeverity, f.severity)) known.maxSeverity = f.severity;
@@ -49,7 +56,10 @@ async function allPages<T>(client: ApiClient, path: string, field: string): Prom
   const out: T[] = [];
   let cursor: string | null = null;
   do {
-    const page: Record<string, unknown> = await client.call<Record<string, unknown>>('GET', `${path}${path.includes('?') ? '&' : '?'}limit=${PAGE}${cursor ? `&cursor=${encodeURIComponent(cursor)}` : ''}`);
+    const page: Record<string, unknown> = await client.call<Record<string, unknown>>(
+      'GET',
+      `${path}${path.includes('?') ? '&' : '?'}limit=${PAGE}${cursor ? `&cursor=${encodeURIComponent(cursor)}` : ''}`,
+    );
     out.push(...(page[field] as T[]));
     cursor = page.nextCursor as string | null;
   } while (cursor);
@@ -64,7 +74,8 @@ export function fleetFindings(client: ApiClient): Promise<FindingSeen[]> {
 /** Every finding of each vehicle, any status (GET /v1/vehicles/{id}/findings, paged). */
 export async function vehicleFindings(client: ApiClient, vehicleIds: readonly string[]): Promise<FindingSeen[]> {
   const out: FindingSeen[] = [];
-  for (const id of vehicleIds) out.push(...await allPages<FindingSeen>(client, `/v1/vehicles/${encodeURIComponent(id)}/findings`, 'findings'));
+  for (const id of vehicleIds)
+    out.push(...(await allPages<FindingSeen>(client, `/v1/vehicles/${encodeURIComponent(id)}/findings`, 'findings')));
   return out;
 }
 

@@ -28,14 +28,32 @@ const DEFAULT_THERMOSTAT_C = 88;
 const HEAVY_FAMILIES = new Set(['Halvern M7', 'Brenmark H13']);
 
 /** The profile the fleet registered for a vehicle (PUT /v1/vehicles/{id}), or null for none. */
-export function registeredProfile(v: SimVehicle): { engineFamily: string; thermostatOpenC: number; capPressureKpa: number; glycolPercent: number; label: string } | null {
+export function registeredProfile(v: SimVehicle): {
+  engineFamily: string;
+  thermostatOpenC: number;
+  capPressureKpa: number;
+  glycolPercent: number;
+  label: string;
+} | null {
   const mode = v.variation?.profile ?? 'exact';
   if (mode === 'none') return null;
   if (mode === 'wrong-family') {
     const f = engineFamily(v.variation?.registeredFamily ?? v.engineFamily);
-    return { engineFamily: f.name, thermostatOpenC: f.thermostatOpenC, capPressureKpa: f.capPressureKpa, glycolPercent: f.glycolPercent, label: v.label };
+    return {
+      engineFamily: f.name,
+      thermostatOpenC: f.thermostatOpenC,
+      capPressureKpa: f.capPressureKpa,
+      glycolPercent: f.glycolPercent,
+      label: v.label,
+    };
   }
-  return { engineFamily: v.engineFamily, thermostatOpenC: v.thermostatOpenC, capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent, label: v.label };
+  return {
+    engineFamily: v.engineFamily,
+    thermostatOpenC: v.thermostatOpenC,
+    capPressureKpa: v.capPressureKpa,
+    glycolPercent: v.glycolPercent,
+    label: v.label,
+  };
 }
 
 /** Registers every vehicle that has a profile. */
@@ -67,12 +85,20 @@ class VehicleFeed {
   batchFirstMs = Number.NaN;
   readings = 0;
 
-  constructor(readonly v: SimVehicle, plan: FleetPlan, ownGateway: boolean, rng: Rng) {
+  constructor(
+    readonly v: SimVehicle,
+    plan: FleetPlan,
+    ownGateway: boolean,
+    rng: Rng,
+  ) {
     this.gen = simulateVehicle(v, { startMs: plan.startMs, days: plan.days, seed: plan.seed });
     this.encoder = new NdjsonEncoder(v.vehicleId);
     this.offsetMs = (v.variation?.clockOffsetS ?? 0) * 1000;
     const p = registeredProfile(v);
-    this.monitor = new OnBoardMonitor(p?.thermostatOpenC ?? DEFAULT_THERMOSTAT_C, HEAVY_FAMILIES.has(p?.engineFamily ?? ''));
+    this.monitor = new OnBoardMonitor(
+      p?.thermostatOpenC ?? DEFAULT_THERMOSTAT_C,
+      HEAVY_FAMILIES.has(p?.engineFamily ?? ''),
+    );
     const batchMin = rng.uniform(GATEWAY_BATCH_MIN[0], GATEWAY_BATCH_MIN[1]);
     this.batchMs = ownGateway ? Math.round(batchMin * 60) * 1000 : 0;
   }
@@ -117,7 +143,11 @@ export class FleetFeed {
   private relay: Buffer[] = [];
   private relayLines = 0;
 
-  constructor(plan: FleetPlan, private readonly client: ApiClient, private readonly uplink: Uplink) {
+  constructor(
+    plan: FleetPlan,
+    private readonly client: ApiClient,
+    private readonly uplink: Uplink,
+  ) {
     const rng = new Rng(hashSeed(plan.seed, 'evaluation:transport'));
     this.vehicles = plan.fleet.map((v, i) => new VehicleFeed(v, plan, i % OWN_GATEWAY_EVERY === 1, rng));
   }
@@ -126,7 +156,8 @@ export class FleetFeed {
   async advance(untilMs: number): Promise<void> {
     for (const f of this.vehicles) {
       f.take(untilMs, (c, from, to) => {
-        for (let k = from; k < to; k++) f.monitor.push(c.ts[k] as number, c.coolant[k] as number, c.ambient[k] as number, c.speedKph[k] as number);
+        for (let k = from; k < to; k++)
+          f.monitor.push(c.ts[k] as number, c.coolant[k] as number, c.ambient[k] as number, c.speedKph[k] as number);
         const lines = f.encoder.encode(c, from, to);
         this.totals.readings += to - from;
         if (f.batchMs > 0) {

@@ -70,7 +70,10 @@ export class OnBoardMonitor {
   private readonly lit = new Set<string>();
 
   /** `thermostatOpenC`: the registered nominal rating, °C; `heavyDuty`: the longer warm-up time. */
-  constructor(private readonly thermostatOpenC: number, private readonly heavyDuty: boolean) {}
+  constructor(
+    private readonly thermostatOpenC: number,
+    private readonly heavyDuty: boolean,
+  ) {}
 
   /** One sample, in time order: ts (ms), coolant and ambient (°C; ambient NaN when absent), road speed (km/h). */
   push(ts: number, coolantC: number, ambientC: number, speedKph: number): void {
@@ -84,7 +87,8 @@ export class OnBoardMonitor {
     }
     if (coolantC >= this.thermostatOpenC + OVER_TEMPERATURE_ABOVE_RATING_C) {
       if (Number.isNaN(this.hotSinceTs)) this.hotSinceTs = ts;
-      else if (ts - this.hotSinceTs >= OVER_TEMPERATURE_HOLD_S * 1000) this.light(MONITOR_OVER_TEMPERATURE, 'critical', ts);
+      else if (ts - this.hotSinceTs >= OVER_TEMPERATURE_HOLD_S * 1000)
+        this.light(MONITOR_OVER_TEMPERATURE, 'critical', ts);
     } else this.hotSinceTs = Number.NaN;
   }
 

@@ -46,6 +46,20 @@ export async function onePassFleet(service: EvaluationService, plan: FleetPlan):
   }
   await planner.call('POST', '/v1/analysis/runs?wait=true');
   const ledger = new FindingsLedger();
-  ledger.observe(await vehicleFindings(planner, plan.fleet.map((v) => v.vehicleId)), plan.startMs + plan.days * DAY_MS, true);
-  return { ledger, risk: await riskScores(planner), readings, requests, rejected, seconds: (performance.now() - started) / 1000 };
+  ledger.observe(
+    await vehicleFindings(
+      planner,
+      plan.fleet.map((v) => v.vehicleId),
+    ),
+    plan.startMs + plan.days * DAY_MS,
+    true,
+  );
+  return {
+    ledger,
+    risk: await riskScores(planner),
+    readings,
+    requests,
+    rejected,
+    seconds: (performance.now() - started) / 1000,
+  };
 }

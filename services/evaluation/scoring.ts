@@ -114,9 +114,14 @@ export function riskAveragePrecision(items: ReadonlyArray<{ risk: number; positi
  * expected for each fault kind.
  * @example scoreRun([fleetA, fleetB], EXPECTED_FINDINGS).precision
  */
-export function scoreRun(fleets: ReadonlyArray<readonly ScoredVehicle[]>, expected: Readonly<Record<string, readonly string[]>>): RunScore {
+export function scoreRun(
+  fleets: ReadonlyArray<readonly ScoredVehicle[]>,
+  expected: Readonly<Record<string, readonly string[]>>,
+): RunScore {
   const kinds = new Map<string, { n: number; visible: number; found: number; right: number; delays: number[] }>();
-  const cohorts = new Map<Cohort, CohortScore>(COHORTS.map((c) => [c, { cohort: c, n: 0, anyFinding: 0, warningOrAbove: 0 }]));
+  const cohorts = new Map<Cohort, CohortScore>(
+    COHORTS.map((c) => [c, { cohort: c, n: 0, anyFinding: 0, warningOrAbove: 0 }]),
+  );
   let alarms = 0;
   let correct = 0;
   let seenBefore = 0;
@@ -157,10 +162,17 @@ export function scoreRun(fleets: ReadonlyArray<readonly ScoredVehicle[]>, expect
     const ap = riskAveragePrecision(ranking);
     if (ap !== null) aps.push(ap);
   }
-  const faults = [...kinds.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([kind, l]) => ({
-    kind, n: l.n, visible: l.visible, found: l.found, rightKind: l.right,
-    medianDelayDays: median(l.delays), worstDelayDays: l.delays.length > 0 ? Math.max(...l.delays) : null,
-  }));
+  const faults = [...kinds.entries()]
+    .sort(([a], [b]) => a.localeCompare(b))
+    .map(([kind, l]) => ({
+      kind,
+      n: l.n,
+      visible: l.visible,
+      found: l.found,
+      rightKind: l.right,
+      medianDelayDays: median(l.delays),
+      worstDelayDays: l.delays.length > 0 ? Math.max(...l.delays) : null,
+    }));
   return {
     faults,
     healthy: [...cohorts.values()],

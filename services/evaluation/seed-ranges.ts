@@ -43,6 +43,13 @@ export function planForSeed(seed: number, size: { vehicles: number; days: number
   const rng = new Rng(hashSeed(seed, 'evaluation:start'));
   const startMs = FIRST_START_MS + Math.floor(rng.uniform(0, START_SPREAD_DAYS)) * DAY_MS;
   const fleetId = `field-${seed}`;
-  const fleet = planFieldFleet({ startMs, days: size.days, seed, vehicles: size.vehicles, fleetId, idPrefix: `V${seed}` });
+  const fleet = planFieldFleet({
+    startMs,
+    days: size.days,
+    seed,
+    vehicles: size.vehicles,
+    fleetId,
+    idPrefix: `V${seed}`,
+  });
   return { seed, fleetId, startMs, days: size.days, fleet };
 }

@@ -19,7 +19,9 @@ const KEPT_LOG_LINES = 20;
 let serial = 0;
 
 /** A fresh database for one service: a PGlite directory, or a new database on the server. */
-async function freshDatabase(databaseUrl: string | undefined): Promise<{ env: Record<string, string>; url: string | undefined; dir: string; drop: () => Promise<void> }> {
+async function freshDatabase(
+  databaseUrl: string | undefined,
+): Promise<{ env: Record<string, string>; url: string | undefined; dir: string; drop: () => Promise<void> }> {
   if (!databaseUrl) {
     const dir = await mkdtemp(join(tmpdir(), 'thermocline-evaluate-'));
     return { env: { PGLITE_DIR: dir }, url: undefined, dir, drop: () => rm(dir, { recursive: true, force: true }) };
@@ -48,21 +50,36 @@ export function processServiceFactory(databaseUrl: string | undefined): ServiceF
     }
     const child = spawn(process.execPath, [ENTRY, 'serve'], {
       env: {
-        ...process.env, ...database.env, PORT: '0', HOST: '127.0.0.1', LOG_LEVEL: 'info', IN_PROCESS_WORKER: String(worker),
-        RATE_LIMIT_PER_MINUTE: '10000000', REPORT_SCHEDULE: 'false', INGEST_MAX_AGE_DAYS: String(MAX_AGE_DAYS),
+        ...process.env,
+        ...database.env,
+        PORT: '0',
+        HOST: '127.0.0.1',
+        LOG_LEVEL: 'info',
+        IN_PROCESS_WORKER: String(worker),
+        RATE_LIMIT_PER_MINUTE: '10000000',
+        REPORT_SCHEDULE: 'false',
+        INGEST_MAX_AGE_DAYS: String(MAX_AGE_DAYS),
       },
       stdio: ['ignore', 'pipe', 'pipe'],
     });
     const log: string[] = [];
     let stopping = false;
     let stoppedByUs = false;
-    const exited = new Promise<number | null>((resolve) => child.once('exit', (code, signal) => {
-      stoppedByUs = stopping;
-      if (!stopping) process.stderr.write(`service: exited unasked with code ${code} (signal ${signal}); last lines:\n${log.join('\n')}\n`);
-      resolve(code);
-    }));
+    const exited = new Promise<number | null>((resolve) =>
+      child.once('exit', (code, signal) => {
+        stoppedByUs = stopping;
+        if (!stopping)
+          process.stderr.write(
+            `service: exited unasked with code ${code} (signal ${signal}); last lines:\n${log.join('\n')}\n`,
+          );
+        resolve(code);
+      }),
+    );
     const baseUrl = await new Promise<string>((resolve, reject) => {
-      const timer = setTimeout(() => reject(new Error(`the service did not start within ${START_TIMEOUT_MS} ms:\n${log.join('\n')}`)), START_TIMEOUT_MS);
+      const timer = setTimeout(
+        () => reject(new Error(`the service did not start within ${START_TIMEOUT_MS} ms:\n${log.join('\n')}`)),
+        START_TIMEOUT_MS,
+      );
       let pending = '';
       const onData = (data: Buffer) => {
         pending += data.toString('utf8');
@@ -95,7 +112,10 @@ export function processServiceFactory(databaseUrl: string | undefined): ServiceF
         child.kill('SIGTERM');
         const code = await exited;
         await database.drop();
-        if (!stoppedByUs) throw new Error(`the service stopped before it was asked to (code ${code}): was it signalled from outside?\n${log.join('\n')}`);
+        if (!stoppedByUs)
+          throw new Error(
+            `the service stopped before it was asked to (code ${code}): was it signalled from outside?\n${log.join('\n')}`,
+          );
         if (code !== 0) throw new Error(`the service exited with ${code}:\n${log.join('\n')}`);
       },
     };

@@ -36,7 +36,12 @@ export type Progress = (p: { day: number; days: number; readings: number; second
  * keeps up with real time, and this bounds how far it may fall behind a stream that runs many
  * times faster. At the end every vehicle's findings are read (GET /v1/vehicles/{id}/findings).
  */
-export async function streamFleet(service: EvaluationService, plan: FleetPlan, analyseEveryH: number, progress?: Progress): Promise<StreamedRunResult> {
+export async function streamFleet(
+  service: EvaluationService,
+  plan: FleetPlan,
+  analyseEveryH: number,
+  progress?: Progress,
+): Promise<StreamedRunResult> {
   const started = performance.now();
   const seconds = () => (performance.now() - started) / 1000;
   const gateway = new ApiClient(service.baseUrl, service.ingestKey);
@@ -60,15 +65,36 @@ export async function streamFleet(service: EvaluationService, plan: FleetPlan, a
       nextTick += tickMs;
     }
     if (t >= nextDay) {
-      progress?.({ day: Math.round((t - plan.startMs) / DAY_MS), days: plan.days, readings: feed.totals.readings, seconds: seconds() });
+      progress?.({
+        day: Math.round((t - plan.startMs) / DAY_MS),
+        days: plan.days,
+        readings: feed.totals.readings,
+        seconds: seconds(),
+      });
       nextDay += DAY_MS;
     }
   }
   await analyse(endMs);
-  ledger.observe(await vehicleFindings(planner, plan.fleet.map((v) => v.vehicleId)), endMs);
+  ledger.observe(
+    await vehicleFindings(
+      planner,
+      plan.fleet.map((v) => v.vehicleId),
+    ),
+    endMs,
+  );
   const monitors = new Map<string, MonitorAlarm[]>();
-  for (const f of feed.vehicles) monitors.set(f.v.vehicleId, f.monitor.alarms.map((a) => ({ ...a, atMs: a.atMs - f.offsetMs })));
+  for (const f of feed.vehicles)
+    monitors.set(
+      f.v.vehicleId,
+      f.monitor.alarms.map((a) => ({ ...a, atMs: a.atMs - f.offsetMs })),
+    );
   return {
-    ledger, monitors, risk: await riskScores(planner), readings: feed.totals.readings, requests: feed.totals.requests, rejected: feed.totals.rejected, seconds: seconds(),
+    ledger,
+    monitors,
+    risk: await riskScores(planner),
+    readings: feed.totals.readings,
+    requests: feed.totals.requests,
+    rejected: feed.totals.rejected,
+    seconds: seconds(),
   };
 }

@@ -10,7 +10,13 @@ const T0 = Date.UTC(2026, 9, 5, 6);
 
 function slice(s: SampleArrays, fromMs: number): SampleArrays {
   const i = s.ts.findIndex((t) => t >= fromMs);
-  return { ts: s.ts.slice(i), coolant: s.coolant.slice(i), ambient: s.ambient.slice(i), speedKph: s.speedKph.slice(i), rpm: s.rpm.slice(i) };
+  return {
+    ts: s.ts.slice(i),
+    coolant: s.coolant.slice(i),
+    ambient: s.ambient.slice(i),
+    speedKph: s.speedKph.slice(i),
+    rpm: s.rpm.slice(i),
+  };
 }
 
 describe('analyseSamples', () => {
@@ -42,7 +48,11 @@ describe('analyseSamples', () => {
     const partial = analyseSamples(slice(all, T0 + 25 * HOUR_MS), PROFILE, CFG);
     expect(partial.runs[0]!.open).toBe(true);
     const from = resumeFromMs(partial.runs[0]!.startMs);
-    const again = analyseSamples({ ...slice(all, from), previousRunEndMs: result.runs[1]!.endMs, nowMs: T0 + 30 * HOUR_MS }, PROFILE, CFG);
+    const again = analyseSamples(
+      { ...slice(all, from), previousRunEndMs: result.runs[1]!.endMs, nowMs: T0 + 30 * HOUR_MS },
+      PROFILE,
+      CFG,
+    );
     expect(again.runs.filter((r) => !r.truncatedStart)).toEqual(result.runs.slice(2));
     expect(again.days).toEqual(result.days.slice(1));
   });
@@ -64,7 +74,11 @@ describe('analyseSamples', () => {
   });
 
   it('tells a flat-lined sensor from 1 °C quantisation at the regulated temperature', () => {
-    const healthy = analyseSamples(syntheticDrive({ startMs: T0, ambientC: 10, startCoolantC: 10, quantise: true }), PROFILE, CFG);
+    const healthy = analyseSamples(
+      syntheticDrive({ startMs: T0, ambientC: 10, startCoolantC: 10, quantise: true }),
+      PROFILE,
+      CFG,
+    );
     const stuck = syntheticDrive({ startMs: T0, ambientC: 10, startCoolantC: 10 });
     stuck.coolant.fill(10);
     const flat = analyseSamples(stuck, PROFILE, CFG);
@@ -75,7 +89,11 @@ describe('analyseSamples', () => {
   });
 
   it('fits the Newton warm-up curve of a cold start', () => {
-    const r = analyseSamples(syntheticDrive({ startMs: T0, ambientC: 10, startCoolantC: 10, tauS: 700, tInfC: 120, regulatedC: 95 }), PROFILE, CFG);
+    const r = analyseSamples(
+      syntheticDrive({ startMs: T0, ambientC: 10, startCoolantC: 10, tauS: 700, tInfC: 120, regulatedC: 95 }),
+      PROFILE,
+      CFG,
+    );
     expect(r.runs[0]!.newtonTauS).toBeCloseTo(700, -1);
     expect(r.runs[0]!.newtonTInfC).toBeCloseTo(120, 0);
   });

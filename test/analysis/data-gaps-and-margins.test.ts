@@ -14,7 +14,13 @@ const T0 = Date.UTC(2026, 9, 5, 6);
 function withHole(s: SampleArrays, fromMs: number, toMs: number): SampleArrays {
   const keep = [...s.ts].map((t, i) => (t <= fromMs || t >= toMs ? i : -1)).filter((i) => i >= 0);
   const pick = (a: Float64Array) => Float64Array.from(keep, (i) => a[i]!);
-  return { ts: pick(s.ts), coolant: pick(s.coolant), ambient: pick(s.ambient), speedKph: pick(s.speedKph), rpm: pick(s.rpm) };
+  return {
+    ts: pick(s.ts),
+    coolant: pick(s.coolant),
+    ambient: pick(s.ambient),
+    speedKph: pick(s.speedKph),
+    rpm: pick(s.rpm),
+  };
 }
 
 describe('missing data', () => {
@@ -23,7 +29,14 @@ describe('missing data', () => {
     // switches off, and the gateway sends nothing until the engine restarts at a standstill.
     const first = syntheticDrive({ startMs: T0, ambientC: 10, startCoolantC: 10, durationS: 1800, quantise: true });
     first.speedKph[first.speedKph.length - 1] = 0;
-    const second = syntheticDrive({ startMs: T0 + 35 * MIN_MS, ambientC: 10, startCoolantC: 88, idleS: 60, durationS: 1800, quantise: true });
+    const second = syntheticDrive({
+      startMs: T0 + 35 * MIN_MS,
+      ambientC: 10,
+      startCoolantC: 88,
+      idleS: 60,
+      durationS: 1800,
+      quantise: true,
+    });
     const r = analyseSamples({ ...concatSamples([first, second]), nowMs: T0 + 3_600_000 * 3 }, PROFILE, CFG);
     expect(r.runs).toHaveLength(1);
     expect(r.days[0]!.missingS).toBe(0);
@@ -32,8 +45,11 @@ describe('missing data', () => {
   });
 
   it('counts a gap while the vehicle drives on both sides as missing data', () => {
-    const drive = withHole(syntheticDrive({ startMs: T0, ambientC: 10, startCoolantC: 10, durationS: 3600, quantise: true }),
-      T0 + 20 * MIN_MS, T0 + 25 * MIN_MS);
+    const drive = withHole(
+      syntheticDrive({ startMs: T0, ambientC: 10, startCoolantC: 10, durationS: 3600, quantise: true }),
+      T0 + 20 * MIN_MS,
+      T0 + 25 * MIN_MS,
+    );
     const r = analyseSamples({ ...drive, nowMs: T0 + 3_600_000 * 3 }, PROFILE, CFG);
     // The hole spans 5 min between two samples 10 s apart at its edges: 290 s are missing.
     expect(r.days[0]!.dropoutCount).toBe(1);
@@ -43,11 +59,14 @@ describe('missing data', () => {
 });
 
 describe('boil-margin wording', () => {
-  const day = (peakCoolantC: number): DayAggregate => ({ dayStartMs: T0 - 6 * 3_600_000, peakCoolantC } as DayAggregate);
+  const day = (peakCoolantC: number): DayAggregate =>
+    ({ dayStartMs: T0 - 6 * 3_600_000, peakCoolantC }) as DayAggregate;
   const now = T0 + 86_400_000;
 
   it('says how far below the boiling point the peak stayed while there is a margin', () => {
-    expect(boilMarginFinding([day(120.2)], 0, 122, now, CFG)!.summary).toContain('only 1.8 °C below its boiling point of 122 °C');
+    expect(boilMarginFinding([day(120.2)], 0, 122, now, CFG)!.summary).toContain(
+      'only 1.8 °C below its boiling point of 122 °C',
+    );
   });
 
   it('never reads "below" with a negative margin once the peak reaches or passes the boiling point', () => {

@@ -16,10 +16,17 @@ function history(days: number, faultDay = Infinity, fixedDay = Infinity) {
   for (let d = 0; d < days; d++) {
     const ambient = 8 + 4 * Math.sin(d);
     const faulty = d >= faultDay && d < fixedDay;
-    drives.push(syntheticDrive({
-      startMs: START + d * DAY_MS + 6 * 3_600_000, ambientC: ambient, startCoolantC: ambient, quantise: true,
-      tauS: faulty ? 1400 : 500 + 20 * Math.cos(d), tInfC: faulty ? 72 : 115, regulatedC: faulty ? 200 : 90,
-    }));
+    drives.push(
+      syntheticDrive({
+        startMs: START + d * DAY_MS + 6 * 3_600_000,
+        ambientC: ambient,
+        startCoolantC: ambient,
+        quantise: true,
+        tauS: faulty ? 1400 : 500 + 20 * Math.cos(d),
+        tInfC: faulty ? 72 : 115,
+        regulatedC: faulty ? 200 : 90,
+      }),
+    );
   }
   return analyseSamples({ ...concatSamples(drives), nowMs: START + days * DAY_MS }, PROFILE, CFG);
 }
@@ -44,7 +51,8 @@ describe('deriveFindings', () => {
 
   it('keeps the same key as evidence accumulates, so the worker can upsert', () => {
     const h = history(30, 22);
-    const keyAt = (day: number) => deriveFindings(h, PROFILE, { now: START + day * DAY_MS }, CFG).find((f) => f.kind === 'slow-warmup')?.key;
+    const keyAt = (day: number) =>
+      deriveFindings(h, PROFILE, { now: START + day * DAY_MS }, CFG).find((f) => f.kind === 'slow-warmup')?.key;
     expect(keyAt(26)).toBeDefined();
     expect(keyAt(30)).toBe(keyAt(26));
   });
@@ -52,7 +60,12 @@ describe('deriveFindings', () => {
   it('starts a new baseline after the thermostat is replaced and resolves the finding', () => {
     const h = history(45, 22, 27);
     const fixedAt = START + 27 * DAY_MS;
-    const after = deriveFindings(h, PROFILE, { now: START + 45 * DAY_MS, serviceEvents: [{ kind: 'thermostat-replaced', at: fixedAt }] }, CFG);
+    const after = deriveFindings(
+      h,
+      PROFILE,
+      { now: START + 45 * DAY_MS, serviceEvents: [{ kind: 'thermostat-replaced', at: fixedAt }] },
+      CFG,
+    );
     expect(after.find((f) => f.kind === 'slow-warmup')).toBeUndefined();
   });
 
@@ -69,7 +82,7 @@ describe('riskScore', () => {
     expect(riskScore([{ severity: 'critical', confidence: 1, lastSeen: now }], now)).toBe(95);
     expect(riskScore([{ severity: 'critical', confidence: 1, lastSeen: now, status: 'resolved' }], now)).toBe(0);
   });
-  it('halves a finding\'s weight every half-life and never passes 100', () => {
+  it("halves a finding's weight every half-life and never passes 100", () => {
     const fresh = riskScore([{ severity: 'warning', confidence: 1, lastSeen: now }], now);
     const old = riskScore([{ severity: 'warning', confidence: 1, lastSeen: now - CFG.riskHalfLifeDays * DAY_MS }], now);
     expect(old).toBeCloseTo(fresh / 2, 0);

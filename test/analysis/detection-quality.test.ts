@@ -1,6 +1,13 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import { EXPECTED_FINDINGS } from '../../services/evaluation/expected-findings.js';
-import { compareTables, type DetectionTable, detectionTable, formatDetectionTable, type LineComparison, NAIVE_EXPECTED } from './detection-table.js';
+import {
+  compareTables,
+  type DetectionTable,
+  detectionTable,
+  formatDetectionTable,
+  type LineComparison,
+  NAIVE_EXPECTED,
+} from './detection-table.js';
 import { evaluateFleet } from './evaluation-fleet.js';
 
 /**
@@ -33,21 +40,27 @@ describe('detection quality on the simulated evaluation fleet', () => {
     ours = detectionTable(result.ours, EXPECTED_FINDINGS);
     const naive = detectionTable(result.naive, NAIVE_EXPECTED);
     comparison = compareTables(ours, naive);
-    console.log(`${result.readings} readings\n${formatDetectionTable('findings', ours)}\n\n${formatDetectionTable('naive rules (above 105 °C; cold start below 70 °C after 15 min)', naive)}\n`
-      + comparison.map((c) => `${c.better ? 'better' : 'NOT better'}  ${c.line}: ${c.reason}`).join('\n'));
+    console.log(
+      `${result.readings} readings\n${formatDetectionTable('findings', ours)}\n\n${formatDetectionTable('naive rules (above 105 °C; cold start below 70 °C after 15 min)', naive)}\n` +
+        comparison.map((c) => `${c.better ? 'better' : 'NOT better'}  ${c.line}: ${c.reason}`).join('\n'),
+    );
   }, EVALUATION_TIMEOUT_MS);
 
   it('finds at least 90 % of every visible fault kind, of the right kind', () => {
     for (const line of ours.faults) {
       if (line.visible === 0) continue;
-      expect(line.rightKind / line.visible, line.faultKind).toBeGreaterThanOrEqual(KNOWN_SHORTFALLS[line.faultKind] ? 0.8 : MIN_RECALL);
+      expect(line.rightKind / line.visible, line.faultKind).toBeGreaterThanOrEqual(
+        KNOWN_SHORTFALLS[line.faultKind] ? 0.8 : MIN_RECALL,
+      );
     }
   });
 
   it('raises no finding on at most 5 % of healthy vehicles in every climate and under heavy load', () => {
     for (const h of ours.healthy) {
       expect(h.n, h.group).toBeGreaterThanOrEqual(10);
-      expect(h.rate, h.group).toBeLessThanOrEqual(KNOWN_SHORTFALLS[h.group] ? SHORTFALL_MAX_GROUP_RATE : MAX_HEALTHY_FALSE_ALARM_RATE);
+      expect(h.rate, h.group).toBeLessThanOrEqual(
+        KNOWN_SHORTFALLS[h.group] ? SHORTFALL_MAX_GROUP_RATE : MAX_HEALTHY_FALSE_ALARM_RATE,
+      );
     }
   });
 
@@ -58,8 +71,10 @@ describe('detection quality on the simulated evaluation fleet', () => {
         expect(line.medianDelayDays, line.faultKind).toBeLessThanOrEqual(SHORTFALL_MAX_DELAY_DAYS);
         continue;
       }
-      if (line.faultKind === 'thermostat-stuck-open') expect(line.medianDelayDays, line.faultKind).toBeLessThanOrEqual(STEP_FAULT_MAX_DELAY_DAYS);
-      if (PROGRESSIVE_FAULTS.includes(line.faultKind)) expect(line.medianDelayDays, line.faultKind).toBeLessThanOrEqual(PROGRESSIVE_MAX_DELAY_DAYS);
+      if (line.faultKind === 'thermostat-stuck-open')
+        expect(line.medianDelayDays, line.faultKind).toBeLessThanOrEqual(STEP_FAULT_MAX_DELAY_DAYS);
+      if (PROGRESSIVE_FAULTS.includes(line.faultKind))
+        expect(line.medianDelayDays, line.faultKind).toBeLessThanOrEqual(PROGRESSIVE_MAX_DELAY_DAYS);
     }
   });
 

@@ -72,7 +72,10 @@ function medianOf(values: number[]): number | null {
  * per healthy group the false-alarm rate.
  * @example detectionTable(vehicles, EXPECTED_FINDINGS).faults[0]?.rightKind
  */
-export function detectionTable(vehicles: readonly EvaluatedVehicle[], expectedKinds: Readonly<Record<string, readonly string[]>>): DetectionTable {
+export function detectionTable(
+  vehicles: readonly EvaluatedVehicle[],
+  expectedKinds: Readonly<Record<string, readonly string[]>>,
+): DetectionTable {
   const faults = new Map<string, { n: number; visible: number; detected: number; right: number; delays: number[] }>();
   const healthy = new Map<string, { n: number; alarms: number }>();
   for (const v of vehicles) {
@@ -102,24 +105,42 @@ export function detectionTable(vehicles: readonly EvaluatedVehicle[], expectedKi
     }
   }
   return {
-    faults: [...faults.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([faultKind, l]) => ({
-      faultKind, n: l.n, visible: l.visible, detected: l.detected, rightKind: l.right, medianDelayDays: medianOf(l.delays),
-    })),
-    healthy: [...healthy.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([group, h]) => ({
-      group, n: h.n, falseAlarms: h.alarms, rate: h.n > 0 ? h.alarms / h.n : 0,
-    })),
+    faults: [...faults.entries()]
+      .sort(([a], [b]) => a.localeCompare(b))
+      .map(([faultKind, l]) => ({
+        faultKind,
+        n: l.n,
+        visible: l.visible,
+        detected: l.detected,
+        rightKind: l.right,
+        medianDelayDays: medianOf(l.delays),
+      })),
+    healthy: [...healthy.entries()]
+      .sort(([a], [b]) => a.localeCompare(b))
+      .map(([group, h]) => ({
+        group,
+        n: h.n,
+        falseAlarms: h.alarms,
+        rate: h.n > 0 ? h.alarms / h.n : 0,
+      })),
   };
 }
 
 /** Plain-text rendering of a table (for test output and notes). */
 export function formatDetectionTable(title: string, t: DetectionTable): string {
   const pad = (s: string | number, w: number) => String(s).padEnd(w);
-  const lines = [title, `${pad('fault kind', 24)}${pad('n', 4)}${pad('visible', 9)}${pad('detected', 10)}${pad('right kind', 12)}median delay (days)`];
+  const lines = [
+    title,
+    `${pad('fault kind', 24)}${pad('n', 4)}${pad('visible', 9)}${pad('detected', 10)}${pad('right kind', 12)}median delay (days)`,
+  ];
   for (const f of t.faults) {
-    lines.push(`${pad(f.faultKind, 24)}${pad(f.n, 4)}${pad(f.visible, 9)}${pad(f.detected, 10)}${pad(f.rightKind, 12)}${f.medianDelayDays === null ? '—' : f.medianDelayDays.toFixed(1)}`);
+    lines.push(
+      `${pad(f.faultKind, 24)}${pad(f.n, 4)}${pad(f.visible, 9)}${pad(f.detected, 10)}${pad(f.rightKind, 12)}${f.medianDelayDays === null ? '—' : f.medianDelayDays.toFixed(1)}`,
+    );
   }
   lines.push(`${pad('healthy group', 24)}${pad('n', 4)}${pad('alarms', 10)}false-alarm rate`);
-  for (const h of t.healthy) lines.push(`${pad(h.group, 24)}${pad(h.n, 4)}${pad(h.falseAlarms, 10)}${(100 * h.rate).toFixed(1)} %`);
+  for (const h of t.healthy)
+    lines.push(`${pad(h.group, 24)}${pad(h.n, 4)}${pad(h.falseAlarms, 10)}${(100 * h.rate).toFixed(1)} %`);
   return lines.join('\n');
 }
 
@@ -144,13 +165,21 @@ export function compareTables(ours: DetectionTable, other: DetectionTable): Line
     const oDelay = o?.medianDelayDays ?? Infinity;
     const fDelay = f.medianDelayDays ?? Infinity;
     const better = f.rightKind > oRight || (f.rightKind === oRight && f.rightKind > 0 && fDelay < oDelay);
-    out.push({ line: f.faultKind, better, reason: `right kind ${f.rightKind} vs ${oRight}, delay ${fDelay.toFixed(1)} vs ${oDelay.toFixed(1)} d` });
+    out.push({
+      line: f.faultKind,
+      better,
+      reason: `right kind ${f.rightKind} vs ${oRight}, delay ${fDelay.toFixed(1)} vs ${oDelay.toFixed(1)} d`,
+    });
   }
   for (const h of ours.healthy) {
     const o = other.healthy.find((x) => x.group === h.group);
     const oRate = o?.rate ?? 0;
     const better = h.rate < oRate || (h.rate === 0 && oRate === 0);
-    out.push({ line: h.group, better, reason: `false alarms ${h.falseAlarms}/${h.n} vs ${o?.falseAlarms ?? 0}/${o?.n ?? 0}${h.rate === 0 && oRate === 0 ? ' (both none)' : ''}` });
+    out.push({
+      line: h.group,
+      better,
+      reason: `false alarms ${h.falseAlarms}/${h.n} vs ${o?.falseAlarms ?? 0}/${o?.n ?? 0}${h.rate === 0 && oRate === 0 ? ' (both none)' : ''}`,
+    });
   }
   return out;
 }

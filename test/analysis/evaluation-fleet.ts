@@ -5,7 +5,13 @@ import { type EvaluatedVehicle, NAIVE_COLD, NAIVE_OVERHEAT } from './detection-t
 import { buildPeerBaseline, type PeerBaseline } from '../../services/analysis/peer-baseline.js';
 import type { SampleArrays } from '../../services/analysis/sample-arrays.js';
 import type { VehicleProfile } from '../../services/analysis/vehicle-profile.js';
-import { isSensorFault, planFleet, type SimVehicle, simulateVehicle, truthGroup } from '../../services/simulator/index.js';
+import {
+  isSensorFault,
+  planFleet,
+  type SimVehicle,
+  simulateVehicle,
+  truthGroup,
+} from '../../services/simulator/index.js';
 import { DAY_MS } from '../../services/time/durations.js';
 
 /** The naive rules a fleet would write by hand. */
@@ -20,7 +26,12 @@ export interface FleetEvaluation {
   finalFindings: Map<string, ReturnType<typeof deriveFindings>>;
 }
 
-export interface EvaluationOptions { vehicles: number; days: number; seed: number; startMs: number }
+export interface EvaluationOptions {
+  vehicles: number;
+  days: number;
+  seed: number;
+  startMs: number;
+}
 
 type SimArrays = SampleArrays & { coolantTrue: Float64Array };
 const CHANNELS = ['ts', 'coolant', 'ambient', 'speedKph', 'rpm', 'coolantTrue'] as const;
@@ -71,7 +82,10 @@ export function faultVisible(v: SimVehicle, withFault: SimArrays, opts: Evaluati
 }
 
 export const profileOf = (v: SimVehicle): VehicleProfile => ({
-  engineFamily: v.engineFamily, thermostatOpenC: v.thermostatOpenC, capPressureKpa: v.capPressureKpa, glycolPercent: v.glycolPercent,
+  engineFamily: v.engineFamily,
+  thermostatOpenC: v.thermostatOpenC,
+  capPressureKpa: v.capPressureKpa,
+  glycolPercent: v.glycolPercent,
 });
 
 /** Simulates the evaluation fleet and analyses every vehicle's readings once. */
@@ -104,7 +118,9 @@ export function analyseFleet(opts: EvaluationOptions): AnalysedFleet {
  * appears. The naive rules are applied to the same day aggregates and runs.
  */
 export function replayFindings(
-  { fleet, analyses, visible }: Omit<AnalysedFleet, 'readings'>, opts: EvaluationOptions, overrides: Partial<AnalysisConfig> = {},
+  { fleet, analyses, visible }: Omit<AnalysedFleet, 'readings'>,
+  opts: EvaluationOptions,
+  overrides: Partial<AnalysisConfig> = {},
 ): Omit<FleetEvaluation, 'readings'> {
   const peerCache = new Map<string, PeerBaseline>();
   const peerAt = (family: string, nowMs: number): PeerBaseline => {
@@ -145,14 +161,19 @@ export function replayFindings(
     }
     const naiveAlarms: { kind: string; atMs: number }[] = [];
     for (const day of a.days) {
-      if ((day.rawMaxCoolantC ?? -Infinity) > NAIVE_HOT_C) naiveAlarms.push({ kind: NAIVE_OVERHEAT, atMs: day.dayStartMs + DAY_MS });
+      if ((day.rawMaxCoolantC ?? -Infinity) > NAIVE_HOT_C)
+        naiveAlarms.push({ kind: NAIVE_OVERHEAT, atMs: day.dayStartMs + DAY_MS });
     }
     for (const r of a.runs) {
       if (r.startKind === 'cold' && r.coolantAtCheckC !== null && r.coolantAtCheckC < NAIVE_COLD_C) {
         naiveAlarms.push({ kind: NAIVE_COLD, atMs: Math.floor(r.startMs / DAY_MS) * DAY_MS + DAY_MS });
       }
     }
-    const base = { vehicleId: v.vehicleId, group: truthGroup(v), faults: v.faults.map((f) => ({ kind: f.kind, onsetMs: f.onsetMs, visible: visible.get(v.vehicleId) ?? true })) };
+    const base = {
+      vehicleId: v.vehicleId,
+      group: truthGroup(v),
+      faults: v.faults.map((f) => ({ kind: f.kind, onsetMs: f.onsetMs, visible: visible.get(v.vehicleId) ?? true })),
+    };
     ours.push({ ...base, alarms });
     naive.push({ ...base, alarms: naiveAlarms });
   }

@@ -19,12 +19,25 @@ export interface DriveSpec {
 
 /** One hand-made engine run for unit tests (not a simulator: exact curves only). */
 export function syntheticDrive(spec: DriveSpec): SampleArrays {
-  const { startMs = Date.UTC(2026, 9, 5, 6), ambientC, startCoolantC, tauS = 500, tInfC = 115, regulatedC = 90,
-    idleS = 0, durationS = 3600, periodS = 10, quantise = false } = spec;
+  const {
+    startMs = Date.UTC(2026, 9, 5, 6),
+    ambientC,
+    startCoolantC,
+    tauS = 500,
+    tInfC = 115,
+    regulatedC = 90,
+    idleS = 0,
+    durationS = 3600,
+    periodS = 10,
+    quantise = false,
+  } = spec;
   const n = Math.floor(durationS / periodS) + 1;
   const s: SampleArrays = {
-    ts: new Float64Array(n), coolant: new Float64Array(n), ambient: new Float64Array(n),
-    speedKph: new Float64Array(n), rpm: new Float64Array(n),
+    ts: new Float64Array(n),
+    coolant: new Float64Array(n),
+    ambient: new Float64Array(n),
+    speedKph: new Float64Array(n),
+    rpm: new Float64Array(n),
   };
   for (let i = 0; i < n; i++) {
     const t = i * periodS;
@@ -43,8 +56,17 @@ export function concatSamples(parts: SampleArrays[]): SampleArrays {
   const cat = (key: 'ts' | 'coolant' | 'ambient' | 'speedKph' | 'rpm') => {
     const out = new Float64Array(parts.reduce((n, p) => n + p[key].length, 0));
     let o = 0;
-    for (const p of parts) { out.set(p[key], o); o += p[key].length; }
+    for (const p of parts) {
+      out.set(p[key], o);
+      o += p[key].length;
+    }
     return out;
   };
-  return { ts: cat('ts'), coolant: cat('coolant'), ambient: cat('ambient'), speedKph: cat('speedKph'), rpm: cat('rpm') };
+  return {
+    ts: cat('ts'),
+    coolant: cat('coolant'),
+    ambient: cat('ambient'),
+    speedKph: cat('speedKph'),
+    rpm: cat('rpm'),
+  };
 }

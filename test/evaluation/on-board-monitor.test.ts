@@ -1,13 +1,21 @@
 import { describe, expect, it } from 'vitest';
 import {
-  MONITOR_OVER_TEMPERATURE, MONITOR_SENSOR_CIRCUIT, MONITOR_THERMOSTAT, OnBoardMonitor, THERMOSTAT_CRITERION_C,
+  MONITOR_OVER_TEMPERATURE,
+  MONITOR_SENSOR_CIRCUIT,
+  MONITOR_THERMOSTAT,
+  OnBoardMonitor,
+  THERMOSTAT_CRITERION_C,
 } from '../../services/evaluation/on-board-monitor.js';
 import { HOUR_MS } from '../../services/time/durations.js';
 
 const T0 = Date.UTC(2026, 0, 5, 7);
 
 /** One trip of 40 min at 10 s samples: coolant from `startC` rising `perMinC` per minute up to `capC`, driving unless idle. */
-function trip(m: OnBoardMonitor, startMs: number, o: { startC: number; perMinC: number; capC: number; ambientC?: number; idle?: boolean; minutes?: number }): void {
+function trip(
+  m: OnBoardMonitor,
+  startMs: number,
+  o: { startC: number; perMinC: number; capC: number; ambientC?: number; idle?: boolean; minutes?: number },
+): void {
   const minutes = o.minutes ?? 40;
   for (let s = 0; s <= minutes * 60; s += 10) {
     m.push(startMs + s * 1000, Math.min(o.capC, o.startC + (o.perMinC * s) / 60), o.ambientC ?? 5, o.idle ? 0 : 50);

@@ -34,21 +34,45 @@ const MIN_ROWS = 3;
  * median. Null with fewer than 3 rows.
  * @example fitBaseline(rows)?.sigma
  */
-export function fitBaseline(rows: readonly ModelRow[], options: { nonNegativeSlopes?: boolean } = {}): BaselineModel | null {
+export function fitBaseline(
+  rows: readonly ModelRow[],
+  options: { nonNegativeSlopes?: boolean } = {},
+): BaselineModel | null {
   const usable = rows.filter((r) => !r.censored);
   if (usable.length < MIN_ROWS) return null;
   const p = (usable[0]?.x.length ?? 0) + 1;
   const xMin = Array.from({ length: p - 1 }, (_, c) => Math.min(...usable.map((r) => r.x[c]!)));
   const xMax = Array.from({ length: p - 1 }, (_, c) => Math.max(...usable.map((r) => r.x[c]!)));
   if (p > 1 && usable.length >= ROWS_PER_COEFFICIENT * p) {
-    const fit = robustLinearFit(usable.map((r) => r.x), usable.map((r) => r.y));
-    if (fit && fit.coefficients.every(Number.isFinite) && !(options.nonNegativeSlopes && fit.coefficients.slice(1).some((c) => c < 0))) {
-      return { coefficients: fit.coefficients, sigma: fit.residualSigma, n: usable.length, xMin, xMax, medianOnly: false };
+    const fit = robustLinearFit(
+      usable.map((r) => r.x),
+      usable.map((r) => r.y),
+    );
+    if (
+      fit &&
+      fit.coefficients.every(Number.isFinite) &&
+      !(options.nonNegativeSlopes && fit.coefficients.slice(1).some((c) => c < 0))
+    ) {
+      return {
+        coefficients: fit.coefficients,
+        sigma: fit.residualSigma,
+        n: usable.length,
+        xMin,
+        xMax,
+        medianOnly: false,
+      };
     }
   }
   const ys = usable.map((r) => r.y);
   const m = median(ys);
-  return { coefficients: [m, ...new Array<number>(p - 1).fill(0)], sigma: MAD_TO_SIGMA * mad(ys, m), n: usable.length, xMin, xMax, medianOnly: p > 1 };
+  return {
+    coefficients: [m, ...new Array<number>(p - 1).fill(0)],
+    sigma: MAD_TO_SIGMA * mad(ys, m),
+    n: usable.length,
+    xMin,
+    xMax,
+    medianOnly: p > 1,
+  };
 }
 
 /**
@@ -57,7 +81,10 @@ export function fitBaseline(rows: readonly ModelRow[], options: { nonNegativeSlo
  * except predictors marked in `extrapolates` (physically grounded forms).
  */
 export function expected(model: BaselineModel, row: ModelRow, extrapolates?: readonly boolean[]): number {
-  return predict(model, row.x.map((v, c) => (extrapolates?.[c] ? v : Math.min(Math.max(v, model.xMin[c] ?? v), model.xMax[c] ?? v))));
+  return predict(
+    model,
+    row.x.map((v, c) => (extrapolates?.[c] ? v : Math.min(Math.max(v, model.xMin[c] ?? v), model.xMax[c] ?? v))),
+  );
 }
 
 /**
@@ -65,7 +92,12 @@ export function expected(model: BaselineModel, row: ModelRow, extrapolates?: rea
  * censored row that does not yet exceed the expectation (inconclusive).
  */
 export function badZ(
-  model: BaselineModel, row: ModelRow, direction: 1 | -1, floor: number, zCap: number, extrapolates?: readonly boolean[],
+  model: BaselineModel,
+  row: ModelRow,
+  direction: 1 | -1,
+  floor: number,
+  zCap: number,
+  extrapolates?: readonly boolean[],
 ): number | null {
   const z = (direction * (row.y - expected(model, row, extrapolates))) / Math.max(model.sigma, floor);
   if (row.censored && z <= 0) return null;

@@ -11,7 +11,14 @@ export const COOLANT_DISPOSAL_CAUTION =
 /** Kinds whose checks include running the engine hot (fan engagement, air bleeding). */
 const ENGINE_RUNNING_KINDS: ReadonlySet<FindingKind> = new Set(['overheating-trend', 'boil-margin', 'overshoot']);
 /** Kinds whose checks or repairs drain or change coolant (leaks, mix, thermostat replacement). */
-const COOLANT_KINDS: ReadonlySet<FindingKind> = new Set(['overheating-trend', 'boil-margin', 'freeze-risk', 'overshoot', 'slow-warmup', 'coolant-loss']);
+const COOLANT_KINDS: ReadonlySet<FindingKind> = new Set([
+  'overheating-trend',
+  'boil-margin',
+  'freeze-risk',
+  'overshoot',
+  'slow-warmup',
+  'coolant-loss',
+]);
 
 /**
  * The cautions for a shop visit covering findings of these kinds: the general safety caution

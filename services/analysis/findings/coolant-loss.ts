@@ -19,8 +19,15 @@ const LEVEL_TREND_MAX_P = 0.05;
  *   does not hold or the system leaks.
  * @example coolantLossFindings(days, baselineStart, Date.now(), resolveConfig())
  */
-export function coolantLossFindings(days: readonly DayAggregate[], baselineStart: number, now: number, cfg: AnalysisConfig): Finding[] {
-  const recent = days.filter((d) => d.bus && d.dayStartMs > now - cfg.coolantLevelWindowDays * MS_PER_DAY && d.dayStartMs <= now);
+export function coolantLossFindings(
+  days: readonly DayAggregate[],
+  baselineStart: number,
+  now: number,
+  cfg: AnalysisConfig,
+): Finding[] {
+  const recent = days.filter(
+    (d) => d.bus && d.dayStartMs > now - cfg.coolantLevelWindowDays * MS_PER_DAY && d.dayStartMs <= now,
+  );
   const out: Finding[] = [];
   const level = levelFalling(recent, baselineStart, cfg);
   if (level) out.push(level);
@@ -41,32 +48,73 @@ function levelFalling(recent: readonly DayAggregate[], baselineStart: number, cf
   const last = withLevel[withLevel.length - 1]!;
   const lastLevel = last.bus!.coolantLevelMeanPct!;
   const severity: Severity = lastLevel < cfg.coolantLevelCriticalPct ? 'critical' : 'warning';
-  const evidence: EvidenceItem[] = withLevel.map((d) => ({ at: d.dayStartMs, scope: 'day', metric: 'coolantLevelMeanPct', value: round(d.bus!.coolantLevelMeanPct!, 1), expected: null, z: null }));
+  const evidence: EvidenceItem[] = withLevel.map((d) => ({
+    at: d.dayStartMs,
+    scope: 'day',
+    metric: 'coolantLevelMeanPct',
+    value: round(d.bus!.coolantLevelMeanPct!, 1),
+    expected: null,
+    z: null,
+  }));
   return {
-    key: findingKey('coolant-loss', 'level-falling', baselineStart), kind: 'coolant-loss', subKind: 'level-falling', severity,
+    key: findingKey('coolant-loss', 'level-falling', baselineStart),
+    kind: 'coolant-loss',
+    subKind: 'level-falling',
+    severity,
     confidence: round(Math.min(1, 0.6 + 0.4 * (1 - mk.pDecreasing / LEVEL_TREND_MAX_P)), 3),
-    firstSeen: withLevel[0]!.dayStartMs, lastSeen: last.dayStartMs,
+    firstSeen: withLevel[0]!.dayStartMs,
+    lastSeen: last.dayStartMs,
     summary: `The coolant level reported by the engine fell by about ${round(drop, 0)} % of full over ${round(dayIndex[dayIndex.length - 1]!, 0)} days, to ${round(lastLevel, 0)} % on ${utcDay(last.dayStartMs)}: the cooling system is losing coolant.`,
-    recommendedCheck: 'Look for external leaks (hoses, radiator, water pump weep hole, heater core) and for coolant in the oil or exhaust; pressure-test the system when cold. ' + SAFETY_CAUTION,
+    recommendedCheck:
+      'Look for external leaks (hoses, radiator, water pump weep hole, heater core) and for coolant in the oil or exhaust; pressure-test the system when cold. ' +
+      SAFETY_CAUTION,
     troubleCode: null,
-    metrics: { slopePctPerDay: round(slope, 3), dropPct: round(drop, 1), lastLevelPct: round(lastLevel, 1), mannKendallZ: round(mk.z, 2), days: withLevel.length },
+    metrics: {
+      slopePctPerDay: round(slope, 3),
+      dropPct: round(drop, 1),
+      lastLevelPct: round(lastLevel, 1),
+      mannKendallZ: round(mk.z, 2),
+      days: withLevel.length,
+    },
     evidence,
   };
 }
 
-function noPressureWhenHot(recent: readonly DayAggregate[], baselineStart: number, cfg: AnalysisConfig): Finding | null {
+function noPressureWhenHot(
+  recent: readonly DayAggregate[],
+  baselineStart: number,
+  cfg: AnalysisConfig,
+): Finding | null {
   const judged = recent.filter((d) => d.bus!.hotPressureSamples >= cfg.hotPressureMinSamples);
   const flat = judged.filter((d) => d.bus!.hotPressureMaxKpa! < cfg.hotPressureMinKpa);
   if (flat.length < cfg.hotPressureMinDays) return null;
   const highest = Math.max(...flat.map((d) => d.bus!.hotPressureMaxKpa!));
   return {
-    key: findingKey('coolant-loss', 'no-pressure-when-hot', baselineStart), kind: 'coolant-loss', subKind: 'no-pressure-when-hot', severity: 'warning',
+    key: findingKey('coolant-loss', 'no-pressure-when-hot', baselineStart),
+    kind: 'coolant-loss',
+    subKind: 'no-pressure-when-hot',
+    severity: 'warning',
     confidence: round(Math.min(1, 0.5 + 0.5 * (flat.length / judged.length)), 3),
-    firstSeen: flat[0]!.dayStartMs, lastSeen: flat[flat.length - 1]!.dayStartMs,
+    firstSeen: flat[0]!.dayStartMs,
+    lastSeen: flat[flat.length - 1]!.dayStartMs,
     summary: `On ${flat.length} of ${judged.length} recent days with the engine hot, the coolant pressure never rose above ${round(highest, 0)} kPa: the pressure cap does not hold or the system leaks, which lowers the boiling point.`,
-    recommendedCheck: 'Pressure-test the radiator cap and the cooling system when cold, and check hoses and clamps for leaks. ' + SAFETY_CAUTION,
+    recommendedCheck:
+      'Pressure-test the radiator cap and the cooling system when cold, and check hoses and clamps for leaks. ' +
+      SAFETY_CAUTION,
     troubleCode: null,
-    metrics: { daysWithoutPressure: flat.length, daysJudged: judged.length, highestHotPressureKpa: round(highest, 1), thresholdKpa: cfg.hotPressureMinKpa },
-    evidence: flat.map((d) => ({ at: d.dayStartMs, scope: 'day' as const, metric: 'hotPressureMaxKpa', value: round(d.bus!.hotPressureMaxKpa!, 1), expected: cfg.hotPressureMinKpa, z: null })),
+    metrics: {
+      daysWithoutPressure: flat.length,
+      daysJudged: judged.length,
+      highestHotPressureKpa: round(highest, 1),
+      thresholdKpa: cfg.hotPressureMinKpa,
+    },
+    evidence: flat.map((d) => ({
+      at: d.dayStartMs,
+      scope: 'day' as const,
+      metric: 'hotPressureMaxKpa',
+      value: round(d.bus!.hotPressureMaxKpa!, 1),
+      expected: cfg.hotPressureMinKpa,
+      z: null,
+    })),
   };
 }

@@ -1,6 +1,7 @@
 /** What the analysis tells a planner: the types shared by every finding detector. */
 
-export type FindingKind = 'slow-warmup' | 'overshoot' | 'overheating-trend' | 'sensor-fault' | 'boil-margin' | 'freeze-risk' | 'coolant-loss';
+export type FindingKind =
+  'slow-warmup' | 'overshoot' | 'overheating-trend' | 'sensor-fault' | 'boil-margin' | 'freeze-risk' | 'coolant-loss';
 export type Severity = 'advisory' | 'warning' | 'critical';
 
 /** One number behind a finding, tied to the run (by start) or day it came from. */
@@ -45,8 +46,8 @@ export interface Finding {
 
 /** Appended to every recommended check (design: safety wording where the tool suggests work). */
 export const SAFETY_CAUTION =
-  'Never open a hot pressurised cooling system; let it cool first and follow the manufacturer\'s service procedure and local rules. '
-  + 'This tool advises; a qualified technician decides.';
+  "Never open a hot pressurised cooling system; let it cool first and follow the manufacturer's service procedure and local rules. " +
+  'This tool advises; a qualified technician decides.';
 
 /** Most evidence items kept per finding (the latest ones). */
 export const MAX_EVIDENCE_ITEMS = 12;

@@ -49,7 +49,11 @@ export const WARMUP_TIME: RunFeature = {
   extrapolates: [true, false, false],
   extract(r) {
     if (!r.warmupEligible || r.startCoolantC === null) return null;
-    const x = [Math.log(Math.max(r.warmupTargetC - r.startCoolantC, MIN_DEFICIT_C)), ambientOf(r), r.warmupIdleFraction];
+    const x = [
+      Math.log(Math.max(r.warmupTargetC - r.startCoolantC, MIN_DEFICIT_C)),
+      ambientOf(r),
+      r.warmupIdleFraction,
+    ];
     if (r.timeToTargetS !== null) return { x, y: Math.log(Math.max(r.timeToTargetS, 1)), censored: false };
     return { x, y: Math.log(Math.max(r.durationS, 1)), censored: true };
   },
@@ -69,8 +73,13 @@ export const PLATEAU: RunFeature = {
   direction: -1,
   extract(r, cfg) {
     if (r.plateauC === null || r.excludedForSensor) return null;
-    if ((r.ambientMeanC ?? Infinity) < cfg.coolRunMinAmbientC || r.idleFraction > cfg.plateauMaxIdleFraction) return null;
-    return { x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100], y: r.plateauC - r.thermostatOpenC, censored: false };
+    if ((r.ambientMeanC ?? Infinity) < cfg.coolRunMinAmbientC || r.idleFraction > cfg.plateauMaxIdleFraction)
+      return null;
+    return {
+      x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100],
+      y: r.plateauC - r.thermostatOpenC,
+      censored: false,
+    };
   },
   display: (y) => y,
 };
@@ -91,7 +100,11 @@ export const RUN_PEAK: RunFeature = {
   extract(r, cfg) {
     if (r.peakCoolantC === null || r.excludedForSensor || r.durationS < RUN_PEAK_MIN_S) return null;
     if ((r.ambientMeanC ?? Infinity) < cfg.coolRunMinAmbientC || r.idleFraction > cfg.obdMaxIdleFraction) return null;
-    return { x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100], y: r.peakCoolantC - r.thermostatOpenC, censored: false };
+    return {
+      x: [r.ambientMeanC ?? DEFAULT_AMBIENT_C, (r.meanSpeedKph ?? 0) / 100],
+      y: r.peakCoolantC - r.thermostatOpenC,
+      censored: false,
+    };
   },
   display: (y) => y,
 };

@@ -3,7 +3,14 @@ import { upperCusum } from '../stats/cusum.js';
 import { normalCdf } from '../stats/normal-cdf.js';
 import { median } from '../stats/robust.js';
 import {
-  clamp01, type EvidenceItem, type Finding, type FindingKind, findingKey, MAX_EVIDENCE_ITEMS, round, type Severity,
+  clamp01,
+  type EvidenceItem,
+  type Finding,
+  type FindingKind,
+  findingKey,
+  MAX_EVIDENCE_ITEMS,
+  round,
+  type Severity,
 } from './finding.js';
 import type { ScoredRun } from './run-shift.js';
 import { DAY_MS } from '../../time/durations.js';
@@ -43,7 +50,12 @@ export interface RunShift {
  * The runs since the change must sit at least `minMedianZ` out (median).
  */
 export function detectRunShift(
-  scored: readonly ScoredRun[], now: number, cfg: AnalysisConfig, h = cfg.cusumH, repeatZ = Infinity, minMedianZ = cfg.minShiftMedianZ,
+  scored: readonly ScoredRun[],
+  now: number,
+  cfg: AnalysisConfig,
+  h = cfg.cusumH,
+  repeatZ = Infinity,
+  minMedianZ = cfg.minShiftMedianZ,
 ): RunShift | null {
   const days: ScoredRun[][] = [];
   for (const s of scored) {
@@ -70,7 +82,12 @@ export function detectRunShift(
 
 /** The shift starting at `changeRun`, or null when stale or too small. */
 function shiftFrom(
-  scored: readonly ScoredRun[], changeRun: ScoredRun, now: number, cfg: AnalysisConfig, maxStatistic: number, minMedianZ: number,
+  scored: readonly ScoredRun[],
+  changeRun: ScoredRun,
+  now: number,
+  cfg: AnalysisConfig,
+  maxStatistic: number,
+  minMedianZ: number,
 ): RunShift | null {
   const after = scored.filter((s) => s.run.startMs >= changeRun.run.startMs);
   const supporting = after.filter((s) => s.z >= SUPPORT_Z);
@@ -82,23 +99,36 @@ function shiftFrom(
   if (medianZ < minMedianZ) return null;
   const confidence = clamp01(normalCdf(medianZ - 1) * (1 - 0.5 ** supporting.length));
   return {
-    changeRun, after, supporting, medianZ, maxStatistic, confidence,
+    changeRun,
+    after,
+    supporting,
+    medianZ,
+    maxStatistic,
+    confidence,
     severity: medianZ >= WARNING_MEDIAN_Z ? 'warning' : 'advisory',
-    firstSeen: changeRun.run.startMs, lastSeen,
+    firstSeen: changeRun.run.startMs,
+    lastSeen,
   };
 }
 
 /** Evidence items of the latest supporting runs. */
 export function runEvidence(supporting: readonly ScoredRun[]): EvidenceItem[] {
   return supporting.slice(-MAX_EVIDENCE_ITEMS).map((s) => ({
-    at: s.run.startMs, scope: 'run' as const, metric: String(s.feature.metric),
-    value: round(s.value), expected: round(s.expected), z: round(s.z),
+    at: s.run.startMs,
+    scope: 'run' as const,
+    metric: String(s.feature.metric),
+    value: round(s.value),
+    expected: round(s.expected),
+    z: round(s.z),
   }));
 }
 
 /** Assembles a finding from a run shift and its wording. */
 export function runShiftFinding(
-  kind: FindingKind, shift: RunShift, baselineStart: number, source: string,
+  kind: FindingKind,
+  shift: RunShift,
+  baselineStart: number,
+  source: string,
   words: { summary: string; recommendedCheck: string; troubleCode: string | null; severity?: Severity },
 ): Finding {
   return {
@@ -113,8 +143,11 @@ export function runShiftFinding(
     recommendedCheck: words.recommendedCheck,
     troubleCode: words.troubleCode,
     metrics: {
-      medianZ: round(shift.medianZ), cusumMax: round(shift.maxStatistic),
-      runsJudged: shift.after.length, runsSupporting: shift.supporting.length, ownBaseline: source === 'own' ? 1 : 0,
+      medianZ: round(shift.medianZ),
+      cusumMax: round(shift.maxStatistic),
+      runsJudged: shift.after.length,
+      runsSupporting: shift.supporting.length,
+      ownBaseline: source === 'own' ? 1 : 0,
     },
     evidence: runEvidence(shift.supporting),
   };

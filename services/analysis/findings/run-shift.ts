@@ -33,20 +33,29 @@ const ABNORMAL_BASELINE_Z = 3;
  * median warm-up scored every colder morning as slow.
  */
 export function scoreFeature(
-  runs: readonly RunMetrics[], feature: RunFeature, epochStartMs: number,
-  peer: PeerBaseline | null, now: number, cfg: AnalysisConfig, floor: number,
+  runs: readonly RunMetrics[],
+  feature: RunFeature,
+  epochStartMs: number,
+  peer: PeerBaseline | null,
+  now: number,
+  cfg: AnalysisConfig,
+  floor: number,
 ): ScoredFeature {
   const rows = featureRows(runs, feature, cfg);
   const baselineEnd = epochStartMs + cfg.baselineDays * DAY_MS;
   const baselineRows = rows.filter((r) => r.run.startMs < baselineEnd);
   // Until the baseline window has passed, the vehicle's own expectation is still forming.
-  const own = now >= baselineEnd && baselineRows.filter((r) => !r.censored).length >= cfg.baselineMinRuns
-    ? fitBaseline(baselineRows) : null;
+  const own =
+    now >= baselineEnd && baselineRows.filter((r) => !r.censored).length >= cfg.baselineMinRuns
+      ? fitBaseline(baselineRows)
+      : null;
   const peerModel = peer?.models[feature.name] ?? null;
   let model = own ?? peerModel;
   let source: ScoredFeature['source'] = own ? 'own' : peerModel ? 'peer' : null;
   if (own && peerModel) {
-    const zs = baselineRows.map((r) => badZ(peerModel, r, feature.direction, floor, cfg.zCap, feature.extrapolates)).filter((z): z is number => z !== null);
+    const zs = baselineRows
+      .map((r) => badZ(peerModel, r, feature.direction, floor, cfg.zCap, feature.extrapolates))
+      .filter((z): z is number => z !== null);
     if (median(zs) > ABNORMAL_BASELINE_Z) {
       model = peerModel;
       source = 'peer';
@@ -61,12 +70,20 @@ export function scoreFeature(
   for (const row of rows) {
     // Judge only within the ambient range a model has seen: an own baseline learned in mild
     // weather says nothing about a cold snap, so such runs go to the peers or are skipped.
-    const m = [model, peerModel].find((c): c is BaselineModel => c !== null && ambientCovered(c, row, feature.ambientPredictor ?? 0));
+    const m = [model, peerModel].find(
+      (c): c is BaselineModel => c !== null && ambientCovered(c, row, feature.ambientPredictor ?? 0),
+    );
     if (!m) continue;
     const z = badZ(m, row, feature.direction, floor, cfg.zCap, feature.extrapolates);
     if (z === null) continue;
     const e = expected(m, row, feature.extrapolates);
-    scored.push({ run: row.run, feature, z, value: feature.display(row.y, row.run), expected: feature.display(e, row.run) });
+    scored.push({
+      run: row.run,
+      feature,
+      z,
+      value: feature.display(row.y, row.run),
+      expected: feature.display(e, row.run),
+    });
   }
   return { scored, source };
 }

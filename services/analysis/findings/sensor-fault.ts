@@ -4,7 +4,15 @@ import type { PeerBaseline } from '../peer-baseline.js';
 import type { RunMetrics } from '../run-metrics.js';
 import type { SensorEvent, SensorEventKind } from '../sensor-events.js';
 import { median } from '../stats/robust.js';
-import { clamp01, type EvidenceItem, type Finding, findingKey, MAX_EVIDENCE_ITEMS, round, SAFETY_CAUTION } from './finding.js';
+import {
+  clamp01,
+  type EvidenceItem,
+  type Finding,
+  findingKey,
+  MAX_EVIDENCE_ITEMS,
+  round,
+  SAFETY_CAUTION,
+} from './finding.js';
 import { utcDay } from '../sample-arrays.js';
 import { DAY_MS } from '../../time/durations.js';
 
@@ -21,31 +29,51 @@ type SensorSubKind = 'out-of-range' | 'implausible-rate' | 'stuck' | 'bias';
 
 const WORDS: Record<SensorSubKind, { what: string; code: string; check: string }> = {
   'out-of-range': {
-    what: 'reported values outside the sensor\'s range (open or shorted circuit)', code: 'P0117/P0118',
+    what: "reported values outside the sensor's range (open or shorted circuit)",
+    code: 'P0117/P0118',
     check: 'Check the coolant temperature sensor connector and wiring for corrosion, chafing or an open circuit.',
   },
   'implausible-rate': {
-    what: 'jumped faster than an engine can heat or cool (spikes)', code: 'P0119',
+    what: 'jumped faster than an engine can heat or cool (spikes)',
+    code: 'P0119',
     check: 'Check the coolant temperature sensor connector and wiring for a loose or intermittent contact.',
   },
   stuck: {
-    what: 'stayed flat while the engine was running and should have been warming', code: 'P0116',
+    what: 'stayed flat while the engine was running and should have been warming',
+    code: 'P0116',
     check: 'Compare the coolant temperature sensor with a reference thermometer and replace it if it does not follow.',
   },
   bias: {
-    what: 'disagrees with the air temperature after long cold soaks, so it reads off by a fixed amount', code: 'P0116',
+    what: 'disagrees with the air temperature after long cold soaks, so it reads off by a fixed amount',
+    code: 'P0116',
     check: 'Compare the coolant temperature sensor with a reference thermometer on a fully cold engine.',
   },
 };
 
-function sensorFinding(sub: SensorSubKind, baselineStart: number, firstSeen: number, lastSeen: number, confidence: number,
-  warning: boolean, metrics: Record<string, number>, evidence: EvidenceItem[]): Finding {
+function sensorFinding(
+  sub: SensorSubKind,
+  baselineStart: number,
+  firstSeen: number,
+  lastSeen: number,
+  confidence: number,
+  warning: boolean,
+  metrics: Record<string, number>,
+  evidence: EvidenceItem[],
+): Finding {
   const w = WORDS[sub];
   return {
-    key: findingKey('sensor-fault', sub, baselineStart), kind: 'sensor-fault', subKind: sub,
-    severity: warning ? 'warning' : 'advisory', confidence: round(clamp01(confidence), 3), firstSeen, lastSeen,
+    key: findingKey('sensor-fault', sub, baselineStart),
+    kind: 'sensor-fault',
+    subKind: sub,
+    severity: warning ? 'warning' : 'advisory',
+    confidence: round(clamp01(confidence), 3),
+    firstSeen,
+    lastSeen,
     summary: `Since ${utcDay(firstSeen)} the coolant temperature reading ${w.what}; until it is fixed, warm-up and overheating findings are not raised from its readings.`,
-    recommendedCheck: `${w.check} ${SAFETY_CAUTION}`, troubleCode: w.code, metrics, evidence: evidence.slice(-MAX_EVIDENCE_ITEMS),
+    recommendedCheck: `${w.check} ${SAFETY_CAUTION}`,
+    troubleCode: w.code,
+    metrics,
+    evidence: evidence.slice(-MAX_EVIDENCE_ITEMS),
   };
 }
 
@@ -57,16 +85,29 @@ function streakStart(times: readonly number[], windowMs: number): number {
 }
 
 /** Evidence on enough distinct days of the recent window raises a finding. */
-function fromDatedEvidence(sub: SensorSubKind, items: EvidenceItem[], baselineStart: number, now: number, cfg: AnalysisConfig): Finding | null {
+function fromDatedEvidence(
+  sub: SensorSubKind,
+  items: EvidenceItem[],
+  baselineStart: number,
+  now: number,
+  cfg: AnalysisConfig,
+): Finding | null {
   const windowMs = cfg.sensorWindowDays * DAY_MS;
   const recent = items.filter((e) => e.at > now - windowMs && e.at <= now);
   const days = new Set(recent.map((e) => Math.floor(e.at / DAY_MS))).size;
   const strong = recent.filter((e) => e.value >= STRONG_EVENT_COUNT).length;
   if (days < cfg.sensorMinDays && strong < cfg.sensorMinDays) return null;
   const times = items.map((e) => e.at).sort((a, b) => a - b);
-  return sensorFinding(sub, baselineStart, streakStart(times, windowMs), times[times.length - 1]!,
-    0.5 + 0.1 * days + 0.05 * strong, sub === 'stuck' || days >= 2 * cfg.sensorMinDays,
-    { daysWithEvidence: days, eventsInWindow: recent.length }, items);
+  return sensorFinding(
+    sub,
+    baselineStart,
+    streakStart(times, windowMs),
+    times[times.length - 1]!,
+    0.5 + 0.1 * days + 0.05 * strong,
+    sub === 'stuck' || days >= 2 * cfg.sensorMinDays,
+    { daysWithEvidence: days, eventsInWindow: recent.length },
+    items,
+  );
 }
 
 /**
@@ -74,12 +115,19 @@ function fromDatedEvidence(sub: SensorSubKind, items: EvidenceItem[], baselineSt
  * flat lines while warming, repeated dropouts, and a bias shown by long cold soaks.
  */
 export function sensorFaultFindings(
-  runs: readonly RunMetrics[], days: readonly DayAggregate[], events: readonly SensorEvent[],
-  baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
+  runs: readonly RunMetrics[],
+  days: readonly DayAggregate[],
+  events: readonly SensorEvent[],
+  baselineStart: number,
+  peer: PeerBaseline | null,
+  now: number,
+  cfg: AnalysisConfig,
 ): Finding[] {
   const out: Finding[] = [];
-  const eventItems = (kind: SensorEventKind): EvidenceItem[] => events.filter((e) => e.kind === kind)
-    .map((e) => ({ at: e.runStartMs, scope: 'run' as const, metric: kind, value: e.count, expected: 0, z: null }));
+  const eventItems = (kind: SensorEventKind): EvidenceItem[] =>
+    events
+      .filter((e) => e.kind === kind)
+      .map((e) => ({ at: e.runStartMs, scope: 'run' as const, metric: kind, value: e.count, expected: 0, z: null }));
   const subs: [SensorSubKind, EvidenceItem[]][] = [
     ['out-of-range', eventItems('out-of-range')],
     ['implausible-rate', eventItems('implausible-rate')],
@@ -95,7 +143,13 @@ export function sensorFaultFindings(
   return out;
 }
 
-function biasFinding(runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig): Finding | null {
+function biasFinding(
+  runs: readonly RunMetrics[],
+  baselineStart: number,
+  peer: PeerBaseline | null,
+  now: number,
+  cfg: AnalysisConfig,
+): Finding | null {
   const soaks = runs.filter((r) => r.coldSoakOffsetC !== null && !r.stuck && r.startMs <= now);
   if (soaks.length < BIAS_MIN_STARTS) return null;
   const baselineEnd = baselineStart + cfg.baselineDays * DAY_MS;
@@ -104,7 +158,8 @@ function biasFinding(runs: readonly RunMetrics[], baselineStart: number, peer: P
   const peerRef = peerModel?.coefficients[0] ?? 0;
   const ownRef = now >= baselineEnd && own.length >= BIAS_MIN_STARTS ? median(own) : null;
   // With neither an own nor a peer reference, residual heat after a soak is unknown: be wider.
-  const tolerance = cfg.sensorBiasToleranceC * (ownRef === null && peerModel === null ? UNREFERENCED_TOLERANCE_FACTOR : 1);
+  const tolerance =
+    cfg.sensorBiasToleranceC * (ownRef === null && peerModel === null ? UNREFERENCED_TOLERANCE_FACTOR : 1);
   // An own baseline that already disagrees with the peers was learned on a biased sensor.
   const reference = ownRef !== null && Math.abs(ownRef - peerRef) < cfg.sensorBiasToleranceC ? ownRef : peerRef;
   const recent = soaks.slice(-BIAS_RECENT_STARTS);
@@ -112,11 +167,28 @@ function biasFinding(runs: readonly RunMetrics[], baselineStart: number, peer: P
   const shift = median(recent.map((r) => r.coldSoakOffsetC! - reference));
   if (Math.abs(shift) < tolerance) return null;
   let first = soaks.length - 1;
-  while (first > 0 && Math.sign(soaks[first - 1]!.coldSoakOffsetC! - reference) === Math.sign(shift)
-    && Math.abs(soaks[first - 1]!.coldSoakOffsetC! - reference) >= tolerance / 2) first--;
+  while (
+    first > 0 &&
+    Math.sign(soaks[first - 1]!.coldSoakOffsetC! - reference) === Math.sign(shift) &&
+    Math.abs(soaks[first - 1]!.coldSoakOffsetC! - reference) >= tolerance / 2
+  )
+    first--;
   const evidence = soaks.slice(first).map((r) => ({
-    at: r.startMs, scope: 'run' as const, metric: 'coldSoakOffsetC', value: round(r.coldSoakOffsetC!), expected: round(reference), z: null,
+    at: r.startMs,
+    scope: 'run' as const,
+    metric: 'coldSoakOffsetC',
+    value: round(r.coldSoakOffsetC!),
+    expected: round(reference),
+    z: null,
   }));
-  return sensorFinding('bias', baselineStart, soaks[first]!.startMs, recent[recent.length - 1]!.startMs,
-    0.4 + 0.1 * recent.length + 0.02 * Math.abs(shift), true, { offsetShiftC: round(shift), startsJudged: recent.length }, evidence);
+  return sensorFinding(
+    'bias',
+    baselineStart,
+    soaks[first]!.startMs,
+    recent[recent.length - 1]!.startMs,
+    0.4 + 0.1 * recent.length + 0.02 * Math.abs(shift),
+    true,
+    { offsetShiftC: round(shift), startsJudged: recent.length },
+    evidence,
+  );
 }

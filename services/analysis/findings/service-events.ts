@@ -2,8 +2,15 @@ import type { FindingKind } from './finding.js';
 
 /** The repairs and inspections a planner records, named as the workshop says them. */
 export const SERVICE_EVENT_KINDS = [
-  'thermostat-replaced', 'radiator-cleaned', 'fan-repaired', 'coolant-refilled', 'sensor-replaced',
-  'pressure-cap-replaced', 'water-pump-replaced', 'coolant-mix-corrected', 'inspected-no-fault-found',
+  'thermostat-replaced',
+  'radiator-cleaned',
+  'fan-repaired',
+  'coolant-refilled',
+  'sensor-replaced',
+  'pressure-cap-replaced',
+  'water-pump-replaced',
+  'coolant-mix-corrected',
+  'inspected-no-fault-found',
 ] as const;
 
 export type ServiceEventKind = (typeof SERVICE_EVENT_KINDS)[number];
@@ -46,7 +53,12 @@ export function resolvedKinds(kind: ServiceEventKind): readonly FindingKind[] {
  * Start of the current baseline for a finding kind: the latest related service event at or
  * before `now`, else `historyStartMs`.
  */
-export function baselineStartMs(kind: FindingKind, events: readonly ServiceEvent[], now: number, historyStartMs: number): number {
+export function baselineStartMs(
+  kind: FindingKind,
+  events: readonly ServiceEvent[],
+  now: number,
+  historyStartMs: number,
+): number {
   let start = historyStartMs;
   for (const e of events) {
     if (e.at <= now && e.at > start && RESOLVES[e.kind].includes(kind)) start = e.at;

@@ -14,7 +14,11 @@ import { detectRunShift, runShiftFinding } from './run-shift-finding.js';
  * two runs at `slowWarmupRepeatZ` or beyond). The classic sign of a thermostat stuck open (P0128).
  */
 export function slowWarmupFinding(
-  runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
+  runs: readonly RunMetrics[],
+  baselineStart: number,
+  peer: PeerBaseline | null,
+  now: number,
+  cfg: AnalysisConfig,
 ): Finding | null {
   const warm = scoreFeature(runs, WARMUP_TIME, baselineStart, peer, now, cfg, cfg.warmupLogScaleFloor);
   const plateau = scoreFeature(runs, PLATEAU, baselineStart, peer, now, cfg, cfg.coolScaleFloorC);
@@ -27,17 +31,23 @@ export function slowWarmupFinding(
   const target = runs[runs.length - 1]?.warmupTargetC ?? 0;
   const parts: string[] = [];
   if (cold.length > 0) {
-    parts.push(`${cold.length} cold start${cold.length > 1 ? 's' : ''} warmed up slower than expected`
-      + (neverReached > 0 ? ` (${neverReached} never reached ${round(target, 0)} °C)` : ''));
+    parts.push(
+      `${cold.length} cold start${cold.length > 1 ? 's' : ''} warmed up slower than expected` +
+        (neverReached > 0 ? ` (${neverReached} never reached ${round(target, 0)} °C)` : ''),
+    );
   }
   if (plateauDrops.length > 0) {
     const drop = [...plateauDrops].sort((a, b) => a - b)[plateauDrops.length >> 1]!;
-    parts.push(`the engine ran about ${round(drop, 1)} °C cooler than usual on ${plateauDrops.length} trip${plateauDrops.length > 1 ? 's' : ''}`);
+    parts.push(
+      `the engine ran about ${round(drop, 1)} °C cooler than usual on ${plateauDrops.length} trip${plateauDrops.length > 1 ? 's' : ''}`,
+    );
   }
   return runShiftFinding('slow-warmup', shift, baselineStart, warm.source ?? plateau.source ?? 'none', {
     summary: `Since ${utcDay(shift.firstSeen)} ${parts.join(' and ')}, which points to a thermostat stuck open.`,
-    recommendedCheck: 'Check that the thermostat closes (a stuck-open thermostat is the usual cause) and compare the coolant '
-      + 'temperature reading with a reference thermometer on a cold engine. ' + SAFETY_CAUTION,
+    recommendedCheck:
+      'Check that the thermostat closes (a stuck-open thermostat is the usual cause) and compare the coolant ' +
+      'temperature reading with a reference thermometer on a cold engine. ' +
+      SAFETY_CAUTION,
     troubleCode: 'P0128',
     severity: neverReached * 2 >= Math.max(cold.length, 1) && cold.length >= 2 ? 'warning' : undefined,
   });
@@ -49,20 +59,34 @@ export function slowWarmupFinding(
  * sticking thermostat that opens late.
  */
 export function overshootFinding(
-  runs: readonly RunMetrics[], baselineStart: number, peer: PeerBaseline | null, now: number, cfg: AnalysisConfig,
+  runs: readonly RunMetrics[],
+  baselineStart: number,
+  peer: PeerBaseline | null,
+  now: number,
+  cfg: AnalysisConfig,
 ): Finding | null {
   const scored = scoreFeature(runs, OVERSHOOT, baselineStart, peer, now, cfg, cfg.overshootScaleFloorC);
-  const shift = detectRunShift(scored.scored, now, cfg, cfg.overshootCusumH, cfg.overshootRepeatZ, cfg.overshootMinShiftMedianZ);
+  const shift = detectRunShift(
+    scored.scored,
+    now,
+    cfg,
+    cfg.overshootCusumH,
+    cfg.overshootRepeatZ,
+    cfg.overshootMinShiftMedianZ,
+  );
   if (!shift) return null;
   const above = (xs: number[]) => xs.sort((a, b) => a - b)[xs.length >> 1] ?? 0;
   const typical = above(shift.supporting.map((s) => s.value - s.run.thermostatOpenC));
   const normal = above(shift.supporting.map((s) => s.expected - s.run.thermostatOpenC));
   const overshoots = shift.supporting.map((s) => s.run.overshootC).filter((v): v is number => v !== null);
   return runShiftFinding('overshoot', shift, baselineStart, scored.source ?? 'none', {
-    summary: `Since ${utcDay(shift.firstSeen)} the coolant climbs about ${round(typical, 0)} °C past the thermostat's rating before it `
-      + `takes control (usually ${round(normal, 0)} °C) and then drops back by about ${round(above(overshoots), 0)} °C, a sign of a sticking thermostat.`,
-    recommendedCheck: 'Check the thermostat for sticking (replace it if it opens late) and bleed any trapped air from the '
-      + 'cooling system. ' + SAFETY_CAUTION,
+    summary:
+      `Since ${utcDay(shift.firstSeen)} the coolant climbs about ${round(typical, 0)} °C past the thermostat's rating before it ` +
+      `takes control (usually ${round(normal, 0)} °C) and then drops back by about ${round(above(overshoots), 0)} °C, a sign of a sticking thermostat.`,
+    recommendedCheck:
+      'Check the thermostat for sticking (replace it if it opens late) and bleed any trapped air from the ' +
+      'cooling system. ' +
+      SAFETY_CAUTION,
     troubleCode: null,
   });
 }

@@ -10,6 +10,7 @@ export const ISA_TROPOSPHERE_TOP_M = 11_000;
  * @example atmosphericPressureAtAltitudeKpa(1000) // 89.87
  */
 export function atmosphericPressureAtAltitudeKpa(altitudeM: number): number {
-  if (!(altitudeM >= -500 && altitudeM <= ISA_TROPOSPHERE_TOP_M)) throw new RangeError(`altitude must be −500 to ${ISA_TROPOSPHERE_TOP_M} m, got ${altitudeM}`);
+  if (!(altitudeM >= -500 && altitudeM <= ISA_TROPOSPHERE_TOP_M))
+    throw new RangeError(`altitude must be −500 to ${ISA_TROPOSPHERE_TOP_M} m, got ${altitudeM}`);
   return SEA_LEVEL_PRESSURE_KPA * (1 - ISA_LAPSE_PER_M * altitudeM) ** ISA_EXPONENT;
 }

@@ -4,7 +4,13 @@
  * linearly interpolated between table rows.
  */
 const MELINDER_EG_BY_MASS: ReadonlyArray<readonly [percent: number, freezeC: number]> = [
-  [0, 0], [10, -3.4], [20, -7.9], [30, -14.6], [40, -23.8], [50, -36.0], [60, -51.2],
+  [0, 0],
+  [10, -3.4],
+  [20, -7.9],
+  [30, -14.6],
+  [40, -23.8],
+  [50, -36.0],
+  [60, -51.2],
 ];
 /** Richest mix the table covers, % by mass; beyond it protection falls again. */
 export const FREEZE_TABLE_MAX_GLYCOL_PERCENT = 60;

@@ -62,23 +62,42 @@ export function convertTemperatures<T>(value: T, unit: TemperatureUnit, texts: R
     if (typeof v === 'number') return convertNumber(name, v, unit);
     if (typeof v === 'string') return texts.has(name) ? convertTemperatureText(v, unit) : v;
     if (Array.isArray(v)) {
-      if (name === 'points') return v.map((p) => (Array.isArray(p) && typeof p[1] === 'number' ? [p[0], temperatureIn(p[1], unit)] : walk(p, '')));
+      if (name === 'points')
+        return v.map((p) =>
+          Array.isArray(p) && typeof p[1] === 'number' ? [p[0], temperatureIn(p[1], unit)] : walk(p, ''),
+        );
       return v.map((x) => walk(x, name));
     }
     if (v === null || typeof v !== 'object') return v;
     const o = v as Record<string, unknown>;
     const metric = typeof o.metric === 'string' ? o.metric : null;
-    return Object.fromEntries(Object.entries(o).map(([k, x]) => [k,
-      metric !== null && (k === 'value' || k === 'expected') && typeof x === 'number' ? convertNumber(metric, x, unit) : walk(x, k)]));
+    return Object.fromEntries(
+      Object.entries(o).map(([k, x]) => [
+        k,
+        metric !== null && (k === 'value' || k === 'expected') && typeof x === 'number'
+          ? convertNumber(metric, x, unit)
+          : walk(x, k),
+      ]),
+    );
   };
   return walk(value, '') as T;
 }
 
 /** Fields of findings and of the report that hold sentences with °C figures (converted with the numbers). */
-export const TEMPERATURE_SENTENCE_FIELDS: ReadonlySet<string> = new Set(['summary', 'recommendedCheck', 'profileNote', 'why', 'check', 'checks', 'headline', 'openFinding']);
+export const TEMPERATURE_SENTENCE_FIELDS: ReadonlySet<string> = new Set([
+  'summary',
+  'recommendedCheck',
+  'profileNote',
+  'why',
+  'check',
+  'checks',
+  'headline',
+  'openFinding',
+]);
 
 /** Words after "N °C" that make it a difference ("3 °C above", "2 °C a day"). */
-const DIFFERENCE_AFTER = /^\s*(?:a day|per day|\/day|above|below|over|past|warmer|cooler|hotter|colder|higher|lower|more|less)\b/;
+const DIFFERENCE_AFTER =
+  /^\s*(?:a day|per day|\/day|above|below|over|past|warmer|cooler|hotter|colder|higher|lower|more|less)\b/;
 /** Words before it that do ("within 3 °C", "by about 5 °C"). */
 const DIFFERENCE_BEFORE = /(?:within|by|by about|rising|falling)\s+$/;
 
@@ -90,12 +109,15 @@ const DIFFERENCE_BEFORE = /(?:within|by|by about|rising|falling)\s+$/;
  */
 export function convertTemperatureText(text: string, unit: TemperatureUnit): string {
   if (unit === 'C') return text;
-  return text.replace(/(-?\d+(?:\.(\d+))?)\s?°C/g, (match, num: string, decimals: string | undefined, offset: number) => {
-    const after = text.slice(offset + match.length);
-    const before = text.slice(Math.max(0, offset - 20), offset);
-    const difference = DIFFERENCE_AFTER.test(after) || DIFFERENCE_BEFORE.test(before);
-    const celsius = Number(num);
-    const f = difference ? (celsius * 9) / 5 : (celsius * 9) / 5 + 32;
-    return `${roundTo(f, decimals?.length ?? 0)} °F`;
-  });
+  return text.replace(
+    /(-?\d+(?:\.(\d+))?)\s?°C/g,
+    (match, num: string, decimals: string | undefined, offset: number) => {
+      const after = text.slice(offset + match.length);
+      const before = text.slice(Math.max(0, offset - 20), offset);
+      const difference = DIFFERENCE_AFTER.test(after) || DIFFERENCE_BEFORE.test(before);
+      const celsius = Number(num);
+      const f = difference ? (celsius * 9) / 5 : (celsius * 9) / 5 + 32;
+      return `${roundTo(f, decimals?.length ?? 0)} °F`;
+    },
+  );
 }

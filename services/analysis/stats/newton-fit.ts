@@ -38,8 +38,15 @@ export function fitNewtonWarmup(tS: ArrayLike<number>, tempC: ArrayLike<number>)
   // every cold start, and allocating per sample and per trial cost half of analyseSamples'
   // time on simulated fleets (measured with a CPU profile).
   for (; iterations < MAX_ITERATIONS; iterations++) {
-    let a00 = 0, a01 = 0, a02 = 0, a11 = 0, a12 = 0, a22 = 0;
-    let g0 = 0, g1 = 0, g2 = 0;
+    let a00 = 0,
+      a01 = 0,
+      a02 = 0,
+      a11 = 0,
+      a12 = 0,
+      a22 = 0;
+    let g0 = 0,
+      g1 = 0,
+      g2 = 0;
     const rise = pInf - p0;
     const tau2 = pTau * pTau;
     for (let i = 0; i < n; i++) {
@@ -61,7 +68,17 @@ export function fitNewtonWarmup(tS: ArrayLike<number>, tempC: ArrayLike<number>)
     }
     let improved = false;
     while (lambda < 1e12) {
-      const step = solve3(a00 * (1 + lambda) + 1e-12, a01, a02, a11 * (1 + lambda) + 1e-12, a12, a22 * (1 + lambda) + 1e-12, g0, g1, g2);
+      const step = solve3(
+        a00 * (1 + lambda) + 1e-12,
+        a01,
+        a02,
+        a11 * (1 + lambda) + 1e-12,
+        a12,
+        a22 * (1 + lambda) + 1e-12,
+        g0,
+        g1,
+        g2,
+      );
       if (!step) {
         lambda *= 10;
         continue;
@@ -94,7 +111,17 @@ const STEP: [number, number, number] = [0, 0, 0];
  * elimination with partial pivoting (as `solveLinearSystem`), into a reused array; null when
  * singular to working precision. The caller reads the result before the next call.
  */
-function solve3(a00: number, a01: number, a02: number, a11: number, a12: number, a22: number, g0: number, g1: number, g2: number): [number, number, number] | null {
+function solve3(
+  a00: number,
+  a01: number,
+  a02: number,
+  a11: number,
+  a12: number,
+  a22: number,
+  g0: number,
+  g1: number,
+  g2: number,
+): [number, number, number] | null {
   const m = [a00, a01, a02, a01, a11, a12, a02, a12, a22];
   const x = STEP;
   x[0] = g0;

@@ -17,8 +17,14 @@ export interface StepResponseMetrics {
  * @example stepResponseMetrics([0, 1, 2, 3], [0, 1.2, 0.95, 1], 0, 1, 0.1).percentOvershoot // 20
  */
 export function stepResponseMetrics(
-  t: ArrayLike<number>, y: ArrayLike<number>, initial: number, final: number, band: number,
-  from = 0, to = y.length, skip?: (i: number) => boolean,
+  t: ArrayLike<number>,
+  y: ArrayLike<number>,
+  initial: number,
+  final: number,
+  band: number,
+  from = 0,
+  to = y.length,
+  skip?: (i: number) => boolean,
 ): StepResponseMetrics {
   const up = final >= initial;
   let peak = up ? -Infinity : Infinity;

@@ -15,13 +15,37 @@ const BOILING_C = 128;
 function day(i: number, peakC: number, overheatEpisodes: number): DayAggregate {
   const dayStartMs = START + i * DAY_MS;
   return {
-    day: utcDay(dayStartMs), dayStartMs, firstSampleMs: dayStartMs + 6 * 3_600_000, lastSampleMs: dayStartMs + 14 * 3_600_000,
-    sampleCount: 2880, engineHours: 6, runCount: 8, coldStartCount: 1,
-    peakCoolantC: peakC, rawMaxCoolantC: peakC, minCoolantC: 12, peakMovingCoolantC: peakC, peakIdleCoolantC: peakC - 4,
-    warmMedianCoolantC: RATING_C + 1, warmP95CoolantC: RATING_C + 3, hotSeconds: 60 * overheatEpisodes,
-    overheatEpisodes, overheatLongestS: overheatEpisodes > 0 ? 60 : 0, overheatPeakC: overheatEpisodes > 0 ? peakC : null,
-    overheatIdleShare: 0, ambientMeanC: 15, ambientMinC: 10, ambientMaxC: 20, meanSpeedKph: 35, meanRpm: 1500,
-    idleFraction: 0.3, rateFlagCount: 0, outOfRangeCount: 0, dropoutCount: 0, missingS: 0, missingFraction: 0,
+    day: utcDay(dayStartMs),
+    dayStartMs,
+    firstSampleMs: dayStartMs + 6 * 3_600_000,
+    lastSampleMs: dayStartMs + 14 * 3_600_000,
+    sampleCount: 2880,
+    engineHours: 6,
+    runCount: 8,
+    coldStartCount: 1,
+    peakCoolantC: peakC,
+    rawMaxCoolantC: peakC,
+    minCoolantC: 12,
+    peakMovingCoolantC: peakC,
+    peakIdleCoolantC: peakC - 4,
+    warmMedianCoolantC: RATING_C + 1,
+    warmP95CoolantC: RATING_C + 3,
+    hotSeconds: 60 * overheatEpisodes,
+    overheatEpisodes,
+    overheatLongestS: overheatEpisodes > 0 ? 60 : 0,
+    overheatPeakC: overheatEpisodes > 0 ? peakC : null,
+    overheatIdleShare: 0,
+    ambientMeanC: 15,
+    ambientMinC: 10,
+    ambientMaxC: 20,
+    meanSpeedKph: 35,
+    meanRpm: 1500,
+    idleFraction: 0.3,
+    rateFlagCount: 0,
+    outOfRangeCount: 0,
+    dropoutCount: 0,
+    missingS: 0,
+    missingFraction: 0,
   };
 }
 
@@ -46,16 +70,19 @@ describe('overheating trend', () => {
     const days = risingPeaks(99).map((d, i) => (i === 2 ? day(2, d.peakCoolantC!, 1) : d));
     expect(overheatingTrendFinding(days, START, BOILING_C, now, CFG)).toBeNull();
     // With a window reaching back to that early episode the same rise is reported.
-    expect(overheatingTrendFinding(days, START, BOILING_C, now, { ...CFG, trendHotWindowDays: 30 })?.kind).toBe('overheating-trend');
+    expect(overheatingTrendFinding(days, START, BOILING_C, now, { ...CFG, trendHotWindowDays: 30 })?.kind).toBe(
+      'overheating-trend',
+    );
   });
 });
 
 describe('overheating trend from the time spent above the hot threshold', () => {
   // Peaks stay flat (the fan still pulls them back), but the time above the hot threshold grows.
-  const days = (hotS: number, from = 12) => Array.from({ length: 16 }, (_, i) => {
-    const d = day(i, RATING_C + 8 + ((i * 7) % 3) - 1, i >= from ? 3 : 0);
-    return { ...d, hotSeconds: i >= from ? hotS : 0 };
-  });
+  const days = (hotS: number, from = 12) =>
+    Array.from({ length: 16 }, (_, i) => {
+      const d = day(i, RATING_C + 8 + ((i * 7) % 3) - 1, i >= from ? 3 : 0);
+      return { ...d, hotSeconds: i >= from ? hotS : 0 };
+    });
   const now = START + 16 * DAY_MS;
 
   it('reports days with minutes above the hot threshold that the baseline days never had', () => {
@@ -69,7 +96,9 @@ describe('overheating trend from the time spent above the hot threshold', () => 
     // Six days at 1.5 σ: the CUSUM passes its threshold, the median rise stays below the bound.
     const small = days(CFG.hotTimeMinRiseS - 30, 10);
     expect(overheatingTrendFinding(small, START, BOILING_C, now, CFG)).toBeNull();
-    expect(overheatingTrendFinding(small, START, BOILING_C, now, { ...CFG, hotTimeMinRiseS: 60 })?.metrics.hotTimeAlarm).toBe(1);
+    expect(
+      overheatingTrendFinding(small, START, BOILING_C, now, { ...CFG, hotTimeMinRiseS: 60 })?.metrics.hotTimeAlarm,
+    ).toBe(1);
   });
 });
 
@@ -78,11 +107,17 @@ describe('overheating trend from the median coolant temperature while driving', 
   // driving median follows the ambient (80 + 0.3 °C per °C here); from day 20 a radiator losing
   // capacity adds 3 °C. Peaks stay flat and the time above the hot threshold stays short.
   const ambientOf = (i: number) => (i < 10 ? 30 + (i % 6) : 22 + (i % 4));
-  const days = (faultFrom: number) => Array.from({ length: 26 }, (_, i) => {
-    const ambient = ambientOf(i);
-    const d = day(i, RATING_C + 8 + ((i * 7) % 3) - 1, i >= faultFrom ? 1 : 0);
-    return { ...d, ambientMaxC: ambient, ambientMeanC: ambient - 5, warmMedianCoolantC: 80 + 0.3 * ambient + (i >= faultFrom ? 3 : 0) };
-  });
+  const days = (faultFrom: number) =>
+    Array.from({ length: 26 }, (_, i) => {
+      const ambient = ambientOf(i);
+      const d = day(i, RATING_C + 8 + ((i * 7) % 3) - 1, i >= faultFrom ? 1 : 0);
+      return {
+        ...d,
+        ambientMaxC: ambient,
+        ambientMeanC: ambient - 5,
+        warmMedianCoolantC: 80 + 0.3 * ambient + (i >= faultFrom ? 3 : 0),
+      };
+    });
   const now = START + 26 * DAY_MS;
 
   it('reports a rise against the days before, the cooler ones included', () => {
@@ -91,7 +126,9 @@ describe('overheating trend from the median coolant temperature while driving', 
     expect(f?.metrics.warmMedianRiseC).toBeCloseTo(3, 1);
     expect(f?.metrics.hotTimeAlarm).toBe(0);
     expect(f?.firstSeen).toBe(START + 20 * DAY_MS);
-    expect(f?.summary).toContain('while driving the coolant runs about 3 °C warmer than on earlier days in similar weather');
+    expect(f?.summary).toContain(
+      'while driving the coolant runs about 3 °C warmer than on earlier days in similar weather',
+    );
   });
 
   it('misses it against the first baseline days alone, whose hotter weather it cannot reach', () => {
@@ -109,9 +146,15 @@ describe('overheating trend from the median coolant temperature while driving', 
 });
 
 describe('plateau feature', () => {
-  const run = (idleFraction: number) => ({
-    plateauC: 84, excludedForSensor: false, ambientMeanC: 2, idleFraction, meanSpeedKph: 30, thermostatOpenC: 88,
-  }) as RunMetrics;
+  const run = (idleFraction: number) =>
+    ({
+      plateauC: 84,
+      excludedForSensor: false,
+      ambientMeanC: 2,
+      idleFraction,
+      meanSpeedKph: 30,
+      thermostatOpenC: 88,
+    }) as RunMetrics;
 
   it('judges runs in steady driving and leaves stop-start runs that idle more than plateauMaxIdleFraction unjudged', () => {
     expect(PLATEAU.extract(run(CFG.plateauMaxIdleFraction - 0.1), CFG)?.y).toBe(-4);

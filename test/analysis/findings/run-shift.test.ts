@@ -22,15 +22,30 @@ describe('warm-up scoring', () => {
     for (let d = 0; d < 15; d++) {
       const cold = d === 14;
       const ambientC = cold ? -5 : 10 + 2 * Math.sin(d);
-      drives.push(syntheticDrive({
-        startMs: START + d * DAY_MS + 6 * 3_600_000, ambientC, startCoolantC: ambientC, quantise: true,
-        tauS: cold ? 1000 : 500 + 20 * Math.cos(d), tInfC: 115, regulatedC: 90,
-      }));
+      drives.push(
+        syntheticDrive({
+          startMs: START + d * DAY_MS + 6 * 3_600_000,
+          ambientC,
+          startCoolantC: ambientC,
+          quantise: true,
+          tauS: cold ? 1000 : 500 + 20 * Math.cos(d),
+          tInfC: 115,
+          regulatedC: 90,
+        }),
+      );
     }
     const { runs } = analyseSamples({ ...concatSamples(drives), nowMs: START + 15 * DAY_MS }, PROFILE, CFG);
     const coldRun = runs.find((r) => r.startMs >= START + 14 * DAY_MS)!;
     expect(coldRun.timeToTargetS).not.toBeNull();
-    const { scored, source } = scoreFeature(runs, WARMUP_TIME, START, null, START + 15 * DAY_MS, CFG, CFG.warmupLogScaleFloor);
+    const { scored, source } = scoreFeature(
+      runs,
+      WARMUP_TIME,
+      START,
+      null,
+      START + 15 * DAY_MS,
+      CFG,
+      CFG.warmupLogScaleFloor,
+    );
     expect(source).toBe('own');
     expect(scored.length).toBeGreaterThan(5);
     expect(scored.some((s) => s.run.startMs === coldRun.startMs)).toBe(false);
@@ -39,7 +54,9 @@ describe('warm-up scoring', () => {
   it('lets the log start deficit extrapolate while clamping the other predictors to the fitted range', () => {
     // y = 2 + 1·x0 + 0.5·x1 exactly on a small grid; outside the grid only x0 may extrapolate.
     const rows: ModelRow[] = [];
-    for (let a = 0; a <= 4; a++) for (let b = 0; b <= 4; b++) rows.push({ x: [4 + a * 0.05, b], y: 2 + (4 + a * 0.05) + 0.5 * b, censored: false });
+    for (let a = 0; a <= 4; a++)
+      for (let b = 0; b <= 4; b++)
+        rows.push({ x: [4 + a * 0.05, b], y: 2 + (4 + a * 0.05) + 0.5 * b, censored: false });
     const model = fitBaseline(rows)!;
     const row: ModelRow = { x: [4.5, 10], y: 0, censored: false };
     expect(expected(model, row, [true, false])).toBeCloseTo(2 + 4.5 + 0.5 * 4, 2);
@@ -72,11 +89,24 @@ describe('run shift', () => {
     const scored: ScoredRun[] = [];
     for (let d = 0; d < 22; d++) {
       const z = d >= 10 ? 1.7 : 0;
-      scored.push({ run: { startMs: START + d * DAY_MS + 6 * 3_600_000 } as RunMetrics, feature: OVERSHOOT, z, value: 92 + 3.5 * z, expected: 92 });
+      scored.push({
+        run: { startMs: START + d * DAY_MS + 6 * 3_600_000 } as RunMetrics,
+        feature: OVERSHOOT,
+        z,
+        value: 92 + 3.5 * z,
+        expected: 92,
+      });
     }
     const now = START + 22 * DAY_MS;
     expect(detectRunShift(scored, now, CFG, CFG.overshootCusumH, CFG.overshootRepeatZ)).toBeNull();
-    const shift = detectRunShift(scored, now, CFG, CFG.overshootCusumH, CFG.overshootRepeatZ, CFG.overshootMinShiftMedianZ);
+    const shift = detectRunShift(
+      scored,
+      now,
+      CFG,
+      CFG.overshootCusumH,
+      CFG.overshootRepeatZ,
+      CFG.overshootMinShiftMedianZ,
+    );
     expect(shift?.firstSeen).toBe(START + 10 * DAY_MS + 6 * 3_600_000);
   });
 });
@@ -86,23 +116,41 @@ describe('own baseline with too few runs for its regression', () => {
   // the time by start deficit, ambient and idling, has 10 rows for 4 coefficients, so it falls
   // back to the median and expects the same warm-up on every morning.
   const ambientOn = (i: number) => -5 + ((i * 7) % 41);
-  const drive = (d: number, hour: number, ambientC: number) => syntheticDrive({
-    startMs: START + d * DAY_MS + hour * 3_600_000, ambientC, startCoolantC: ambientC, quantise: true,
-    tauS: 500, tInfC: 95, regulatedC: 90,
-  });
+  const drive = (d: number, hour: number, ambientC: number) =>
+    syntheticDrive({
+      startMs: START + d * DAY_MS + hour * 3_600_000,
+      ambientC,
+      startCoolantC: ambientC,
+      quantise: true,
+      tauS: 500,
+      tInfC: 95,
+      regulatedC: 90,
+    });
   const now = START + 14 * DAY_MS;
   // The bus: mornings between −5 and 35 °C; day 13 is the coldest.
-  const busRuns = analyseSamples({
-    ...concatSamples(Array.from({ length: 14 }, (_, d) => drive(d, 6, d === 13 ? -5 : ambientOn(d)))), nowMs: now,
-  }, PROFILE, CFG).runs;
+  const busRuns = analyseSamples(
+    {
+      ...concatSamples(Array.from({ length: 14 }, (_, d) => drive(d, 6, d === 13 ? -5 : ambientOn(d)))),
+      nowMs: now,
+    },
+    PROFILE,
+    CFG,
+  ).runs;
   // Its engine family's other vehicles: four cold starts a day in the same weather range.
-  const peerRuns = analyseSamples({
-    ...concatSamples(Array.from({ length: 14 * 4 }, (_, i) => drive(Math.floor(i / 4), 6 + 4 * (i % 4), ambientOn(i + 3)))), nowMs: now,
-  }, PROFILE, CFG).runs;
+  const peerRuns = analyseSamples(
+    {
+      ...concatSamples(
+        Array.from({ length: 14 * 4 }, (_, i) => drive(Math.floor(i / 4), 6 + 4 * (i % 4), ambientOn(i + 3))),
+      ),
+      nowMs: now,
+    },
+    PROFILE,
+    CFG,
+  ).runs;
   const peer = buildPeerBaseline(peerRuns, PROFILE.engineFamily, 3);
   const coldZ = (s: ReturnType<typeof scoreFeature>) => s.scored.find((r) => r.run.startMs >= START + 13 * DAY_MS)!.z;
 
-  it('gives way to the peers\' regression, which expects a longer warm-up on a colder morning', () => {
+  it("gives way to the peers' regression, which expects a longer warm-up on a colder morning", () => {
     expect(peer.models.warmupTime?.medianOnly).toBe(false);
     const alone = scoreFeature(busRuns, WARMUP_TIME, START, null, now, CFG, CFG.warmupLogScaleFloor);
     const withPeers = scoreFeature(busRuns, WARMUP_TIME, START, peer, now, CFG, CFG.warmupLogScaleFloor);
@@ -114,16 +162,27 @@ describe('own baseline with too few runs for its regression', () => {
   });
 
   it('keeps the own baseline once it has the runs for its regression', () => {
-    const busyRuns = analyseSamples({
-      ...concatSamples(Array.from({ length: 14 * 4 }, (_, i) => drive(Math.floor(i / 4), 6 + 4 * (i % 4), ambientOn(i)))), nowMs: now,
-    }, PROFILE, CFG).runs;
+    const busyRuns = analyseSamples(
+      {
+        ...concatSamples(
+          Array.from({ length: 14 * 4 }, (_, i) => drive(Math.floor(i / 4), 6 + 4 * (i % 4), ambientOn(i))),
+        ),
+        nowMs: now,
+      },
+      PROFILE,
+      CFG,
+    ).runs;
     expect(scoreFeature(busyRuns, WARMUP_TIME, START, peer, now, CFG, CFG.warmupLogScaleFloor).source).toBe('own');
   });
 });
 
 describe('baseline model with non-negative slopes', () => {
   // y = 90 − 0.4·x plus a little alternating noise: a regression finds the negative slope.
-  const rows: ModelRow[] = Array.from({ length: 12 }, (_, i) => ({ x: [25 + i], y: 90 - 0.4 * (25 + i) + (i % 2 ? 0.2 : -0.2), censored: false }));
+  const rows: ModelRow[] = Array.from({ length: 12 }, (_, i) => ({
+    x: [25 + i],
+    y: 90 - 0.4 * (25 + i) + (i % 2 ? 0.2 : -0.2),
+    censored: false,
+  }));
 
   it('falls back to the median when a slope comes out negative', () => {
     expect(fitBaseline(rows)!.coefficients[1]).toBeCloseTo(-0.4, 1);
