@@ -200,9 +200,17 @@ export interface AnalysisConfig {
   // --- physics (step 6) ---
   /** Local atmospheric pressure, kPa (ISO 2533 sea level 101.325). */
   atmosphericPressureKpa: number;
-  /** Boil margin below this raises a warning, °C. Common practice. */
+  /**
+   * Boil margin below this on `boilMarginMinDays` days of a week raises a warning, °C. The
+   * smallest effect that counts: a workshop acts on a system running within a few degrees of
+   * boiling; 10 °C (the old figure) is where healthy heavy engines climb in heat (115–119 °C
+   * against 128.7 °C at a 100 kPa cap with 50 % glycol: issue 14's field fleet, 4 warnings on
+   * healthy vehicles). Tuned on tuning seeds 1000–1001.
+   */
   boilMarginWarnC: number;
-  /** Boil margin below this is critical, °C. */
+  /** Days within `boilMarginWarnC` in the week needed for a warning (persistence), days. */
+  boilMarginMinDays: number;
+  /** Boil margin below this is critical, and raises the finding on a single day, °C. */
   boilMarginCriticalC: number;
   /** Freeze-risk when the minimum ambient comes within this of the freezing point, °C. */
   freezeMarginC: number;
@@ -304,7 +312,8 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   sensorMinDays: 2,
 
   atmosphericPressureKpa: 101.325,
-  boilMarginWarnC: 10,
+  boilMarginWarnC: 5,
+  boilMarginMinDays: 2,
   boilMarginCriticalC: 4,
   freezeMarginC: 3,
 
