@@ -113,6 +113,20 @@ export interface AnalysisConfig {
    */
   trendHotWindowDays: number;
   /**
+   * Days with an overheating episode within `trendHotWindowDays` the finding needs (persistence),
+   * days. Tuned on tuning seeds: 1 raised trends on healthy heavy vehicles after one hot climb.
+   */
+  trendHotMinDays: number;
+  /**
+   * Smallest effects that make an overheating trend a warning (else advisory): peaks this much
+   * above what the weather explains (median since the change), °C ...
+   */
+  trendWarnRiseC: number;
+  /** ... or this many more seconds a day above the hot threshold, s ... */
+  trendWarnHotRiseS: number;
+  /** ... or a driving median this much warmer, °C. Below all three a warning needs a median z of 3. */
+  trendWarnWarmRiseC: number;
+  /**
    * Smallest residual scale for the daily time above the hot threshold, s: healthy engines
    * spend none or a minute or two there on the hottest days. Tuned: 45–75 s all find 6 of 6
    * radiator foulings on seed 7 (median 10.2–10.9 d).
@@ -285,6 +299,10 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   trendMinSlopeCPerDay: 0.15,
   trendMinRiseC: 2.5,
   trendHotWindowDays: 7,
+  trendHotMinDays: 2,
+  trendWarnRiseC: 5,
+  trendWarnHotRiseS: 600,
+  trendWarnWarmRiseC: 3,
   hotTimeScaleFloorS: 60,
   hotTimeMinRiseS: 120,
   warmMedianScaleFloorC: 1.25,
