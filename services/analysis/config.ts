@@ -181,6 +181,19 @@ export interface AnalysisConfig {
    * (seed 11, EV-041: three runs at z 4 after a 10:00 onset, day median 1.95).
    */
   slowWarmupRepeatZ: number;
+  /**
+   * Cold starts at least this long (and not idle-dominated) are judged on whether they reached
+   * the warm-up target, also in frost where the OBD-II monitor suspends, s. Common practice: half
+   * an hour of driving brings a working engine to its thermostat rating in any weather a fleet
+   * drives in; a stuck-open one in the cold stays 20–40 °C short.
+   */
+  coldReachMinRunS: number;
+  /** Fewest such starts that never reached the target, since the baseline, within `findingStaleDays`. */
+  coldReachMinRuns: number;
+  /** ... on at least this many distinct days (persistence). */
+  coldReachMinDays: number;
+  /** Share of the baseline's comparable (as cold) long cold starts that must have reached the target (0..1). */
+  coldReachBaseShare: number;
   /** Smallest residual scale for daily peaks, °C: route and weather move them by a few °C. Tuned. */
   dayScaleFloorC: number;
   /** CUSUM reference value (allowance), in robust standard deviations. */
@@ -317,6 +330,10 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   overshootScaleFloorC: 3.5,
   overshootRepeatZ: 3.5,
   slowWarmupRepeatZ: 4,
+  coldReachMinRunS: 1800,
+  coldReachMinRuns: 3,
+  coldReachMinDays: 2,
+  coldReachBaseShare: 0.8,
   dayScaleFloorC: 2,
   cusumK: 0.75,
   cusumH: 2.5,
