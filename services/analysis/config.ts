@@ -182,15 +182,6 @@ export interface AnalysisConfig {
    */
   slowWarmupRepeatZ: number;
   /**
-   * Smallest effects a slow-warmup finding counts: a cold start taking this many times the
-   * expected time to its target (or never reaching it) ...
-   */
-  slowWarmupMinTimeRatio: number;
-  /** ... or a trip running this much cooler than expected (plateau or run peak), °C ... */
-  slowWarmupMinDropC: number;
-  /** ... on at least this many separate days. Tuned on tuning seeds 1000–1003: one or two odd trips raised advisories on healthy vehicles. */
-  slowWarmupMinDays: number;
-  /**
    * Cold starts at least this long (and not idle-dominated) are judged on whether they reached
    * the warm-up target, also in frost where the OBD-II monitor suspends, s. Common practice: half
    * an hour of driving brings a working engine to its thermostat rating in any weather a fleet
@@ -339,9 +330,6 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   overshootScaleFloorC: 3.5,
   overshootRepeatZ: 3.5,
   slowWarmupRepeatZ: 4,
-  slowWarmupMinTimeRatio: 1.5,
-  slowWarmupMinDropC: 5,
-  slowWarmupMinDays: 2,
   coldReachMinRunS: 1800,
   coldReachMinRuns: 3,
   coldReachMinDays: 2,

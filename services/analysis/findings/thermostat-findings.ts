@@ -7,7 +7,6 @@ import { OVERSHOOT, PLATEAU, RUN_PEAK, WARMUP_TIME } from './run-features.js';
 import { combineByRun, scoreFeature } from './run-shift.js';
 import { detectRunShift, runShiftFinding } from './run-shift-finding.js';
 import { coldStartReachShift } from './cold-start-reach.js';
-import { DAY_MS } from '../../time/durations.js';
 
 const STUCK_OPEN_CHECK =
   'Check that the thermostat closes (a stuck-open thermostat is the usual cause) and compare the coolant ' +
@@ -66,16 +65,6 @@ export function slowWarmupFinding(
   const runPeak = scoreFeature(runs, RUN_PEAK, baselineStart, peer, now, cfg, cfg.coolScaleFloorC);
   const shift = detectRunShift(combineByRun([warm, plateau, runPeak]), now, cfg, cfg.cusumH, cfg.slowWarmupRepeatZ);
   if (!shift) return coldReachFinding(runs, baselineStart, now, cfg);
-  // Effect size: only starts a workshop would call slow (never reached the target, or
-  // `slowWarmupMinTimeRatio` times the expected time) and trips `slowWarmupMinDropC` cooler
-  // count, and they must fall on `slowWarmupMinDays` separate days.
-  const large = shift.supporting.filter((s) =>
-    s.feature === WARMUP_TIME
-      ? s.run.timeToTargetS === null || s.value >= cfg.slowWarmupMinTimeRatio * s.expected
-      : s.expected - s.value >= cfg.slowWarmupMinDropC,
-  );
-  if (new Set(large.map((s) => Math.floor(s.run.startMs / DAY_MS))).size < cfg.slowWarmupMinDays)
-    return coldReachFinding(runs, baselineStart, now, cfg);
   const cold = shift.supporting.filter((s) => s.feature === WARMUP_TIME);
   const neverReached = cold.filter((s) => s.run.timeToTargetS === null).length;
   const plateauDrops = shift.supporting.filter((s) => s.feature !== WARMUP_TIME).map((s) => s.expected - s.value);
