@@ -211,11 +211,7 @@ export function overheatingTrendFinding(
           window.map((d) => d.dayStartMs / DAY_MS),
         )
       : 0;
-  // Project with the part of the climb the weather does not explain: a heat wave lifts every
-  // healthy engine's raw peaks for a week (tuning seeds 1000–1003: a healthy hot-depot vehicle
-  // went critical on "days to boiling" from its raw slope alone).
-  const boilSlope = peakResiduals.length >= cfg.trendMinDays ? Math.min(rawSlope, slope) : rawSlope;
-  const daysToBoil = boilSlope > 0 ? Math.max(0, (boilingPointC - level) / boilSlope) : null;
+  const daysToBoil = rawSlope > 0 ? Math.max(0, (boilingPointC - level) / rawSlope) : null;
   const recentEpisodes = days.slice(-RECENT_DAYS * 2).reduce((n, d) => n + d.overheatEpisodes, 0);
   const medianZ = median(after.map((s) => s.z));
   let severity: Severity = 'advisory';
@@ -254,7 +250,7 @@ export function overheatingTrendFinding(
     summary:
       `Since ${utcDay(firstSeen)} peak coolant temperatures run about ${round(riseC, 1)} °C above what the weather explains` +
       (daysToBoil !== null
-        ? `, rising ${round(round(boilSlope, 3), 2)} °C a day (${boilWords(round(daysToBoil, 1), boilingPointC)})`
+        ? `, rising ${round(round(rawSlope, 3), 2)} °C a day (${boilWords(round(daysToBoil, 1), boilingPointC)})`
         : '') +
       (warm
         ? `; while driving the coolant runs about ${round(warm.rise, 1)} °C warmer than on earlier days in similar weather`

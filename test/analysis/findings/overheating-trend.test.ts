@@ -2,7 +2,6 @@ import { describe, expect, it } from 'vitest';
 import { DEFAULT_ANALYSIS_CONFIG as CFG } from '../../../services/analysis/config.js';
 import type { DayAggregate } from '../../../services/analysis/day-aggregates.js';
 import { overheatingTrendFinding } from '../../../services/analysis/findings/overheating-trend.js';
-import { coolantBoilingPointC } from '../../../services/analysis/physics/boiling-point.js';
 import { PLATEAU } from '../../../services/analysis/findings/run-features.js';
 import type { RunMetrics } from '../../../services/analysis/run-metrics.js';
 import { utcDay } from '../../../services/analysis/sample-arrays.js';
@@ -96,30 +95,6 @@ describe('overheating trend: persistence and effect size', () => {
     expect(
       overheatingTrendFinding(risingPeaks(20), START, BOILING_C, now, { ...CFG, trendWarnRiseC: 3 })!.severity,
     ).toBe('warning');
-  });
-});
-
-describe('overheating trend: days to boiling from the part of the climb the weather does not explain', () => {
-  // A healthy engine whose peaks follow the air (100 °C at 20 °C, +0.8 °C per °C): the baseline
-  // sees 20–40 °C, then a heat wave climbs from 20 to 40 °C over 12 days. Extra minutes above
-  // the hot threshold from day 14 raise the finding itself.
-  const ambientOf = (i: number) => (i < 10 ? 20 + ((i * 7) % 11) * 2 : 20 + (i - 10) * (20 / 12));
-  const days = Array.from({ length: 23 }, (_, i) => {
-    const ambient = ambientOf(i);
-    const d = day(i, Math.round(100 + 0.8 * (ambient - 20)), i >= 14 ? 2 : 0);
-    return { ...d, ambientMaxC: ambient, ambientMeanC: ambient - 5, hotSeconds: i >= 14 ? 700 : 0 };
-  });
-  const now = START + 23 * DAY_MS;
-
-  it('is not critical when the weather explains the rise of the raw peaks', () => {
-    // A 60 kPa cap: boiling at 121.5 °C (IAPWS-IF97 + Raoult, as coolantBoilingPointC computes it).
-    const f = overheatingTrendFinding(days, START, coolantBoilingPointC(60, 50, 101.325), now, CFG)!;
-    expect(f.metrics.hotTimeAlarm).toBe(1);
-    // The raw peaks alone would reach the boiling point within 14 days.
-    const m = f.metrics as Record<string, number>;
-    expect((m.boilingPointC! - m.levelC!) / m.rawSlopeCPerDay!).toBeLessThan(14);
-    expect(f.severity).not.toBe('critical');
-    expect(m.daysToBoil === -1 || m.daysToBoil! > 14).toBe(true);
   });
 });
 
