@@ -50,37 +50,36 @@ export interface BoardCounts {
 
 const hasStatus = (status: string) => sql`a.open_findings_brief @> ${JSON.stringify([{ status }])}::jsonb`;
 
-const RISK: SortColumn = { sql: sql.ref('a.risk_score'), dir: 'desc', type: 'number', real: true };
+/** Risk negated, so that "highest first" is ascending like the rest of each order (one direction: a row comparison, one index range). */
+const RISK_DESC: SortColumn = { sql: sql`(-a.risk_score)`, dir: 'asc', type: 'number', real: true };
 const VEHICLE: SortColumn = { sql: sql.ref('a.vehicle_id'), dir: 'asc', type: 'text' };
 
 /**
- * Each sort in its `asc` order, ending in the vehicle id (unique); `desc` is the exact reverse.
- * Every order but the depot's is the order of one partial index of vehicle_analysis (migration
- * 0011), so a page is one index range from the cursor on; priority, since and depot break ties by
- * risk, highest first (reversed with the rest in `desc`).
+ * Each sort in its `asc` order, every column ascending and the last the vehicle id (unique);
+ * `desc` is the exact reverse. Each is the order of one partial index over the vehicles at risk
+ * (migration 0011), so a page is one index range from the cursor's key on (the row comparison of
+ * keyset.ts). Priority and since break ties by risk (highest first in asc, reversed in desc); the
+ * depot sort by vehicle id, its index being on `vehicles`.
  */
 const ASC_ORDERS: Readonly<Record<BoardSort, readonly SortColumn[]>> = {
-  risk: [
-    { ...RISK, dir: 'asc' },
-    { ...VEHICLE, dir: 'desc' },
-  ],
+  // asc: lowest risk first = the reverse of highest risk first.
+  risk: reversed([RISK_DESC, VEHICLE]),
   priority: [
     {
       sql: sql`((case a.max_severity when 'critical' then 0 when 'warning' then 1 else 2 end)::float8)`,
       dir: 'asc',
       type: 'number',
     },
-    RISK,
+    RISK_DESC,
     VEHICLE,
   ],
-  since: [{ sql: sql.ref('a.open_since_ms'), dir: 'asc', type: 'number' }, RISK, VEHICLE],
+  since: [{ sql: sql.ref('a.open_since_ms'), dir: 'asc', type: 'number' }, RISK_DESC, VEHICLE],
   vehicle: [VEHICLE],
-  // Vehicles without a depot last (asc); the depot is in `vehicles`, so this one sorts the fleet's rows at risk.
+  // Vehicles without a depot after every depot (asc).
   depot: [
     { sql: sql`((v.depot is null)::int::float8)`, dir: 'asc', type: 'number' },
     { sql: sql`coalesce(v.depot, '')`, dir: 'asc', type: 'text' },
-    RISK,
-    VEHICLE,
+    { sql: sql.ref('v.vehicle_id'), dir: 'asc', type: 'text' },
   ],
 };
 
@@ -119,9 +118,10 @@ export function createFleetBoardRepository(db: Kysely<Database>) {
     /**
      * One page of rows after `pageRequest.after` in the order of `sort`: the filter, the key bound,
      * the order and limit + 1 in one statement over vehicle_analysis joined to vehicles. With a
-     * fleet, every sort but depot reads its partial index from the key on (migration 0011): the
-     * first page and the hundredth cost the same, where the offset paging sorted the whole filtered
-     * set and skipped it. Across every fleet (an admin key naming none) the rows are sorted.
+     * fleet, every sort reads its index from the key on (migration 0011; the fleet is named on both
+     * tables so the depot sort's index on `vehicles` applies): the first page and the hundredth cost
+     * the same, where the offset paging sorted the whole filtered set and skipped it. Across every
+     * fleet (an admin key naming none) the rows are sorted.
      */
     async page(f: BoardFilter, sort: BoardSort, desc: boolean, pageRequest: PageRequest): Promise<Page<BoardRow>> {
       const order = boardOrder(sort, desc);
@@ -139,7 +139,8 @@ export function createFleetBoardRepository(db: Kysely<Database>) {
         select a.vehicle_id, v.label, v.depot, a.risk_score, a.max_severity, a.last_reading_at,
                a.open_findings_brief as brief, ${keyColumnsSql(order)}
         from vehicle_analysis a join vehicles v on v.vehicle_id = a.vehicle_id
-        where ${where(f)} and ${afterKeySql(order, pageRequest.after)}
+        where ${where(f)} ${f.fleetId === null ? sql`` : sql`and v.fleet_id = ${f.fleetId}`}
+          and ${afterKeySql(order, pageRequest.after)}
         order by ${orderBySql(order)}
         limit ${pageRequest.limit + 1}`.execute(db);
       return pageOf(r.rows, pageRequest.limit, order.length, (row) => ({
@@ -203,12 +204,33 @@ export function createFleetBoardRepository(db: Kysely<Database>) {
       return row?.last_reading_at?.getTime() ?? null;
     },
 
-    /** The depots the fleet's vehicles name, for the filter. */
+    /**
+     * The depots the fleet's vehicles name, for the filter. For one fleet a loose index scan of
+     * vehicles_board_depot_idx (migration 0011): one index probe per depot, where `select distinct`
+     * read every vehicle of the fleet (7.2 ms of execution at 10,000 vehicles, load average 8).
+     */
     async depots(fleetId: string | null): Promise<string[]> {
-      let q = db.selectFrom('vehicles').select('depot').distinct().where('depot', 'is not', null);
-      if (fleetId !== null) q = q.where('fleet_id', '=', fleetId);
-      const rows = await q.orderBy('depot').execute();
-      return rows.map((r) => r.depot!);
+      if (fleetId === null) {
+        const rows = await db
+          .selectFrom('vehicles')
+          .select('depot')
+          .distinct()
+          .where('depot', 'is not', null)
+          .orderBy('depot')
+          .execute();
+        return rows.map((r) => r.depot!);
+      }
+      // The index's own expressions (named depot and in the fleet), so each step is one probe of it.
+      const named = sql`v.fleet_id = ${fleetId} and ((v.depot is null)::int::float8) = 0`;
+      const r = await sql<{ depot: string }>`
+        with recursive d(depot) as (
+          (select coalesce(v.depot, '') from vehicles v where ${named} order by coalesce(v.depot, '') limit 1)
+          union all
+          select (select coalesce(v.depot, '') from vehicles v where ${named} and coalesce(v.depot, '') > d.depot
+                  order by coalesce(v.depot, '') limit 1)
+          from d where d.depot is not null)
+        select depot from d where depot is not null`.execute(db);
+      return r.rows.map((row) => row.depot);
     },
   };
 }

@@ -118,20 +118,25 @@ export function orderBySql(cols: readonly SortColumn[]): RawBuilder<unknown> {
 }
 
 /**
- * The rows after `key` in the sort order: a ≥ ka and ((a > ka) or (a = ka and b < kb) or …), with
- * the comparison of each column following its direction. The leading `a ≥ ka` says nothing new but
- * is a plain range bound on the first column, so an index on the order starts its scan at the key
- * (the `or` alone is only a filter, and a deep page would read every row before it). Always true
- * without a key.
+ * The rows after `key` in the sort order. With every column in one direction it is the row
+ * comparison (a, b, …) > (ka, kb, …) (< for desc), which an index on the order takes as the start
+ * of its scan. With mixed directions it is a ≥ ka and ((a > ka) or (a = ka and b < kb) or …), the
+ * comparison of each column following its direction; the leading a ≥ ka says nothing new but is a
+ * plain range bound, so an index still starts at the key's first column (the `or` alone is only a
+ * filter, and a deep page would read every row before it). Always true without a key.
  */
 export function afterKeySql(cols: readonly SortColumn[], key: PageKey | undefined): RawBuilder<SqlBool> {
   if (key === undefined) return sql<SqlBool>`true`;
+  const first = cols[0]!;
+  if (cols.every((c) => c.dir === first.dir)) {
+    const row = (parts: RawBuilder<unknown>[]) => (parts.length === 1 ? parts[0]! : sql`(${sql.join(parts)})`);
+    return sql<SqlBool>`${row(cols.map((c) => c.sql))} ${sql.raw(first.dir === 'asc' ? '>' : '<')} ${row(cols.map((c, i) => typed(c, key[i]!)))}`;
+  }
   const alternatives = cols.map((c, i) => {
     const equal = cols.slice(0, i).map((p, j) => sql`${p.sql} = ${typed(p, key[j]!)}`);
     const beyond = sql`${c.sql} ${sql.raw(c.dir === 'asc' ? '>' : '<')} ${typed(c, key[i]!)}`;
     return sql`(${sql.join([...equal, beyond], sql` and `)})`;
   });
-  const first = cols[0]!;
   const bound = sql`${first.sql} ${sql.raw(first.dir === 'asc' ? '>=' : '<=')} ${typed(first, key[0]!)}`;
   return sql<SqlBool>`(${bound} and (${sql.join(alternatives, sql` or `)}))`;
 }
