@@ -73,7 +73,11 @@ const fleetBoardRoutes: FastifyPluginAsyncTypebox = async (app) => {
               ),
             ),
             q: Type.Optional(
-              Type.String({ minLength: 1, maxLength: 100, description: 'part of the vehicle id or label, any case' }),
+              Type.String({
+                minLength: 1,
+                maxLength: 100,
+                description: 'part of the vehicle id or label, any case',
+              }),
             ),
             sort: Type.Union(
               BOARD_SORTS.map((s) => Type.Literal(s)),
