@@ -1,4 +1,4 @@
-import { api, query } from './api.js';
+import { api, ApiError, query } from './api.js';
 import { day, h, priorityBadge, replace } from './dom.js';
 import { unitParam } from './units.js';
 
@@ -74,9 +74,19 @@ export async function renderFleetPage({ view, signal, navigate }) {
   const state = stateFromUrl();
   const trail = trailFromHistory(state);
   const { page: _page, ...request } = state;
-  const data = await api(`/v1/fleet/vehicles${query({ ...request, unit: unitParam() })}`, {
-    signal,
-  });
+  let data;
+  try {
+    data = await api(`/v1/fleet/vehicles${query({ ...request, unit: unitParam() })}`, { signal });
+  } catch (err) {
+    // A cursor the service no longer takes (an old link, a new release): start again at the first page.
+    if (err instanceof ApiError && err.status === 400 && state.cursor) {
+      const p = new URLSearchParams(location.search);
+      p.delete('cursor');
+      p.delete('page');
+      return navigate(`/app/${p.size > 0 ? `?${p}` : ''}`, { replaceState: true });
+    }
+    throw err;
+  }
   /** A new filter or sort starts at the first page; paging passes the cursor, its number and the trail. */
   const go = (change, paging = { cursor: '', page: 1, trail: [], focus: null }) => {
     const next = { ...state, ...change, cursor: paging.cursor, page: paging.page };
