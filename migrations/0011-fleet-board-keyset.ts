@@ -13,8 +13,8 @@ import { sql, type Kysely } from 'kysely';
  *   of its `asc`, the same index scanned backwards. The depot sort's index is on `vehicles` (the
  *   depot is the vehicle's), with the vehicles at risk looked up beside it.
  */
-export async function up(db: Kysely<any>): Promise<void> {
-  await sql`ALTER TABLE vehicle_analysis ADD COLUMN open_since_ms double precision`.execute(db);
+/** Fills `open_since_ms` of the existing rows from their unresolved findings (exported for its test). */
+export async function fillOpenSinceMs(db: Kysely<any>): Promise<void> {
   await sql`
     UPDATE vehicle_analysis a SET open_since_ms = s.since_ms
     FROM (
@@ -22,6 +22,11 @@ export async function up(db: Kysely<any>): Promise<void> {
       FROM findings WHERE status <> 'resolved' GROUP BY vehicle_id
     ) s
     WHERE s.vehicle_id = a.vehicle_id`.execute(db);
+}
+
+export async function up(db: Kysely<any>): Promise<void> {
+  await sql`ALTER TABLE vehicle_analysis ADD COLUMN open_since_ms double precision`.execute(db);
+  await fillOpenSinceMs(db);
   // Risk negated: "highest risk first" ascending like the rest of each order (services/db/fleet-board-repository.ts).
   await sql`
     CREATE INDEX vehicle_analysis_board_risk_idx ON vehicle_analysis (fleet_id, (-risk_score), vehicle_id)

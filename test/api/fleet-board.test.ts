@@ -1,6 +1,7 @@
 import { sql } from 'kysely';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { refreshVehicleRisk } from '../../services/db/vehicle-risk.js';
+import { fillOpenSinceMs } from '../../migrations/0011-fleet-board-keyset.js';
 import { type BoardVehicle, seedBoardVehicle } from '../helpers/board-fleet.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { HOUR_MS, DAY_MS } from '../../services/time/durations.js';
@@ -190,6 +191,25 @@ describe('the fleet page list', () => {
         // desc is the exact reverse of asc.
         if (order === 'desc') expect(all).toEqual(ids(await board(`?sort=${sort}&order=asc&limit=200`)).reverse());
       }
+  });
+
+  it("keeps each vehicle's earliest unresolved onset for the since sort, and migration 0011 fills it the same for existing rows", async () => {
+    const db = t.tdb.handle.db;
+    const since = async () =>
+      (
+        await sql<{ vehicle_id: string; open_since_ms: number | null }>`
+          select vehicle_id, open_since_ms from vehicle_analysis where fleet_id = 'board' order by vehicle_id`.execute(
+          db,
+        )
+      ).rows;
+    const kept = await since();
+    const v2 = kept.find((r) => r.vehicle_id === 'V-02')!;
+    // V-02's findings began 20 and 10 days ago: the earlier one.
+    expect(v2.open_since_ms).toBeCloseTo(NOW - 20 * DAY_MS, -3);
+    expect(kept.find((r) => r.vehicle_id === 'V-05')!.open_since_ms).toBeNull();
+    await sql`update vehicle_analysis set open_since_ms = null where fleet_id = 'board'`.execute(db);
+    await fillOpenSinceMs(db);
+    expect(await since()).toEqual(kept);
   });
 
   it('pages with a filter: the cursor carries the position, the filter stays the query', async () => {
