@@ -59,7 +59,11 @@ const fleetBoardRoutes: FastifyPluginAsyncTypebox = async (app) => {
           'A row is a vehicle with unresolved findings (open, acknowledged or deferred): worst priority, risk, every unresolved finding ' +
           'as a short label with its status, since when (the earliest onset), depot. `total` is the number of rows the filter matches. ' +
           `Counts: vehicles reporting (analysed data within ${SILENT_GATEWAY_H} h), silent gateways (none within it), and vehicles with a finding ` +
-          'whose onset is within the last 7 days.',
+          'whose onset is within the last 7 days. Each finding carries its sentence, temperatures in `unit`. ' +
+          'Paging: pass `nextCursor` as `?cursor=` with the same sort, order and filters (a cursor of another sort or order is refused, 400; ' +
+          'so is an unknown parameter such as the former `offset`). `order=desc` is the exact reverse of `asc`. Ties: priority and since by risk ' +
+          '(highest first in asc), then vehicle id; risk and depot by vehicle id. Without a depot, a vehicle sorts after every depot (asc). ' +
+          'A vehicle whose risk or findings change while a planner pages may move.',
         security: SECURITY,
         querystring: Type.Object(
           {
