@@ -98,12 +98,12 @@ export async function readWindowsByCopy(
   return decoder.split();
 }
 /** The rows of `a` (a channel it lacks: NaN), then those of `b`. */
-function concatArrays(a: SampleArrays, b: AllSampleArrays): AllSampleArrays {
+function concatArrays(samples: SampleArrays, b: AllSampleArrays): AllSampleArrays {
   const out = {} as AllSampleArrays;
-  const n = a.ts.length;
+  const n = samples.ts.length;
   for (const c of COLUMN_NAMES) {
     const col = new Float64Array(n + b[c].length);
-    const head = a[c];
+    const head = samples[c];
     if (head) col.set(head);
     else col.fill(NaN, 0, n);
     col.set(b[c], n);
