@@ -5,7 +5,7 @@ import type { Config } from '../config.js';
 import type { DatabaseHandle } from '../db/database.js';
 import { splitKey } from '../db/api-keys-repository.js';
 import { sessionHash } from '../db/web-sessions-repository.js';
-import { AppError } from './errors.js';
+import { AppError, BadRequestError } from './errors.js';
 import authPlugin from './plugins/auth.js';
 import dbPlugin from './plugins/db.js';
 import errorsPlugin from './plugins/errors.js';
@@ -69,6 +69,13 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   app.addHook('onSend', async (request, reply) => {
     reply.header('x-request-id', request.id);
     if (closing) reply.header('connection', 'close');
+  });
+
+  // Postgres text cannot hold U+0000: a NUL in the path or query (%00) is bad input, answered 400
+  // before any route reaches the database (it answered 500 from a failed query: a depot, a finding id).
+  app.addHook('preValidation', async (request) => {
+    if (/%00/i.test(request.url))
+      throw new BadRequestError('the URL may not contain a NUL character (%00)', 'validation_failed');
   });
 
   await app.register(errorsPlugin);

@@ -56,34 +56,34 @@ function frame(priority: number, pgn: number, data: number[]): EncodedFrame {
  * 0xFF "not available"): ET1, AMB, EEC1, CCVS1 and EFL/P1 where the reading has their channels.
  * @example j1939Frames({ coolantC: 83, ambientC: NaN, … })[0] // { canId: '18FEEE00', data: '7BFFFFFFFFFFFFFF' }
  */
-export function j1939Frames(r: BusReading): EncodedFrame[] {
+export function j1939Frames(reading: BusReading): EncodedFrame[] {
   const out: EncodedFrame[] = [];
   const na = () => new Array<number>(8).fill(NOT_AVAILABLE_BYTE);
-  if (!Number.isNaN(r.coolantC)) {
+  if (!Number.isNaN(reading.coolantC)) {
     const d = na();
-    d[0] = byteOf(r.coolantC, 1, -40, 0xfa);
+    d[0] = byteOf(reading.coolantC, 1, -40, 0xfa);
     out.push(frame(DEFAULT_PRIORITY, PGN_ET1, d));
   }
-  if (!Number.isNaN(r.ambientC) || !Number.isNaN(r.barometricKpa)) {
+  if (!Number.isNaN(reading.ambientC) || !Number.isNaN(reading.barometricKpa)) {
     const d = na();
-    d[0] = byteOf(r.barometricKpa, 0.5, 0, 0xfa);
-    [d[3], d[4]] = wordOf(r.ambientC, 0.03125, -273);
+    d[0] = byteOf(reading.barometricKpa, 0.5, 0, 0xfa);
+    [d[3], d[4]] = wordOf(reading.ambientC, 0.03125, -273);
     out.push(frame(DEFAULT_PRIORITY, PGN_AMB, d));
   }
-  if (!Number.isNaN(r.rpm)) {
+  if (!Number.isNaN(reading.rpm)) {
     const d = na();
-    [d[3], d[4]] = wordOf(r.rpm, 0.125, 0);
+    [d[3], d[4]] = wordOf(reading.rpm, 0.125, 0);
     out.push(frame(EEC1_PRIORITY, PGN_EEC1, d));
   }
-  if (!Number.isNaN(r.speedKph)) {
+  if (!Number.isNaN(reading.speedKph)) {
     const d = na();
-    [d[1], d[2]] = wordOf(r.speedKph, 1 / 256, 0);
+    [d[1], d[2]] = wordOf(reading.speedKph, 1 / 256, 0);
     out.push(frame(DEFAULT_PRIORITY, PGN_CCVS1, d));
   }
-  if (!Number.isNaN(r.coolantLevelPct) || !Number.isNaN(r.coolantPressureKpa)) {
+  if (!Number.isNaN(reading.coolantLevelPct) || !Number.isNaN(reading.coolantPressureKpa)) {
     const d = na();
-    d[6] = byteOf(r.coolantPressureKpa, 2, 0, 0xfa);
-    d[7] = byteOf(r.coolantLevelPct, 0.4, 0, 0xfa);
+    d[6] = byteOf(reading.coolantPressureKpa, 2, 0, 0xfa);
+    d[7] = byteOf(reading.coolantLevelPct, 0.4, 0, 0xfa);
     out.push(frame(DEFAULT_PRIORITY, PGN_EFLP1, d));
   }
   return out;
@@ -94,16 +94,16 @@ export function j1939Frames(r: BusReading): EncodedFrame[] {
  * (SAE J1979: 0x05, 0x46, 0x0C, 0x0D, 0x33), hex with spaces between bytes.
  * @example obdResponse({ coolantC: 83, ambientC: NaN, speedKph: NaN, rpm: NaN, … }) // '41 05 7B'
  */
-export function obdResponse(r: BusReading): string {
+export function obdResponse(reading: BusReading): string {
   const bytes = [SERVICE_01_POSITIVE];
   const a = (v: number, add: number) => Math.min(255, Math.max(0, Math.round(v - add)));
-  if (!Number.isNaN(r.coolantC)) bytes.push(PID_COOLANT, a(r.coolantC, -40));
-  if (!Number.isNaN(r.ambientC)) bytes.push(PID_AMBIENT, a(r.ambientC, -40));
-  if (!Number.isNaN(r.rpm)) {
-    const raw = Math.min(0xffff, Math.max(0, Math.round(r.rpm * 4)));
+  if (!Number.isNaN(reading.coolantC)) bytes.push(PID_COOLANT, a(reading.coolantC, -40));
+  if (!Number.isNaN(reading.ambientC)) bytes.push(PID_AMBIENT, a(reading.ambientC, -40));
+  if (!Number.isNaN(reading.rpm)) {
+    const raw = Math.min(0xffff, Math.max(0, Math.round(reading.rpm * 4)));
     bytes.push(PID_RPM, raw >>> 8, raw & 0xff);
   }
-  if (!Number.isNaN(r.speedKph)) bytes.push(PID_SPEED, a(r.speedKph, 0));
-  if (!Number.isNaN(r.barometricKpa)) bytes.push(PID_BAROMETRIC, a(r.barometricKpa, 0));
+  if (!Number.isNaN(reading.speedKph)) bytes.push(PID_SPEED, a(reading.speedKph, 0));
+  if (!Number.isNaN(reading.barometricKpa)) bytes.push(PID_BAROMETRIC, a(reading.barometricKpa, 0));
   return bytes.map(hex2).join(' ');
 }

@@ -86,18 +86,18 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
   }
 
   /** The readings as rows for INSERT … SELECT (column order of READINGS_INSERT_COLUMNS). */
-  function readingRows(c: ReadingChunk) {
-    const lit = (v: Float64Array | undefined) => floatLiteral(v ?? new Float64Array(c.length).fill(NaN), true);
+  function readingRows(chunk: ReadingChunk) {
+    const lit = (v: Float64Array | undefined) => floatLiteral(v ?? new Float64Array(chunk.length).fill(NaN), true);
     return sql`
       select v, to_timestamp(t / 1000.0), c, a, s, r, b, l, p
-      from unnest(${textLiteral(c.vehicleIds)}::text[], ${floatLiteral(c.tsMs, false)}::float8[], ${lit(c.coolantC)}::real[], ${lit(c.ambientC)}::real[],
-                  ${lit(c.speedKph)}::real[], ${lit(c.rpm)}::real[], ${lit(c.barometricKpa)}::real[], ${lit(c.coolantLevelPct)}::real[],
-                  ${lit(c.coolantPressureKpa)}::real[]) as u(v, t, c, a, s, r, b, l, p)`;
+      from unnest(${textLiteral(chunk.vehicleIds)}::text[], ${floatLiteral(chunk.tsMs, false)}::float8[], ${lit(chunk.coolantC)}::real[], ${lit(chunk.ambientC)}::real[],
+                  ${lit(chunk.speedKph)}::real[], ${lit(chunk.rpm)}::real[], ${lit(chunk.barometricKpa)}::real[], ${lit(chunk.coolantLevelPct)}::real[],
+                  ${lit(chunk.coolantPressureKpa)}::real[]) as u(v, t, c, a, s, r, b, l, p)`;
   }
 
-  function upsertReadings(conn: IngestConnection, c: ReadingChunk): Promise<unknown> {
+  function upsertReadings(conn: IngestConnection, chunk: ReadingChunk): Promise<unknown> {
     return conn.run(sql`
-      insert into readings ${READINGS_INSERT_COLUMNS} ${readingRows(c)}
+      insert into readings ${READINGS_INSERT_COLUMNS} ${readingRows(chunk)}
       on conflict (vehicle_id, ts) do update set
         coolant_c = excluded.coolant_c, ambient_c = excluded.ambient_c, speed_kph = excluded.speed_kph, rpm = excluded.rpm,
         barometric_kpa = excluded.barometric_kpa, coolant_level_pct = excluded.coolant_level_pct, coolant_pressure_kpa = excluded.coolant_pressure_kpa`);
@@ -108,39 +108,39 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
    * new rows unless /v1/readings stored a reading at the same time, in which case the COPY fails
    * with 23505 and they are upserted instead, inside a savepoint.
    */
-  async function insertFresh(conn: IngestConnection, c: ReadingChunk): Promise<void> {
+  async function insertFresh(conn: IngestConnection, chunk: ReadingChunk): Promise<void> {
     if (!conn.copyIn) {
-      await upsertReadings(conn, c);
+      await upsertReadings(conn, chunk);
       return;
     }
     await conn.run(sql`savepoint bus_fresh`);
     try {
-      await conn.copyIn(encodeReadingsCopy(c));
+      await conn.copyIn(encodeReadingsCopy(chunk));
       await conn.run(sql`release savepoint bus_fresh`);
     } catch (err) {
       if ((err as { code?: unknown }).code !== UNIQUE_VIOLATION) throw err;
       await conn.run(sql`rollback to savepoint bus_fresh`);
-      await upsertReadings(conn, c);
+      await upsertReadings(conn, chunk);
     }
   }
 
-  async function write(conn: IngestConnection, w: SlotWrites): Promise<void> {
-    const n = w.slotVehicles.length;
+  async function write(conn: IngestConnection, writes: SlotWrites): Promise<void> {
+    const n = writes.slotVehicles.length;
     if (n > 0) {
       await conn.run(sql`
         insert into bus_slots (vehicle_id, period_s, slot_ms, rec)
         select v, p, s, r
-        from unnest(${textLiteral(w.slotVehicles)}::text[], ${`{${w.slotPeriods.join(',')}}`}::int[], ${floatLiteral(w.slotStarts, false)}::float8[],
-                    ${w.slotRecordsLiteral()}::bytea[]) as u(v, p, s, r)
+        from unnest(${textLiteral(writes.slotVehicles)}::text[], ${`{${writes.slotPeriods.join(',')}}`}::int[], ${floatLiteral(writes.slotStarts, false)}::float8[],
+                    ${writes.slotRecordsLiteral()}::bytea[]) as u(v, p, s, r)
         on conflict (vehicle_id, period_s, slot_ms) do update set rec = excluded.rec, updated_at = now()`);
     }
-    if (w.deleteVehicles.length > 0) {
+    if (writes.deleteVehicles.length > 0) {
       await conn.run(sql`
-        delete from readings r using unnest(${textLiteral(w.deleteVehicles)}::text[], ${floatLiteral(w.deleteTs, false)}::float8[]) as d(v, t)
+        delete from readings r using unnest(${textLiteral(writes.deleteVehicles)}::text[], ${floatLiteral(writes.deleteTs, false)}::float8[]) as d(v, t)
         where r.vehicle_id = d.v and r.ts = to_timestamp(d.t / 1000.0)`);
     }
-    const fresh = w.fresh.length > 0 ? w.fresh.chunk() : undefined;
-    const changed = w.changed.length > 0 ? w.changed.chunk() : undefined;
+    const fresh = writes.fresh.length > 0 ? writes.fresh.chunk() : undefined;
+    const changed = writes.changed.length > 0 ? writes.changed.chunk() : undefined;
     const months = new Set<number>();
     for (const c of [fresh, changed]) if (c) for (let i = 0; i < c.length; i++) months.add(monthIndexOf(c.tsMs[i]!));
     if (months.size > 0) await partitions.ensure(conn.partitionTarget, months);
@@ -153,12 +153,12 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
     conn: IngestConnection,
     fleetId: string,
     ids: string[],
-    w: SlotWrites,
+    writes: SlotWrites,
     audit: IngestAuditInput,
     started: number,
   ): Promise<void> {
-    const queued = [...w.dirtyFrom.keys()].sort();
-    const firsts = queued.map((id) => w.dirtyFrom.get(id)!);
+    const queued = [...writes.dirtyFrom.keys()].sort();
+    const firsts = queued.map((id) => writes.dirtyFrom.get(id)!);
     await conn.run(sql`
       with registered as (
         insert into vehicles (vehicle_id, fleet_id) select v, ${fleetId} from unnest(${ids}::text[]) as v
@@ -170,7 +170,7 @@ export function createBusFramesRepository(handle: DatabaseHandle, partitions: Pa
           set dirty_from = least(analysis_queue.dirty_from, excluded.dirty_from), generation = analysis_queue.generation + 1, enqueued_at = now()
       )
       insert into ingest_audit (key_id, fleet_id, content_type, body_bytes, accepted, duplicates, rejected, vehicles, duration_ms)
-      values (${audit.keyId}, ${fleetId}, ${audit.contentType}, ${audit.bodyBytes()}, ${w.accepted}, ${w.duplicates}, ${audit.rejected()}, ${ids.length}, ${Date.now() - started})`);
+      values (${audit.keyId}, ${fleetId}, ${audit.contentType}, ${audit.bodyBytes()}, ${writes.accepted}, ${writes.duplicates}, ${audit.rejected()}, ${ids.length}, ${Date.now() - started})`);
     const raced = await conn.run(
       sql<{
         vehicle_id: string;

@@ -41,17 +41,17 @@ export const DEPOT_ORDER: readonly SortColumn[] = [
 
 type DepotRow = Selectable<DepotsTable> & { vehicles: number | string };
 
-function toDepotView(r: DepotRow): DepotView {
+function toDepotView(row: DepotRow): DepotView {
   return {
-    depotId: r.depot_id,
-    fleetId: r.fleet_id,
-    name: r.name,
-    siteAltitudeM: r.site_altitude_m,
-    atmosphericPressureKpa: r.atmospheric_pressure_kpa ?? SEA_LEVEL_PRESSURE_KPA,
-    siteGiven: r.atmospheric_pressure_kpa !== null,
-    vehicles: Number(r.vehicles),
-    createdAt: r.created_at.toISOString(),
-    updatedAt: r.updated_at.toISOString(),
+    depotId: row.depot_id,
+    fleetId: row.fleet_id,
+    name: row.name,
+    siteAltitudeM: row.site_altitude_m,
+    atmosphericPressureKpa: row.atmospheric_pressure_kpa ?? SEA_LEVEL_PRESSURE_KPA,
+    siteGiven: row.atmospheric_pressure_kpa !== null,
+    vehicles: Number(row.vehicles),
+    createdAt: row.created_at.toISOString(),
+    updatedAt: row.updated_at.toISOString(),
   };
 }
 

@@ -97,16 +97,16 @@ export async function readWindowsByCopy(
   client.release();
   return decoder.split();
 }
-/** The rows of `a` (a channel it lacks: NaN), then those of `b`. */
-function concatArrays(a: SampleArrays, b: AllSampleArrays): AllSampleArrays {
+/** The rows of `prefix` (a channel it lacks: NaN), then those of `window`. */
+function concatArrays(prefix: SampleArrays, window: AllSampleArrays): AllSampleArrays {
   const out = {} as AllSampleArrays;
-  const n = a.ts.length;
+  const n = prefix.ts.length;
   for (const c of COLUMN_NAMES) {
-    const col = new Float64Array(n + b[c].length);
-    const head = a[c];
+    const col = new Float64Array(n + window[c].length);
+    const head = prefix[c];
     if (head) col.set(head);
     else col.fill(NaN, 0, n);
-    col.set(b[c], n);
+    col.set(window[c], n);
     out[c] = col;
   }
   return out;

@@ -181,6 +181,8 @@ export interface VehicleAnalysisTable {
   analysed_at: Generated<Date>;
   /** The open findings as the at-risk list shows them (migration 0004, kept by refreshVehicleRisk). */
   open_findings_brief: Generated<Json<unknown[]>>;
+  /** The earliest onset of the unresolved findings, epoch ms (migration 0011, kept with the brief). */
+  open_since_ms: number | null;
 }
 
 /** The audit of planner actions on findings and service events (migrations/0006). */

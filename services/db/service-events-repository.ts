@@ -39,18 +39,18 @@ export interface ServiceEventView {
   inspectedFindings: string[];
 }
 
-export function toServiceEventView(r: Selectable<ServiceEventsTable>): ServiceEventView {
+export function toServiceEventView(row: Selectable<ServiceEventsTable>): ServiceEventView {
   return {
-    id: r.event_id,
-    vehicleId: r.vehicle_id,
-    kind: r.kind,
-    at: r.at.toISOString(),
-    notes: r.notes,
-    recordedBy: r.recorded_by,
-    createdAt: r.created_at.toISOString(),
-    updatedAt: r.updated_at?.toISOString() ?? null,
-    resolvedFindings: r.resolved_findings,
-    inspectedFindings: r.finding_ids,
+    id: row.event_id,
+    vehicleId: row.vehicle_id,
+    kind: row.kind,
+    at: row.at.toISOString(),
+    notes: row.notes,
+    recordedBy: row.recorded_by,
+    createdAt: row.created_at.toISOString(),
+    updatedAt: row.updated_at?.toISOString() ?? null,
+    resolvedFindings: row.resolved_findings,
+    inspectedFindings: row.finding_ids,
   };
 }
 

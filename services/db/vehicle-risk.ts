@@ -36,12 +36,18 @@ const openFindingsBrief = sql`coalesce((
                order by case f.severity when 'critical' then 0 when 'warning' then 1 else 2 end, f.confidence desc, f.finding_id)
       from findings f where f.vehicle_id = a.vehicle_id and f.status <> 'resolved'), '[]'::jsonb)`;
 
+/** The earliest onset of the unresolved findings of the row aliased `a`, epoch ms (null: none): the fleet page's "since" (migration 0011). */
+const openSinceMs = sql`(select floor(extract(epoch from min(f.first_seen)) * 1000)::float8
+      from findings f where f.vehicle_id = a.vehicle_id and f.status <> 'resolved')`;
+
 /**
- * Rebuilds `open_findings_brief` of the vehicle_analysis rows (alias `a`) matching `where` from
+ * Rebuilds `open_findings_brief` (and `open_since_ms`) of the vehicle_analysis rows (alias `a`) matching `where` from
  * their unresolved findings, in one statement.
  */
 export async function refreshOpenFindingsBrief(trx: Kysely<Database>, where: RawBuilder<unknown>): Promise<void> {
-  await sql`update vehicle_analysis a set open_findings_brief = ${openFindingsBrief} where ${where}`.execute(trx);
+  await sql`update vehicle_analysis a set open_findings_brief = ${openFindingsBrief}, open_since_ms = ${openSinceMs} where ${where}`.execute(
+    trx,
+  );
 }
 
 /**
@@ -78,7 +84,8 @@ export async function refreshVehicleRisk(trx: Kysely<Database>, vehicleId: strin
   let max: Severity | null = null;
   for (const f of open) if (max === null || SEVERITY_RANK[f.severity] > SEVERITY_RANK[max]) max = f.severity;
   await sql`
-    update vehicle_analysis a set risk_score = ${risk}, open_findings = ${open.length}, max_severity = ${max}, open_findings_brief = ${openFindingsBrief}
+    update vehicle_analysis a set risk_score = ${risk}, open_findings = ${open.length}, max_severity = ${max}, open_findings_brief = ${openFindingsBrief},
+      open_since_ms = ${openSinceMs}
     where a.vehicle_id = ${vehicleId}`.execute(trx);
   return risk;
 }

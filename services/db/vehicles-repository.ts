@@ -1,9 +1,12 @@
 import { sql, type Kysely, type Selectable } from 'kysely';
 import { SEA_LEVEL_PRESSURE_KPA } from '../analysis/physics/atmosphere.js';
 import { glycolMassToVolumePercent } from '../analysis/physics/units.js';
-import type { Page, PageRequest } from './keyset.js';
+import type { Page, PageRequest, SortColumn } from './keyset.js';
 import type { Database, VehiclesTable } from './schema.js';
 import { SITE_PRESSURE, SITE_SOURCE, type SiteSource } from './vehicle-site.js';
+
+/** Vehicles by id: the order of GET /v1/vehicles (its key is checked against it). */
+export const VEHICLE_ORDER: readonly SortColumn[] = [{ sql: sql.ref('v.vehicle_id'), dir: 'asc', type: 'text' }];
 
 /** A vehicle's cooling-system profile as the API shows it. */
 export interface VehicleProfile {

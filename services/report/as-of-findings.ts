@@ -63,28 +63,28 @@ export async function findingsAsOf(
   return { unresolved, risk };
 }
 
-function asStored(vehicleId: string, f: Finding, row: StoredFinding | undefined, asOfMs: number): StoredFinding {
+function asStored(vehicleId: string, finding: Finding, row: StoredFinding | undefined, asOfMs: number): StoredFinding {
   const acknowledged =
     row?.acknowledgedMs !== null && row?.acknowledgedMs !== undefined && row.acknowledgedMs <= asOfMs;
   return {
-    findingId: row?.findingId ?? f.key,
+    findingId: row?.findingId ?? finding.key,
     vehicleId,
-    kind: f.kind,
-    severity: f.severity,
-    confidence: f.confidence,
-    firstSeenMs: f.firstSeen,
-    lastSeenMs: f.lastSeen,
+    kind: finding.kind,
+    severity: finding.severity,
+    confidence: finding.confidence,
+    firstSeenMs: finding.firstSeen,
+    lastSeenMs: finding.lastSeen,
     createdMs: row?.createdMs ?? asOfMs,
     status: acknowledged ? 'acknowledged' : 'open',
-    summary: f.summary,
-    recommendedCheck: f.recommendedCheck,
-    troubleCode: f.troubleCode,
+    summary: finding.summary,
+    recommendedCheck: finding.recommendedCheck,
+    troubleCode: finding.troubleCode,
     resolvedMs: null,
     resolvedReason: null,
     deferredUntilMs: null,
     deferredReason: null,
-    key: f.key,
-    metrics: f.metrics,
+    key: finding.key,
+    metrics: finding.metrics,
     acknowledgedMs: acknowledged ? row!.acknowledgedMs : null,
   };
 }

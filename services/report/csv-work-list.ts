@@ -29,13 +29,13 @@ export const WORK_LIST_COLUMNS = [
 type Column = (typeof WORK_LIST_COLUMNS)[number];
 
 /** One cell: a scalar field as it is, the vehicle's findings as their ids (space-separated) and their count. */
-function cell(w: WorkItem, c: Column, unit: TemperatureUnit): string | number | null {
-  if (c === 'findingIds') return w.findings.map((f) => f.findingId).join(' ');
-  if (c === 'findingCount') return w.findings.length;
-  if (c === 'depot') return w.depot ?? null;
-  if (c === 'defaultProfile') return w.defaultProfile ? 'true' : 'false';
-  if (c === 'temperatureUnit') return unit;
-  return w[c];
+function cell(item: WorkItem, column: Column, unit: TemperatureUnit): string | number | null {
+  if (column === 'findingIds') return item.findings.map((f) => f.findingId).join(' ');
+  if (column === 'findingCount') return item.findings.length;
+  if (column === 'depot') return item.depot ?? null;
+  if (column === 'defaultProfile') return item.defaultProfile ? 'true' : 'false';
+  if (column === 'temperatureUnit') return unit;
+  return item[column];
 }
 
 // Spreadsheets run a cell that starts with one of these as a formula (OWASP "CSV injection").

@@ -11,10 +11,11 @@ const SEVERITIES = ['critical', 'warning', 'advisory'] as const;
  * Dated by evidence, not by when the worker stored the finding, so back-filled data lands in
  * the week it describes.
  */
-export function phaseInWeek(f: StoredFinding, startMs: number, endMs: number): Phase | null {
-  if (f.firstSeenMs >= endMs) return null;
-  if (f.resolvedMs !== null && f.resolvedMs < endMs) return f.resolvedMs >= startMs ? 'resolved' : null;
-  return f.firstSeenMs >= startMs ? 'new' : 'ongoing';
+export function phaseInWeek(finding: StoredFinding, startMs: number, endMs: number): Phase | null {
+  if (finding.firstSeenMs >= endMs) return null;
+  if (finding.resolvedMs !== null && finding.resolvedMs < endMs)
+    return finding.resolvedMs >= startMs ? 'resolved' : null;
+  return finding.firstSeenMs >= startMs ? 'new' : 'ongoing';
 }
 
 /** Counts of new, ongoing and resolved findings by kind and severity, and the week's resolutions. */

@@ -25,11 +25,11 @@ const longDate = (day: string) =>
     timeZone: 'UTC',
   });
 
-function kpis(r: WeeklyReport): string {
-  const s = r.summary;
-  const now = r.workList.filter((w) => w.priority === 'book now').length;
-  const week = r.workList.filter((w) => w.priority === 'book this week').length;
-  const f = r.findings.totals;
+function kpis(report: WeeklyReport): string {
+  const s = report.summary;
+  const now = report.workList.filter((w) => w.priority === 'book now').length;
+  const week = report.workList.filter((w) => w.priority === 'book this week').length;
+  const f = report.findings.totals;
   const unusual = s.silentGateways.filter((g) => g.unusual).length;
   const box = (value: string, label: string, alert = false) =>
     `<div class="kpi${alert ? ' alert' : ''}"><b>${value}</b>${label}</div>`;
@@ -44,10 +44,10 @@ ${box(`${f.new} / ${f.ongoing} / ${f.resolved}`, 'findings new / ongoing / resol
 }
 
 /** How a planner's decision on the finding shows beside it. */
-function statusNote(f: WorkFinding): string {
-  if (f.status === 'acknowledged') return ' <span class="note">(acknowledged, not yet repaired)</span>';
-  if (f.status === 'deferred')
-    return ` <span class="note">(deferred until ${e(f.deferredUntil ?? '?')}${f.deferredReason ? `: ${e(f.deferredReason)}` : ''})</span>`;
+function statusNote(finding: WorkFinding): string {
+  if (finding.status === 'acknowledged') return ' <span class="note">(acknowledged, not yet repaired)</span>';
+  if (finding.status === 'deferred')
+    return ` <span class="note">(deferred until ${e(finding.deferredUntil ?? '?')}${finding.deferredReason ? `: ${e(finding.deferredReason)}` : ''})</span>`;
   return '';
 }
 
@@ -58,26 +58,26 @@ function findingLine(f: WorkFinding): string {
 }
 
 /** One row per vehicle: every finding, one combined list of checks, and the cautions beyond the general one. */
-function workListRow(w: WorkItem): string {
+function workListRow(item: WorkItem): string {
   const label =
-    (w.label ? `<br><span class="note">${e(w.label)}</span>` : '') +
-    (w.depot ? `<br><span class="note">depot ${e(w.depot)}</span>` : '') +
-    (w.defaultProfile ? '<br><span class="note">default profile: cap, glycol and thermostat assumed</span>' : '');
-  const extra = w.cautions.slice(1);
-  return `<tr data-finding-id="${e(w.findingId)}" data-vehicle-id="${e(w.vehicleId)}">
-<td class="num">${w.rank}</td><td>${badge(w.priority)}</td>
-<td class="nowrap"><a href="#vehicle-${e(w.vehicleId)}"><b>${e(w.vehicleId)}</b></a>${label}</td><td class="num">${w.riskScore}</td>
-<td><ul class="findings">${w.findings.map(findingLine).join(' ')}</ul></td>
-<td class="check"><ol class="checks">${w.checks.map((c) => `<li>${e(c)}</li>`).join(' ')}</ol>${extra.length ? `<p class="caution-line">${extra.map(e).join(' ')}</p>` : ''}</td>
-<td class="nowrap">${e(w.since)}</td><td class="num">${pct(w.confidence)}</td></tr>`;
+    (item.label ? `<br><span class="note">${e(item.label)}</span>` : '') +
+    (item.depot ? `<br><span class="note">depot ${e(item.depot)}</span>` : '') +
+    (item.defaultProfile ? '<br><span class="note">default profile: cap, glycol and thermostat assumed</span>' : '');
+  const extra = item.cautions.slice(1);
+  return `<tr data-finding-id="${e(item.findingId)}" data-vehicle-id="${e(item.vehicleId)}">
+<td class="num">${item.rank}</td><td>${badge(item.priority)}</td>
+<td class="nowrap"><a href="#vehicle-${e(item.vehicleId)}"><b>${e(item.vehicleId)}</b></a>${label}</td><td class="num">${item.riskScore}</td>
+<td><ul class="findings">${item.findings.map(findingLine).join(' ')}</ul></td>
+<td class="check"><ol class="checks">${item.checks.map((c) => `<li>${e(c)}</li>`).join(' ')}</ol>${extra.length ? `<p class="caution-line">${extra.map(e).join(' ')}</p>` : ''}</td>
+<td class="nowrap">${e(item.since)}</td><td class="num">${pct(item.confidence)}</td></tr>`;
 }
 
-function workList(r: WeeklyReport): string {
-  if (r.workList.length === 0)
+function workList(report: WeeklyReport): string {
+  if (report.workList.length === 0)
     return '<p class="empty">Nothing to book: no unresolved findings at the end of the week.</p>';
-  return `<div class="caution" role="note">${e(r.caution)}</div>
+  return `<div class="caution" role="note">${e(report.caution)}</div>
 <table id="work-list-table"><thead><tr><th class="num">#</th><th>priority</th><th>vehicle</th><th class="num">risk</th><th>findings</th><th>what to check (one visit)</th><th>since</th><th class="num">confidence</th></tr></thead>
-<tbody>${r.workList.map(workListRow).join('\n')}</tbody></table>`;
+<tbody>${report.workList.map(workListRow).join('\n')}</tbody></table>`;
 }
 
 /** What the booking words, severities, risk and statuses mean. */
@@ -95,10 +95,10 @@ function legend(): string {
   );
 }
 
-function findingsTable(r: WeeklyReport): string {
-  const rows = r.findings.byKindSeverity;
+function findingsTable(report: WeeklyReport): string {
+  const rows = report.findings.byKindSeverity;
   if (rows.length === 0) return '<p class="empty">No findings this week.</p>';
-  const resolved = r.findings.resolvedThisWeek
+  const resolved = report.findings.resolvedThisWeek
     .map(
       (x) =>
         `<li>${e(x.vehicleId)}: ${e(kindLabel(x.kind))} (${e(x.severity)}) resolved ${e(x.resolvedAt.slice(0, 10))}${x.reason ? ` — ${e(resolvedReasonLabel(x.reason) ?? '')}` : ''}</li>`,

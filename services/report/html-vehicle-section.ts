@@ -9,8 +9,8 @@ export const priorityClass = (p: string) => p.replace(/\s+/g, '-');
 export const badge = (p: string) => `<span class="badge ${priorityClass(p)}">${e(p)}</span>`;
 
 /** What the warm-up chart shows, in words (the caption). */
-export function warmupCaption(v: VehicleSection): string {
-  const w = v.warmup;
+export function warmupCaption(section: VehicleSection): string {
+  const w = section.warmup;
   const band = w.band.length
     ? `Green: the range of this vehicle's healthy cold starts (${w.baselineRuns} before ${w.baselineUntil}).`
     : 'No healthy range: fewer than three judged cold starts before the onset.';
@@ -21,9 +21,9 @@ export function warmupCaption(v: VehicleSection): string {
 }
 
 /** What the daily-peak chart shows, in words, with the projected boiling date. */
-export function peakCaption(v: VehicleSection, unit: TemperatureUnit = 'C'): string {
+export function peakCaption(section: VehicleSection, unit: TemperatureUnit = 'C'): string {
   const deg = degreeSign(unit);
-  const p = v.peaks;
+  const p = section.peaks;
   const t = p.trend;
   let trend = 'Too few days with driving for a trend.';
   if (t) {
@@ -41,32 +41,32 @@ export function peakCaption(v: VehicleSection, unit: TemperatureUnit = 'C'): str
     }
   }
   const from =
-    v.siteSource === 'depot'
-      ? ` (depot ${e(v.depot ?? '')})`
-      : v.siteSource === 'sea level'
+    section.siteSource === 'depot'
+      ? ` (depot ${e(section.depot ?? '')})`
+      : section.siteSource === 'sea level'
         ? ' (sea level: no site given)'
         : '';
   const site =
-    v.atmosphericPressureKpa !== undefined
-      ? ` at ${round(v.atmosphericPressureKpa, 1)} kPa atmospheric pressure${from}`
+    section.atmosphericPressureKpa !== undefined
+      ? ` at ${round(section.atmosphericPressureKpa, 1)} kPa atmospheric pressure${from}`
       : '';
-  const assumed = v.defaultProfile
+  const assumed = section.defaultProfile
     ? " These are the default profile values, not the vehicle's own: set its profile for a true figure."
     : '';
-  return `${trend} Boiling point for a ${v.capPressureKpa} kPa cap and ${v.glycolPercent} % glycol by mass${site}.${assumed} Peaks climbing while ambient does not point to the cooling system, not the weather.`;
+  return `${trend} Boiling point for a ${section.capPressureKpa} kPa cap and ${section.glycolPercent} % glycol by mass${site}.${assumed} Peaks climbing while ambient does not point to the cooling system, not the weather.`;
 }
 
 /** One at-risk vehicle: heading, the top finding, and its two charts. */
-export function vehicleSectionHtml(v: VehicleSection, timeZone: string, unit: TemperatureUnit = 'C'): string {
+export function vehicleSectionHtml(section: VehicleSection, timeZone: string, unit: TemperatureUnit = 'C'): string {
   const label =
-    (v.label ? ` <span class="note">${e(v.label)}</span>` : '') +
-    (v.depot ? ` <span class="note">depot ${e(v.depot)}</span>` : '');
-  return `<article class="vehicle" id="vehicle-${e(v.vehicleId)}" data-vehicle-id="${e(v.vehicleId)}">
-<h3>${e(v.vehicleId)}${label} ${badge(v.priority)} <span class="note">risk ${v.riskScore} · ${e(v.engineFamily)}</span></h3>
-<p class="headline">${e(v.headline)}</p>
+    (section.label ? ` <span class="note">${e(section.label)}</span>` : '') +
+    (section.depot ? ` <span class="note">depot ${e(section.depot)}</span>` : '');
+  return `<article class="vehicle" id="vehicle-${e(section.vehicleId)}" data-vehicle-id="${e(section.vehicleId)}">
+<h3>${e(section.vehicleId)}${label} ${badge(section.priority)} <span class="note">risk ${section.riskScore} · ${e(section.engineFamily)}</span></h3>
+<p class="headline">${e(section.headline)}</p>
 <div class="charts">
-<figure class="warmup">${warmupChartSvg(v.warmup, timeZone, v.vehicleId, unit)}<figcaption><b>Cold-start warm-ups.</b> ${e(warmupCaption(v))}</figcaption></figure>
-<figure class="peaks">${peakChartSvg(v.peaks, v.vehicleId, unit)}<figcaption><b>Daily peak coolant vs ambient.</b> ${peakCaption(v, unit)}</figcaption></figure>
+<figure class="warmup">${warmupChartSvg(section.warmup, timeZone, section.vehicleId, unit)}<figcaption><b>Cold-start warm-ups.</b> ${e(warmupCaption(section))}</figcaption></figure>
+<figure class="peaks">${peakChartSvg(section.peaks, section.vehicleId, unit)}<figcaption><b>Daily peak coolant vs ambient.</b> ${peakCaption(section, unit)}</figcaption></figure>
 </div>
 </article>`;
 }

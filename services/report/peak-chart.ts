@@ -16,8 +16,8 @@ const MONTHS = ['Jan', 'Feb', 'Mar', 'Apr', 'May', 'Jun', 'Jul', 'Aug', 'Sep', '
 const dayLabel = (ms: number) => `${new Date(ms).getUTCDate()} ${MONTHS[new Date(ms).getUTCMonth()]}`;
 
 /** The trend line's points: through the level on the anchor day with Sen's slope, back over the window and on to the projection. */
-export function trendLine(p: PeakChart): { fitted: [number, number][]; projected: [number, number][] } {
-  const t = p.trend;
+export function trendLine(chart: PeakChart): { fitted: [number, number][]; projected: [number, number][] } {
+  const t = chart.trend;
   if (!t) return { fitted: [], projected: [] };
   const anchor = dayMs(t.anchorDay);
   const at = (ms: number): [number, number] => [
@@ -34,10 +34,10 @@ export function trendLine(p: PeakChart): { fitted: [number, number][]; projected
  * Daily peak coolant temperature and daily maximum ambient, the Sen's-slope trend and its
  * projection towards the boiling point at cap pressure (drawn as a limit line).
  */
-export function peakChartSvg(p: PeakChart, vehicleId: string, unit: TemperatureUnit = 'C'): string {
+export function peakChartSvg(chart: PeakChart, vehicleId: string, unit: TemperatureUnit = 'C'): string {
   const deg = degreeSign(unit);
-  const { fitted, projected } = trendLine(p);
-  const t = p.trend;
+  const { fitted, projected } = trendLine(chart);
+  const t = chart.trend;
   const trendName = t
     ? `trend ${t.senSlopeCPerDay >= 0 ? '+' : ''}${t.senSlopeCPerDay.toFixed(2)} ${deg}/day`
     : 'trend';
@@ -53,7 +53,7 @@ export function peakChartSvg(p: PeakChart, vehicleId: string, unit: TemperatureU
       symbol: 'circle',
       symbolSize: 5,
       lineStyle: { width: 1.5 },
-      data: p.days.map((d) => [dayMs(d.day), d.peakCoolantC]),
+      data: chart.days.map((d) => [dayMs(d.day), d.peakCoolantC]),
       z: 3,
     },
     {
@@ -63,7 +63,7 @@ export function peakChartSvg(p: PeakChart, vehicleId: string, unit: TemperatureU
       symbol: 'triangle',
       symbolSize: 4,
       lineStyle: { width: 1 },
-      data: p.days.filter((d) => d.ambientMaxC !== null).map((d) => [dayMs(d.day), d.ambientMaxC]),
+      data: chart.days.filter((d) => d.ambientMaxC !== null).map((d) => [dayMs(d.day), d.ambientMaxC]),
       z: 2,
     },
     ...(fitted.length
@@ -115,19 +115,19 @@ export function peakChartSvg(p: PeakChart, vehicleId: string, unit: TemperatureU
         label: { position: 'insideStartTop' as const, fontSize: 10, color: '#333' },
         data: [
           {
-            yAxis: p.boilingPointC,
-            label: { formatter: `boiling point at cap pressure ${p.boilingPointC} ${deg}` },
+            yAxis: chart.boilingPointC,
+            label: { formatter: `boiling point at cap pressure ${chart.boilingPointC} ${deg}` },
             lineStyle: { color: TREND_COLOUR, type: 'solid' as const },
           },
-          { yAxis: p.hotThresholdC, label: { formatter: `overheat threshold ${p.hotThresholdC} ${deg}` } },
+          { yAxis: chart.hotThresholdC, label: { formatter: `overheat threshold ${chart.hotThresholdC} ${deg}` } },
         ],
       },
     },
   ];
-  const lows = p.days.flatMap((d) => (d.ambientMaxC === null ? [d.peakCoolantC] : [d.peakCoolantC, d.ambientMaxC]));
-  const firstMs = p.days.length ? dayMs(p.days[0]!.day) : Date.now();
+  const lows = chart.days.flatMap((d) => (d.ambientMaxC === null ? [d.peakCoolantC] : [d.peakCoolantC, d.ambientMaxC]));
+  const firstMs = chart.days.length ? dayMs(chart.days[0]!.day) : Date.now();
   const lastMs = Math.max(
-    p.days.length ? dayMs(p.days[p.days.length - 1]!.day) : firstMs,
+    chart.days.length ? dayMs(chart.days[chart.days.length - 1]!.day) : firstMs,
     ...projected.map((q) => q[0]),
   );
   const option: ChartOption = {
@@ -151,7 +151,7 @@ export function peakChartSvg(p: PeakChart, vehicleId: string, unit: TemperatureU
       ...Y_NAME,
       interval: Y_STEP_C,
       min: Math.floor((Math.min(...lows, 0) - 2) / Y_STEP_C) * Y_STEP_C,
-      max: Math.ceil((p.boilingPointC + 6) / Y_STEP_C) * Y_STEP_C,
+      max: Math.ceil((chart.boilingPointC + 6) / Y_STEP_C) * Y_STEP_C,
     },
     series,
   };

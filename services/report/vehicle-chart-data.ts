@@ -55,19 +55,23 @@ export async function recentWarmupCurves(
  * The weekly report's two charts of a vehicle (also the web view's): cold starts against the
  * band of its healthy ones, daily peaks with the trend and the boiling point at cap pressure.
  */
-export function vehicleChartsOf(v: ChartProfile, input: ChartInput): { warmup: WarmupChart; peaks: PeakChart } {
-  const cfg = resolveConfig(v.engineFamily);
-  const boilingPointC = coolantBoilingPointC(v.capPressureKpa, v.glycolPercent, v.atmosphericPressureKpa);
+export function vehicleChartsOf(profile: ChartProfile, input: ChartInput): { warmup: WarmupChart; peaks: PeakChart } {
+  const cfg = resolveConfig(profile.engineFamily);
+  const boilingPointC = coolantBoilingPointC(
+    profile.capPressureKpa,
+    profile.glycolPercent,
+    profile.atmosphericPressureKpa,
+  );
   return {
     warmup: {
-      warmupTargetC: Math.round((v.thermostatOpenC - cfg.obdWarmupMarginC) * 10) / 10,
-      thermostatOpenC: v.thermostatOpenC,
+      warmupTargetC: Math.round((profile.thermostatOpenC - cfg.obdWarmupMarginC) * 10) / 10,
+      thermostatOpenC: profile.thermostatOpenC,
       baselineUntil: new Date(input.onsetMs).toISOString().slice(0, 10),
       ...baselineBand(input.runs.filter((r) => r.startMs >= input.bandFromMs && r.startMs < input.onsetMs)),
       curves: input.curves,
     },
     peaks: withFindingTrend(
-      peakChart(input.days, cfg.trendWindowDays, boilingPointC, v.thermostatOpenC + cfg.hotMarginC),
+      peakChart(input.days, cfg.trendWindowDays, boilingPointC, profile.thermostatOpenC + cfg.hotMarginC),
       input.trendFinding,
     ),
   };

@@ -34,8 +34,13 @@ export function newtonCurveC(
 }
 
 /** Whether a run can stand for healthy behaviour in the band. */
-export function isBandRun(r: RunMetrics): boolean {
-  return r.startKind === 'cold' && r.warmupEligible && !r.excludedForSensor && r.newtonTauS !== null;
+export function isBandRun(engineRun: RunMetrics): boolean {
+  return (
+    engineRun.startKind === 'cold' &&
+    engineRun.warmupEligible &&
+    !engineRun.excludedForSensor &&
+    engineRun.newtonTauS !== null
+  );
 }
 
 /** 10th/50th/90th percentile per minute of the healthy runs' fitted curves, and how many runs it holds (0: too few). */

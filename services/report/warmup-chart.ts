@@ -43,30 +43,30 @@ export function curveName(curve: WarmupChart['curves'][number], timeZone: string
  * over the vehicle's healthy band, with the warm-up target and the thermostat rating.
  */
 export function warmupChartSvg(
-  w: WarmupChart,
+  chart: WarmupChart,
   timeZone: string,
   vehicleId: string,
   unit: TemperatureUnit = 'C',
 ): string {
   const deg = degreeSign(unit);
-  const curveSeries = w.curves.map((c, i) => ({
+  const curveSeries = chart.curves.map((c, i) => ({
     name: curveName(c, timeZone, unit),
     type: 'line' as const,
     showSymbol: false,
     data: withBreaks(c.points),
     lineStyle: { width: 2, ...(c.source === 'newton-fit' ? { type: 'dashed' as const } : {}) },
-    color: CURVE_COLOURS[Math.max(0, CURVE_COLOURS.length - w.curves.length + i)]!,
+    color: CURVE_COLOURS[Math.max(0, CURVE_COLOURS.length - chart.curves.length + i)]!,
     z: 3,
   }));
   const polygon = [
-    ...w.band.map((b) => [b.minute, b.lowC]),
-    ...w.band
+    ...chart.band.map((b) => [b.minute, b.lowC]),
+    ...chart.band
       .slice()
       .reverse()
       .map((b) => [b.minute, b.highC]),
   ];
   const bandSeries =
-    w.band.length === 0
+    chart.band.length === 0
       ? []
       : [
           {
@@ -87,7 +87,7 @@ export function warmupChartSvg(
             showSymbol: false,
             color: BAND_LINE,
             lineStyle: { type: 'dashed' as const, width: 1.5 },
-            data: w.band.map((b) => [b.minute, b.medianC]),
+            data: chart.band.map((b) => [b.minute, b.medianC]),
             z: 2,
           },
         ];
@@ -102,16 +102,20 @@ export function warmupChartSvg(
       lineStyle: { color: '#555', type: 'dotted' as const },
       label: { position: 'insideEndTop' as const, fontSize: 10, color: '#333' },
       data: [
-        { yAxis: w.warmupTargetC, name: 'target', label: { formatter: `warm-up target ${w.warmupTargetC} ${deg}` } },
         {
-          yAxis: w.thermostatOpenC,
+          yAxis: chart.warmupTargetC,
+          name: 'target',
+          label: { formatter: `warm-up target ${chart.warmupTargetC} ${deg}` },
+        },
+        {
+          yAxis: chart.thermostatOpenC,
           name: 'thermostat',
-          label: { formatter: `thermostat opens ${w.thermostatOpenC} ${deg}`, position: 'insideStartTop' as const },
+          label: { formatter: `thermostat opens ${chart.thermostatOpenC} ${deg}`, position: 'insideStartTop' as const },
         },
       ],
     },
   };
-  const lows = [...w.curves.flatMap((c) => c.points.map((p) => p[1])), ...w.band.map((b) => b.lowC)];
+  const lows = [...chart.curves.flatMap((c) => c.points.map((p) => p[1])), ...chart.band.map((b) => b.lowC)];
   const option: ChartOption = {
     grid: GRID,
     legend: { ...LEGEND, data: [...bandSeries, ...curveSeries].map((x) => x.name) },
@@ -129,8 +133,8 @@ export function warmupChartSvg(
       name: `coolant ${deg}`,
       ...Y_NAME,
       interval: Y_STEP_C,
-      min: Math.floor((Math.min(...lows, w.warmupTargetC) - 2) / Y_STEP_C) * Y_STEP_C,
-      max: Math.ceil((w.thermostatOpenC + 12) / Y_STEP_C) * Y_STEP_C,
+      min: Math.floor((Math.min(...lows, chart.warmupTargetC) - 2) / Y_STEP_C) * Y_STEP_C,
+      max: Math.ceil((chart.thermostatOpenC + 12) / Y_STEP_C) * Y_STEP_C,
     },
     series: [...bandSeries, ...curveSeries, limits],
   };

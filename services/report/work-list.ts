@@ -57,23 +57,23 @@ export function withPlannerStatesAt(
 const statusOf = (f: StoredFinding): WorkFinding['status'] =>
   f.status === 'acknowledged' || f.status === 'deferred' ? f.status : 'open';
 
-function workFinding(f: StoredFinding, defaultProfile: boolean): WorkFinding {
-  const deferred = f.status === 'deferred';
+function workFinding(finding: StoredFinding, defaultProfile: boolean): WorkFinding {
+  const deferred = finding.status === 'deferred';
   return {
-    findingId: f.findingId,
-    kind: f.kind,
-    severity: f.severity,
-    status: statusOf(f),
-    priority: PRIORITY_OF[f.severity],
-    why: f.summary,
-    check: checkWithoutCaution(f.recommendedCheck),
-    since: utcDay(f.firstSeenMs),
-    lastSeen: utcDay(f.lastSeenMs),
-    confidence: round(f.confidence, 3),
-    troubleCode: f.troubleCode,
-    deferredUntil: deferred && f.deferredUntilMs !== null ? utcDay(f.deferredUntilMs) : null,
-    deferredReason: deferred ? f.deferredReason : null,
-    profileNote: defaultProfileNote(f.kind, defaultProfile),
+    findingId: finding.findingId,
+    kind: finding.kind,
+    severity: finding.severity,
+    status: statusOf(finding),
+    priority: PRIORITY_OF[finding.severity],
+    why: finding.summary,
+    check: checkWithoutCaution(finding.recommendedCheck),
+    since: utcDay(finding.firstSeenMs),
+    lastSeen: utcDay(finding.lastSeenMs),
+    confidence: round(finding.confidence, 3),
+    troubleCode: finding.troubleCode,
+    deferredUntil: deferred && finding.deferredUntilMs !== null ? utcDay(finding.deferredUntilMs) : null,
+    deferredReason: deferred ? finding.deferredReason : null,
+    profileNote: defaultProfileNote(finding.kind, defaultProfile),
   };
 }
 

@@ -15,7 +15,7 @@ export type GatewayEncoding = 'readings' | 'j1939' | 'obd';
  * rounds ambient to whole degrees (PID 0x46 has 1 °C resolution).
  * @example busLines('QP-101', chunk, 'j1939').split('\n')[0] // {"vehicleId":"QP-101","ts":…,"canId":"18FEEE00","data":"…"}
  */
-export function busLines(vehicleId: string, c: SampleChunk, as: 'j1939' | 'obd'): string {
+export function busLines(vehicleId: string, chunk: SampleChunk, as: 'j1939' | 'obd'): string {
   const out: string[] = [];
   const head = `{"vehicleId":${JSON.stringify(vehicleId)},"ts":`;
   const r: BusReading = {
@@ -27,13 +27,13 @@ export function busLines(vehicleId: string, c: SampleChunk, as: 'j1939' | 'obd')
     coolantLevelPct: NaN,
     coolantPressureKpa: NaN,
   };
-  for (let i = 0; i < c.length; i++) {
-    r.coolantC = c.coolant[i]!;
-    r.ambientC = c.ambient[i]!;
-    r.speedKph = c.speedKph[i]!;
-    r.rpm = c.rpm[i]!;
-    r.coolantLevelPct = c.coolantLevelPct ? c.coolantLevelPct[i]! : NaN;
-    const ts = c.ts[i]!;
+  for (let i = 0; i < chunk.length; i++) {
+    r.coolantC = chunk.coolant[i]!;
+    r.ambientC = chunk.ambient[i]!;
+    r.speedKph = chunk.speedKph[i]!;
+    r.rpm = chunk.rpm[i]!;
+    r.coolantLevelPct = chunk.coolantLevelPct ? chunk.coolantLevelPct[i]! : NaN;
+    const ts = chunk.ts[i]!;
     if (as === 'obd') out.push(`${head}${ts},"data":"${obdResponse(r)}"}`);
     else for (const f of j1939Frames(r)) out.push(`${head}${ts},"canId":"${f.canId}","data":"${f.data}"}`);
   }

@@ -120,31 +120,31 @@ function airSpeedMps(speedMps: number, fanAirMps: number): number {
  * coolant heat `ratedHeatW` is rejected at (rating + DESIGN_MARGIN_C) in DESIGN_AMBIENT_C air.
  */
 export function thermalParamsFor(
-  f: EngineFamily,
+  family: EngineFamily,
   ratedHeatW: number,
-  thermostatOpenC = f.thermostatOpenC,
+  thermostatOpenC = family.thermostatOpenC,
 ): ThermalParams {
-  const rhoCp = coolantDensityKgPerL(f.glycolPercent) * coolantSpecificHeatJPerKgK(f.glycolPercent);
-  const pump = rhoCp * f.pumpFlowLps;
+  const rhoCp = coolantDensityKgPerL(family.glycolPercent) * coolantSpecificHeatJPerKgK(family.glycolPercent);
+  const pump = rhoCp * family.pumpFlowLps;
   const needed = (DESIGN_HEAT_FRACTION * ratedHeatW) / (thermostatOpenC + DESIGN_MARGIN_C - DESIGN_AMBIENT_C);
   const designAirMps = airSpeedMps(DESIGN_SPEED_MPS, V_FAN_MPS);
   const airCapacity = DESIGN_AIR_CAPACITY_RATIO * needed;
   const uaAtDesign = 1 / (1 / needed - 1 / pump - 1 / airCapacity);
-  if (!(uaAtDesign > 0)) throw new Error(`${f.name}: pump flow too small for the rated heat`);
+  if (!(uaAtDesign > 0)) throw new Error(`${family.name}: pump flow too small for the rated heat`);
   return {
-    metalHeatCapacityJPerK: f.metalHeatCapacityJPerK,
-    coolantHeatCapacityJPerK: rhoCp * f.coolantVolumeL,
+    metalHeatCapacityJPerK: family.metalHeatCapacityJPerK,
+    coolantHeatCapacityJPerK: rhoCp * family.coolantVolumeL,
     pumpCapacityRateWPerK: pump,
-    ratedRpm: f.ratedRpm,
-    blockLossWPerK: f.blockLossWPerK,
-    soakLossWPerK: f.soakLossWPerK,
+    ratedRpm: family.ratedRpm,
+    blockLossWPerK: family.blockLossWPerK,
+    soakLossWPerK: family.soakLossWPerK,
     radiatorAirWPerK: uaAtDesign / Math.pow(designAirMps / V_FAN_MPS, AIR_SIDE_EXPONENT),
     airCapacityWPerKPerMps: airCapacity / designAirMps,
-    heaterMaxWPerK: f.heaterMaxWPerK,
+    heaterMaxWPerK: family.heaterMaxWPerK,
     thermostatOpenC,
     fanOnC: thermostatOpenC + FAN_ON_ABOVE_RATING_C,
     fanOffC: thermostatOpenC + FAN_OFF_ABOVE_RATING_C,
-    boilC: coolantBoilingPointC(f.capPressureKpa, f.glycolPercent),
+    boilC: coolantBoilingPointC(family.capPressureKpa, family.glycolPercent),
   };
 }
 
@@ -168,9 +168,14 @@ export function airSideFactor(vAirMps: number): number {
  * Radiator conductance, W/K, for coolant capacity rate wCool (W/K) and air speed through the
  * core vAir (m/s), with the air side scaled by airFactor (fouling, dry tubes; 1 = clean, full).
  */
-export function radiatorConductanceWPerK(p: ThermalParams, wCool: number, vAir: number, airFactor: number): number {
-  const ua = p.radiatorAirWPerK * airFactor * airSideFactor(vAir);
-  const wAir = p.airCapacityWPerKPerMps * airFactor * vAir;
+export function radiatorConductanceWPerK(
+  params: ThermalParams,
+  wCool: number,
+  vAir: number,
+  airFactor: number,
+): number {
+  const ua = params.radiatorAirWPerK * airFactor * airSideFactor(vAir);
+  const wAir = params.airCapacityWPerKPerMps * airFactor * vAir;
   return wCool > 0 && ua > 0 ? 1 / (1 / wCool + 1 / ua + 1 / wAir) : 0;
 }
 

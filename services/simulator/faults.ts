@@ -56,9 +56,9 @@ export function isSensorFault(kind: FaultKind): boolean {
 }
 
 /** How far a fault has grown at tMs (epoch ms, at or after onset): 0..1, 1 for an abrupt fault. */
-export function faultRamp(f: FaultSpec, tMs: number): number {
-  if (!f.rampDays || f.rampDays <= 0) return 1;
-  return Math.min(1, Math.max(0, (tMs - f.onsetMs) / (f.rampDays * DAY_MS)));
+export function faultRamp(fault: FaultSpec, tMs: number): number {
+  if (!fault.rampDays || fault.rampDays <= 0) return 1;
+  return Math.min(1, Math.max(0, (tMs - fault.onsetMs) / (fault.rampDays * DAY_MS)));
 }
 /** Smallest opening of a stuck-open thermostat at severity 0 and its growth with severity. */
 export const STUCK_OPEN_BASE = 0.04;

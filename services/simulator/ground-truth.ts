@@ -15,10 +15,10 @@ export interface TruthEntry {
 }
 
 /** Ground-truth group of a vehicle: 'fault', or healthy by climate ('heavy-load' = long haul in heat). */
-export function truthGroup(v: SimVehicle): string {
-  if (v.faults.length > 0) return 'fault';
-  if (v.duty === 'long-haul' && v.climate === 'hot') return 'healthy-heavy-load';
-  return `healthy-${v.climate}`;
+export function truthGroup(vehicle: SimVehicle): string {
+  if (vehicle.faults.length > 0) return 'fault';
+  if (vehicle.duty === 'long-haul' && vehicle.climate === 'hot') return 'healthy-heavy-load';
+  return `healthy-${vehicle.climate}`;
 }
 
 /** Ground truth for a fleet, in fleet order. */

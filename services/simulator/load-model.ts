@@ -68,6 +68,9 @@ export class LoadModel {
 }
 
 /** Heat to the coolant at rated power and speed, W (used to size the radiator). */
-export function ratedCoolantHeatW(f: EngineFamily): number {
-  return COOLANT_HEAT_FRACTION * (f.idleFuelW * (f.ratedRpm / f.idleRpm) + f.ratedPowerW / f.brakeEfficiency);
+export function ratedCoolantHeatW(family: EngineFamily): number {
+  return (
+    COOLANT_HEAT_FRACTION *
+    (family.idleFuelW * (family.ratedRpm / family.idleRpm) + family.ratedPowerW / family.brakeEfficiency)
+  );
 }

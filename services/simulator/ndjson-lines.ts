@@ -41,11 +41,11 @@ export class NdjsonEncoder {
   }
 
   /** NDJSON bytes for samples [from, to) of a chunk; a fresh Buffer the caller may keep. */
-  encode(c: SampleChunk, from = 0, to = c.length): Buffer {
+  encode(chunk: SampleChunk, from = 0, to = chunk.length): Buffer {
     this.buf = Buffer.allocUnsafe((to - from) * (this.head.length + MAX_LINE_BYTES_WITHOUT_ID));
     this.pos = 0;
     for (let i = from; i < to; i++) {
-      const t = c.ts[i] as number;
+      const t = chunk.ts[i] as number;
       this.put(this.head);
       const hour = Math.floor(t / HOUR_MS) * HOUR_MS;
       if (hour !== this.hourMs) {
@@ -58,21 +58,21 @@ export class NdjsonEncoder {
         this.put(MINUTE_SECOND[inHour / 1000] as Uint8Array);
       } else this.ascii(new Date(t).toISOString());
       this.put(COOLANT);
-      this.num(c.coolant[i] as number);
+      this.num(chunk.coolant[i] as number);
       this.put(AMBIENT);
-      this.num(c.ambient[i] as number);
+      this.num(chunk.ambient[i] as number);
       this.put(SPEED);
-      this.num(c.speedKph[i] as number);
+      this.num(chunk.speedKph[i] as number);
       this.put(RPM);
-      this.num(c.rpm[i] as number);
+      this.num(chunk.rpm[i] as number);
       this.put(TAIL);
     }
     return this.buf.subarray(0, this.pos);
   }
 
   /** Same lines as a string. */
-  lines(c: SampleChunk, from = 0, to = c.length): string {
-    return this.encode(c, from, to).toString('latin1');
+  lines(chunk: SampleChunk, from = 0, to = chunk.length): string {
+    return this.encode(chunk, from, to).toString('latin1');
   }
 
   private put(b: Uint8Array): void {

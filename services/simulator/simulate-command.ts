@@ -59,8 +59,8 @@ const STREAM_HIGH_WATER_BYTES = 1 << 20;
 const PROGRESS_EVERY_MS = 1000;
 
 /** Vehicle profile as written to vehicles.json (what a planner would register; faults are truth). */
-function profileOf(v: SimVehicle): Omit<SimVehicle, 'faults'> {
-  const { faults: _faults, ...profile } = v;
+function profileOf(vehicle: SimVehicle): Omit<SimVehicle, 'faults'> {
+  const { faults: _faults, ...profile } = vehicle;
   return profile;
 }
 

@@ -69,26 +69,31 @@ const COOLANT_LEVEL_RESOLUTION_PCT = 0.4;
  * with the number of days. Deterministic for (vehicle, options).
  * @example for (const c of simulateVehicle(v, { startMs: Date.UTC(2026, 9, 5), days: 7, seed: 1 })) total += c.length;
  */
-export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<SampleChunk> {
-  const family = { ...engineFamily(v.engineFamily), glycolPercent: v.glycolPercent };
-  const key = `${v.vehicleId}`;
+export function* simulateVehicle(vehicle: SimVehicle, opts: SimOptions): Generator<SampleChunk> {
+  const family = { ...engineFamily(vehicle.engineFamily), glycolPercent: vehicle.glycolPercent };
+  const key = `${vehicle.vehicleId}`;
   const scheduleRng = new Rng(hashSeed(opts.seed, `schedule:${key}`));
   const driveRng = new Rng(hashSeed(opts.seed, `drive:${key}`));
   const sensorRng = new Rng(hashSeed(opts.seed, `sensor:${key}`));
   const linkRng = new Rng(hashSeed(opts.seed, `link:${key}`));
-  const offsetMs = (v.utcOffsetHours ?? 0) * HOUR_MS;
-  const fv = v.variation;
+  const offsetMs = (vehicle.utcOffsetHours ?? 0) * HOUR_MS;
+  const fv = vehicle.variation;
   const anomalies = fv?.weatherEvents
-    ? drawWeatherEvents(v.climate, opts.startMs, opts.days, new Rng(hashSeed(opts.seed, `weather-events:${v.depot}`)))
+    ? drawWeatherEvents(
+        vehicle.climate,
+        opts.startMs,
+        opts.days,
+        new Rng(hashSeed(opts.seed, `weather-events:${vehicle.depot}`)),
+      )
     : [];
   const weather = new AmbientModel(
-    v.climate,
-    v.utcOffsetHours ?? 0,
-    hashSeed(opts.seed, `weather:${v.depot}`),
+    vehicle.climate,
+    vehicle.utcOffsetHours ?? 0,
+    hashSeed(opts.seed, `weather:${vehicle.depot}`),
     anomalies,
   );
   const load = new LoadModel(family, family.vehicleMassKg);
-  const params = thermalParamsFor(family, ratedCoolantHeatW(family), v.thermostatOpenC);
+  const params = thermalParamsFor(family, ratedCoolantHeatW(family), vehicle.thermostatOpenC);
   if (fv) {
     // The valve opens off its rating; the fan setpoints and the radiator stay as designed.
     params.thermostatOpenC += fv.thermostatOffsetC;
@@ -97,11 +102,11 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
         (params.metalHeatCapacityJPerK + params.coolantHeatCapacityJPerK) / (fv.soakTimeConstantH * 3600);
   }
   const cs = new CoolingSystem(params, weather.at(opts.startMs));
-  const drive = new DriveCycle(DRIVE_PROFILES[v.duty], driveRng);
-  const sensor = new CoolantSensor(v.faults, sensorRng, fv?.coolantResolutionC ?? 1);
+  const drive = new DriveCycle(DRIVE_PROFILES[vehicle.duty], driveRng);
+  const sensor = new CoolantSensor(vehicle.faults, sensorRng, fv?.coolantResolutionC ?? 1);
   const link = new LinkDropouts(linkRng, fv?.dropoutScale ?? 1);
   const ambientBiasC = sensorRng.uniform(-0.5, 0.5);
-  const shiftStartS = usualShiftStartS(v.duty, scheduleRng);
+  const shiftStartS = usualShiftStartS(vehicle.duty, scheduleRng);
   const field = fv
     ? new FieldConditions(
         fv,
@@ -130,12 +135,12 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
   for (let midnight = firstMidnightMs; midnight < endMs; midnight += DAY_MS) {
     const dayOfWeek = new Date(midnight + offsetMs).getUTCDay();
     const today = field?.day();
-    if (!worksOn(v.duty, dayOfWeek, scheduleRng)) continue;
+    if (!worksOn(vehicle.duty, dayOfWeek, scheduleRng)) continue;
     load.massKg =
       family.vehicleMassKg +
       family.payloadMaxKg * (fv?.payloadFullRange ? scheduleRng.uniform(0, 1) : scheduleRng.uniform(0.2, 1));
     drive.gradeScale = today?.gradeScale ?? 1;
-    const runs = planDay(v.duty, shiftStartS, scheduleRng);
+    const runs = planDay(vehicle.duty, shiftStartS, scheduleRng);
     const spell = today?.idleSpell;
     const middle = runs[runs.length >> 1];
     if (spell && middle?.legs[0])
@@ -172,7 +177,7 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
           if (tMs >= nextSlowMs) {
             nextSlowMs = tMs + SLOW_UPDATE_MS;
             ambientC = weather.at(tMs);
-            applyPhysicalFaults(cs, v.faults, tMs, healthyAirFactor);
+            applyPhysicalFaults(cs, vehicle.faults, tMs, healthyAirFactor);
           }
           const speed = driving ? drive.speedMps : 0;
           const acOn = ambientC > AC_ON_ABOVE_C;
@@ -187,7 +192,7 @@ export function* simulateVehicle(v: SimVehicle, opts: SimOptions): Generator<Sam
           const pickup = speed < 8 ? AMBIENT_HEAT_PICKUP_C * (1 - speed / 8) * clamp01((coolantC - ambientC) / 60) : 0;
           // Drawn before the sensor may drop the sample, so the clock stream does not depend on faults.
           const airC = field
-            ? field.ambientSensorC(ambientC, pickup, speed, localHour(tMs, v.utcOffsetHours ?? 0), periodS) +
+            ? field.ambientSensorC(ambientC, pickup, speed, localHour(tMs, vehicle.utcOffsetHours ?? 0), periodS) +
               ambientBiasC
             : ambientC + ambientBiasC + pickup;
           const ts = field ? field.timestamp(tMs, periodS) : tMs;
@@ -248,15 +253,15 @@ function newChunk(size: number): SampleChunk {
   };
 }
 
-function sliceChunk(c: SampleChunk, n: number): SampleChunk {
+function sliceChunk(chunk: SampleChunk, n: number): SampleChunk {
   return {
     length: n,
-    ts: c.ts.subarray(0, n),
-    coolant: c.coolant.subarray(0, n),
-    ambient: c.ambient.subarray(0, n),
-    speedKph: c.speedKph.subarray(0, n),
-    rpm: c.rpm.subarray(0, n),
-    coolantTrue: c.coolantTrue.subarray(0, n),
-    coolantLevelPct: c.coolantLevelPct!.subarray(0, n),
+    ts: chunk.ts.subarray(0, n),
+    coolant: chunk.coolant.subarray(0, n),
+    ambient: chunk.ambient.subarray(0, n),
+    speedKph: chunk.speedKph.subarray(0, n),
+    rpm: chunk.rpm.subarray(0, n),
+    coolantTrue: chunk.coolantTrue.subarray(0, n),
+    coolantLevelPct: chunk.coolantLevelPct!.subarray(0, n),
   };
 }

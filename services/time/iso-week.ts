@@ -58,8 +58,8 @@ export function isoWeekDate(w: IsoWeek, weekday = 1): string {
 }
 
 /** The week after (or, with a negative step, before) `w`. */
-export function addIsoWeeks(w: IsoWeek, step: number): IsoWeek {
-  const [y, m, d] = isoWeekDate(w).split('-').map(Number) as [number, number, number];
+export function addIsoWeeks(week: IsoWeek, step: number): IsoWeek {
+  const [y, m, d] = isoWeekDate(week).split('-').map(Number) as [number, number, number];
   const ms = Date.UTC(y, m - 1, d) + step * 7 * DAY_MS;
   const date = new Date(ms);
   return isoWeekOfDate(date.getUTCFullYear(), date.getUTCMonth() + 1, date.getUTCDate());
@@ -76,14 +76,14 @@ export interface WeekWindow {
 }
 
 /** The window of an ISO week in `timeZone`. */
-export function weekWindow(w: IsoWeek, timeZone: string): WeekWindow {
-  const dates = [1, 2, 3, 4, 5, 6, 7].map((d) => isoWeekDate(w, d));
+export function weekWindow(week: IsoWeek, timeZone: string): WeekWindow {
+  const dates = [1, 2, 3, 4, 5, 6, 7].map((d) => isoWeekDate(week, d));
   const at = (date: string) => {
     const [y, m, d] = date.split('-').map(Number) as [number, number, number];
     return zonedTimeToUtcMs(y, m, d, 0, timeZone);
   };
-  const next = isoWeekDate(addIsoWeeks(w, 1));
-  return { isoWeek: formatIsoWeek(w), timeZone, dates, startMs: at(dates[0]!), endMs: at(next) };
+  const next = isoWeekDate(addIsoWeeks(week, 1));
+  return { isoWeek: formatIsoWeek(week), timeZone, dates, startMs: at(dates[0]!), endMs: at(next) };
 }
 
 /** The ISO week holding instant `ms` on the local calendar of `timeZone`. */

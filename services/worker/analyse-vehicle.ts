@@ -68,11 +68,11 @@ export interface AnalyseContext {
 }
 
 /** The runs, days and sensor events of one slice that are final, given where the next slice starts. */
-function finalPart(r: WindowResults, beforeMs: number): WindowResults {
+function finalPart(results: WindowResults, beforeMs: number): WindowResults {
   return {
-    runs: r.runs.filter((x) => x.startMs < beforeMs),
-    days: r.days.filter((x) => x.dayStartMs < beforeMs),
-    sensorEvents: r.sensorEvents.filter((x) => x.runStartMs < beforeMs),
+    runs: results.runs.filter((x) => x.startMs < beforeMs),
+    days: results.days.filter((x) => x.dayStartMs < beforeMs),
+    sensorEvents: results.sensorEvents.filter((x) => x.runStartMs < beforeMs),
   };
 }
 
@@ -225,10 +225,10 @@ export class WindowAnalysis {
 }
 
 /** A copy of the rows from `k` on (the caller's arrays may be views into buffers it reuses). */
-function sliceArrays(a: SampleArrays, k: number): SampleArrays {
+function sliceArrays(samples: SampleArrays, k: number): SampleArrays {
   const out = {} as SampleArrays;
   for (const c of COLUMN_NAMES) {
-    const col = a[c];
+    const col = samples[c];
     if (col) out[c] = col.slice(k);
   }
   return out;

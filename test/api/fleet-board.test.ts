@@ -1,4 +1,7 @@
+import { sql } from 'kysely';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { refreshVehicleRisk } from '../../services/db/vehicle-risk.js';
+import { fillOpenSinceMs } from '../../migrations/0011-fleet-board-keyset.js';
 import { type BoardVehicle, seedBoardVehicle } from '../helpers/board-fleet.js';
 import { useTestApp } from '../helpers/test-app.js';
 import { HOUR_MS, DAY_MS } from '../../services/time/durations.js';
@@ -53,6 +56,20 @@ const FLEET: BoardVehicle[] = [
     findings: [],
   },
   { vehicleId: 'V-06', fleetId: 'board', label: 'never reported', lastReadingMs: null, findings: [] },
+  // A fleet with a vehicle without a depot, for the depot sort.
+  {
+    vehicleId: 'V-07',
+    fleetId: 'board-depotless',
+    lastReadingMs: NOW - HOUR_MS,
+    findings: [{ kind: 'overshoot', severity: 'critical', onsetMs: NOW - DAY_MS }],
+  },
+  {
+    vehicleId: 'V-08',
+    fleetId: 'board-depotless',
+    depot: 'yard',
+    lastReadingMs: NOW - HOUR_MS,
+    findings: [{ kind: 'overshoot', severity: 'advisory', onsetMs: NOW - DAY_MS }],
+  },
   {
     vehicleId: 'W-01',
     fleetId: 'elsewhere',
@@ -155,14 +172,82 @@ describe('the fleet page list', () => {
     expect(ids(await board('?sort=priority&order=asc'))).toEqual(['V-01', 'V-02', 'V-04', 'V-03']);
   });
 
-  it('pages with limit and offset, the total staying that of the filter, also past the last page', async () => {
-    const p1 = await board('?limit=3');
-    const p2 = await board('?limit=3&offset=3');
-    expect(ids(p1)).toEqual(['V-01', 'V-02', 'V-04']);
+  it('pages by cursor in every sort and direction: each row once, in the order of one big page, the total that of the filter', async () => {
+    for (const sort of ['risk', 'priority', 'since', 'vehicle', 'depot'])
+      for (const order of ['asc', 'desc']) {
+        const all = ids(await board(`?sort=${sort}&order=${order}&limit=200`));
+        expect(all).toHaveLength(4);
+        const walked: string[] = [];
+        let cursor: string | null = null;
+        do {
+          const page: Board & { nextCursor: string | null } = (await board(
+            `?sort=${sort}&order=${order}&limit=1${cursor ? `&cursor=${cursor}` : ''}`,
+          )) as Board & { nextCursor: string | null };
+          expect(page.total).toBe(4);
+          walked.push(...ids(page));
+          cursor = page.nextCursor;
+        } while (cursor);
+        expect(walked, `${sort} ${order}`).toEqual(all);
+        // desc is the exact reverse of asc.
+        if (order === 'desc') expect(all).toEqual(ids(await board(`?sort=${sort}&order=asc&limit=200`)).reverse());
+      }
+  });
+
+  it("keeps each vehicle's earliest unresolved onset for the since sort, and migration 0011 fills it the same for existing rows", async () => {
+    const db = t.tdb.handle.db;
+    const since = async () =>
+      (
+        await sql<{ vehicle_id: string; open_since_ms: number | null }>`
+          select vehicle_id, open_since_ms from vehicle_analysis where fleet_id = 'board' order by vehicle_id`.execute(
+          db,
+        )
+      ).rows;
+    const kept = await since();
+    const v2 = kept.find((r) => r.vehicle_id === 'V-02')!;
+    // V-02's findings began 20 and 10 days ago: the earlier one.
+    expect(v2.open_since_ms).toBeCloseTo(NOW - 20 * DAY_MS, -3);
+    expect(kept.find((r) => r.vehicle_id === 'V-05')!.open_since_ms).toBeNull();
+    await sql`update vehicle_analysis set open_since_ms = null where fleet_id = 'board'`.execute(db);
+    await fillOpenSinceMs(db);
+    expect(await since()).toEqual(kept);
+  });
+
+  it('pages with a filter: the cursor carries the position, the filter stays the query', async () => {
+    const p1 = (await board('?kind=overshoot&limit=1')) as Board & { nextCursor: string | null };
+    expect(ids(p1)).toEqual(['V-02']);
+    const p2 = (await board(`?kind=overshoot&limit=1&cursor=${p1.nextCursor}`)) as Board & {
+      nextCursor: string | null;
+    };
     expect(ids(p2)).toEqual(['V-03']);
-    expect([p1.total, p2.total]).toEqual([4, 4]);
-    const past = await board('?limit=3&offset=30');
-    expect(past).toMatchObject({ total: 4, vehicles: [] });
+    expect([p1.total, p2.total]).toEqual([2, 2]);
+    expect(p2.nextCursor).toBeNull();
+  });
+
+  it('sorts vehicles without a depot after every depot (asc), before them in desc', async () => {
+    const asc = ids(await board('?fleet=board-depotless&sort=depot&order=asc', adminKey));
+    expect(asc).toEqual(['V-08', 'V-07']);
+    const first = (await board('?fleet=board-depotless&sort=depot&order=asc&limit=1', adminKey)) as Board & {
+      nextCursor: string;
+    };
+    expect(
+      ids(await board(`?fleet=board-depotless&sort=depot&order=asc&limit=1&cursor=${first.nextCursor}`, adminKey)),
+    ).toEqual(['V-07']);
+    expect(ids(await board('?fleet=board-depotless&sort=depot&order=desc', adminKey))).toEqual(['V-07', 'V-08']);
+  });
+
+  it('answers the finding sentences in °F with ?unit=F', async () => {
+    const db = t.tdb.handle.db;
+    await sql`update findings set summary = 'Daily peaks reach 112 °C.' where vehicle_id = 'V-03'`.execute(db);
+    await db.transaction().execute((trx) => refreshVehicleRisk(trx, 'V-03'));
+    const c = await t.app.inject({ method: 'GET', url: '/v1/fleet/vehicles?q=V-03', headers: t.auth(key) });
+    const f = await t.app.inject({ method: 'GET', url: '/v1/fleet/vehicles?q=V-03&unit=F', headers: t.auth(key) });
+    expect([c.headers['x-temperature-unit'], f.headers['x-temperature-unit']]).toEqual(['C', 'F']);
+    expect(c.json().vehicles[0].findings[0].summary).toBe('Daily peaks reach 112 °C.');
+    // 112 °C = 233.6 °F (°F = °C · 9/5 + 32, NIST SP 811 — from memory), written to the sentence's whole degrees.
+    expect(f.json()).toMatchObject({
+      unit: 'F',
+      vehicles: [{ findings: [{ summary: 'Daily peaks reach 234 °F.' }] }],
+    });
   });
 
   it('keeps an acknowledged vehicle in the list, marked, and filters by the marks', async () => {
@@ -184,7 +269,9 @@ describe('the fleet page list', () => {
 
   it('shows a key only its own fleet; an admin sees every fleet or the one named', async () => {
     expect(ids(await board())).not.toContain('W-01');
-    expect(new Set(ids(await board('', adminKey)))).toEqual(new Set(['V-01', 'V-02', 'V-03', 'V-04', 'W-01']));
+    expect(new Set(ids(await board('', adminKey)))).toEqual(
+      new Set(['V-01', 'V-02', 'V-03', 'V-04', 'V-07', 'V-08', 'W-01']),
+    );
     expect(ids(await board('?fleet=elsewhere', adminKey))).toEqual(['W-01']);
     expect(
       (await t.app.inject({ method: 'GET', url: '/v1/fleet/vehicles?fleet=elsewhere', headers: t.auth(key) }))
@@ -197,7 +284,12 @@ describe('the fleet page list', () => {
     ['?order=up'],
     ['?limit=0'],
     ['?limit=201'],
-    ['?offset=-1'],
+    ['?offset=30'],
+    ['?cursor='],
+    ['?cursor=bm9wZQ'],
+    ['?q=%00'],
+    ['?q=a%00b'],
+    ['?depot=%00'],
     ['?severity=bad'],
     ['?kind=rust'],
     ['?mark=maybe'],

@@ -292,9 +292,16 @@ describe('GET /v1/findings filters', () => {
       '/v1/fleet/at-risk',
       '/v1/vehicles/{vehicleId}/service-events',
       '/v1/depots',
+      '/v1/fleet/vehicles',
+      '/v1/reports/weekly/archive',
     ]) {
       expect(params(path), path).toEqual(expect.arrayContaining(['limit', 'cursor']));
+      expect(params(path), path).not.toContain('offset');
       expect(JSON.stringify(doc.paths[path]!.get!.responses['200']), path).toContain('nextCursor');
     }
+    expect(params('/v1/fleet/vehicles')).toEqual(
+      expect.arrayContaining(['severity', 'kind', 'depot', 'mark', 'q', 'sort', 'order', 'unit']),
+    );
+    expect(params('/v1/vehicles/{vehicleId}/summary')).toContain('unit');
   });
 });

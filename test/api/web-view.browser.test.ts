@@ -102,6 +102,59 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     browser = await chromium.launch({ executablePath: requireChromium('the web view'), args: CHROMIUM_ARGS });
   }, 120_000);
 
+  it('pages the fleet list by cursor with the keyboard: Next and Previous keep the focus, every vehicle once, in order', async () => {
+    const { page, requests, errors } = await openPage();
+    await signIn(page);
+    const all = (await (await page.request.get(`${base}/v1/fleet/vehicles?limit=200`)).json()) as {
+      total: number;
+      vehicles: Array<{ vehicleId: string }>;
+    };
+    expect(all.total).toBeGreaterThanOrEqual(2);
+    await page.goto(`${base}/app/?limit=1`);
+    await page.waitForSelector('#fleet-table');
+    const pageIds = () =>
+      page.locator('#fleet-table tbody tr').evaluateAll((trs) => trs.map((tr) => tr.getAttribute('data-vehicle-id')!));
+    const seen: string[][] = [await pageIds()];
+    expect(await page.locator('#prev-page').isDisabled()).toBe(true);
+    await page.locator('#next-page').focus();
+    while (!(await page.locator('#next-page').isDisabled())) {
+      const info = `vehicles ${seen.flat().length + 1}–`;
+      await page.keyboard.press('Enter');
+      await expect.poll(() => page.locator('#page-info').textContent()).toContain(info);
+      seen.push(await pageIds());
+      // The focus stays on Next (on Previous once Next is disabled at the end).
+      expect(await page.evaluate('document.activeElement?.id')).toBe(
+        (await page.locator('#next-page').isDisabled()) ? 'prev-page' : 'next-page',
+      );
+      if (seen.length === 2) await shot(page, 'fleet-paged');
+    }
+    expect(seen.flat()).toEqual(all.vehicles.map((v) => v.vehicleId));
+    expect(await page.locator('#page-info').textContent()).toBe(
+      `vehicles ${seen.flat().length - seen.at(-1)!.length + 1}–${all.total} of ${all.total}`,
+    );
+    // Every page after the first was asked for with the cursor the page before answered, never an offset.
+    const listCalls = requests.filter((u) => u.includes('/v1/fleet/vehicles?'));
+    expect(listCalls.some((u) => u.includes('offset='))).toBe(false);
+    expect(listCalls.filter((u) => u.includes('cursor=')).length).toBeGreaterThanOrEqual(seen.length - 1);
+    // Previous, by keyboard, goes back one page; a reload keeps the page the URL names.
+    await page.locator('#prev-page').focus();
+    await page.keyboard.press('Enter');
+    await expect.poll(() => pageIds()).toEqual(seen.at(-2));
+    expect(await page.evaluate('document.activeElement?.id')).toBe(
+      (await page.locator('#prev-page').isDisabled()) ? 'next-page' : 'prev-page',
+    );
+    await page.reload();
+    await page.waitForSelector('#fleet-table');
+    expect(await pageIds()).toEqual(seen.at(-2));
+    // A cursor the service refuses (an old or edited link) starts again at the first page.
+    await page.goto(`${base}/app/?limit=1&cursor=bm9wZQ&page=4`);
+    await expect.poll(() => page.url()).toBe(`${base}/app/?limit=1`);
+    await page.waitForSelector('#fleet-table');
+    expect(await pageIds()).toEqual(seen[0]);
+    expect(errors.filter((e) => !/status of 400/.test(e))).toEqual([]);
+    await page.close();
+  });
+
   it('signs in, filters the list, opens a vehicle, zooms a chart, acknowledges, records a repair and signs out', async () => {
     const { page, external, requests, errors } = await openPage();
     await signIn(page);
@@ -341,6 +394,50 @@ describe.skipIf(SKIP)('the planner web view in headless Chromium', () => {
     await reader.page.waitForSelector('#profile-facts');
     expect(await reader.page.locator('#profile-form').count()).toBe(0);
     await reader.page.close();
+  });
+
+  it('switches temperatures to °F, remembered by the browser: finding sentences, chart figures, readings and report links', async () => {
+    const { page, requests, errors } = await openPage();
+    await signIn(page);
+    const vehicleId = (await page.locator('#fleet-table tbody tr').first().getAttribute('data-vehicle-id'))!;
+    await page.getByLabel('Temperatures in').selectOption('F');
+    await expect.poll(() => requests.some((u) => u.includes('/v1/fleet/vehicles?') && u.includes('unit=F'))).toBe(true);
+    await page.goto(`${base}/app/vehicles/${vehicleId}`);
+    await page.waitForSelector('#chart-readings canvas');
+    // Remembered across a page load (localStorage), and every read of the page asks for °F.
+    expect(await page.getByLabel('Temperatures in').inputValue()).toBe('F');
+    for (const path of ['/findings?unit=F', '/summary?unit=F', '/readings?'])
+      expect(requests.some((u) => u.includes(`/v1/vehicles/${vehicleId}${path}`) && u.includes('unit=F'))).toBe(true);
+    const caption = (await page.locator('figure:has(#chart-peaks) figcaption').textContent())!;
+    const boilingF = Number(/boiling point at cap pressure \(([\d.]+) °F\)/.exec(caption)?.[1]);
+    const summaryC = await (await page.request.get(`${base}/v1/vehicles/${vehicleId}/summary`)).json();
+    // °F = °C · 9/5 + 32 (NIST SP 811 — from memory): the page shows the service's °C boiling point in °F.
+    expect(boilingF).toBeCloseTo((summaryC.peaks.boilingPointC * 9) / 5 + 32, 2);
+    expect(boilingF).toBeGreaterThan(212);
+    const findingsC = (await (await page.request.get(`${base}/v1/vehicles/${vehicleId}/findings`)).json()).findings;
+    const shown = await page.locator('article.finding p.summary').allTextContents();
+    if (findingsC.some((f: { summary: string }) => /°C/.test(f.summary))) {
+      expect(shown.some((text) => /°F/.test(text))).toBe(true);
+      expect(shown.some((text) => /°C/.test(text))).toBe(false);
+    }
+    await page.locator('#chart-peaks').scrollIntoViewIfNeeded();
+    await shot(page, 'vehicle-fahrenheit');
+    await page.getByRole('link', { name: 'Weekly reports' }).click();
+    await page.waitForSelector('#build-report');
+    expect(await page.locator('#reports-unit').textContent()).toContain('°F');
+    // The archive was built by the reports test above: every link opens the report in °F.
+    const hrefs = await page.locator('#reports-table a').evaluateAll((as) => as.map((a) => a.getAttribute('href')!));
+    expect(hrefs.length).toBeGreaterThan(0);
+    for (const href of hrefs) expect(new URL(href, base).searchParams.get('unit')).toBe('F');
+    const json = hrefs.find((href) => href.includes('format=json'))!;
+    expect((await (await page.request.get(`${base}${json}`)).json()).unit).toBe('F');
+    // Back to °C: the page redraws at once and the choice is stored again.
+    await page.getByRole('link', { name: 'Fleet', exact: true }).click();
+    await page.waitForSelector('#fleet-table');
+    await page.getByLabel('Temperatures in').selectOption('C');
+    await expect.poll(() => page.evaluate("localStorage.getItem('thermocline.temperatureUnit')")).toBe('C');
+    expect(errors).toEqual([]);
+    await page.close();
   });
 
   it('works by keyboard with a visible focus, and lays out at tablet width', async () => {

@@ -3,7 +3,6 @@ import { Type } from 'typebox';
 import type { Principal } from '../../db/api-keys-repository.js';
 import { createDepotsRepository, DEPOT_ORDER } from '../../db/depots-repository.js';
 import { createFleetsRepository } from '../../db/fleets-repository.js';
-import { keyTypes } from '../../db/keyset.js';
 import { ConflictError, NotFoundError } from '../errors.js';
 import { createDepotActions } from '../planner/depot-actions.js';
 import { principalOf } from '../plugins/auth.js';
@@ -123,7 +122,7 @@ const depotsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const principal = principalOf(request);
       const page = await depots.list(fleetScopeOf(principal, request.query.fleet), {
         limit: request.query.limit,
-        after: decodeCursor(request.query.cursor, keyTypes(DEPOT_ORDER)),
+        after: decodeCursor(request.query.cursor, DEPOT_ORDER),
       });
       return { depots: page.items, nextCursor: nextCursorOf(page) };
     },

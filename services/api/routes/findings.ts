@@ -7,7 +7,6 @@ import {
   severitiesFrom,
   type FindingStatus,
 } from '../../db/findings-repository.js';
-import { keyTypes } from '../../db/keyset.js';
 import { BadRequestError } from '../errors.js';
 import { createFindingActions, MAX_DEFERRAL_DAYS } from '../planner/finding-actions.js';
 import { AuditEntry } from '../schemas/audit.js';
@@ -97,7 +96,7 @@ const findingsRoutes: FastifyPluginAsyncTypebox = async (app) => {
           ...(sinceMs !== undefined ? { sinceMs } : {}),
           ...(q.depot !== undefined ? { depot: q.depot } : {}),
         },
-        { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(FINDING_ORDER)), offset: q.offset },
+        { limit: q.limit, after: decodeCursor(q.cursor, FINDING_ORDER), offset: q.offset },
       );
       return inUnit(reply, q.unit, { unit: q.unit, findings: page.items, nextCursor: nextCursorOf(page) });
     },

@@ -1,12 +1,21 @@
 import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
-import { BOARD_MARKS, BOARD_SORTS, createFleetBoardRepository } from '../../db/fleet-board-repository.js';
+import {
+  BOARD_MARKS,
+  BOARD_SORTS,
+  boardCursorTag,
+  boardOrder,
+  createFleetBoardRepository,
+} from '../../db/fleet-board-repository.js';
 import { KIND_LABELS, kindLabel } from '../../report/finding-labels.js';
 import { SILENT_GATEWAY_H } from '../../report/fleet-summary.js';
 import { PRIORITY_OF } from '../../report/work-list.js';
-import { assertFleetAccess, principalOf } from '../plugins/auth.js';
+import { principalOf } from '../plugins/auth.js';
+import { fleetScopeOf } from '../request-fleet.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { FindingKindSchema, SeveritySchema } from '../schemas/finding.js';
+import { decodeCursor, NextCursor, nextCursorOf, pageQuery } from '../schemas/paging.js';
+import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
 import { HOUR_MS } from '../../time/durations.js';
 
 /** "New this week": a finding's onset within the last seven days. */
@@ -31,6 +40,7 @@ const BoardFinding = Type.Object({
   status: Type.String({ description: 'open, acknowledged or deferred' }),
   deferredUntil: Type.Union([Type.String({ format: 'date-time' }), Type.Null()]),
   firstSeen: Type.String({ format: 'date-time' }),
+  summary: Type.String({ description: 'one sentence a planner understands (temperatures in `unit`)' }),
 });
 
 /** The planner's fleet page over HTTP: one row per vehicle at risk, filtered, sorted and paged. */
@@ -44,43 +54,55 @@ const fleetBoardRoutes: FastifyPluginAsyncTypebox = async (app) => {
       schema: {
         tags: ['fleet'],
         summary:
-          "Vehicles at risk, one row per vehicle, filtered, sorted and paged, with the fleet's counts (the web view's fleet page)",
+          "Vehicles at risk, one row per vehicle, filtered, sorted and paged by cursor, with the fleet's counts (the web view's fleet page)",
         description:
           'A row is a vehicle with unresolved findings (open, acknowledged or deferred): worst priority, risk, every unresolved finding ' +
           'as a short label with its status, since when (the earliest onset), depot. `total` is the number of rows the filter matches. ' +
           `Counts: vehicles reporting (analysed data within ${SILENT_GATEWAY_H} h), silent gateways (none within it), and vehicles with a finding ` +
-          'whose onset is within the last 7 days.',
+          'whose onset is within the last 7 days. Each finding carries its sentence, temperatures in `unit`. ' +
+          'Paging: pass `nextCursor` as `?cursor=` with the same sort, order and filters (a cursor of another sort or order is refused, 400; ' +
+          'so is an unknown parameter such as the former `offset`). `order=desc` is the exact reverse of `asc`. Ties: priority and since by risk ' +
+          '(highest first in asc), then vehicle id; risk and depot by vehicle id. Without a depot, a vehicle sorts after every depot (asc). ' +
+          'A vehicle whose risk or findings change while a planner pages may move.',
         security: SECURITY,
-        querystring: Type.Object({
-          severity: Type.Optional(SeveritySchema),
-          kind: Type.Optional(FindingKindSchema),
-          depot: Type.Optional(Type.String({ minLength: 1, maxLength: 64 })),
-          mark: Type.Optional(
-            literals(
-              BOARD_MARKS,
-              'acknowledged / deferred: a finding has that status; marked: either; unmarked: neither',
+        querystring: Type.Object(
+          {
+            severity: Type.Optional(SeveritySchema),
+            kind: Type.Optional(FindingKindSchema),
+            depot: Type.Optional(Type.String({ minLength: 1, maxLength: 64 })),
+            mark: Type.Optional(
+              literals(
+                BOARD_MARKS,
+                'acknowledged / deferred: a finding has that status; marked: either; unmarked: neither',
+              ),
             ),
-          ),
-          q: Type.Optional(
-            Type.String({ minLength: 1, maxLength: 100, description: 'part of the vehicle id or label, any case' }),
-          ),
-          sort: Type.Union(
-            BOARD_SORTS.map((s) => Type.Literal(s)),
-            { default: 'risk' },
-          ),
-          order: Type.Union([Type.Literal('asc'), Type.Literal('desc')], {
-            default: 'desc',
-            description: 'default desc (highest risk first)',
-          }),
-          limit: Type.Integer({ minimum: 1, maximum: 200, default: 50 }),
-          offset: Type.Integer({ minimum: 0, maximum: 1_000_000, default: 0 }),
-          fleet: Type.Optional(Type.String({ description: 'admin keys only: one fleet (default: every fleet)' })),
-        }),
+            q: Type.Optional(
+              Type.String({
+                minLength: 1,
+                maxLength: 100,
+                description: 'part of the vehicle id or label, any case',
+              }),
+            ),
+            sort: Type.Union(
+              BOARD_SORTS.map((s) => Type.Literal(s)),
+              { default: 'risk' },
+            ),
+            order: Type.Union([Type.Literal('asc'), Type.Literal('desc')], {
+              default: 'desc',
+              description: 'default desc (highest risk first)',
+            }),
+            ...pageQuery(50, 200),
+            fleet: Type.Optional(Type.String({ description: 'admin keys only: one fleet (default: every fleet)' })),
+            unit: UnitParam,
+          },
+          { additionalProperties: false },
+        ),
         response: {
           200: Type.Object({
-            total: Type.Integer(),
-            offset: Type.Integer(),
+            unit: UnitField,
+            total: Type.Integer({ description: 'rows the filter matches, over every page' }),
             limit: Type.Integer(),
+            nextCursor: NextCursor,
             counts: Type.Object({
               vehicles: Type.Integer(),
               atRisk: Type.Integer(),
@@ -113,11 +135,11 @@ const fleetBoardRoutes: FastifyPluginAsyncTypebox = async (app) => {
         },
       },
     },
-    async (request) => {
-      const principal = principalOf(request);
-      const { fleet, severity, kind, depot, mark, q, sort, order, limit, offset } = request.query;
-      if (fleet) assertFleetAccess(principal, fleet);
-      const fleetId = principal.fleetId ?? fleet ?? null;
+    async (request, reply) => {
+      const { fleet, severity, kind, depot, mark, q, sort, order, limit, cursor, unit } = request.query;
+      const fleetId = fleetScopeOf(principalOf(request), fleet);
+      const desc = order === 'desc';
+      const after = decodeCursor(cursor, boardOrder(sort, desc), boardCursorTag(sort, desc));
       const filter = {
         fleetId,
         ...(severity ? { severity } : {}),
@@ -126,20 +148,22 @@ const fleetBoardRoutes: FastifyPluginAsyncTypebox = async (app) => {
         ...(mark ? { mark } : {}),
         ...(q?.trim() ? { search: q.trim() } : {}),
       };
-      // Three independent reads; on a pg pool they run side by side (PGlite queues them).
-      const [page, counts, depots] = await Promise.all([
-        board.page(filter, sort, order === 'desc', limit, offset),
+      // Independent reads; on a pg pool they run side by side (PGlite queues them).
+      const [page, total, counts, depots] = await Promise.all([
+        board.page(filter, sort, desc, { limit, after }),
+        board.total(filter),
         board.counts(fleetId, Date.now(), SILENT_GATEWAY_H * HOUR_MS, NEW_WINDOW_MS),
         board.depots(fleetId),
       ]);
-      return {
-        total: page.total,
-        offset,
+      return inUnit(reply, unit, {
+        unit,
+        total,
         limit,
+        nextCursor: nextCursorOf(page, boardCursorTag(sort, desc)),
         depots,
         kinds: Object.entries(KIND_LABELS).map(([k, label]) => ({ kind: k, label })),
         counts: { ...counts, silentGatewayHours: SILENT_GATEWAY_H },
-        vehicles: page.rows.map((r) => ({
+        vehicles: page.items.map((r) => ({
           vehicleId: r.vehicleId,
           label: r.label,
           depot: r.depot,
@@ -158,9 +182,10 @@ const fleetBoardRoutes: FastifyPluginAsyncTypebox = async (app) => {
             status: f.status ?? 'open',
             deferredUntil: f.deferredUntil ?? null,
             firstSeen: f.firstSeen,
+            summary: f.summary,
           })),
         })),
-      };
+      });
     },
   );
 };

@@ -2,7 +2,6 @@ import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { AT_RISK_ORDER, atRiskVehicles } from '../../db/at-risk-repository.js';
 import { severitiesFrom } from '../../db/findings-repository.js';
-import { keyTypes } from '../../db/keyset.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY } from '../schemas/common.js';
 import { FindingBrief, SeveritySchema } from '../schemas/finding.js';
@@ -75,7 +74,7 @@ const fleetRoutes: FastifyPluginAsyncTypebox = async (app) => {
           severities: severitiesFrom(q.minSeverity ?? 'advisory'),
           ...(q.depot !== undefined ? { depot: q.depot } : {}),
         },
-        { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(AT_RISK_ORDER)) },
+        { limit: q.limit, after: decodeCursor(q.cursor, AT_RISK_ORDER) },
       );
       return inUnit(reply, q.unit, { unit: q.unit, vehicles: page.items, nextCursor: nextCursorOf(page) });
     },

@@ -2,7 +2,6 @@ import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { UnknownFleetError } from '../../report/build-weekly-report.js';
 import { formatIsoWeek, lastCompleteIsoWeek, parseIsoWeek, weekWindow } from '../../time/iso-week.js';
-import { keyTypes } from '../../db/keyset.js';
 import { ARCHIVE_ORDER, createReportRepository } from '../../db/weekly-report-repository.js';
 import { reportBaseName, reportInUnit } from '../../report/weekly-report-files.js';
 import { WeeklyReportSchema } from '../../report/weekly-report-schema.js';
@@ -151,7 +150,7 @@ const reportsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       if (!(await reports.fleet(fleetId))) throw new NotFoundError(`unknown fleet '${fleetId}'`);
       const page = await reports.archivedPage(fleetId, {
         limit: request.query.limit,
-        after: decodeCursor(request.query.cursor, keyTypes(ARCHIVE_ORDER)),
+        after: decodeCursor(request.query.cursor, ARCHIVE_ORDER),
       });
       const fleetParam = principal.fleetId === null ? `&fleet=${encodeURIComponent(fleetId)}` : '';
       return {

@@ -2,7 +2,6 @@ import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { SERVICE_EVENT_KINDS } from '../../analysis/findings/service-events.js';
 import { createPlannerActionsRepository } from '../../db/planner-actions-repository.js';
-import { keyTypes } from '../../db/keyset.js';
 import {
   createServiceEventsRepository,
   SERVICE_EVENT_ORDER,
@@ -129,7 +128,7 @@ const serviceEventsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       await requireVehicle(vehicles, principalOf(request), request.params.vehicleId);
       const page = await events.list(request.params.vehicleId, {
         limit: request.query.limit,
-        after: decodeCursor(request.query.cursor, keyTypes(SERVICE_EVENT_ORDER)),
+        after: decodeCursor(request.query.cursor, SERVICE_EVENT_ORDER),
       });
       return { events: page.items, nextCursor: nextCursorOf(page) };
     },

@@ -1,7 +1,6 @@
 import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { createFindingsRepository, VEHICLE_FINDING_ORDER } from '../../db/findings-repository.js';
-import { keyTypes } from '../../db/keyset.js';
 import { createVehicleHistoryRepository, DAY_ORDER, RUN_ORDER } from '../../db/vehicle-history-repository.js';
 import { createVehiclesRepository } from '../../db/vehicles-repository.js';
 import { BadRequestError } from '../errors.js';
@@ -85,7 +84,7 @@ const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const range = { fromMs: parseTimeParam('from', q.from) ?? null, toMs: parseTimeParam('to', q.to) ?? null };
       const page = await history.runs(vehicleId, range, {
         limit: q.limit,
-        after: decodeCursor(q.cursor, keyTypes(RUN_ORDER)),
+        after: decodeCursor(q.cursor, RUN_ORDER),
       });
       return inUnit(reply, q.unit, { vehicleId, unit: q.unit, runs: page.items, nextCursor: nextCursorOf(page) });
     },
@@ -131,7 +130,7 @@ const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const page = await history.days(
         vehicleId,
         { from: q.from ?? null, to: q.to ?? null },
-        { limit: q.limit, after: decodeCursor(q.cursor, keyTypes(DAY_ORDER)) },
+        { limit: q.limit, after: decodeCursor(q.cursor, DAY_ORDER) },
       );
       return inUnit(reply, q.unit, { vehicleId, unit: q.unit, days: page.items, nextCursor: nextCursorOf(page) });
     },
@@ -166,7 +165,7 @@ const vehicleRunsRoutes: FastifyPluginAsyncTypebox = async (app) => {
       await requireVehicle(vehicles, principalOf(request), vehicleId);
       const page = await findings.ofVehicle(vehicleId, {
         limit: q.limit,
-        after: decodeCursor(q.cursor, keyTypes(VEHICLE_FINDING_ORDER)),
+        after: decodeCursor(q.cursor, VEHICLE_FINDING_ORDER),
       });
       return inUnit(reply, q.unit, { vehicleId, unit: q.unit, findings: page.items, nextCursor: nextCursorOf(page) });
     },

@@ -11,6 +11,7 @@ import { PeakChart, WarmupChart } from '../../report/weekly-report-schema.js';
 import { checkWithoutCaution, vehiclePriority } from '../../report/work-list.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
+import { inUnit, UnitField, UnitParam } from '../schemas/temperature-unit.js';
 import { requireVehicle } from '../vehicle-access.js';
 
 /** A vehicle at a glance for the planner: priority, checks, cautions and the two charts of the weekly report. */
@@ -31,12 +32,15 @@ const vehicleSummaryRoutes: FastifyPluginAsyncTypebox = async (app) => {
         description:
           'warmup: the latest cold starts against the band (10th–90th percentile) of its healthy cold starts before the onset; ' +
           'peaks: daily peak coolant and maximum ambient with the trend and the boiling point at cap pressure. ' +
-          'Checks come from the unresolved findings (without the safety caution, which is in cautions with the others the checks call for).',
+          'Checks come from the unresolved findings (without the safety caution, which is in cautions with the others the checks call for). ' +
+          'Temperatures (band, curves, peaks, trend, boiling point) in `unit`.',
         security: SECURITY,
         params: VehicleIdParams,
+        querystring: Type.Object({ unit: UnitParam }),
         response: {
           200: Type.Object({
             vehicleId: Type.String(),
+            unit: UnitField,
             analysedUpTo: Type.Union([Type.String({ format: 'date-time' }), Type.Null()]),
             priority: Type.Union(
               [Type.String({ description: 'book now, book this week or at next service' }), Type.Null()],
@@ -61,7 +65,7 @@ const vehicleSummaryRoutes: FastifyPluginAsyncTypebox = async (app) => {
         },
       },
     },
-    async (request) => {
+    async (request, reply) => {
       const vehicle = await requireVehicle(vehicles, principalOf(request), request.params.vehicleId);
       const unresolved = await findings.unresolvedOfVehicle(vehicle.vehicleId);
       const analysedMs = await board.analysedUpTo(vehicle.vehicleId);
@@ -71,8 +75,9 @@ const vehicleSummaryRoutes: FastifyPluginAsyncTypebox = async (app) => {
         unresolved.map((f) => ({ kind: f.kind, firstSeenMs: Date.parse(f.firstSeen), metrics: f.metrics })),
         analysedMs ?? Date.now(),
       );
-      return {
+      return inUnit(reply, request.query.unit, {
         vehicleId: vehicle.vehicleId,
+        unit: request.query.unit,
         analysedUpTo: analysedMs === null ? null : new Date(analysedMs).toISOString(),
         priority: unresolved.length > 0 ? vehiclePriority(unresolved) : null,
         unresolved: unresolved.length,
@@ -81,7 +86,7 @@ const vehicleSummaryRoutes: FastifyPluginAsyncTypebox = async (app) => {
         ...charts,
         kindLabels: { ...KIND_LABELS },
         serviceEventKinds: SERVICE_EVENT_KINDS.map((kind) => ({ kind, resolves: [...resolvedKinds(kind)] })),
-      };
+      });
     },
   );
 };

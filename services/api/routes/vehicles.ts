@@ -1,7 +1,8 @@
 import type { FastifyPluginAsyncTypebox } from '@fastify/type-provider-typebox';
 import { Type } from 'typebox';
 import { createFleetsRepository } from '../../db/fleets-repository.js';
-import { createVehiclesRepository } from '../../db/vehicles-repository.js';
+import { checkedKey } from '../../db/keyset.js';
+import { createVehiclesRepository, VEHICLE_ORDER } from '../../db/vehicles-repository.js';
 import { BadRequestError, ForbiddenError, NotFoundError } from '../errors.js';
 import { principalOf } from '../plugins/auth.js';
 import { errorResponses, SECURITY, VehicleIdParams } from '../schemas/common.js';
@@ -104,7 +105,9 @@ const vehiclesRoutes: FastifyPluginAsyncTypebox = async (app) => {
       const { limit, after, cursor, depot } = request.query;
       if (after !== undefined && cursor !== undefined)
         throw new BadRequestError('give cursor or after, not both', 'validation_failed');
-      const key = decodeCursor(cursor, ['text']) ?? (after !== undefined ? [after] : undefined);
+      const older = after === undefined ? undefined : checkedKey(VEHICLE_ORDER, [after]);
+      if (older === null) throw new BadRequestError('after is not a vehicle id', 'validation_failed');
+      const key = decodeCursor(cursor, VEHICLE_ORDER) ?? older;
       const page = await vehicles.list({ fleetId, limit, after: key, ...(depot !== undefined ? { depot } : {}) });
       const unit = request.query.unit;
       return inUnit(reply, unit, {

@@ -1,5 +1,5 @@
 import { Type } from 'typebox';
-import type { KeyType, Page, PageKey } from '../../db/keyset.js';
+import { decodeCursorKey, encodeCursorKey, type Page, type PageKey, type SortColumn } from '../../db/keyset.js';
 import { BadRequestError } from '../errors.js';
 
 /**
@@ -26,38 +26,24 @@ export const NextCursor = Type.Union(
   { description: 'null: this is the last page' },
 );
 
-export type CursorKey = ReadonlyArray<string | number | null>;
-
-/** The cursor after a row with this sort key. */
-export function encodeCursor(key: CursorKey): string {
-  return Buffer.from(JSON.stringify(key), 'utf8').toString('base64url');
-}
-
 const BAD_CURSOR = 'cursor is not one this endpoint gave out';
 
 /**
- * The sort key in a cursor, checked to have `types.length` parts of those types (or, given a
- * length, string/number parts); 400 otherwise.
+ * The sort key in a cursor for the order `order` (and, for a list of several orders, its `tag`);
+ * 400 for anything else: garbage, another list's or another sort's cursor, a forged key the
+ * database would refuse (services/db/keyset.ts `decodeCursorKey`, the one check).
  */
-export function decodeCursor(cursor: string | undefined, types: number | readonly KeyType[]): PageKey | undefined {
+export function decodeCursor(
+  cursor: string | undefined,
+  order: readonly SortColumn[],
+  tag?: string,
+): PageKey | undefined {
   if (cursor === undefined) return undefined;
-  let key: unknown;
-  try {
-    key = JSON.parse(Buffer.from(cursor, 'base64url').toString('utf8'));
-  } catch {
-    key = undefined;
-  }
-  const length = typeof types === 'number' ? types : types.length;
-  const fits = (v: unknown, i: number) => {
-    const type = typeof types === 'number' ? undefined : types[i];
-    if (type === 'number') return typeof v === 'number' && Number.isFinite(v);
-    if (type === 'text') return typeof v === 'string';
-    return typeof v === 'string' || (typeof v === 'number' && Number.isFinite(v));
-  };
-  if (!Array.isArray(key) || key.length !== length || !key.every(fits))
-    throw new BadRequestError(BAD_CURSOR, 'validation_failed');
-  return key as PageKey;
+  const key = decodeCursorKey(cursor, order, tag);
+  if (key === null) throw new BadRequestError(BAD_CURSOR, 'validation_failed');
+  return key;
 }
 
-/** The reply's nextCursor for a page. */
-export const nextCursorOf = (p: Page<unknown>): string | null => (p.nextKey === null ? null : encodeCursor(p.nextKey));
+/** The reply's nextCursor for a page (tagged as `decodeCursor` expects it). */
+export const nextCursorOf = (p: Page<unknown>, tag?: string): string | null =>
+  p.nextKey === null ? null : encodeCursorKey(p.nextKey, tag);

@@ -64,21 +64,21 @@ function ascendingOrder(ts: Float64Array): Uint32Array {
   return order.sort((a, b) => ts[a]! - ts[b]! || a - b);
 }
 
-function permute(a: AllSampleArrays, order: Uint32Array): AllSampleArrays {
+function permute(samples: AllSampleArrays, order: Uint32Array): AllSampleArrays {
   const pick = (col: Float64Array) => {
     const out = new Float64Array(order.length);
     for (let i = 0; i < order.length; i++) out[i] = col[order[i]!]!;
     return out;
   };
   return {
-    ts: pick(a.ts),
-    coolant: pick(a.coolant),
-    ambient: pick(a.ambient),
-    speedKph: pick(a.speedKph),
-    rpm: pick(a.rpm),
-    barometricKpa: pick(a.barometricKpa),
-    coolantLevelPct: pick(a.coolantLevelPct),
-    coolantPressureKpa: pick(a.coolantPressureKpa),
+    ts: pick(samples.ts),
+    coolant: pick(samples.coolant),
+    ambient: pick(samples.ambient),
+    speedKph: pick(samples.speedKph),
+    rpm: pick(samples.rpm),
+    barometricKpa: pick(samples.barometricKpa),
+    coolantLevelPct: pick(samples.coolantLevelPct),
+    coolantPressureKpa: pick(samples.coolantPressureKpa),
   };
 }
 

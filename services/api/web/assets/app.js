@@ -3,6 +3,7 @@ import { h, replace } from './dom.js';
 import { renderFleetPage } from './fleet-page.js';
 import { renderReportsPage } from './reports-page.js';
 import { renderVehiclePage } from './vehicle-page.js';
+import { setTemperatureUnit, temperatureUnit } from './units.js';
 
 const view = document.getElementById('view');
 const nav = document.getElementById('nav');
@@ -22,11 +23,20 @@ function setSession(s) {
     : '';
 }
 
-export function navigate(path, { replaceState = false } = {}) {
-  if (replaceState) history.replaceState(null, '', path);
-  else history.pushState(null, '', path);
+/** Goes to `path` in the page (no reload); `state` rides along in the history entry (the fleet page's trail of cursors). */
+export function navigate(path, { replaceState = false, state = null } = {}) {
+  if (replaceState) history.replaceState(state, '', path);
+  else history.pushState(state, '', path);
   void route();
 }
+
+// °C or °F for every page, remembered by the browser; a change redraws the page in the new unit.
+const unitChoice = document.getElementById('unit-choice');
+unitChoice.value = temperatureUnit();
+unitChoice.addEventListener('change', () => {
+  setTemperatureUnit(unitChoice.value);
+  void route();
+});
 
 /** Same-page links: no reload, the history entry changes. */
 document.addEventListener('click', (event) => {

@@ -1,5 +1,6 @@
 import { api, query } from './api.js';
 import { h } from './dom.js';
+import { degree, unitParam } from './units.js';
 
 /** Okabe–Ito colours (distinguishable with the common colour-vision deficiencies); lines also differ by dash and marker. */
 export const PALETTE = {
@@ -33,8 +34,8 @@ const base = () => ({
   tooltip: { trigger: 'axis', confine: true },
 });
 
-const fmt = (v, unit = ' °C') =>
-  v === null || v === undefined || Number.isNaN(v) ? '—' : `${Math.round(v * 10) / 10}${unit}`;
+/** A temperature as the page shows it, in the planner's unit (the service already converted the number). */
+const fmt = (v) => (v === null || v === undefined || Number.isNaN(v) ? '—' : `${Math.round(v * 10) / 10} ${degree()}`);
 
 let charting = null;
 
@@ -144,7 +145,7 @@ export function warmupChart(el, w) {
       data: series.map((s) => s.name).filter((n) => n !== 'healthy band low' && n !== 'limits'),
     },
     xAxis: { type: 'value', name: 'minutes after engine start', nameLocation: 'middle', nameGap: 28, min: 0, max: 40 },
-    yAxis: { type: 'value', name: 'coolant °C', scale: true },
+    yAxis: { type: 'value', name: `coolant ${degree()}`, scale: true },
     tooltip: { trigger: 'axis', confine: true, valueFormatter: (v) => fmt(v) },
     dataZoom: [{ type: 'inside', xAxisIndex: 0 }],
     series,
@@ -182,7 +183,7 @@ export function peaksChart(el, p) {
     const startX = anchor - t.windowDays * DAY_MS;
     const ahead = t.daysToBoil !== null && t.daysToBoil <= 60 ? t.daysToBoil : 14;
     series.push({
-      name: `trend ${t.senSlopeCPerDay >= 0 ? '+' : ''}${t.senSlopeCPerDay} °C/day${t.daysToBoil !== null ? `, boiling in about ${Math.round(t.daysToBoil)} days` : ''}`,
+      name: `trend ${t.senSlopeCPerDay >= 0 ? '+' : ''}${t.senSlopeCPerDay} ${degree()}/day${t.daysToBoil !== null ? `, boiling in about ${Math.round(t.daysToBoil)} days` : ''}`,
       type: 'line',
       symbol: 'none',
       lineStyle: { color: PALETTE.purple, type: 'dashed', width: 2 },
@@ -220,7 +221,7 @@ export function peaksChart(el, p) {
   chart.setOption({
     ...base(),
     xAxis: { type: 'time' },
-    yAxis: { type: 'value', name: '°C', scale: true, max: (v) => Math.max(v.max, p.boilingPointC) + 3 },
+    yAxis: { type: 'value', name: degree(), scale: true, max: (v) => Math.max(v.max, p.boilingPointC) + 3 },
     tooltip: { trigger: 'axis', confine: true, valueFormatter: (v) => fmt(v) },
     dataZoom: [
       { type: 'inside', xAxisIndex: 0, filterMode: 'none' },
@@ -247,7 +248,7 @@ function rows(reply) {
 /** One downsampled readings request of [from, to) (epoch ms; undefined: the service's default window). */
 export function readingsRequest(vehicleId, from, to) {
   return api(
-    `/v1/vehicles/${encodeURIComponent(vehicleId)}/readings${query({ from: from === undefined ? undefined : new Date(from).toISOString(), to: to === undefined ? undefined : new Date(to).toISOString(), maxPoints: READINGS_POINTS })}`,
+    `/v1/vehicles/${encodeURIComponent(vehicleId)}/readings${query({ from: from === undefined ? undefined : new Date(from).toISOString(), to: to === undefined ? undefined : new Date(to).toISOString(), maxPoints: READINGS_POINTS, unit: unitParam() })}`,
   );
 }
 
@@ -302,7 +303,7 @@ export function readingsChart(el, vehicleId, status) {
   chart.setOption({
     ...base(),
     xAxis: { type: 'time' },
-    yAxis: { type: 'value', name: '°C', scale: true },
+    yAxis: { type: 'value', name: degree(), scale: true },
     tooltip: {
       trigger: 'axis',
       confine: true,

@@ -1,7 +1,10 @@
-import { api, query } from './api.js';
+import { api, ApiError, query } from './api.js';
 import { day, h, priorityBadge, replace } from './dom.js';
+import { unitParam } from './units.js';
 
 const PAGE_SIZE = 50;
+/** Rows per page the planner may choose (any 1–200 in the URL's `limit` works too). */
+const PAGE_SIZES = [25, 50, 100, 200];
 const SEVERITIES = [
   ['critical', 'book now (critical)'],
   ['warning', 'book this week (warning)'],
@@ -23,7 +26,11 @@ const COLUMNS = [
   { key: 'depot', label: 'Depot' },
 ];
 
-/** The filter, sort and page as the URL holds them (so back, reload and links keep the view). */
+/**
+ * The filter, sort and page as the URL holds them (so back, reload and links keep the view): the
+ * page is the service's opaque `cursor` (none: the first page) and its number, for the words only.
+ * The cursors of the pages before it ride in the history entry (`trail`), for "Previous".
+ */
 function stateFromUrl() {
   const p = new URLSearchParams(location.search);
   return {
@@ -34,8 +41,18 @@ function stateFromUrl() {
     mark: p.get('mark') ?? '',
     sort: p.get('sort') ?? 'risk',
     order: p.get('order') ?? 'desc',
-    offset: Math.max(0, Number(p.get('offset') ?? 0) || 0),
+    cursor: p.get('cursor') ?? '',
+    limit: Math.min(200, Math.max(1, Math.floor(Number(p.get('limit') ?? PAGE_SIZE)) || PAGE_SIZE)),
+    page: Math.max(1, Math.floor(Number(p.get('page') ?? 1)) || 1),
   };
+}
+
+/** The history entry's cursors of the pages before this one ('' for the first page), if the planner paged here. */
+function trailFromHistory(state) {
+  const trail = history.state?.trail;
+  return Array.isArray(trail) && trail.length === state.page - 1 && trail.every((c) => typeof c === 'string')
+    ? trail
+    : null;
 }
 
 function select(id, label, options, value) {
@@ -55,16 +72,32 @@ function select(id, label, options, value) {
 export async function renderFleetPage({ view, signal, navigate }) {
   document.title = 'Fleet — thermocline';
   const state = stateFromUrl();
-  const data = await api(`/v1/fleet/vehicles${query({ ...state, limit: PAGE_SIZE })}`, { signal });
-  const go = (change) => {
-    const next = { ...state, ...change };
+  const trail = trailFromHistory(state);
+  const { page: _page, ...request } = state;
+  let data;
+  try {
+    data = await api(`/v1/fleet/vehicles${query({ ...request, unit: unitParam() })}`, { signal });
+  } catch (err) {
+    // A cursor the service no longer takes (an old link, a new release): start again at the first page.
+    if (err instanceof ApiError && err.status === 400 && state.cursor) {
+      const p = new URLSearchParams(location.search);
+      p.delete('cursor');
+      p.delete('page');
+      return navigate(`/app/${p.size > 0 ? `?${p}` : ''}`, { replaceState: true });
+    }
+    throw err;
+  }
+  /** A new filter or sort starts at the first page; paging passes the cursor, its number and the trail. */
+  const go = (change, paging = { cursor: '', page: 1, trail: [], focus: null }) => {
+    const next = { ...state, ...change, cursor: paging.cursor, page: paging.page };
     const params = query({
       ...next,
       sort: next.sort === 'risk' ? '' : next.sort,
       order: next.order === 'desc' ? '' : next.order,
-      offset: next.offset || '',
+      page: next.page > 1 ? next.page : '',
+      limit: next.limit === PAGE_SIZE ? '' : next.limit,
     });
-    navigate(`/app/${params}`);
+    navigate(`/app/${params}`, { state: { trail: paging.trail, focus: paging.focus } });
   };
 
   const c = data.counts;
@@ -139,7 +172,6 @@ export async function renderFleetPage({ view, signal, navigate }) {
       kind: f.get('kind'),
       depot: f.get('depot'),
       mark: f.get('mark'),
-      offset: 0,
     });
   });
   // Choosing from a list applies it at once; the search waits for Enter or Apply.
@@ -164,12 +196,8 @@ export async function renderFleetPage({ view, signal, navigate }) {
             onclick: () =>
               go({
                 sort: col.key,
-                order: active
-                  ? nextOrder
-                  : col.key === 'vehicle' || col.key === 'depot' || col.key === 'since'
-                    ? 'asc'
-                    : 'desc',
-                offset: 0,
+                // A first click: most urgent first for priority (asc: book now first), highest risk first, A–Z, oldest first.
+                order: active ? nextOrder : col.key === 'risk' ? 'desc' : 'asc',
               }),
           },
           col.label,
@@ -211,6 +239,8 @@ export async function renderFleetPage({ view, signal, navigate }) {
             ),
           ),
         ),
+        // Why, in a sentence: the most severe finding's (the service writes its figures in the chosen unit).
+        v.findings[0] ? h('p', { class: 'why' }, v.findings[0].summary) : null,
       ),
       h('td', {}, day(v.since)),
       h(
@@ -228,8 +258,11 @@ export async function renderFleetPage({ view, signal, navigate }) {
     ),
   );
 
-  const from = data.total === 0 ? 0 : data.offset + 1;
-  const to = data.offset + data.vehicles.length;
+  // The rows before this page: exact when the planner paged here (or on the first page), else unknown.
+  const before = (state.page - 1) * state.limit;
+  const from = data.vehicles.length === 0 ? 0 : before + 1;
+  const to = before + data.vehicles.length;
+  const hasPrevious = state.cursor !== '';
   const paging = h(
     'nav',
     { class: 'paging', 'aria-label': 'Pages' },
@@ -238,21 +271,59 @@ export async function renderFleetPage({ view, signal, navigate }) {
       {
         type: 'button',
         id: 'prev-page',
-        disabled: data.offset === 0,
-        onclick: () => go({ offset: Math.max(0, data.offset - PAGE_SIZE) }),
+        disabled: !hasPrevious,
+        onclick: () =>
+          trail
+            ? go(
+                {},
+                {
+                  cursor: trail[trail.length - 1],
+                  page: state.page - 1,
+                  trail: trail.slice(0, -1),
+                  focus: 'prev-page',
+                },
+              )
+            : go({}, { cursor: '', page: 1, trail: [], focus: 'prev-page' }),
       },
-      '← Previous',
+      hasPrevious && !trail ? '← First page' : '← Previous',
     ),
-    h('span', { id: 'page-info', role: 'status' }, `vehicles ${from}–${to} of ${data.total}`),
+    h(
+      'span',
+      { id: 'page-info', role: 'status' },
+      data.vehicles.length === 0
+        ? `no vehicles on this page of ${data.total}`
+        : `vehicles ${from}–${to} of ${data.total}`,
+    ),
     h(
       'button',
       {
         type: 'button',
         id: 'next-page',
-        disabled: to >= data.total,
-        onclick: () => go({ offset: data.offset + PAGE_SIZE }),
+        disabled: data.nextCursor === null,
+        onclick: () =>
+          go(
+            {},
+            {
+              cursor: data.nextCursor,
+              page: state.page + 1,
+              trail: [...(trail ?? []), state.cursor],
+              focus: 'next-page',
+            },
+          ),
       },
       'Next →',
+    ),
+    h(
+      'div',
+      { class: 'field inline' },
+      h('label', { for: 'page-size' }, 'Rows per page'),
+      h(
+        'select',
+        { id: 'page-size', onchange: (event) => go({ limit: Number(event.target.value) }) },
+        [...new Set([...PAGE_SIZES, state.limit])]
+          .sort((a, b) => a - b)
+          .map((n) => h('option', { value: n, selected: n === state.limit }, n)),
+      ),
     ),
   );
 
@@ -282,4 +353,11 @@ export async function renderFleetPage({ view, signal, navigate }) {
         ),
     paging,
   );
+  // Keyboard paging keeps its place: the button pressed keeps the focus (or the other one, at either end).
+  const focus = history.state?.focus;
+  if (focus === 'next-page' || focus === 'prev-page') {
+    const wanted = document.getElementById(focus);
+    const other = document.getElementById(focus === 'next-page' ? 'prev-page' : 'next-page');
+    (wanted && !wanted.disabled ? wanted : other)?.focus();
+  }
 }

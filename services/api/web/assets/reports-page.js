@@ -1,5 +1,6 @@
 import { api, query } from './api.js';
 import { dayTime, h, replace } from './dom.js';
+import { degree, unitParam } from './units.js';
 
 /** The ISO week (YYYY-Www) of a time, UTC. */
 function isoWeek(ms) {
@@ -21,7 +22,7 @@ export async function renderReportsPage({ view, signal, session }) {
     h(
       'a',
       {
-        href: `/v1/reports/weekly${query({ week, format, fleet: session.admin ? session.fleetId : undefined })}`,
+        href: `/v1/reports/weekly${query({ week, format, fleet: session.admin ? session.fleetId : undefined, unit: unitParam() })}`,
         target: format === 'html' ? '_blank' : undefined,
         rel: 'noopener',
       },
@@ -69,6 +70,11 @@ export async function renderReportsPage({ view, signal, session }) {
   replace(
     view,
     h('h1', {}, 'Weekly reports'),
+    h(
+      'p',
+      { class: 'sub', id: 'reports-unit' },
+      `Reports open with temperatures in ${degree()} (the choice at the top).`,
+    ),
     reports.length === 0
       ? h('p', { class: 'empty' }, 'No report archived yet.')
       : h(

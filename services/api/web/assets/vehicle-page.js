@@ -1,6 +1,7 @@
-import { api, ApiError } from './api.js';
+import { api, ApiError, query } from './api.js';
 import { figure, loadCharting, peaksChart, readingsChart, readingsRequest, warmupChart } from './charts.js';
 import { day, dayTime, h, priorityBadge, replace, severityBadge, statusBadge } from './dom.js';
+import { degree, unitParam } from './units.js';
 import { profileSection } from './vehicle-profile.js';
 
 const RANGES = [
@@ -272,10 +273,12 @@ export async function renderVehiclePage(ctx, vehicleId) {
   const charting = loadCharting();
   charting.catch(() => {});
   try {
+    // Findings and charts in the planner's unit; the profile stays in °C, the unit its form writes.
+    const unit = query({ unit: unitParam() });
     [vehicle, { findings }, summary, { events }] = await Promise.all([
       api(base, { signal }),
-      api(`${base}/findings`, { signal }),
-      api(`${base}/summary`, { signal }),
+      api(`${base}/findings${unit}`, { signal }),
+      api(`${base}/summary${unit}`, { signal }),
       api(`${base}/service-events?limit=50`, { signal }),
     ]);
   } catch (err) {
@@ -319,7 +322,7 @@ export async function renderVehiclePage(ctx, vehicleId) {
   const peaks = figure(
     'chart-peaks',
     'Daily peaks against ambient.',
-    `Daily peak coolant and maximum air temperature, the trend of the peaks and the boiling point at cap pressure (${summary.peaks.boilingPointC} °C).`,
+    `Daily peak coolant and maximum air temperature, the trend of the peaks and the boiling point at cap pressure (${summary.peaks.boilingPointC} ${degree()}).`,
   );
   const readings = figure(
     'chart-readings',
