@@ -113,6 +113,20 @@ export interface AnalysisConfig {
    */
   trendHotWindowDays: number;
   /**
+   * Days with an overheating episode within `trendHotWindowDays` the finding needs (persistence),
+   * days. Tuned on tuning seeds: 1 raised trends on healthy heavy vehicles after one hot climb.
+   */
+  trendHotMinDays: number;
+  /**
+   * Smallest effects that make an overheating trend a warning (else advisory): peaks this much
+   * above what the weather explains (median since the change), °C ...
+   */
+  trendWarnRiseC: number;
+  /** ... or this many more seconds a day above the hot threshold, s ... */
+  trendWarnHotRiseS: number;
+  /** ... or a driving median this much warmer, °C. Below all three a warning needs a median z of 3. */
+  trendWarnWarmRiseC: number;
+  /**
    * Smallest residual scale for the daily time above the hot threshold, s: healthy engines
    * spend none or a minute or two there on the hottest days. Tuned: 45–75 s all find 6 of 6
    * radiator foulings on seed 7 (median 10.2–10.9 d).
@@ -167,6 +181,19 @@ export interface AnalysisConfig {
    * (seed 11, EV-041: three runs at z 4 after a 10:00 onset, day median 1.95).
    */
   slowWarmupRepeatZ: number;
+  /**
+   * Cold starts at least this long (and not idle-dominated) are judged on whether they reached
+   * the warm-up target, also in frost where the OBD-II monitor suspends, s. Common practice: half
+   * an hour of driving brings a working engine to its thermostat rating in any weather a fleet
+   * drives in; a stuck-open one in the cold stays 20–40 °C short.
+   */
+  coldReachMinRunS: number;
+  /** Fewest such starts that never reached the target, since the baseline, within `findingStaleDays`. */
+  coldReachMinRuns: number;
+  /** ... on at least this many distinct days (persistence). */
+  coldReachMinDays: number;
+  /** Share of the baseline's comparable (as cold) long cold starts that must have reached the target (0..1). */
+  coldReachBaseShare: number;
   /** Smallest residual scale for daily peaks, °C: route and weather move them by a few °C. Tuned. */
   dayScaleFloorC: number;
   /** CUSUM reference value (allowance), in robust standard deviations. */
@@ -200,9 +227,17 @@ export interface AnalysisConfig {
   // --- physics (step 6) ---
   /** Local atmospheric pressure, kPa (ISO 2533 sea level 101.325). */
   atmosphericPressureKpa: number;
-  /** Boil margin below this raises a warning, °C. Common practice. */
+  /**
+   * Boil margin below this on `boilMarginMinDays` days of a week raises a warning, °C. The
+   * smallest effect that counts: a workshop acts on a system running within a few degrees of
+   * boiling; 10 °C (the old figure) is where healthy heavy engines climb in heat (115–119 °C
+   * against 128.7 °C at a 100 kPa cap with 50 % glycol: issue 14's field fleet, 4 warnings on
+   * healthy vehicles). Tuned on tuning seeds 1000–1001.
+   */
   boilMarginWarnC: number;
-  /** Boil margin below this is critical, °C. */
+  /** Days within `boilMarginWarnC` in the week needed for a warning (persistence), days. */
+  boilMarginMinDays: number;
+  /** Boil margin below this is critical, and raises the finding on a single day, °C. */
   boilMarginCriticalC: number;
   /** Freeze-risk when the minimum ambient comes within this of the freezing point, °C. */
   freezeMarginC: number;
@@ -277,6 +312,10 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   trendMinSlopeCPerDay: 0.15,
   trendMinRiseC: 2.5,
   trendHotWindowDays: 7,
+  trendHotMinDays: 2,
+  trendWarnRiseC: 5,
+  trendWarnHotRiseS: 600,
+  trendWarnWarmRiseC: 3,
   hotTimeScaleFloorS: 60,
   hotTimeMinRiseS: 120,
   warmMedianScaleFloorC: 1.25,
@@ -291,6 +330,10 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   overshootScaleFloorC: 3.5,
   overshootRepeatZ: 3.5,
   slowWarmupRepeatZ: 4,
+  coldReachMinRunS: 1800,
+  coldReachMinRuns: 3,
+  coldReachMinDays: 2,
+  coldReachBaseShare: 0.8,
   dayScaleFloorC: 2,
   cusumK: 0.75,
   cusumH: 2.5,
@@ -304,7 +347,8 @@ export const DEFAULT_ANALYSIS_CONFIG: Readonly<AnalysisConfig> = Object.freeze({
   sensorMinDays: 2,
 
   atmosphericPressureKpa: 101.325,
-  boilMarginWarnC: 10,
+  boilMarginWarnC: 5,
+  boilMarginMinDays: 2,
   boilMarginCriticalC: 4,
   freezeMarginC: 3,
 

@@ -61,7 +61,6 @@ export function deriveFindings(
     days.filter((d) => d.dayStartMs + 86_400_000 > sensorStart),
     sensorEvents.filter((e) => e.runStartMs >= sensorStart),
     sensorStart,
-    peer,
     now,
     cfg,
   );

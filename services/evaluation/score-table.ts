@@ -19,7 +19,8 @@ function row(label: string, cells: readonly string[]): string {
 /**
  * Plain-text table of several runs side by side: per fault kind found/visible, right kind,
  * median and worst delay; per cohort the healthy vehicles with any finding and with a warning
- * or above; precision, risk-order average precision, findings before onset.
+ * or above; precision, risk-order average precision, findings before onset; the alarms on
+ * healthy vehicles by kind and severity.
  * @example formatScoreTable([{ title: 'streamed', score }])
  */
 export function formatScoreTable(columns: readonly Column[]): string {
@@ -107,5 +108,14 @@ export function formatScoreTable(columns: readonly Column[]): string {
       cell((s) => String(s.datedBeforeOnset)),
     ),
   );
+  const alarmKeys = new Set(columns.flatMap((c) => c.score?.healthyAlarms.map((a) => `${a.kind} ${a.severity}`) ?? []));
+  for (const key of [...alarmKeys].sort()) {
+    lines.push(
+      row(
+        `alarms on healthy: ${key}`,
+        cell((s) => String(s.healthyAlarms.find((a) => `${a.kind} ${a.severity}` === key)?.count ?? 0)),
+      ),
+    );
+  }
   return lines.join('\n');
 }

@@ -74,6 +74,8 @@ export interface RunScore {
   seenBeforeOnset: number;
   /** Right-kind alarms seen on or after onset whose evidence dates them before onset. */
   datedBeforeOnset: number;
+  /** Alarms on healthy vehicles by kind and the most severe severity each was shown at, most frequent first. */
+  healthyAlarms: Array<{ kind: string; severity: Severity; count: number }>;
 }
 
 const RANK: Readonly<Record<Severity, number>> = { advisory: 0, warning: 1, critical: 2 };
@@ -126,6 +128,7 @@ export function scoreRun(
   let correct = 0;
   let seenBefore = 0;
   let datedBefore = 0;
+  const healthyAlarms = new Map<string, { kind: string; severity: Severity; count: number }>();
   const aps: number[] = [];
   for (const fleet of fleets) {
     const ranking: Array<{ risk: number; positive: boolean }> = [];
@@ -137,6 +140,12 @@ export function scoreRun(
         if (v.alarms.length > 0) c.anyFinding++;
         if (v.alarms.some((a) => atLeast(a.maxSeverity, 'warning'))) c.warningOrAbove++;
         alarms += v.alarms.length;
+        for (const a of v.alarms) {
+          const key = `${a.kind} ${a.maxSeverity}`;
+          const line = healthyAlarms.get(key) ?? { kind: a.kind, severity: a.maxSeverity, count: 0 };
+          line.count++;
+          healthyAlarms.set(key, line);
+        }
         ranking.push({ risk: v.riskScore, positive: false });
         continue;
       }
@@ -185,5 +194,8 @@ export function scoreRun(
     riskAveragePrecision: aps.length > 0 ? aps.reduce((s, x) => s + x, 0) / aps.length : null,
     seenBeforeOnset: seenBefore,
     datedBeforeOnset: datedBefore,
+    healthyAlarms: [...healthyAlarms.values()].sort(
+      (a, b) => b.count - a.count || a.kind.localeCompare(b.kind) || RANK[b.severity] - RANK[a.severity],
+    ),
   };
 }

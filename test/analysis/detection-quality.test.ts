@@ -27,7 +27,14 @@ const MAX_HEALTHY_FALSE_ALARM_RATE = 0.05;
  * services/analysis/README.md, "Quality and speed"). They are printed and held to a weaker
  * bound instead of being hidden.
  */
-const KNOWN_SHORTFALLS: Readonly<Record<string, string>> = {};
+const KNOWN_SHORTFALLS: Readonly<Record<string, string>> = {
+  // Issue 14 (docs/design-log/2026-12-04-detection-trust.md): an overheating trend now needs
+  // overheating on trendHotMinDays = 2 separate days of its window, which removed trends raised on
+  // healthy hot heavy vehicles after one hot climb in the randomised field fleets. On this fleet
+  // one radiator fouling overheats on one day only before the end: 5 of 6 found (was 6 of 6),
+  // median delay 10.1 d (was 9.3 d). With trendHotMinDays = 1 this line passes the full bounds.
+  'radiator-fouling': 'an overheating trend needs overheating on 2 separate days (trendHotMinDays)',
+};
 /** Weaker bounds for the lines above (still far better than the naive rules). */
 const SHORTFALL_MAX_DELAY_DAYS = 14;
 const SHORTFALL_MAX_GROUP_RATE = 0.1;

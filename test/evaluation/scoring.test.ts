@@ -68,6 +68,23 @@ describe('scoring a field evaluation', () => {
     expect(s.rightKind).toBe(1);
   });
 
+  it('counts the alarms on healthy vehicles by kind and the most severe severity each reached', () => {
+    const s = scoreRun(
+      [
+        [
+          healthy('H1', [alarm('sensor-fault', 1), alarm('overshoot', 2, { maxSeverity: 'advisory' })]),
+          healthy('H2', [alarm('sensor-fault', 3)]),
+          faulty('A', 'fan-failure', [alarm('overheating-trend', 1)]),
+        ],
+      ],
+      EXPECTED_FINDINGS,
+    );
+    expect(s.healthyAlarms).toEqual([
+      { kind: 'sensor-fault', severity: 'warning', count: 2 },
+      { kind: 'overshoot', severity: 'advisory', count: 1 },
+    ]);
+  });
+
   it('leaves vehicles whose fault never showed out of found, precision and the risk ordering', () => {
     const hidden: ScoredVehicle = {
       ...faulty('A', 'fan-failure', [alarm('overheating-trend', 1)], 90),

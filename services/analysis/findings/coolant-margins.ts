@@ -9,9 +9,15 @@ import { DAY_MS } from '../../time/durations.js';
 const MARGIN_WINDOW_DAYS = 7;
 const FREEZE_WINDOW_DAYS = 30;
 
+/** Distinct UTC days among the given day aggregates. */
+function thinDays(days: readonly DayAggregate[]): number {
+  return new Set(days.map((d) => Math.floor(d.dayStartMs / DAY_MS))).size;
+}
+
 /**
- * Boil margin: the recent daily peak is within `boilMarginWarnC` (critical:
- * `boilMarginCriticalC`) of the coolant's boiling point at cap pressure. `boilingPointC` may
+ * Boil margin: the daily peak came within `boilMarginWarnC` of the coolant's boiling point at
+ * cap pressure on at least `boilMarginMinDays` days of the last week, or within
+ * `boilMarginCriticalC` (critical) on one. `boilingPointC` may
  * depend on the day: with the atmospheric pressure measured that day (SAE J1939 SPN 108, at
  * altitude lower than the sea-level default) the coolant boils earlier.
  */
@@ -28,6 +34,10 @@ export function boilMarginFinding(
   );
   const thin = recent.filter((d) => boilingOn(d) - d.peakCoolantC! < cfg.boilMarginWarnC);
   if (thin.length === 0) return null;
+  // One hot climb is not a trend: a healthy heavy engine in heat touches 115–119 °C on some days.
+  // Two thin days, or one at the critical margin (about to boil, or boiled), raise it.
+  const closest = Math.min(...thin.map((d) => boilingOn(d) - d.peakCoolantC!));
+  if (thinDays(thin) < cfg.boilMarginMinDays && closest > cfg.boilMarginCriticalC) return null;
   const worst = thin.reduce((a, b) => (boilingOn(b) - b.peakCoolantC! < boilingOn(a) - a.peakCoolantC! ? b : a));
   const worstBoilingC = boilingOn(worst);
   const margin = worstBoilingC - worst.peakCoolantC!;

@@ -180,7 +180,9 @@ export function overheatingTrendFinding(
   const shifted = peaksShifted || hot !== null || warm !== null;
   if (!shifted && !trend) return null;
   // A rise within the band the thermostat and fan still hold is not yet overheating.
-  if (!days.some((d) => d.dayStartMs > now - cfg.trendHotWindowDays * DAY_MS && d.overheatEpisodes > 0)) return null;
+  // Persistence: overheating on at least `trendHotMinDays` separate days of the window (one hot climb is not a trend).
+  const hotDays = days.filter((d) => d.dayStartMs > now - cfg.trendHotWindowDays * DAY_MS && d.overheatEpisodes > 0);
+  if (hotDays.length < cfg.trendHotMinDays) return null;
   const shiftStartMs = Math.min(
     peaksShifted ? scored[cusum.changeIndex]!.day.dayStartMs : Infinity,
     hot?.startMs ?? Infinity,
@@ -218,7 +220,15 @@ export function overheatingTrendFinding(
     boilingPointC - Math.max(...recentPeaks) <= cfg.boilMarginCriticalC
   )
     severity = 'critical';
-  else if (recentEpisodes > 0 || medianZ >= 3) severity = 'warning';
+  else if (
+    medianZ >= 3 ||
+    median(after.map((s) => s.value - s.expected)) >= cfg.trendWarnRiseC ||
+    (hot?.rise ?? 0) >= cfg.trendWarnHotRiseS ||
+    (warm?.rise ?? 0) >= cfg.trendWarnWarmRiseC
+  )
+    // A warning needs an effect a workshop would find, not merely overheating episodes: healthy
+    // heavy engines in heat have those every hot day.
+    severity = 'warning';
   const evidence: EvidenceItem[] = supporting.slice(-MAX_EVIDENCE_ITEMS).map((s) => ({
     at: s.day.dayStartMs,
     scope: 'day' as const,

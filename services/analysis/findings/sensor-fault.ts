@@ -1,9 +1,8 @@
 import type { AnalysisConfig } from '../config.js';
 import type { DayAggregate } from '../day-aggregates.js';
-import type { PeerBaseline } from '../peer-baseline.js';
 import type { RunMetrics } from '../run-metrics.js';
 import type { SensorEvent, SensorEventKind } from '../sensor-events.js';
-import { median } from '../stats/robust.js';
+import { MAD_TO_SIGMA, mad, median } from '../stats/robust.js';
 import {
   clamp01,
   type EvidenceItem,
@@ -22,8 +21,8 @@ const BIAS_MIN_STARTS = 3;
 const BIAS_RECENT_STARTS = 5;
 /** A run with more than this many flagged samples counts as a strong sensor event day. */
 const STRONG_EVENT_COUNT = 3;
-/** Bias tolerance factor when no baseline (own or peer) says how warm a soaked engine stays. */
-const UNREFERENCED_TOLERANCE_FACTOR = 1.5;
+/** The bias tolerance is at least this many robust σ of the vehicle's own baseline soak offsets. */
+const BIAS_SPREAD_FACTOR = 3;
 
 type SensorSubKind = 'out-of-range' | 'implausible-rate' | 'stuck' | 'bias';
 
@@ -119,7 +118,6 @@ export function sensorFaultFindings(
   days: readonly DayAggregate[],
   events: readonly SensorEvent[],
   baselineStart: number,
-  peer: PeerBaseline | null,
   now: number,
   cfg: AnalysisConfig,
 ): Finding[] {
@@ -138,42 +136,49 @@ export function sensorFaultFindings(
     const f = fromDatedEvidence(sub, items, baselineStart, now, cfg);
     if (f) out.push(f);
   }
-  const bias = biasFinding(runs, baselineStart, peer, now, cfg);
+  const bias = biasFinding(runs, baselineStart, now, cfg);
   if (bias) out.push(bias);
   return out;
 }
 
+/**
+ * Cold-soak bias, judged as a change: the median offset (coolant − air after a long soak) of
+ * the recent soaks against the vehicle's own established offset over its first `baselineDays`.
+ * A constant offset from the first day on is that vehicle's normal (its sensor, where it sits,
+ * a depot hall, a block heater, residual heat of a large block), not a fault: the issue-14 field
+ * fleet raised 15 bias findings on 33 healthy vehicles against the peers' offset. The tolerance
+ * widens with the own offsets' robust spread (`BIAS_SPREAD_FACTOR`), so a vehicle whose key-on
+ * temperature swings with a block heater is not judged finer than its soaks allow. Before the
+ * own baseline is established nothing is judged; sensor range and impossible rates stay absolute.
+ */
 function biasFinding(
   runs: readonly RunMetrics[],
   baselineStart: number,
-  peer: PeerBaseline | null,
   now: number,
   cfg: AnalysisConfig,
 ): Finding | null {
   const soaks = runs.filter((r) => r.coldSoakOffsetC !== null && !r.stuck && r.startMs <= now);
-  if (soaks.length < BIAS_MIN_STARTS) return null;
   const baselineEnd = baselineStart + cfg.baselineDays * DAY_MS;
+  if (now < baselineEnd) return null;
   const own = soaks.filter((r) => r.startMs < baselineEnd).map((r) => r.coldSoakOffsetC!);
-  const peerModel = peer?.models.soakOffset ?? null;
-  const peerRef = peerModel?.coefficients[0] ?? 0;
-  const ownRef = now >= baselineEnd && own.length >= BIAS_MIN_STARTS ? median(own) : null;
-  // With neither an own nor a peer reference, residual heat after a soak is unknown: be wider.
-  const tolerance =
-    cfg.sensorBiasToleranceC * (ownRef === null && peerModel === null ? UNREFERENCED_TOLERANCE_FACTOR : 1);
-  // An own baseline that already disagrees with the peers was learned on a biased sensor.
-  const reference = ownRef !== null && Math.abs(ownRef - peerRef) < cfg.sensorBiasToleranceC ? ownRef : peerRef;
-  const recent = soaks.slice(-BIAS_RECENT_STARTS);
+  const after = soaks.filter((r) => r.startMs >= baselineEnd);
+  if (own.length < BIAS_MIN_STARTS || after.length < BIAS_MIN_STARTS) return null;
+  const reference = median(own);
+  const tolerance = Math.max(cfg.sensorBiasToleranceC, BIAS_SPREAD_FACTOR * MAD_TO_SIGMA * mad(own, reference));
+  const recent = after.slice(-BIAS_RECENT_STARTS);
   if (now - recent[recent.length - 1]!.startMs > cfg.findingStaleDays * DAY_MS) return null;
   const shift = median(recent.map((r) => r.coldSoakOffsetC! - reference));
   if (Math.abs(shift) < tolerance) return null;
-  let first = soaks.length - 1;
+  let first = after.length - 1;
   while (
     first > 0 &&
-    Math.sign(soaks[first - 1]!.coldSoakOffsetC! - reference) === Math.sign(shift) &&
-    Math.abs(soaks[first - 1]!.coldSoakOffsetC! - reference) >= tolerance / 2
+    Math.sign(after[first - 1]!.coldSoakOffsetC! - reference) === Math.sign(shift) &&
+    Math.abs(after[first - 1]!.coldSoakOffsetC! - reference) >= tolerance / 2
   )
     first--;
-  const evidence = soaks.slice(first).map((r) => ({
+  // The streak's first start that is itself out by the tolerance dates the change.
+  while (first < after.length - 1 && Math.abs(after[first]!.coldSoakOffsetC! - reference) < tolerance) first++;
+  const evidence = after.slice(first).map((r) => ({
     at: r.startMs,
     scope: 'run' as const,
     metric: 'coldSoakOffsetC',
@@ -184,11 +189,16 @@ function biasFinding(
   return sensorFinding(
     'bias',
     baselineStart,
-    soaks[first]!.startMs,
+    after[first]!.startMs,
     recent[recent.length - 1]!.startMs,
     0.4 + 0.1 * recent.length + 0.02 * Math.abs(shift),
     true,
-    { offsetShiftC: round(shift), startsJudged: recent.length },
+    {
+      offsetShiftC: round(shift),
+      ownOffsetC: round(reference),
+      toleranceC: round(tolerance),
+      startsJudged: recent.length,
+    },
     evidence,
   );
 }

@@ -1,11 +1,51 @@
 import type { AnalysisConfig } from '../config.js';
 import type { PeerBaseline } from '../peer-baseline.js';
 import type { RunMetrics } from '../run-metrics.js';
-import { type Finding, round, SAFETY_CAUTION } from './finding.js';
+import { clamp01, type Finding, findingKey, round, SAFETY_CAUTION } from './finding.js';
 import { utcDay } from '../sample-arrays.js';
 import { OVERSHOOT, PLATEAU, RUN_PEAK, WARMUP_TIME } from './run-features.js';
 import { combineByRun, scoreFeature } from './run-shift.js';
 import { detectRunShift, runShiftFinding } from './run-shift-finding.js';
+import { coldStartReachShift } from './cold-start-reach.js';
+
+const STUCK_OPEN_CHECK =
+  'Check that the thermostat closes (a stuck-open thermostat is the usual cause) and compare the coolant ' +
+  'temperature reading with a reference thermometer on a cold engine. ' +
+  SAFETY_CAUTION;
+
+/** Slow warm-up from cold starts in the cold that no longer reach the target (`coldStartReachShift`). */
+function coldReachFinding(
+  runs: readonly RunMetrics[],
+  baselineStart: number,
+  now: number,
+  cfg: AnalysisConfig,
+): Finding | null {
+  const c = coldStartReachShift(runs, baselineStart, now, cfg);
+  if (!c) return null;
+  const target = runs[runs.length - 1]?.warmupTargetC ?? 0;
+  return {
+    key: findingKey('slow-warmup', null, baselineStart),
+    kind: 'slow-warmup',
+    subKind: null,
+    severity: 'warning',
+    confidence: round(clamp01(1 - 0.5 ** c.neverReached), 3),
+    firstSeen: c.firstSeen,
+    lastSeen: c.lastSeen,
+    summary:
+      `Since ${utcDay(c.firstSeen)} ${c.neverReached} of ${c.judged} cold starts of half an hour or more never reached ` +
+      `${round(target, 0)} °C, where ${Math.round(100 * c.baselineReachShare)} % of its earlier ones in weather as cold did, ` +
+      'which points to a thermostat stuck open.',
+    recommendedCheck: STUCK_OPEN_CHECK,
+    troubleCode: 'P0128',
+    metrics: {
+      neverReached: c.neverReached,
+      runsJudged: c.judged,
+      baselineReachShare: round(c.baselineReachShare, 2),
+      ownBaseline: 1,
+    },
+    evidence: c.evidence,
+  };
+}
 
 /**
  * Slow warm-up: cold starts take longer than history and peers predict for their ambient,
@@ -24,7 +64,7 @@ export function slowWarmupFinding(
   const plateau = scoreFeature(runs, PLATEAU, baselineStart, peer, now, cfg, cfg.coolScaleFloorC);
   const runPeak = scoreFeature(runs, RUN_PEAK, baselineStart, peer, now, cfg, cfg.coolScaleFloorC);
   const shift = detectRunShift(combineByRun([warm, plateau, runPeak]), now, cfg, cfg.cusumH, cfg.slowWarmupRepeatZ);
-  if (!shift) return null;
+  if (!shift) return coldReachFinding(runs, baselineStart, now, cfg);
   const cold = shift.supporting.filter((s) => s.feature === WARMUP_TIME);
   const neverReached = cold.filter((s) => s.run.timeToTargetS === null).length;
   const plateauDrops = shift.supporting.filter((s) => s.feature !== WARMUP_TIME).map((s) => s.expected - s.value);
@@ -44,10 +84,7 @@ export function slowWarmupFinding(
   }
   return runShiftFinding('slow-warmup', shift, baselineStart, warm.source ?? plateau.source ?? 'none', {
     summary: `Since ${utcDay(shift.firstSeen)} ${parts.join(' and ')}, which points to a thermostat stuck open.`,
-    recommendedCheck:
-      'Check that the thermostat closes (a stuck-open thermostat is the usual cause) and compare the coolant ' +
-      'temperature reading with a reference thermometer on a cold engine. ' +
-      SAFETY_CAUTION,
+    recommendedCheck: STUCK_OPEN_CHECK,
     troubleCode: 'P0128',
     severity: neverReached * 2 >= Math.max(cold.length, 1) && cold.length >= 2 ? 'warning' : undefined,
   });

@@ -67,12 +67,34 @@ describe('overheating trend', () => {
 
   it('stays quiet while the rise stays below the hot threshold (no overheating episode in the window)', () => {
     // Same peaks; the only episodes are older than trendHotWindowDays.
-    const days = risingPeaks(99).map((d, i) => (i === 2 ? day(2, d.peakCoolantC!, 1) : d));
+    const days = risingPeaks(99).map((d, i) => (i === 2 || i === 3 ? day(i, d.peakCoolantC!, 1) : d));
     expect(overheatingTrendFinding(days, START, BOILING_C, now, CFG)).toBeNull();
     // With a window reaching back to that early episode the same rise is reported.
     expect(overheatingTrendFinding(days, START, BOILING_C, now, { ...CFG, trendHotWindowDays: 30 })?.kind).toBe(
       'overheating-trend',
     );
+  });
+});
+
+describe('overheating trend: persistence and effect size', () => {
+  const now = START + 24 * DAY_MS;
+
+  it('needs overheating on trendHotMinDays separate days of the window, not one hot climb', () => {
+    const oneHotDay = risingPeaks(99).map((d, i) => (i === 22 ? day(i, d.peakCoolantC!, 3) : d));
+    expect(overheatingTrendFinding(oneHotDay, START, BOILING_C, now, CFG)).toBeNull();
+    const twoHotDays = risingPeaks(99).map((d, i) => (i === 20 || i === 22 ? day(i, d.peakCoolantC!, 1) : d));
+    expect(overheatingTrendFinding(twoHotDays, START, BOILING_C, now, CFG)?.kind).toBe('overheating-trend');
+  });
+
+  it('is a warning only for an effect a workshop would find, overheating episodes alone make an advisory', () => {
+    // Peaks rising 0.5 °C a day for 14 days: a median rise since the change of about 4 °C, below trendWarnRiseC.
+    const f = overheatingTrendFinding(risingPeaks(20), START, BOILING_C, now, CFG)!;
+    expect(f.metrics.riseC).toBeLessThan(CFG.trendWarnRiseC);
+    expect(f.metrics.recentOverheatEpisodes).toBeGreaterThan(0);
+    expect(f.severity).toBe('advisory');
+    expect(
+      overheatingTrendFinding(risingPeaks(20), START, BOILING_C, now, { ...CFG, trendWarnRiseC: 3 })!.severity,
+    ).toBe('warning');
   });
 });
 
