@@ -25,13 +25,13 @@ export interface BusDayStats {
  * temperature above which a sealed system has built pressure (the thermostat's opening temperature).
  * @example busDayStats(arrays, flags, 88).get(Date.parse('2026-10-05'))?.barometricMinKpa
  */
-export function busDayStats(s: SampleArrays, flags: Uint8Array, hotC: number): Map<number, BusDayStats> {
+export function busDayStats(samples: SampleArrays, flags: Uint8Array, hotC: number): Map<number, BusDayStats> {
   const out = new Map<number, BusDayStats>();
-  const baro = s.barometricKpa;
-  const level = s.coolantLevelPct;
-  const pressure = s.coolantPressureKpa;
+  const baro = samples.barometricKpa;
+  const level = samples.coolantLevelPct;
+  const pressure = samples.coolantPressureKpa;
   if (!baro && !level && !pressure) return out;
-  const { ts, coolant } = s;
+  const { ts, coolant } = samples;
   const n = ts.length;
   let i = 0;
   while (i < n) {

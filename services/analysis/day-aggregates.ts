@@ -83,7 +83,7 @@ const orNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
  * episodes into one record per UTC day with data.
  */
 export function aggregateDays(
-  s: SampleArrays,
+  samples: SampleArrays,
   flags: Uint8Array,
   runs: readonly RunMetrics[],
   episodes: readonly HotEpisode[],
@@ -91,7 +91,7 @@ export function aggregateDays(
   hotC: number,
   cfg: AnalysisConfig,
 ): DayAggregate[] {
-  const { ts, coolant, ambient, speedKph, rpm } = s;
+  const { ts, coolant, ambient, speedKph, rpm } = samples;
   const n = ts.length;
   const out: DayAggregate[] = [];
   const hist = new Float64Array(HIST_BINS);

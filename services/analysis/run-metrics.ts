@@ -117,13 +117,13 @@ const orNull = (v: number): number | null => (Number.isFinite(v) ? v : null);
 
 /** Computes the metrics of the run [a, b) and marks its warm samples with FLAG_WARM. */
 export function computeRunMetrics(
-  s: SampleArrays,
+  samples: SampleArrays,
   flags: Uint8Array,
   a: number,
   b: number,
   ctx: RunContext,
 ): RunMetrics {
-  const { ts, coolant, ambient, speedKph, rpm } = s;
+  const { ts, coolant, ambient, speedKph, rpm } = samples;
   const { cfg, profile, periodS, hotC } = ctx;
   const target = profile.thermostatOpenC - cfg.obdWarmupMarginC;
   const t0 = ts[a]!;
@@ -282,10 +282,20 @@ export function computeRunMetrics(
   else if (startAmbient < cfg.obdMinAmbientC) suspended = 'low-ambient';
   else if (warmupIdleFraction > cfg.obdMaxIdleFraction) suspended = 'idle-dominated';
 
-  const fit = cold && !excludedForSensor ? fitWarmupCurve(s, flags, a, b, profile.thermostatOpenC, cfg) : null;
+  const fit = cold && !excludedForSensor ? fitWarmupCurve(samples, flags, a, b, profile.thermostatOpenC, cfg) : null;
   const op = excludedForSensor
     ? { plateauC: null, overshootPeakC: null, overshootC: null, settlingTimeS: null }
-    : operatingMetrics(s, flags, a, b, startCoolant < target ? openIdx : -1, targetIdx, periodS, cfg, ctx.scratch);
+    : operatingMetrics(
+        samples,
+        flags,
+        a,
+        b,
+        startCoolant < target ? openIdx : -1,
+        targetIdx,
+        periodS,
+        cfg,
+        ctx.scratch,
+      );
   return {
     startMs: t0,
     endMs: ts[b - 1]!,

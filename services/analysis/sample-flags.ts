@@ -34,8 +34,8 @@ export function estimatePeriodS(ts: Float64Array): number {
  * from the last accepted value is held as implausible until `jumpConfirmSamples`
  * consecutive, mutually consistent samples confirm the new level (then it is accepted).
  */
-export function flagSamples(s: SampleArrays, cfg: AnalysisConfig, flags: Uint8Array): void {
-  const { ts, coolant, speedKph, rpm } = s;
+export function flagSamples(samples: SampleArrays, cfg: AnalysisConfig, flags: Uint8Array): void {
+  const { ts, coolant, speedKph, rpm } = samples;
   const n = ts.length;
   const rate = cfg.maxCoolantRateCPerS / MS_PER_S;
   const gapMs = cfg.runGapS * MS_PER_S;

@@ -19,15 +19,15 @@ export interface SensorEvent {
  * Sensor events of a run, from its metrics.
  * @example sensorEventsOfRun(run, cfg).map((e) => e.kind) // ['implausible-rate']
  */
-export function sensorEventsOfRun(r: RunMetrics, cfg: AnalysisConfig): SensorEvent[] {
+export function sensorEventsOfRun(engineRun: RunMetrics, cfg: AnalysisConfig): SensorEvent[] {
   const out: SensorEvent[] = [];
   const ev = (kind: SensorEventKind, count: number, value: number | null) =>
-    out.push({ kind, runStartMs: r.startMs, runEndMs: r.endMs, count, value });
-  if (r.outOfRangeCount > 0) ev('out-of-range', r.outOfRangeCount, null);
-  if (r.rateFlagCount > 0) ev('implausible-rate', r.rateFlagCount, null);
-  if (r.stuck) ev('stuck', 1, r.startCoolantC);
-  if (r.coldSoakOffsetC !== null && Math.abs(r.coldSoakOffsetC) > cfg.coldSoakToleranceC)
-    ev('cold-soak-mismatch', 1, r.coldSoakOffsetC);
-  if (r.dropoutCount > 0) ev('dropout', r.dropoutCount, r.missingS);
+    out.push({ kind, runStartMs: engineRun.startMs, runEndMs: engineRun.endMs, count, value });
+  if (engineRun.outOfRangeCount > 0) ev('out-of-range', engineRun.outOfRangeCount, null);
+  if (engineRun.rateFlagCount > 0) ev('implausible-rate', engineRun.rateFlagCount, null);
+  if (engineRun.stuck) ev('stuck', 1, engineRun.startCoolantC);
+  if (engineRun.coldSoakOffsetC !== null && Math.abs(engineRun.coldSoakOffsetC) > cfg.coldSoakToleranceC)
+    ev('cold-soak-mismatch', 1, engineRun.coldSoakOffsetC);
+  if (engineRun.dropoutCount > 0) ev('dropout', engineRun.dropoutCount, engineRun.missingS);
   return out;
 }

@@ -16,20 +16,20 @@ const FIT_STOP_BELOW_OPEN_C = 2;
  * `warmupFitPoints` plausible points.
  */
 export function fitWarmupCurve(
-  s: SampleArrays,
+  samples: SampleArrays,
   flags: Uint8Array,
   a: number,
   b: number,
   thermostatOpenC: number,
   cfg: AnalysisConfig,
 ): NewtonFit | null {
-  const t0 = s.ts[a]!;
+  const t0 = samples.ts[a]!;
   const endMs = t0 + cfg.warmupFitMaxS * MS_PER_S;
   let last = a;
   while (
     last < b &&
-    s.ts[last]! <= endMs &&
-    !(s.coolant[last]! >= thermostatOpenC - FIT_STOP_BELOW_OPEN_C && (flags[last]! & FLAG_IMPLAUSIBLE) === 0)
+    samples.ts[last]! <= endMs &&
+    !(samples.coolant[last]! >= thermostatOpenC - FIT_STOP_BELOW_OPEN_C && (flags[last]! & FLAG_IMPLAUSIBLE) === 0)
   )
     last++;
   const count = last - a;
@@ -39,8 +39,8 @@ export function fitWarmupCurve(
   const y: number[] = [];
   for (let i = a; i < last; i += step) {
     if ((flags[i]! & FLAG_IMPLAUSIBLE) !== 0) continue;
-    t.push((s.ts[i]! - t0) / MS_PER_S);
-    y.push(s.coolant[i]!);
+    t.push((samples.ts[i]! - t0) / MS_PER_S);
+    y.push(samples.coolant[i]!);
   }
   if (t.length < MIN_FIT_POINTS || t[t.length - 1]! < MIN_FIT_SPAN_S) return null;
   return fitNewtonWarmup(t, y);
@@ -63,7 +63,7 @@ export interface OperatingMetrics {
  * warm-up target (or -1). `scratch` must hold b − a values.
  */
 export function operatingMetrics(
-  s: SampleArrays,
+  samples: SampleArrays,
   flags: Uint8Array,
   a: number,
   b: number,
@@ -75,7 +75,7 @@ export function operatingMetrics(
 ): OperatingMetrics {
   const none = { plateauC: null, overshootPeakC: null, overshootC: null, settlingTimeS: null };
   if (targetIdx < 0) return none;
-  const { ts, coolant } = s;
+  const { ts, coolant } = samples;
   const plateauFrom = Math.max(
     ts[targetIdx]! + cfg.plateauDelayS * MS_PER_S,
     openIdx >= 0 ? ts[openIdx]! + cfg.overshootWindowS * MS_PER_S : 0,
@@ -95,7 +95,7 @@ export function operatingMetrics(
     if ((flags[end]! & FLAG_IMPLAUSIBLE) === 0 && coolant[end]! > coolant[peakIdx]!) peakIdx = end;
   }
   // Short runs have no plateau: settle on what the coolant did after the peak instead.
-  const settledC = plateauC ?? settledAfter(s, flags, peakIdx, b, cfg, scratch);
+  const settledC = plateauC ?? settledAfter(samples, flags, peakIdx, b, cfg, scratch);
   if (settledC === null) return { ...none, plateauC };
   const m = stepResponseMetrics(
     ts,
@@ -126,18 +126,18 @@ const SETTLE_AFTER_PEAK_S = 120;
 
 /** Median coolant from shortly after the peak to `overshootWindowS` after it, or null. */
 function settledAfter(
-  s: SampleArrays,
+  samples: SampleArrays,
   flags: Uint8Array,
   peakIdx: number,
   b: number,
   cfg: AnalysisConfig,
   scratch: Float64Array,
 ): number | null {
-  const from = s.ts[peakIdx]! + SETTLE_AFTER_PEAK_S * MS_PER_S;
-  const to = s.ts[peakIdx]! + cfg.overshootWindowS * MS_PER_S;
+  const from = samples.ts[peakIdx]! + SETTLE_AFTER_PEAK_S * MS_PER_S;
+  const to = samples.ts[peakIdx]! + cfg.overshootWindowS * MS_PER_S;
   let k = 0;
-  for (let i = peakIdx; i < b && s.ts[i]! <= to; i++) {
-    if (s.ts[i]! >= from && (flags[i]! & FLAG_IMPLAUSIBLE) === 0) scratch[k++] = s.coolant[i]!;
+  for (let i = peakIdx; i < b && samples.ts[i]! <= to; i++) {
+    if (samples.ts[i]! >= from && (flags[i]! & FLAG_IMPLAUSIBLE) === 0) scratch[k++] = samples.coolant[i]!;
   }
   return k >= MIN_SETTLE_SAMPLES ? medianInPlace(scratch, k) : null;
 }

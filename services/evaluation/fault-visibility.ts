@@ -18,12 +18,12 @@ export const VISIBLE_MIN_DAYS = 3;
  * Streams the vehicle and its fault-free twin side by side; memory is two chunks.
  * @example faultVisible(v, { startMs, days: 35, seed: 5000 }) // true when the fault shows
  */
-export function faultVisible(v: SimVehicle, opts: { startMs: number; days: number; seed: number }): boolean {
-  if (v.faults.length === 0) return false;
-  if (v.faults.every((f) => isSensorFault(f.kind))) return true;
-  const onset = Math.min(...v.faults.map((f) => f.onsetMs));
-  const faulty = simulateVehicle(v, opts);
-  const clean = simulateVehicle({ ...v, faults: [] }, opts);
+export function faultVisible(vehicle: SimVehicle, opts: { startMs: number; days: number; seed: number }): boolean {
+  if (vehicle.faults.length === 0) return false;
+  if (vehicle.faults.every((f) => isSensorFault(f.kind))) return true;
+  const onset = Math.min(...vehicle.faults.map((f) => f.onsetMs));
+  const faulty = simulateVehicle(vehicle, opts);
+  const clean = simulateVehicle({ ...vehicle, faults: [] }, opts);
   const days = new Set<number>();
   let a = faulty.next();
   let b = clean.next();

@@ -9,9 +9,9 @@ import type { FleetPlan } from './seed-ranges.js';
 import { streamFleet, type FleetRunResult, type Progress } from './streamed-run.js';
 
 /** The cohort a healthy vehicle is counted in. */
-export function cohortOf(v: SimVehicle): Cohort {
-  if (v.climate === 'cold') return 'cold climate';
-  if (v.climate === 'hot' && (v.duty === 'long-haul' || v.duty === 'bus')) return 'hot heavy duty';
+export function cohortOf(vehicle: SimVehicle): Cohort {
+  if (vehicle.climate === 'cold') return 'cold climate';
+  if (vehicle.climate === 'hot' && (vehicle.duty === 'long-haul' || vehicle.duty === 'bus')) return 'hot heavy duty';
   return 'others';
 }
 
@@ -59,9 +59,9 @@ function scored(plan: FleetPlan, visible: Map<string, boolean>, run: FleetRunRes
   }));
 }
 
-function truthOf(v: SimVehicle, visible: Map<string, boolean>): ScoredVehicle['fault'] {
-  const f = v.faults[0];
-  return f ? { kind: f.kind, onsetMs: f.onsetMs, visible: visible.get(v.vehicleId) ?? true } : null;
+function truthOf(vehicle: SimVehicle, visible: Map<string, boolean>): ScoredVehicle['fault'] {
+  const f = vehicle.faults[0];
+  return f ? { kind: f.kind, onsetMs: f.onsetMs, visible: visible.get(vehicle.vehicleId) ?? true } : null;
 }
 
 /**

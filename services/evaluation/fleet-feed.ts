@@ -28,31 +28,31 @@ const DEFAULT_THERMOSTAT_C = 88;
 const HEAVY_FAMILIES = new Set(['Halvern M7', 'Brenmark H13']);
 
 /** The profile the fleet registered for a vehicle (PUT /v1/vehicles/{id}), or null for none. */
-export function registeredProfile(v: SimVehicle): {
+export function registeredProfile(vehicle: SimVehicle): {
   engineFamily: string;
   thermostatOpenC: number;
   capPressureKpa: number;
   glycolPercent: number;
   label: string;
 } | null {
-  const mode = v.variation?.profile ?? 'exact';
+  const mode = vehicle.variation?.profile ?? 'exact';
   if (mode === 'none') return null;
   if (mode === 'wrong-family') {
-    const f = engineFamily(v.variation?.registeredFamily ?? v.engineFamily);
+    const f = engineFamily(vehicle.variation?.registeredFamily ?? vehicle.engineFamily);
     return {
       engineFamily: f.name,
       thermostatOpenC: f.thermostatOpenC,
       capPressureKpa: f.capPressureKpa,
       glycolPercent: f.glycolPercent,
-      label: v.label,
+      label: vehicle.label,
     };
   }
   return {
-    engineFamily: v.engineFamily,
-    thermostatOpenC: v.thermostatOpenC,
-    capPressureKpa: v.capPressureKpa,
-    glycolPercent: v.glycolPercent,
-    label: v.label,
+    engineFamily: vehicle.engineFamily,
+    thermostatOpenC: vehicle.thermostatOpenC,
+    capPressureKpa: vehicle.capPressureKpa,
+    glycolPercent: vehicle.glycolPercent,
+    label: vehicle.label,
   };
 }
 

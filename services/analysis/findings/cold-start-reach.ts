@@ -25,13 +25,13 @@ export interface ColdReachShift {
 const ambientOf = (r: RunMetrics) => r.startAmbientC ?? r.ambientMeanC ?? DEFAULT_AMBIENT_C;
 
 /** A cold start long enough, and driven enough, that a working thermostat brings the coolant to its target. */
-function judgeable(r: RunMetrics, cfg: AnalysisConfig): boolean {
+function judgeable(engineRun: RunMetrics, cfg: AnalysisConfig): boolean {
   return (
-    r.startKind === 'cold' &&
-    !r.excludedForSensor &&
-    !r.open &&
-    r.durationS >= cfg.coldReachMinRunS &&
-    r.warmupIdleFraction <= cfg.obdMaxIdleFraction
+    engineRun.startKind === 'cold' &&
+    !engineRun.excludedForSensor &&
+    !engineRun.open &&
+    engineRun.durationS >= cfg.coldReachMinRunS &&
+    engineRun.warmupIdleFraction <= cfg.obdMaxIdleFraction
   );
 }
 
