@@ -57,7 +57,7 @@ export function isoWeekDate(w: IsoWeek, weekday = 1): string {
   return new Date(monday + (weekday - 1) * DAY_MS).toISOString().slice(0, 10);
 }
 
-/** The week after (or, with a negative step, before) `w`. */
+/** The week after (or, with a negative step, before) `week`. */
 export function addIsoWeeks(week: IsoWeek, step: number): IsoWeek {
   const [y, m, d] = isoWeekDate(week).split('-').map(Number) as [number, number, number];
   const ms = Date.UTC(y, m - 1, d) + step * 7 * DAY_MS;
