@@ -12,6 +12,9 @@ const DB_SUITES = [
 
 export default defineConfig({
   test: {
+    // Vitest's default is one worker fewer than the cores: one on a 2-core machine. Most files wait
+    // on PostgreSQL, PGlite's WebAssembly or Chromium, so two workers use both cores.
+    maxWorkers: 2,
     testTimeout: 60_000,
     hookTimeout: 120_000,
     projects: [
