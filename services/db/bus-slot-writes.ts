@@ -1,7 +1,7 @@
 import type { DerivedReadings } from '../bus-decoding/align-readings.js';
 import { CHANNEL_COUNT } from '../bus-decoding/bus-channels.js';
 import { SLOT_RECORD_LENGTH } from '../bus-decoding/vehicle-slots.js';
-import type { ReadingChunk } from './reading-chunk.js';
+import type { ReadingChunk, ReadingColumnArrays } from './reading-chunk.js';
 
 /** Longest encoded slot record: the mask and every channel's two samples. */
 const MAX_RECORD_BYTES = 2 + CHANNEL_COUNT * 32;
@@ -62,16 +62,7 @@ class ReadingColumns {
   }
 
   chunk(): ReadingChunk {
-    const [ts, c, a, s, r, b, l, p] = this.cols.map((col) => Float64Array.from(col)) as [
-      Float64Array,
-      Float64Array,
-      Float64Array,
-      Float64Array,
-      Float64Array,
-      Float64Array,
-      Float64Array,
-      Float64Array,
-    ];
+    const [ts, c, a, s, r, b, l, p] = this.cols.map((col) => Float64Array.from(col)) as ReadingColumnArrays;
     return {
       length: this.length,
       vehicleIds: this.vehicleIds,

@@ -12,3 +12,15 @@ export interface ReadingChunk {
   coolantLevelPct?: Float64Array;
   coolantPressureKpa?: Float64Array;
 }
+
+/** One array per stored column of a reading, in table order: ts, then the seven channels. */
+export type ReadingColumnArrays = [
+  Float64Array,
+  Float64Array,
+  Float64Array,
+  Float64Array,
+  Float64Array,
+  Float64Array,
+  Float64Array,
+  Float64Array,
+];

@@ -1,6 +1,7 @@
 import type { AllSampleArrays, SampleArrays } from '../../analysis/sample-arrays.js';
 import { HEADER_BYTES, PG_EPOCH_MS, TWO_POW_32 } from './binary-copy-format.js';
 import { COPY_DATA, MESSAGE_HEADER_BYTES } from './copy-out.js';
+import type { ReadingColumnArrays } from '../reading-chunk.js';
 
 /** Printed values remembered per window read (telemetry repeats values a lot); bounded. */
 const PRINTED_CACHE_MAX = 65_536;
@@ -304,16 +305,7 @@ export class WindowsDecoder {
   split(): AllSampleArrays[] {
     const out = Array.from(this.sizes, (n, k) => {
       const [ts, coolant, ambient, speedKph, rpm, barometricKpa, coolantLevelPct, coolantPressureKpa] =
-        this.buffers.windows[k]!.map((column) => column.subarray(0, n)) as [
-          Float64Array,
-          Float64Array,
-          Float64Array,
-          Float64Array,
-          Float64Array,
-          Float64Array,
-          Float64Array,
-          Float64Array,
-        ];
+        this.buffers.windows[k]!.map((column) => column.subarray(0, n)) as ReadingColumnArrays;
       const a: AllSampleArrays = {
         ts,
         coolant,
